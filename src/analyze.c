@@ -1,0 +1,174 @@
+/* analyze.c — the pipeline: the one place where the stages are called in order, and where
+ * the deskewed results are mapped back to the coordinates of the image as given. */
+#include "internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Sauvola window of about 0.17 inch: a few text lines high, wide enough to see paper around
+ * the strokes (common practice: 15..60 px at 200..400 dpi). Odd. */
+static int auto_window(double dpi)
+{
+    int w = (int)lround(0.17 * dpi);
+    if (w < 15) w = 15;
+    return w | 1;
+}
+
+/* Fills layout->lines and ->blocks: text blocks in reading order, then one block per rule
+ * or picture component. */
+static int assemble(lt_layout *out, const lt_raw_lines *raw, const int *order,
+                    const int *block_of, int ntext_blocks, const lt_components *comps,
+                    const lt_frame *frame)
+{
+    int nontext = 0;
+    for (int i = 0; i < comps->count; i++) {
+        int kind = comps->items[i].kind;
+        nontext += kind == LT_COMP_RULE || kind == LT_COMP_PICTURE;
+    }
+    out->lines = calloc((size_t)raw->count + 1, sizeof *out->lines);
+    out->blocks = calloc((size_t)ntext_blocks + nontext + 1, sizeof *out->blocks);
+    if (!out->lines || !out->blocks) return LT_ENOMEM;
+    const int w = out->width, h = out->height;
+    lt_box *block_box = calloc((size_t)ntext_blocks + 1, sizeof *block_box);
+    if (!block_box) return LT_ENOMEM;
+    for (int i = 0; i < raw->count; i++) {
+        const lt_raw_line *r = &raw->items[order[i]];
+        lt_line *l = &out->lines[i];
+        lt_frame_map_box(frame, r->box, w, h, l->quad, &l->box);
+        l->baseline[0] = lt_frame_to_original(frame, r->box.left, r->baseline_y);
+        l->baseline[1] = lt_frame_to_original(frame, r->box.right, r->baseline_y);
+        l->xheight_px = r->xheight_px;
+        l->components = r->ncomponents;
+        l->block = block_of[i];
+        lt_block *b = &out->blocks[block_of[i]];
+        if (b->nlines == 0) {
+            b->first_line = i;
+            block_box[block_of[i]] = r->box;
+        } else {
+            lt_box *u = &block_box[block_of[i]];
+            if (r->box.left < u->left) u->left = r->box.left;
+            if (r->box.top < u->top) u->top = r->box.top;
+            if (r->box.right > u->right) u->right = r->box.right;
+            if (r->box.bottom > u->bottom) u->bottom = r->box.bottom;
+        }
+        b->nlines++;
+    }
+    for (int k = 0; k < ntext_blocks; k++) {
+        out->blocks[k].kind = LT_BLOCK_TEXT;
+        lt_frame_map_box(frame, block_box[k], w, h, out->blocks[k].quad, &out->blocks[k].box);
+    }
+    free(block_box);
+    int nb = ntext_blocks;
+    for (int i = 0; i < comps->count; i++) {
+        const lt_component *c = &comps->items[i];
+        if (c->kind != LT_COMP_RULE && c->kind != LT_COMP_PICTURE) continue;
+        lt_block *b = &out->blocks[nb++];
+        b->kind = c->kind == LT_COMP_RULE ? LT_BLOCK_RULE : LT_BLOCK_PICTURE;
+        lt_frame_map_box(frame, c->box, w, h, b->quad, &b->box);
+    }
+    out->nlines = raw->count;
+    out->nblocks = nb;
+    return 0;
+}
+
+int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err)
+{
+    *out = NULL;
+    lt_params defaults;
+    if (!params) {
+        lt_params_default(&defaults);
+        params = &defaults;
+    }
+    if (!img || img->width <= 0 || img->height <= 0 || !img->pixels)
+        return lt_error_set(err, LT_EINVAL, "analyze: no image");
+    if ((double)img->width * img->height > (double)params->max_pixels)
+        return lt_error_set(err, LT_ELIMIT, "%d x %d pixels, more than the limit of %ld",
+                            img->width, img->height, params->max_pixels);
+    lt_layout *res = calloc(1, sizeof *res);
+    if (!res) return lt_error_set(err, LT_ENOMEM, "out of memory");
+    res->width = img->width;
+    res->height = img->height;
+    res->dpi_from_file = img->dpi > 0 && !params->force_dpi;
+    res->dpi = res->dpi_from_file ? img->dpi : params->dpi;
+
+    lt_image *ink_own = NULL, *deskewed_own = NULL;
+    lt_components *comps = NULL;
+    lt_raw_lines *raw = NULL;
+    lt_cut_node *tree = NULL;
+    int *order = NULL, *block_of = NULL;
+    int rc = 0;
+
+    /* 1. Binarize (1-bit input is used as it is). */
+    const lt_image *ink = img;
+    if (img->kind == LT_IMAGE_GRAY) {
+        int window = params->sauvola_window_px > 0 ? params->sauvola_window_px
+                                                   : auto_window(res->dpi);
+        rc = lt_binarize(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
+        if (rc) goto done;
+        ink = ink_own;
+    }
+    /* 2. Skew, and the deskewed page the rest works on. */
+    lt_skew skew;
+    rc = lt_estimate_skew(ink, params->skew_range_deg, params->skew_min_confidence, &skew, err);
+    if (rc) goto done;
+    res->skew_deg = skew.angle_deg;
+    res->skew_confidence = skew.confidence;
+    double rotate_deg = fabs(skew.angle_deg) >= params->deskew_min_deg ? skew.angle_deg : 0;
+    const lt_image *page = ink;
+    if (rotate_deg != 0) {
+        rc = lt_rotate_ink(ink, rotate_deg, &deskewed_own, err);
+        if (rc) goto done;
+        page = deskewed_own;
+        lt_image_free(ink_own); /* the unrotated ink is no longer needed */
+        ink_own = NULL;
+    }
+    lt_frame frame;
+    lt_frame_init(&frame, img->width, img->height, rotate_deg);
+    /* 3. Components and their classes. */
+    rc = lt_find_components(page, params->max_components, &comps, err);
+    if (rc) goto done;
+    res->ncomponents = comps->count;
+    res->text_height_px = lt_text_height(comps, res->dpi);
+    lt_classify_components(comps, res->text_height_px, params);
+    /* 4. Lines, 5. blocks, 6. reading order. */
+    rc = lt_build_lines(comps, res->text_height_px, params, &raw, err);
+    if (rc) goto done;
+    rc = lt_xy_cut(raw, res->text_height_px, params, &tree, err);
+    if (rc) goto done;
+    order = malloc(((size_t)raw->count + 1) * sizeof *order);
+    block_of = malloc(((size_t)raw->count + 1) * sizeof *block_of);
+    if (!order || !block_of) {
+        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+        goto done;
+    }
+    int nblocks = lt_reading_order(tree, raw->count, order, block_of);
+    if (nblocks < 0) {
+        rc = lt_error_set(err, LT_EINVAL, "reading order lost lines (internal error)");
+        goto done;
+    }
+    if (assemble(res, raw, order, block_of, nblocks, comps, &frame))
+        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+done:
+    lt_image_free(ink_own);
+    lt_image_free(deskewed_own);
+    lt_components_free(comps);
+    lt_raw_lines_free(raw);
+    lt_cut_node_free(tree);
+    free(order);
+    free(block_of);
+    if (rc) {
+        lt_layout_free(res);
+        return rc;
+    }
+    *out = res;
+    return 0;
+}
+
+void lt_layout_free(lt_layout *layout)
+{
+    if (!layout) return;
+    free(layout->lines);
+    free(layout->blocks);
+    free(layout);
+}

@@ -1,0 +1,18 @@
+/* cli.h — subcommands of the lineate command-line tool (src/main.c dispatches to them).
+ * Each takes the arguments after the program name (argv[0] is the subcommand name, or the
+ * first argument for the default analyse command) and returns the process exit status. */
+#ifndef LINEATE_CLI_H
+#define LINEATE_CLI_H
+
+/* Exit statuses, documented in man/lineate.1. */
+enum {
+    LT_EXIT_OK = 0,      /* every input processed */
+    LT_EXIT_FAILED = 1,  /* at least one input could not be processed (others were) */
+    LT_EXIT_USAGE = 2,   /* bad command line */
+    LT_EXIT_OUTPUT = 3   /* the output could not be written */
+};
+
+int lt_cmd_analyze(int argc, char **argv);
+int lt_cmd_score(int argc, char **argv);
+
+#endif

@@ -1,0 +1,196 @@
+/* cmd_analyze.c — `lineate [OPTIONS] IMAGE...`: analyses every page of every input and
+ * writes one JSON object per page, one per line, to stdout or to -o FILE (written to a
+ * temporary name and renamed into place, so a failed run leaves no partial file). */
+#include "cli.h"
+#include "lineate.h"
+
+#include <errno.h>
+#include <getopt.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+static const char usage_text[] =
+    "Usage: lineate [OPTIONS] IMAGE...\n"
+    "       lineate score [OPTIONS] TRUTH PRED\n"
+    "Find the skew, text lines, blocks and reading order of page images (PNG, TIFF, JPEG,\n"
+    "PNM; '-' reads standard input) and write one JSON object per page.\n"
+    "\n"
+    "Options:\n"
+    "  -o, --output FILE     write to FILE instead of standard output\n"
+    "      --pretty          indent the JSON for reading (one object spans many lines)\n"
+    "      --dpi N           resolution to assume when a file gives none (default 300)\n"
+    "      --force-dpi       use --dpi even when the file gives a resolution\n"
+    "      --window N        Sauvola window in pixels, odd (default: 0.17 inch)\n"
+    "      --k K             Sauvola k (default 0.34)\n"
+    "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n"
+    "      --max-pixels N    refuse pages larger than N pixels (default 200000000)\n"
+    "      --max-pages N     refuse files with more than N pages (default 10000)\n"
+    "  -h, --help            show this help and exit\n"
+    "  -V, --version         show the version and exit\n"
+    "\n"
+    "Exit status: 0 all pages analysed, 1 some input failed (the others are written),\n"
+    "2 bad command line, 3 the output could not be written.\n";
+
+enum { OPT_PRETTY = 256, OPT_DPI, OPT_FORCE_DPI, OPT_WINDOW, OPT_K, OPT_MAX_SKEW,
+       OPT_MAX_PIXELS, OPT_MAX_PAGES };
+
+static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
+{
+    char *end = NULL;
+    errno = 0;
+    double v = strtod(text, &end);
+    if (errno || end == text || *end || !(v >= lo && v <= hi)) {
+        fprintf(stderr, "lineate: %s: '%s' is not a number in [%g, %g]\n", opt, text, lo, hi);
+        return -1;
+    }
+    *out = v;
+    return 0;
+}
+
+/* Analyses every page of one input, writing each page's JSON line to `out`. Returns 0, or 1
+ * when the input (or a page of it) failed, with a message on stderr; -1 on a write error. */
+static int analyze_input(const char *path, const lt_params *params, long max_pages, int pretty,
+                         FILE *out)
+{
+    lt_error err = {0};
+    lt_source *src = NULL;
+    if (lt_source_open(path, max_pages, &src, &err)) {
+        fprintf(stderr, "lineate: %s\n", err.message);
+        return 1;
+    }
+    int failed = 0;
+    const int pages = lt_source_pages(src);
+    for (int i = 0; i < pages; i++) {
+        lt_error perr = {0};
+        lt_image *img = NULL;
+        lt_layout *layout = NULL;
+        if (lt_source_read_page(src, i, params->max_pixels, &img, &perr) ||
+            lt_analyze(img, params, &layout, &perr)) {
+            if (strncmp(perr.message, path, strlen(path)) == 0 ||
+                strncmp(perr.message, "stdin", 5) == 0)
+                fprintf(stderr, "lineate: %s\n", perr.message);
+            else
+                fprintf(stderr, "lineate: %s: page %d: %s\n", lt_source_name(src), i + 1,
+                        perr.message);
+            failed = 1;
+            lt_image_free(img);
+            continue;
+        }
+        lt_image_free(img);
+        char *json = lt_layout_to_json(layout, path, i + 1, pages, pretty);
+        lt_layout_free(layout);
+        if (!json) {
+            fprintf(stderr, "lineate: %s: page %d: out of memory\n", lt_source_name(src), i + 1);
+            failed = 1;
+            continue;
+        }
+        int bad = fputs(json, out) < 0 || fputc('\n', out) == EOF;
+        free(json);
+        if (bad) {
+            lt_source_free(src);
+            return -1;
+        }
+    }
+    lt_source_free(src);
+    return failed;
+}
+
+int lt_cmd_analyze(int argc, char **argv)
+{
+    static const struct option longopts[] = {
+        {"output", required_argument, NULL, 'o'},
+        {"pretty", no_argument, NULL, OPT_PRETTY},
+        {"dpi", required_argument, NULL, OPT_DPI},
+        {"force-dpi", no_argument, NULL, OPT_FORCE_DPI},
+        {"window", required_argument, NULL, OPT_WINDOW},
+        {"k", required_argument, NULL, OPT_K},
+        {"max-skew", required_argument, NULL, OPT_MAX_SKEW},
+        {"max-pixels", required_argument, NULL, OPT_MAX_PIXELS},
+        {"max-pages", required_argument, NULL, OPT_MAX_PAGES},
+        {"help", no_argument, NULL, 'h'},
+        {"version", no_argument, NULL, 'V'},
+        {NULL, 0, NULL, 0}};
+    lt_params params;
+    lt_params_default(&params);
+    const char *output = NULL;
+    int pretty = 0, c;
+    double v, max_pages = LT_DEFAULT_MAX_PAGES;
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":o:hV", longopts, NULL)) != -1) {
+        switch (c) {
+        case 'o': output = optarg; break;
+        case OPT_PRETTY: pretty = 1; break;
+        case OPT_DPI:
+            if (parse_number("--dpi", optarg, 10, 100000, &params.dpi)) return LT_EXIT_USAGE;
+            break;
+        case OPT_FORCE_DPI: params.force_dpi = 1; break;
+        case OPT_WINDOW:
+            if (parse_number("--window", optarg, 3, 10001, &v)) return LT_EXIT_USAGE;
+            params.sauvola_window_px = (int)v | 1;
+            break;
+        case OPT_K:
+            if (parse_number("--k", optarg, 0, 1, &params.sauvola_k)) return LT_EXIT_USAGE;
+            break;
+        case OPT_MAX_SKEW:
+            if (parse_number("--max-skew", optarg, 0, 45, &params.skew_range_deg))
+                return LT_EXIT_USAGE;
+            break;
+        case OPT_MAX_PIXELS:
+            if (parse_number("--max-pixels", optarg, 1, 4e12, &v)) return LT_EXIT_USAGE;
+            params.max_pixels = (long)v;
+            break;
+        case OPT_MAX_PAGES:
+            if (parse_number("--max-pages", optarg, 1, 1e9, &max_pages)) return LT_EXIT_USAGE;
+            break;
+        case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;
+        case 'V': printf("lineate %s\n", LT_VERSION_STRING); return LT_EXIT_OK;
+        case ':':
+            fprintf(stderr, "lineate: option '%s' needs a value (see lineate --help)\n",
+                    argv[optind - 1]);
+            return LT_EXIT_USAGE;
+        default:
+            fprintf(stderr, "lineate: unknown option '%s' (see lineate --help)\n",
+                    argv[optind - 1]);
+            return LT_EXIT_USAGE;
+        }
+    }
+    if (optind >= argc) {
+        fprintf(stderr, "lineate: no input image (see lineate --help)\n");
+        return LT_EXIT_USAGE;
+    }
+    FILE *out = stdout;
+    char *tmp_path = NULL;
+    if (output && strcmp(output, "-") != 0) {
+        size_t n = strlen(output) + 32;
+        tmp_path = malloc(n);
+        if (!tmp_path) return LT_EXIT_OUTPUT;
+        snprintf(tmp_path, n, "%s.tmp.%ld", output, (long)getpid());
+        out = fopen(tmp_path, "wb");
+        if (!out) {
+            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno));
+            free(tmp_path);
+            return LT_EXIT_OUTPUT;
+        }
+    }
+    int status = LT_EXIT_OK, write_failed = 0;
+    for (int i = optind; i < argc && !write_failed; i++) {
+        int r = analyze_input(argv[i], &params, (long)max_pages, pretty, out);
+        if (r < 0) write_failed = 1;
+        if (r > 0) status = LT_EXIT_FAILED;
+    }
+    if (fflush(out) != 0 || ferror(out)) write_failed = 1;
+    if (tmp_path) {
+        if (fclose(out) != 0) write_failed = 1;
+        if (!write_failed && rename(tmp_path, output) != 0) write_failed = 1;
+        if (write_failed) {
+            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno ? errno : EIO));
+            remove(tmp_path);
+        }
+        free(tmp_path);
+    } else if (write_failed) {
+        fprintf(stderr, "lineate: standard output: %s\n", strerror(errno ? errno : EIO));
+    }
+    return write_failed ? LT_EXIT_OUTPUT : status;
+}

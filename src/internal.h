@@ -1,0 +1,80 @@
+/* internal.h — declarations shared by the library's own files (not installed). */
+#ifndef LINEATE_INTERNAL_H
+#define LINEATE_INTERNAL_H
+
+#include "lineate.h"
+
+#include <stddef.h>
+
+#define LT_PI 3.14159265358979323846
+
+/* Size arithmetic: 1 (and *out untouched) when a*b overflows size_t. */
+int lt_mul_overflows(size_t a, size_t b, size_t *out);
+/* malloc of count*size bytes with overflow check; NULL on failure. */
+void *lt_alloc_array(size_t count, size_t size);
+int lt_cmp_double(const void *a, const void *b);
+/* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
+double lt_median(double *v, int n);
+
+/* ---- geometry (geom.c) ---------------------------------------------------------------- */
+/* Maps between the deskewed frame (the canvas lt_rotate_ink produces) and the original
+ * image. Built once per page; all output coordinates pass through it. */
+typedef struct lt_frame {
+    double cos_a, sin_a;         /* of the skew angle */
+    double orig_cx, orig_cy;     /* centre of the original image */
+    double desk_cx, desk_cy;     /* centre of the deskewed canvas */
+    int desk_width, desk_height; /* deskewed canvas size */
+} lt_frame;
+
+/* Frame for an image of width x height deskewed by angle_deg (0 gives the identity). */
+void lt_frame_init(lt_frame *f, int width, int height, double angle_deg);
+/* Point of the deskewed canvas -> point of the original image. */
+lt_point lt_frame_to_original(const lt_frame *f, double x, double y);
+/* Point of the original image -> point of the deskewed canvas. */
+lt_point lt_frame_to_deskewed(const lt_frame *f, double x, double y);
+/* Quad (TL, TR, BR, BL) and its integer hull of an axis-aligned deskewed box, in original
+ * coordinates, the hull clipped to the image. */
+void lt_frame_map_box(const lt_frame *f, lt_box deskewed, int width, int height,
+                      lt_point quad[4], lt_box *hull);
+
+/* ---- lines (lines.c) ------------------------------------------------------------------ */
+/* A text line in the deskewed frame, before mapping. */
+typedef struct lt_raw_line {
+    lt_box box;           /* deskewed frame */
+    double baseline_y;    /* deskewed frame */
+    double xheight_px;
+    int ncomponents;
+} lt_raw_line;
+
+typedef struct lt_raw_lines {
+    lt_raw_line *items;
+    int count;
+} lt_raw_lines;
+
+/* Groups the text components into lines (docstrum-style neighbour links, transitive
+ * closure), then attaches speckle-sized marks (dots, accents, punctuation) that lie inside a
+ * line's band. */
+int lt_build_lines(const lt_components *c, double text_height_px, const lt_params *p,
+                   lt_raw_lines **out, lt_error *err);
+void lt_raw_lines_free(lt_raw_lines *l);
+
+/* ---- blocks and order (blocks.c, order.c) --------------------------------------------- */
+/* Node of the XY-cut tree. Leaves are blocks; children are in reading order (top to bottom
+ * for a horizontal cut, left to right for a vertical one). */
+typedef struct lt_cut_node {
+    lt_box box;
+    int *lines; /* leaf: indices into the raw lines, top to bottom */
+    int nlines;
+    struct lt_cut_node **children;
+    int nchildren;
+} lt_cut_node;
+
+int lt_xy_cut(const lt_raw_lines *lines, double text_height_px, const lt_params *p,
+              lt_cut_node **root, lt_error *err);
+void lt_cut_node_free(lt_cut_node *n);
+
+/* Reading order: fills order[0..nlines) with raw line indices and block_of[i] with the block
+ * (leaf) number of order position i; returns the number of blocks, or a negative code. */
+int lt_reading_order(const lt_cut_node *root, int nlines, int *order, int *block_of);
+
+#endif

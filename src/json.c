@@ -1,0 +1,91 @@
+/* json.c — writes a page layout as one JSON object (cJSON), the format described by
+ * schema/lineate-layout.schema.json. Coordinates are rounded to 1/100 pixel. */
+#include "internal.h"
+
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdlib.h>
+
+static double round2(double v)
+{
+    double r = round(v * 100.0) / 100.0;
+    return r == 0 ? 0 : r; /* no "-0" */
+}
+
+static cJSON *box_json(const lt_box *b)
+{
+    const int v[4] = {b->left, b->top, b->right, b->bottom};
+    return cJSON_CreateIntArray(v, 4);
+}
+
+static cJSON *point_json(lt_point p)
+{
+    cJSON *a = cJSON_CreateArray();
+    if (!a) return NULL;
+    cJSON_AddItemToArray(a, cJSON_CreateNumber(round2(p.x)));
+    cJSON_AddItemToArray(a, cJSON_CreateNumber(round2(p.y)));
+    return a;
+}
+
+static cJSON *points_json(const lt_point *p, int n)
+{
+    cJSON *a = cJSON_CreateArray();
+    for (int i = 0; a && i < n; i++) cJSON_AddItemToArray(a, point_json(p[i]));
+    return a;
+}
+
+static const char *block_kind_name(int kind)
+{
+    switch (kind) {
+    case LT_BLOCK_RULE: return "rule";
+    case LT_BLOCK_PICTURE: return "picture";
+    default: return "text";
+    }
+}
+
+char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pages,
+                        int pretty)
+{
+    cJSON *o = cJSON_CreateObject();
+    if (!o) return NULL;
+    cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME);
+    cJSON_AddStringToObject(o, "source", source ? source : "");
+    cJSON_AddNumberToObject(o, "page", page);
+    cJSON_AddNumberToObject(o, "pages", pages);
+    cJSON_AddNumberToObject(o, "width", l->width);
+    cJSON_AddNumberToObject(o, "height", l->height);
+    cJSON_AddNumberToObject(o, "dpi", round2(l->dpi));
+    cJSON_AddStringToObject(o, "dpi_source", l->dpi_from_file ? "file" : "assumed");
+    cJSON_AddNumberToObject(o, "skew_deg", round(l->skew_deg * 1000) / 1000 + 0.0);
+    cJSON_AddNumberToObject(o, "skew_confidence", round2(l->skew_confidence));
+    cJSON_AddNumberToObject(o, "text_height_px", round2(l->text_height_px));
+    cJSON_AddNumberToObject(o, "components", l->ncomponents);
+    cJSON *lines = cJSON_AddArrayToObject(o, "lines");
+    for (int i = 0; lines && i < l->nlines; i++) {
+        const lt_line *ln = &l->lines[i];
+        cJSON *j = cJSON_CreateObject();
+        if (!j) break;
+        cJSON_AddItemToObject(j, "box", box_json(&ln->box));
+        cJSON_AddItemToObject(j, "quad", points_json(ln->quad, 4));
+        cJSON_AddItemToObject(j, "baseline", points_json(ln->baseline, 2));
+        cJSON_AddNumberToObject(j, "xheight_px", round2(ln->xheight_px));
+        cJSON_AddNumberToObject(j, "block", ln->block);
+        cJSON_AddItemToArray(lines, j);
+    }
+    cJSON *blocks = cJSON_AddArrayToObject(o, "blocks");
+    for (int i = 0; blocks && i < l->nblocks; i++) {
+        const lt_block *b = &l->blocks[i];
+        cJSON *j = cJSON_CreateObject();
+        if (!j) break;
+        cJSON_AddStringToObject(j, "kind", block_kind_name(b->kind));
+        cJSON_AddItemToObject(j, "box", box_json(&b->box));
+        cJSON_AddItemToObject(j, "quad", points_json(b->quad, 4));
+        cJSON *members = cJSON_AddArrayToObject(j, "lines");
+        for (int k = 0; members && k < b->nlines; k++)
+            cJSON_AddItemToArray(members, cJSON_CreateNumber(b->first_line + k));
+        cJSON_AddItemToArray(blocks, j);
+    }
+    char *text = pretty ? cJSON_Print(o) : cJSON_PrintUnformatted(o);
+    cJSON_Delete(o);
+    return text;
+}

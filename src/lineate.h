@@ -1,0 +1,222 @@
+/* lineate.h — the public interface of liblineate: classical layout analysis of page images.
+ *
+ * Pipeline: load -> Sauvola binarization -> projection-profile skew -> connected components
+ * -> classification -> docstrum-style text lines -> recursive XY-cut blocks -> reading order.
+ *
+ * Ownership: every `lt_*_new`/`lt_*_open`/`lt_analyze`/`lt_load_*` result is owned by the
+ * caller and released with the matching `*_free`, which accepts NULL. Inputs are never
+ * modified or retained. The library never prints and never exits: functions return 0 or a
+ * negative `LT_E*` code and describe the failure in the caller's `lt_error`.
+ *
+ * Coordinates: integer boxes are [left, top, right, bottom) in pixels of the image as given,
+ * right and bottom exclusive; points are continuous (pixel x covers [x, x+1)). Angles are in
+ * degrees, positive when text lines rise to the right as the image is displayed.
+ */
+#ifndef LINEATE_H
+#define LINEATE_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+#define LT_VERSION_STRING "1.0.0"
+/* Version of the JSON layout format written by lt_json_*; bumped on incompatible changes. */
+#define LT_FORMAT_NAME "lineate-layout-1"
+
+/* ---- errors ------------------------------------------------------------------------- */
+enum {
+    LT_OK = 0,
+    LT_EINVAL = -1,  /* bad argument or parameter */
+    LT_ENOMEM = -2,  /* allocation failed */
+    LT_EIO = -3,     /* file could not be read or written */
+    LT_EFORMAT = -4, /* not an image, or an image that cannot be decoded */
+    LT_ELIMIT = -5,  /* input exceeds a documented limit */
+    LT_EPARSE = -6   /* malformed JSON (layout or ground-truth reader) */
+};
+
+typedef struct lt_error {
+    int code;          /* one of LT_E*, 0 when nothing failed */
+    char message[320]; /* one line, no trailing newline: "file: reason" or "reason" */
+} lt_error;
+
+/* Records the first failure only: later calls keep the original message. Returns `code`. */
+int lt_error_set(lt_error *err, int code, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+
+/* ---- limits (named, documented; each has a parameter to change it) ------------------- */
+#define LT_DEFAULT_MAX_PIXELS (200L * 1000L * 1000L) /* 200 Mpx: 600 dpi A2 fits */
+#define LT_DEFAULT_MAX_PAGES 10000                  /* pages per multi-page TIFF */
+#define LT_DEFAULT_MAX_COMPONENTS 2000000           /* beyond this the page is noise */
+#define LT_MAX_FILE_BYTES (2LL * 1024 * 1024 * 1024) /* files are read into memory */
+
+/* ---- images --------------------------------------------------------------------------- */
+/* A page image, one byte per pixel, row-major, no padding (stride == width).
+ * kind LT_IMAGE_GRAY: 0 = black .. 255 = white. kind LT_IMAGE_INK: 1 = ink, 0 = paper. */
+enum { LT_IMAGE_GRAY = 0, LT_IMAGE_INK = 1 };
+
+typedef struct lt_image {
+    int width, height;
+    int kind;        /* LT_IMAGE_GRAY or LT_IMAGE_INK */
+    double dpi;      /* resolution from the file, 0 when the file gives none */
+    uint8_t *pixels; /* width * height bytes, owned by the image */
+} lt_image;
+
+lt_image *lt_image_new(int width, int height, int kind); /* zero-filled; NULL on failure */
+void lt_image_free(lt_image *img);
+
+/* An opened image file (or memory buffer): one or more pages. */
+typedef struct lt_source lt_source;
+
+/* Opens `path` ("-" reads standard input) and counts its pages. `name` in messages is `path`
+ * ("stdin" for "-"). Fails with LT_EIO, LT_EFORMAT or LT_ELIMIT (too many pages, file too
+ * large). */
+int lt_source_open(const char *path, long max_pages, lt_source **out, lt_error *err);
+/* Same from a caller's buffer, which is copied. `name` is used in messages. */
+int lt_source_open_memory(const void *data, size_t size, const char *name, long max_pages,
+                          lt_source **out, lt_error *err);
+int lt_source_pages(const lt_source *src);
+const char *lt_source_name(const lt_source *src);
+/* Short format name of the file: "png", "tiff", "jpeg", "pnm", ... */
+const char *lt_source_format(const lt_source *src);
+/* Decodes page `index` (0-based) to 8-bit gray, or to an ink image when the page is 1-bit.
+ * The page size is checked against `max_pixels` before the pixels are decoded. */
+int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out,
+                        lt_error *err);
+void lt_source_free(lt_source *src);
+
+/* ---- parameters ----------------------------------------------------------------------- */
+/* Sizes marked "text units" are multiples of the page's measured text height (the mode of
+ * component heights, close to the x-height for Latin scripts), so that a 200 dpi and a
+ * 600 dpi scan of one page give the same lines. 0 for an "auto" field means: derive it. */
+typedef struct lt_params {
+    double dpi;            /* resolution to assume when the file gives none (default 300) */
+    int force_dpi;         /* nonzero: use `dpi` even when the file has one */
+    int sauvola_window_px; /* Sauvola window side, odd; 0 = auto: 0.17 inch (51 px at 300) */
+    double sauvola_k;      /* Sauvola k (default 0.34; the paper uses 0.5 for clean scans) */
+    double sauvola_r;      /* Sauvola R, dynamic range of the deviation (default 128) */
+    double skew_range_deg; /* search -range..+range (default 15) */
+    double skew_min_confidence; /* below this the page reports no estimate (default 0.05) */
+    double deskew_min_deg; /* below this |skew| the page is analysed unrotated (0.05) */
+    double speckle_max;    /* text units: components smaller in both sides are speckle (0.2) */
+    double rule_min_aspect;     /* long side / short side of a rule (default 12) */
+    double picture_min_height;  /* text units: taller components are non-text (default 6) */
+    double link_max_gap;        /* text units: widest gap bridged inside a line (default 2.2) */
+    double column_min_gap;      /* text units: narrowest gutter the XY-cut splits at (1.5) */
+    double block_min_gap;       /* text units: narrowest vertical gap between blocks (1.2) */
+    long max_pixels;            /* LT_DEFAULT_MAX_PIXELS */
+    long max_components;        /* LT_DEFAULT_MAX_COMPONENTS */
+} lt_params;
+
+void lt_params_default(lt_params *p);
+
+/* ---- geometry ------------------------------------------------------------------------- */
+typedef struct lt_box {
+    int left, top, right, bottom; /* right, bottom exclusive */
+} lt_box;
+
+typedef struct lt_point {
+    double x, y;
+} lt_point;
+
+/* ---- results -------------------------------------------------------------------------- */
+enum { LT_COMP_TEXT = 0, LT_COMP_SPECKLE, LT_COMP_RULE, LT_COMP_PICTURE };
+/* Kinds of block: text blocks hold lines; the others are non-text regions. */
+enum { LT_BLOCK_TEXT = 0, LT_BLOCK_RULE, LT_BLOCK_PICTURE };
+
+typedef struct lt_line {
+    lt_box box;           /* axis-aligned hull of `quad`, original image pixels */
+    lt_point quad[4];     /* top-left, top-right, bottom-right, bottom-left in the line's
+                             own (deskewed) frame, mapped to the original image */
+    lt_point baseline[2]; /* left and right ends of the baseline, original image */
+    double xheight_px;    /* distance from baseline to the top of lowercase letters */
+    int block;            /* index into lt_layout.blocks */
+    int components;       /* number of connected components in the line */
+} lt_line;
+
+typedef struct lt_block {
+    int kind;         /* LT_BLOCK_* */
+    lt_box box;       /* axis-aligned hull of `quad` */
+    lt_point quad[4]; /* as for lines */
+    int first_line;   /* lines of a text block are lines[first_line .. first_line+nlines) */
+    int nlines;       /* 0 for non-text blocks */
+} lt_block;
+
+typedef struct lt_layout {
+    int width, height;      /* of the analysed image */
+    double dpi;             /* resolution used */
+    int dpi_from_file;      /* 1 when the file gave it, 0 when assumed */
+    double skew_deg;        /* estimated skew, 0 when there is no estimate */
+    double skew_confidence; /* 0 (no estimate) .. 1 */
+    double text_height_px;  /* measured text height (0 when the page has no text) */
+    int ncomponents;        /* connected components found */
+    lt_line *lines;         /* IN READING ORDER */
+    int nlines;
+    lt_block *blocks; /* text blocks in reading order, then non-text blocks */
+    int nblocks;
+} lt_layout;
+
+/* Analyses one page. `params` may be NULL for the defaults. On success *out holds a layout
+ * the caller frees with lt_layout_free. */
+int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err);
+void lt_layout_free(lt_layout *layout);
+
+/* ---- output --------------------------------------------------------------------------- */
+/* The page as one JSON object (format LT_FORMAT_NAME, see schema/lineate-layout.schema.json):
+ * a NUL-terminated string the caller frees with free(), on one line unless `pretty`.
+ * `source` is the input's name, `page` counts from 1 of `pages`. NULL when out of memory. */
+char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, int pages,
+                        int pretty);
+
+/* ---- stages (each pure: inputs are not modified) ----------------------------------------
+ * Exposed for tests, tools and embedders who need one step. */
+
+/* Sauvola & Pietikäinen (2000) with running window sums: ink where
+ * gray < m * (1 + k * (s / R - 1)), m and s the mean and standard deviation of the
+ * window x window neighbourhood clipped to the image. O(pixels), any window. */
+int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
+                lt_error *err);
+
+typedef struct lt_skew {
+    double angle_deg;  /* 0 when confidence is 0 */
+    double confidence; /* 0 .. 1 */
+} lt_skew;
+
+/* Projection-profile skew of an ink image in [-range, +range] degrees. */
+int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence,
+                     lt_skew *out, lt_error *err);
+
+/* Rotates an ink image by -angle_deg (so text skewed by angle_deg becomes level), about its
+ * centre, onto a canvas large enough to hold all of it (nearest-neighbour sampling). */
+int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, lt_error *err);
+
+typedef struct lt_component {
+    lt_box box;
+    long pixels;       /* ink pixel count */
+    double cx, cy;     /* centroid (mean of pixel centres) */
+    int kind;          /* LT_COMP_* (set by lt_classify_components) */
+} lt_component;
+
+typedef struct lt_components {
+    lt_component *items;
+    int count;
+} lt_components;
+
+/* 8-connected components of an ink image, ordered by their first pixel in raster order.
+ * Fails with LT_ELIMIT when there are more than max_components. */
+int lt_find_components(const lt_image *ink, long max_components, lt_components **out,
+                       lt_error *err);
+void lt_components_free(lt_components *c);
+
+/* Text height of a page: mode of the heights of plausible character components
+ * (0 when there are none). */
+double lt_text_height(const lt_components *c, double dpi);
+/* Sets kind of every component from its size relative to text_height_px. */
+void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

@@ -1,0 +1,370 @@
+/* lines.c — text lines by docstrum-style neighbour links (O'Gorman 1993): every text
+ * component is linked to its nearest neighbour on each side whose direction lies near the
+ * (removed) page skew, i.e. that overlaps it vertically, within a gap taken from the page's
+ * text height; lines are the transitive closure of the links. Links that cross a column
+ * gutter — a white vertical strip shared by the wide gaps of several rows — are dropped.
+ * Small marks (dots, commas, hyphens, accents) join the line whose band holds them. */
+#include "internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+typedef struct link {
+    int a, b;       /* components, a left of b */
+    int x0, x1;     /* the white gap between them, [x0, x1) */
+    int top, bottom; /* vertical extent of the pair */
+} link;
+
+typedef struct index_grid {
+    int cols, rows;
+    double cell_px;
+    int *start; /* cols*rows+1 offsets into items */
+    int *items; /* component indices, by cell */
+} index_grid;
+
+static int find_root(int *parent, int i)
+{
+    while (parent[i] != i) {
+        parent[i] = parent[parent[i]];
+        i = parent[i];
+    }
+    return i;
+}
+
+static void unite(int *parent, int a, int b)
+{
+    a = find_root(parent, a);
+    b = find_root(parent, b);
+    if (a < b)
+        parent[b] = a;
+    else if (b < a)
+        parent[a] = b;
+}
+
+static int box_w(const lt_box *b)
+{
+    return b->right - b->left;
+}
+
+static int box_h(const lt_box *b)
+{
+    return b->bottom - b->top;
+}
+
+/* Grid of the components in `use` (by centroid) for neighbour queries. */
+static int grid_build(const lt_components *c, const uint8_t *use, double cell_px,
+                      index_grid *g)
+{
+    int maxx = 1, maxy = 1;
+    for (int i = 0; i < c->count; i++) {
+        if (c->items[i].box.right > maxx) maxx = c->items[i].box.right;
+        if (c->items[i].box.bottom > maxy) maxy = c->items[i].box.bottom;
+    }
+    g->cell_px = cell_px;
+    g->cols = (int)(maxx / cell_px) + 1;
+    g->rows = (int)(maxy / cell_px) + 1;
+    size_t ncell = (size_t)g->cols * g->rows;
+    g->start = calloc(ncell + 1, sizeof *g->start);
+    g->items = malloc(((size_t)c->count + 1) * sizeof *g->items);
+    if (!g->start || !g->items) return LT_ENOMEM;
+    for (int i = 0; i < c->count; i++) {
+        if (!use[i]) continue;
+        int cx = (int)(c->items[i].cx / cell_px), cy = (int)(c->items[i].cy / cell_px);
+        g->start[(size_t)cy * g->cols + cx + 1]++;
+    }
+    for (size_t k = 0; k < ncell; k++) g->start[k + 1] += g->start[k];
+    int *fill = malloc((ncell + 1) * sizeof *fill);
+    if (!fill) return LT_ENOMEM;
+    memcpy(fill, g->start, (ncell + 1) * sizeof *fill);
+    for (int i = 0; i < c->count; i++) {
+        if (!use[i]) continue;
+        int cx = (int)(c->items[i].cx / cell_px), cy = (int)(c->items[i].cy / cell_px);
+        g->items[fill[(size_t)cy * g->cols + cx]++] = i;
+    }
+    free(fill);
+    return 0;
+}
+
+static void grid_free(index_grid *g)
+{
+    free(g->start);
+    free(g->items);
+}
+
+/* Whether b may sit beside a in one line: their vertical extents overlap by at least half
+ * the smaller height and their centres are at most 0.7 smaller heights apart (so a tall
+ * bracket joins only the line it is centred on), heights differ at most fourfold. */
+static int same_row(const lt_component *a, const lt_component *b)
+{
+    int ha = box_h(&a->box), hb = box_h(&b->box);
+    int hmin = ha < hb ? ha : hb, hmax = ha < hb ? hb : ha;
+    int top = a->box.top > b->box.top ? a->box.top : b->box.top;
+    int bottom = a->box.bottom < b->box.bottom ? a->box.bottom : b->box.bottom;
+    if (hmax > 4 * hmin) return 0;
+    if (2 * (bottom - top) < hmin) return 0;
+    double dcy = 0.5 * (a->box.top + a->box.bottom - b->box.top - b->box.bottom);
+    return fabs(dcy) <= 0.7 * hmin;
+}
+
+/* Nearest neighbour of component i on one side (dir = +1 right, -1 left) within max_gap,
+ * or -1. The gap is measured between the boxes. */
+static int nearest_beside(const lt_components *c, const index_grid *g, int i, int dir,
+                          double max_gap)
+{
+    const lt_component *a = &c->items[i];
+    const int reach = (int)(max_gap + 3 * g->cell_px);
+    int x_lo = dir > 0 ? (int)a->cx : a->box.left - reach;
+    int x_hi = dir > 0 ? a->box.right + reach : (int)a->cx;
+    int cx0 = x_lo / g->cell_px < 0 ? 0 : (int)(x_lo / g->cell_px);
+    int cx1 = (int)(x_hi / g->cell_px);
+    int cy0 = (int)((a->box.top - g->cell_px) / g->cell_px), cy1 = (int)(a->box.bottom / g->cell_px) + 1;
+    if (cx1 >= g->cols) cx1 = g->cols - 1;
+    if (cy0 < 0) cy0 = 0;
+    if (cy1 >= g->rows) cy1 = g->rows - 1;
+    int best = -1;
+    double best_gap = max_gap + 1;
+    for (int cy = cy0; cy <= cy1; cy++)
+        for (int cx = cx0; cx <= cx1; cx++) {
+            size_t cell = (size_t)cy * g->cols + cx;
+            for (int k = g->start[cell]; k < g->start[cell + 1]; k++) {
+                int j = g->items[k];
+                if (j == i) continue;
+                const lt_component *b = &c->items[j];
+                if (dir > 0 ? b->cx <= a->cx : b->cx >= a->cx) continue;
+                double gap = dir > 0 ? b->box.left - a->box.right : a->box.left - b->box.right;
+                if (gap > max_gap || gap >= best_gap) continue;
+                if (!same_row(a, b)) continue;
+                best = j;
+                best_gap = gap;
+            }
+        }
+    return best;
+}
+
+static int cmp_link_x0(const void *pa, const void *pb)
+{
+    const link *a = pa, *b = pb;
+    return (a->x0 > b->x0) - (a->x0 < b->x0);
+}
+
+/* Marks the wide links that cross a gutter: a white strip at least min_width wide that the
+ * gaps of at least `min_rows` links of different rows share. */
+static void find_gutter_links(link *wide, int n, double min_width, int min_rows,
+                              uint8_t *crosses)
+{
+    qsort(wide, (size_t)n, sizeof *wide, cmp_link_x0);
+    for (int i = 0; i < n; i++) {
+        int shared = 0;
+        for (int j = 0; j < n; j++) {
+            if (j == i) continue;
+            if (wide[j].x0 >= wide[i].x1) break;
+            int lo = wide[i].x0 > wide[j].x0 ? wide[i].x0 : wide[j].x0;
+            int hi = wide[i].x1 < wide[j].x1 ? wide[i].x1 : wide[j].x1;
+            int rows_apart = wide[j].bottom <= wide[i].top || wide[j].top >= wide[i].bottom;
+            if (hi - lo >= min_width && rows_apart) shared++;
+        }
+        crosses[i] = shared + 1 >= min_rows;
+    }
+}
+
+/* Is component k (a mark) attachable to line box b? Returns a distance (smaller is better)
+ * or -1. Marks sit above (accents, dots) or on the band of the line, horizontally within it
+ * or just beyond its ends (final punctuation). */
+static double mark_fit(const lt_component *k, const lt_box *b, double th, int speckle)
+{
+    double cy = 0.5 * (k->box.top + k->box.bottom), cx = k->cx;
+    double reach = speckle ? 0 : 0.6 * th;
+    if (cx < b->left - reach || cx > b->right + reach) return -1;
+    if (cy < b->top - 0.6 * th || cy > b->bottom + (speckle ? 0.0 : 0.3 * th)) return -1;
+    double mid = 0.5 * (b->top + b->bottom);
+    return fabs(cy - mid);
+}
+
+static int cmp_line_pos(const void *pa, const void *pb)
+{
+    const lt_raw_line *a = pa, *b = pb;
+    if (a->box.top != b->box.top) return (a->box.top > b->box.top) - (a->box.top < b->box.top);
+    return (a->box.left > b->box.left) - (a->box.left < b->box.left);
+}
+
+int lt_build_lines(const lt_components *c, double text_height_px, const lt_params *p,
+                   lt_raw_lines **out, lt_error *err)
+{
+    *out = NULL;
+    const double th = text_height_px > 0 ? text_height_px : 20;
+    const int n = c->count;
+    uint8_t *body = calloc((size_t)n + 1, 1), *mark = calloc((size_t)n + 1, 1);
+    int *parent = malloc(((size_t)n + 1) * sizeof *parent);
+    int *line_of = malloc(((size_t)n + 1) * sizeof *line_of);
+    link *links = malloc(((size_t)2 * n + 1) * sizeof *links);
+    uint8_t *crosses = calloc((size_t)2 * n + 1, 1);
+    index_grid g = {0};
+    lt_raw_lines *res = calloc(1, sizeof *res);
+    int rc = 0;
+    if (!body || !mark || !parent || !line_of || !links || !crosses || !res) goto nomem;
+
+    /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
+    const double mark_h = 0.5 * th;
+    const long min_speckle_px = (long)fmax(3, 0.01 * th * th);
+    for (int i = 0; i < n; i++) {
+        const lt_component *k = &c->items[i];
+        if (k->kind == LT_COMP_TEXT) {
+            if (box_h(&k->box) < mark_h && box_w(&k->box) < 3 * th)
+                mark[i] = 1;
+            else
+                body[i] = 1;
+        } else if (k->kind == LT_COMP_SPECKLE && k->pixels >= min_speckle_px) {
+            mark[i] = 2;
+        }
+        parent[i] = i;
+    }
+    if (grid_build(c, body, 2 * th, &g)) goto nomem;
+
+    /* Links to the nearest neighbour on each side. */
+    const double max_gap = p->link_max_gap * th, wide_gap = 1.3 * th;
+    int nlinks = 0;
+    for (int i = 0; i < n; i++) {
+        if (!body[i]) continue;
+        for (int dir = -1; dir <= 1; dir += 2) {
+            int j = nearest_beside(c, &g, i, dir, max_gap);
+            if (j < 0) continue;
+            int a = dir > 0 ? i : j, b = dir > 0 ? j : i;
+            link *l = &links[nlinks++];
+            l->a = a;
+            l->b = b;
+            l->x0 = c->items[a].box.right;
+            l->x1 = c->items[b].box.left;
+            l->top = c->items[a].box.top < c->items[b].box.top ? c->items[a].box.top
+                                                               : c->items[b].box.top;
+            l->bottom = c->items[a].box.bottom > c->items[b].box.bottom ? c->items[a].box.bottom
+                                                                       : c->items[b].box.bottom;
+        }
+    }
+    /* Wide links first: those sharing a gutter with other rows are not joined. */
+    int nwide = 0;
+    for (int i = 0; i < nlinks; i++)
+        if (links[i].x1 - links[i].x0 >= wide_gap) {
+            link t = links[nwide];
+            links[nwide++] = links[i];
+            links[i] = t;
+        }
+    find_gutter_links(links, nwide, 0.5 * th, 3, crosses);
+    for (int i = 0; i < nlinks; i++)
+        if (i >= nwide || !crosses[i]) unite(parent, links[i].a, links[i].b);
+
+    /* One raw line per group of bodies. */
+    int nl = 0;
+    for (int i = 0; i < n; i++) line_of[i] = -1;
+    for (int i = 0; i < n; i++)
+        if (body[i] && find_root(parent, i) == i) line_of[i] = nl++;
+    res->items = calloc((size_t)nl + 1, sizeof *res->items);
+    if (!res->items) goto nomem;
+    res->count = nl;
+    for (int i = 0; i < nl; i++) {
+        lt_box *b = &res->items[i].box;
+        b->left = b->top = 1 << 30;
+        b->right = b->bottom = -1;
+    }
+    for (int i = 0; i < n; i++) {
+        if (!body[i]) continue;
+        int l = line_of[i] = line_of[find_root(parent, i)];
+        lt_raw_line *r = &res->items[l];
+        const lt_box *k = &c->items[i].box;
+        if (k->left < r->box.left) r->box.left = k->left;
+        if (k->top < r->box.top) r->box.top = k->top;
+        if (k->right > r->box.right) r->box.right = k->right;
+        if (k->bottom > r->box.bottom) r->box.bottom = k->bottom;
+        r->ncomponents++;
+    }
+    /* Baseline: median bottom of the line's bodies (descenders are the minority); x-height:
+     * median height above it of the bodies that stand on it and are not tall. */
+    double *vals = malloc(((size_t)n + 1) * sizeof *vals);
+    int *order = malloc(((size_t)n + 1) * sizeof *order);
+    int *first = calloc((size_t)nl + 1, sizeof *first);
+    if (!vals || !order || !first) {
+        free(vals);
+        free(order);
+        free(first);
+        goto nomem;
+    }
+    for (int i = 0; i < n; i++)
+        if (body[i]) first[line_of[i] + 1]++;
+    for (int l = 0; l < nl; l++) first[l + 1] += first[l];
+    {
+        int *fill = line_of; /* reuse: bucket bodies by line */
+        int *pos = malloc(((size_t)nl + 1) * sizeof *pos);
+        if (!pos) {
+            free(vals);
+            free(order);
+            free(first);
+            goto nomem;
+        }
+        memcpy(pos, first, (size_t)nl * sizeof *pos);
+        for (int i = 0; i < n; i++)
+            if (body[i]) order[pos[fill[i]]++] = i;
+        free(pos);
+    }
+    for (int l = 0; l < nl; l++) {
+        lt_raw_line *r = &res->items[l];
+        int m = 0;
+        for (int k = first[l]; k < first[l + 1]; k++) vals[m++] = c->items[order[k]].box.bottom;
+        double base = lt_median(vals, m);
+        m = 0;
+        for (int k = first[l]; k < first[l + 1]; k++) {
+            const lt_box *b = &c->items[order[k]].box;
+            double h = base - b->top;
+            if (fabs(b->bottom - base) <= 0.15 * th + 1 && h <= 1.25 * th) vals[m++] = h;
+        }
+        r->baseline_y = base;
+        r->xheight_px = m ? lt_median(vals, m) : th;
+    }
+    free(vals);
+    free(order);
+    free(first);
+
+    /* Marks join the line whose band holds them best (lines are few: a plain scan). */
+    for (int i = 0; i < n; i++) {
+        if (!mark[i]) continue;
+        int best = -1;
+        double best_d = 1e300;
+        for (int l = 0; l < nl; l++) {
+            double d = mark_fit(&c->items[i], &res->items[l].box, th, mark[i] == 2);
+            if (d >= 0 && d < best_d) {
+                best_d = d;
+                best = l;
+            }
+        }
+        if (best < 0) continue;
+        const lt_box *k = &c->items[i].box;
+        lt_box *b = &res->items[best].box;
+        if (k->left < b->left) b->left = k->left;
+        if (k->top < b->top) b->top = k->top;
+        if (k->right > b->right) b->right = k->right;
+        if (k->bottom > b->bottom) b->bottom = k->bottom;
+        res->items[best].ncomponents++;
+    }
+    qsort(res->items, (size_t)res->count, sizeof *res->items, cmp_line_pos);
+    goto done;
+nomem:
+    rc = lt_error_set(err, LT_ENOMEM, "lines: out of memory");
+    lt_raw_lines_free(res);
+    res = NULL;
+done:
+    grid_free(&g);
+    free(body);
+    free(mark);
+    free(parent);
+    free(line_of);
+    free(links);
+    free(crosses);
+    *out = res;
+    return rc;
+}
+
+void lt_raw_lines_free(lt_raw_lines *l)
+{
+    if (!l) return;
+    free(l->items);
+    free(l);
+}

@@ -1,0 +1,269 @@
+/* load.c — reads PNG, TIFF (every page), JPEG, PNM and the other formats leptonica decodes,
+ * and normalises each page to 8-bit gray, or to an ink image when the page is 1-bit.
+ * Files are read into memory once; every page's size is checked before it is decoded. */
+#include "internal.h"
+
+#include <leptonica/allheaders.h>
+
+#include <errno.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+struct lt_source {
+    char *name;
+    uint8_t *data;
+    size_t size;
+    int format; /* leptonica IFF_* */
+    int pages;
+};
+
+static int is_tiff(int format)
+{
+    return format == IFF_TIFF || format == IFF_TIFF_PACKBITS || format == IFF_TIFF_RLE ||
+           format == IFF_TIFF_G3 || format == IFF_TIFF_G4 || format == IFF_TIFF_LZW ||
+           format == IFF_TIFF_ZIP || format == IFF_TIFF_JPEG;
+}
+
+const char *lt_source_format(const lt_source *src)
+{
+    if (!src) return "unknown";
+    if (is_tiff(src->format)) return "tiff";
+    switch (src->format) {
+    case IFF_PNG: return "png";
+    case IFF_JFIF_JPEG: return "jpeg";
+    case IFF_PNM: return "pnm";
+    case IFF_BMP: return "bmp";
+    case IFF_GIF: return "gif";
+    case IFF_WEBP: return "webp";
+    case IFF_JP2: return "jp2";
+    default: return "unknown";
+    }
+}
+
+/* Reads all of `fp` into a new buffer; fails beyond LT_MAX_FILE_BYTES. */
+static int slurp(FILE *fp, const char *name, uint8_t **data, size_t *size, lt_error *err)
+{
+    size_t cap = 1 << 16, len = 0;
+    uint8_t *buf = malloc(cap);
+    if (!buf) return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+    for (;;) {
+        if (len == cap) {
+            if ((long long)cap >= LT_MAX_FILE_BYTES) {
+                free(buf);
+                return lt_error_set(err, LT_ELIMIT, "%s: file larger than %lld bytes", name,
+                                    (long long)LT_MAX_FILE_BYTES);
+            }
+            uint8_t *bigger = realloc(buf, cap * 2);
+            if (!bigger) {
+                free(buf);
+                return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+            }
+            buf = bigger;
+            cap *= 2;
+        }
+        size_t got = fread(buf + len, 1, cap - len, fp);
+        len += got;
+        if (got == 0) break;
+    }
+    if (ferror(fp)) {
+        int e = errno;
+        free(buf);
+        return lt_error_set(err, LT_EIO, "%s: read error: %s", name, strerror(e));
+    }
+    *data = buf;
+    *size = len;
+    return 0;
+}
+
+static int count_tiff_pages(const uint8_t *data, size_t size, int *pages)
+{
+    FILE *fp = fmemopen((void *)data, size, "rb");
+    if (!fp) return -1;
+    l_int32 n = 0;
+    int bad = tiffGetCount(fp, &n);
+    fclose(fp);
+    if (bad || n <= 0) return -1;
+    *pages = n;
+    return 0;
+}
+
+static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pages,
+                       lt_source **out, lt_error *err)
+{
+    *out = NULL;
+    setMsgSeverity(L_SEVERITY_NONE); /* the library never prints */
+    if (size == 0) {
+        free(data);
+        return lt_error_set(err, LT_EFORMAT, "%s: empty file", name);
+    }
+    l_int32 format = IFF_UNKNOWN;
+    if (size < 12 || findFileFormatBuffer(data, &format) || format == IFF_UNKNOWN) {
+        free(data);
+        return lt_error_set(err, LT_EFORMAT, "%s: not an image file (unknown format)", name);
+    }
+    int pages = 1;
+    if (is_tiff(format) && count_tiff_pages(data, size, &pages)) {
+        free(data);
+        return lt_error_set(err, LT_EFORMAT, "%s: corrupt TIFF (no readable page directory)",
+                            name);
+    }
+    if (pages > max_pages) {
+        free(data);
+        return lt_error_set(err, LT_ELIMIT, "%s: %d pages, more than the limit of %ld", name,
+                            pages, max_pages);
+    }
+    lt_source *src = calloc(1, sizeof *src);
+    char *copy = strdup(name);
+    if (!src || !copy) {
+        free(src);
+        free(copy);
+        free(data);
+        return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+    }
+    src->name = copy;
+    src->data = data;
+    src->size = size;
+    src->format = format;
+    src->pages = pages;
+    *out = src;
+    return 0;
+}
+
+int lt_source_open(const char *path, long max_pages, lt_source **out, lt_error *err)
+{
+    *out = NULL;
+    int use_stdin = strcmp(path, "-") == 0;
+    const char *name = use_stdin ? "stdin" : path;
+    FILE *fp = use_stdin ? stdin : fopen(path, "rb");
+    if (!fp) return lt_error_set(err, LT_EIO, "%s: %s", name, strerror(errno));
+    uint8_t *data = NULL;
+    size_t size = 0;
+    int rc = slurp(fp, name, &data, &size, err);
+    if (!use_stdin) fclose(fp);
+    if (rc) return rc;
+    return open_buffer(data, size, name, max_pages, out, err);
+}
+
+int lt_source_open_memory(const void *data, size_t size, const char *name, long max_pages,
+                          lt_source **out, lt_error *err)
+{
+    *out = NULL;
+    uint8_t *copy = malloc(size ? size : 1);
+    if (!copy) return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+    if (size) memcpy(copy, data, size);
+    return open_buffer(copy, size, name, max_pages, out, err);
+}
+
+int lt_source_pages(const lt_source *src)
+{
+    return src ? src->pages : 0;
+}
+
+const char *lt_source_name(const lt_source *src)
+{
+    return src ? src->name : "";
+}
+
+void lt_source_free(lt_source *src)
+{
+    if (!src) return;
+    free(src->name);
+    free(src->data);
+    free(src);
+}
+
+/* Copies a 1-bpp leptonica image (1 = black) into an ink image. */
+static void copy_ink(PIX *pix, lt_image *img)
+{
+    const int w = img->width, wpl = pixGetWpl(pix);
+    const l_uint32 *data = pixGetData(pix);
+    for (int y = 0; y < img->height; y++) {
+        const l_uint32 *row = data + (size_t)y * wpl;
+        uint8_t *dst = img->pixels + (size_t)y * w;
+        for (int x = 0; x < w; x++) dst[x] = (row[x >> 5] >> (31 - (x & 31))) & 1;
+    }
+}
+
+/* Copies an 8-bpp leptonica image without colormap into a gray image. */
+static void copy_gray(PIX *pix, lt_image *img)
+{
+    const int w = img->width, wpl = pixGetWpl(pix);
+    const l_uint32 *data = pixGetData(pix);
+    for (int y = 0; y < img->height; y++) {
+        const l_uint32 *row = data + (size_t)y * wpl;
+        uint8_t *dst = img->pixels + (size_t)y * w;
+        for (int x = 0; x < w; x++) dst[x] = (row[x >> 2] >> (8 * (3 - (x & 3)))) & 0xff;
+    }
+}
+
+/* Converts any leptonica image to 1-bpp-black or 8-bpp-gray without colormap (new PIX). */
+static PIX *normalise(PIX *pix)
+{
+    int depth = pixGetDepth(pix);
+    if (depth == 1) {
+        if (!pixGetColormap(pix)) return pixClone(pix);
+        return pixRemoveColormap(pix, REMOVE_CMAP_TO_BINARY);
+    }
+    if (depth == 32 && pixGetSpp(pix) == 4) {
+        /* Transparent areas are paper: composite over white before taking luminance. */
+        PIX *flat = pixAlphaBlendUniform(pix, 0xffffff00);
+        if (!flat) return NULL;
+        PIX *gray = pixConvertTo8(flat, 0);
+        pixDestroy(&flat);
+        return gray;
+    }
+    return pixConvertTo8(pix, 0);
+}
+
+int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out,
+                        lt_error *err)
+{
+    *out = NULL;
+    if (!src || index < 0 || index >= src->pages)
+        return lt_error_set(err, LT_EINVAL, "%s: no page %d", src ? src->name : "?", index + 1);
+    l_int32 w = 0, h = 0, bps = 0, spp = 0, cmap = 0, fmt = 0, res = 0;
+    int bad;
+    if (is_tiff(src->format))
+        bad = readHeaderMemTiff(src->data, src->size, index, &w, &h, &bps, &spp, &res, &cmap,
+                                &fmt);
+    else
+        bad = pixReadHeaderMem(src->data, src->size, &fmt, &w, &h, &bps, &spp, &cmap);
+    if (bad || w <= 0 || h <= 0)
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: unreadable image header", src->name,
+                            index + 1);
+    if ((double)w * (double)h > (double)max_pixels)
+        return lt_error_set(err, LT_ELIMIT,
+                            "%s: page %d: %d x %d pixels, more than the limit of %ld", src->name,
+                            index + 1, (int)w, (int)h, max_pixels);
+    PIX *pix = is_tiff(src->format) ? pixReadMemTiff(src->data, src->size, index)
+                                    : pixReadMem(src->data, src->size);
+    if (!pix)
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: cannot decode (corrupt or truncated)",
+                            src->name, index + 1);
+    if (pixGetWidth(pix) != w || pixGetHeight(pix) != h) {
+        pixDestroy(&pix);
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: size differs from its header",
+                            src->name, index + 1);
+    }
+    PIX *norm = normalise(pix);
+    double dpi = pixGetXRes(pix);
+    pixDestroy(&pix);
+    if (!norm)
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: unsupported pixel format", src->name,
+                            index + 1);
+    int ink = pixGetDepth(norm) == 1;
+    lt_image *img = lt_image_new(w, h, ink ? LT_IMAGE_INK : LT_IMAGE_GRAY);
+    if (!img) {
+        pixDestroy(&norm);
+        return lt_error_set(err, LT_ENOMEM, "%s: page %d: out of memory", src->name, index + 1);
+    }
+    if (ink)
+        copy_ink(norm, img);
+    else
+        copy_gray(norm, img);
+    pixDestroy(&norm);
+    img->dpi = dpi > 0 ? dpi : 0;
+    *out = img;
+    return 0;
+}

@@ -1,0 +1,10 @@
+/* main.c — the lineate command: dispatches to the subcommands in src/cmd_*.c. */
+#include "cli.h"
+
+#include <string.h>
+
+int main(int argc, char **argv)
+{
+    if (argc >= 2 && strcmp(argv[1], "score") == 0) return lt_cmd_score(argc - 1, argv + 1);
+    return lt_cmd_analyze(argc, argv);
+}

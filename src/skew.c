@@ -1,0 +1,187 @@
+/* skew.c — skew by projection profiles (Postl 1986; Baird 1987): the angle at which the
+ * horizontal projection of the ink is sharpest, measured as the sum of squared profile bins.
+ * Coarse-to-fine: a sweep over the whole range on an 8x-reduced image, then refinements on
+ * 4x and 2x reductions, then a parabola through the best three angles. */
+#include "internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+typedef struct cell {
+    float x, y; /* centre relative to the image centre, full-resolution pixels */
+    float weight;
+} cell;
+
+typedef struct cells {
+    cell *items;
+    int count;
+} cells;
+
+/* Ink count grid of an image reduced by `factor`. */
+typedef struct grid {
+    int width, height, factor;
+    uint16_t *count;
+} grid;
+
+/* Grid of 2x2 tile counts of the ink image. */
+static int grid_from_ink(const lt_image *ink, grid *g)
+{
+    g->factor = 2;
+    g->width = (ink->width + 1) / 2;
+    g->height = (ink->height + 1) / 2;
+    g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
+    if (!g->count) return LT_ENOMEM;
+    for (int y = 0; y < ink->height; y++) {
+        const uint8_t *row = ink->pixels + (size_t)y * ink->width;
+        uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
+        int x = 0;
+        for (; x + 1 < ink->width; x += 2) dst[x / 2] += row[x] + row[x + 1];
+        if (x < ink->width) dst[x / 2] += row[x];
+    }
+    return 0;
+}
+
+/* Grid halved in both directions (tile sums). */
+static int grid_halve(const grid *src, grid *g)
+{
+    g->factor = src->factor * 2;
+    g->width = (src->width + 1) / 2;
+    g->height = (src->height + 1) / 2;
+    g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
+    if (!g->count) return LT_ENOMEM;
+    for (int y = 0; y < src->height; y++) {
+        const uint16_t *row = src->count + (size_t)y * src->width;
+        uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
+        for (int x = 0; x < src->width; x++) dst[x / 2] += row[x];
+    }
+    return 0;
+}
+
+/* The non-empty tiles of a grid as weighted cells, relative to the image centre. */
+static int cells_from_grid(const grid *g, int width, int height, cells *out)
+{
+    size_t n = 0;
+    const size_t total = (size_t)g->width * g->height;
+    for (size_t i = 0; i < total; i++) n += g->count[i] != 0;
+    out->items = malloc((n ? n : 1) * sizeof *out->items);
+    out->count = 0;
+    if (!out->items) return LT_ENOMEM;
+    const float half_w = width * 0.5f, half_h = height * 0.5f, f = (float)g->factor;
+    for (int y = 0; y < g->height; y++) {
+        const uint16_t *row = g->count + (size_t)y * g->width;
+        for (int x = 0; x < g->width; x++) {
+            if (!row[x]) continue;
+            cell *c = &out->items[out->count++];
+            c->x = (x + 0.5f) * f - half_w;
+            c->y = (y + 0.5f) * f - half_h;
+            c->weight = row[x];
+        }
+    }
+    return 0;
+}
+
+/* Sharpness of the projection at angle_deg: sum of squares of bins of height bin_px of the
+ * ink rotated by -angle_deg. `profile` has room for nbins bins. */
+static double sharpness(const cells *c, double angle_deg, double bin_px, float *profile,
+                        int nbins)
+{
+    const double a = angle_deg * LT_PI / 180.0;
+    const float s = (float)(sin(a) / bin_px), co = (float)(cos(a) / bin_px);
+    const float offset = nbins * 0.5f;
+    memset(profile, 0, (size_t)nbins * sizeof *profile);
+    for (int i = 0; i < c->count; i++) {
+        const cell *p = &c->items[i];
+        int b = (int)(p->x * s + p->y * co + offset);
+        profile[b] += p->weight;
+    }
+    double sum = 0;
+    for (int b = 0; b < nbins; b++) sum += (double)profile[b] * profile[b];
+    return sum;
+}
+
+/* Best angle in [lo, hi] at `step` (index of the maximum in *best), the criterion of every
+ * angle in crit[] (room for the number of steps). */
+static int sweep(const cells *c, double lo, double hi, double step, double bin_px,
+                 float *profile, int nbins, double *crit)
+{
+    int n = (int)floor((hi - lo) / step + 0.5) + 1, best = 0;
+    for (int i = 0; i < n; i++) {
+        crit[i] = sharpness(c, lo + i * step, bin_px, profile, nbins);
+        if (crit[i] > crit[best]) best = i;
+    }
+    return best;
+}
+
+int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence,
+                     lt_skew *out, lt_error *err)
+{
+    out->angle_deg = 0;
+    out->confidence = 0;
+    if (!ink || ink->kind != LT_IMAGE_INK || range_deg < 0 || range_deg > 45)
+        return lt_error_set(err, LT_EINVAL, "skew: bad arguments");
+    if (ink->width < 16 || ink->height < 16) return 0;
+    const double diag = hypot(ink->width, ink->height);
+    const int nbins = (int)(diag / 2.0) + 8; /* bins of >= 2 px span the diagonal */
+    const double coarse_step = 0.25;
+    const int coarse_n = (int)floor(2 * range_deg / coarse_step + 0.5) + 1;
+    float *profile = malloc((size_t)nbins * sizeof *profile);
+    double *crit = malloc((size_t)(coarse_n + 64) * sizeof *crit);
+    double *sorted = malloc((size_t)(coarse_n + 64) * sizeof *sorted);
+    grid g2 = {0}, g4 = {0}, g8 = {0};
+    cells c2 = {0}, c4 = {0}, c8 = {0};
+    int rc = 0;
+    if (!profile || !crit || !sorted || grid_from_ink(ink, &g2) || grid_halve(&g2, &g4) ||
+        grid_halve(&g4, &g8) || cells_from_grid(&g2, ink->width, ink->height, &c2) ||
+        cells_from_grid(&g4, ink->width, ink->height, &c4) ||
+        cells_from_grid(&g8, ink->width, ink->height, &c8)) {
+        rc = lt_error_set(err, LT_ENOMEM, "skew: out of memory");
+        goto done;
+    }
+    if (c8.count < 8) goto done; /* blank page: no evidence */
+
+    /* 1. Coarse sweep over the whole range; confidence from how far the peak stands out. */
+    int best = sweep(&c8, -range_deg, range_deg, coarse_step, 8, profile, nbins, crit);
+    double angle = -range_deg + best * coarse_step;
+    memcpy(sorted, crit, (size_t)coarse_n * sizeof *sorted);
+    double peak = crit[best], typical = lt_median(sorted, coarse_n);
+    double confidence = peak > 0 ? 1.0 - typical / peak : 0;
+
+    /* 2. Refinements on finer reductions around the best angle so far. */
+    const struct {
+        const cells *c;
+        double bin_px, span_deg, step_deg;
+    } stages[] = {{&c4, 4, 0.30, 0.05}, {&c2, 2, 0.06, 0.01}};
+    double prev = 0, next = 0, step = coarse_step;
+    for (size_t s = 0; s < sizeof stages / sizeof stages[0]; s++) {
+        double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;
+        step = stages[s].step_deg;
+        int n = (int)floor((hi - lo) / step + 0.5) + 1;
+        int b = sweep(stages[s].c, lo, hi, step, stages[s].bin_px, profile, nbins, crit);
+        angle = lo + b * step;
+        prev = b > 0 ? crit[b - 1] : crit[b];
+        next = b < n - 1 ? crit[b + 1] : crit[b];
+        peak = crit[b];
+    }
+    /* 3. Vertex of the parabola through the best angle and its neighbours. */
+    double denom = prev - 2 * peak + next;
+    if (denom < 0) {
+        double shift = 0.5 * (prev - next) / denom;
+        if (fabs(shift) <= 1) angle += shift * step;
+    }
+    if (confidence >= min_confidence) {
+        out->angle_deg = angle;
+        out->confidence = confidence;
+    }
+done:
+    free(profile);
+    free(crit);
+    free(sorted);
+    free(g2.count);
+    free(g4.count);
+    free(g8.count);
+    free(c2.items);
+    free(c4.items);
+    free(c8.items);
+    return rc;
+}

@@ -1,0 +1,92 @@
+/* util.c — error recording, image allocation and the default parameters: the small shared
+ * pieces every stage uses. */
+#include "internal.h"
+
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+int lt_error_set(lt_error *err, int code, const char *fmt, ...)
+{
+    if (err && err->code == 0) {
+        va_list ap;
+        va_start(ap, fmt);
+        vsnprintf(err->message, sizeof err->message, fmt, ap);
+        va_end(ap);
+        err->code = code;
+    }
+    return code;
+}
+
+lt_image *lt_image_new(int width, int height, int kind)
+{
+    if (width <= 0 || height <= 0) return NULL;
+    size_t n;
+    if (lt_mul_overflows((size_t)width, (size_t)height, &n)) return NULL;
+    lt_image *img = calloc(1, sizeof *img);
+    if (!img) return NULL;
+    img->pixels = calloc(n, 1);
+    if (!img->pixels) {
+        free(img);
+        return NULL;
+    }
+    img->width = width;
+    img->height = height;
+    img->kind = kind;
+    return img;
+}
+
+void lt_image_free(lt_image *img)
+{
+    if (!img) return;
+    free(img->pixels);
+    free(img);
+}
+
+void lt_params_default(lt_params *p)
+{
+    memset(p, 0, sizeof *p);
+    p->dpi = 300;
+    p->sauvola_window_px = 0;
+    p->sauvola_k = 0.34;
+    p->sauvola_r = 128;
+    p->skew_range_deg = 15;
+    p->skew_min_confidence = 0.05;
+    p->deskew_min_deg = 0.05;
+    p->speckle_max = 0.2;
+    p->rule_min_aspect = 12;
+    p->picture_min_height = 6;
+    p->link_max_gap = 2.2;
+    p->column_min_gap = 1.5;
+    p->block_min_gap = 1.2;
+    p->max_pixels = LT_DEFAULT_MAX_PIXELS;
+    p->max_components = LT_DEFAULT_MAX_COMPONENTS;
+}
+
+int lt_mul_overflows(size_t a, size_t b, size_t *out)
+{
+    if (a != 0 && b > SIZE_MAX / a) return 1;
+    *out = a * b;
+    return 0;
+}
+
+void *lt_alloc_array(size_t count, size_t size)
+{
+    size_t n;
+    if (lt_mul_overflows(count, size, &n)) return NULL;
+    return malloc(n ? n : 1);
+}
+
+int lt_cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+double lt_median(double *v, int n)
+{
+    if (n <= 0) return 0;
+    qsort(v, (size_t)n, sizeof *v, lt_cmp_double);
+    return (n & 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
