@@ -10,8 +10,11 @@ double lt_text_height(const lt_components *c, double dpi)
 {
     if (!c || c->count == 0) return 0;
     if (dpi <= 0) dpi = 300;
-    /* Plausible characters: 3 px up to a third of an inch tall, not long and thin. */
-    const int min_h = 3, max_h = (int)(dpi / 3) > 4 ? (int)(dpi / 3) : 4;
+    /* Plausible characters: from 1/50 inch (the x-height of 5 pt type) up to a third of an
+     * inch tall, not long and thin. Each counts with its width, so that the mass of text,
+     * not the many dots and specks, decides. */
+    const int min_h = dpi / 50 > 3 ? (int)(dpi / 50) : 3;
+    const int max_h = (int)(dpi / 3) > min_h + 1 ? (int)(dpi / 3) : min_h + 1;
     int *hist = calloc((size_t)max_h + 2, sizeof *hist);
     if (!hist) return 0;
     int n = 0;
@@ -19,7 +22,7 @@ double lt_text_height(const lt_components *c, double dpi)
         const lt_box *b = &c->items[i].box;
         int w = b->right - b->left, h = b->bottom - b->top;
         if (h < min_h || h > max_h || w > 3 * h || w * 8 < h) continue;
-        hist[h]++;
+        hist[h] += w;
         n++;
     }
     double mode = 0;

@@ -149,9 +149,9 @@ static int cmp_link_x0(const void *pa, const void *pb)
 }
 
 /* Marks the wide links that cross a gutter: a white strip at least min_width wide that the
- * gaps of at least `min_rows` links of different rows share. */
+ * gaps of at least `min_rows` links of different rows within reach_px above or below share. */
 static void find_gutter_links(link *wide, int n, double min_width, int min_rows,
-                              uint8_t *crosses)
+                              double reach_px, uint8_t *crosses)
 {
     qsort(wide, (size_t)n, sizeof *wide, cmp_link_x0);
     for (int i = 0; i < n; i++) {
@@ -162,7 +162,9 @@ static void find_gutter_links(link *wide, int n, double min_width, int min_rows,
             int lo = wide[i].x0 > wide[j].x0 ? wide[i].x0 : wide[j].x0;
             int hi = wide[i].x1 < wide[j].x1 ? wide[i].x1 : wide[j].x1;
             int rows_apart = wide[j].bottom <= wide[i].top || wide[j].top >= wide[i].bottom;
-            if (hi - lo >= min_width && rows_apart) shared++;
+            int near = wide[j].top < wide[i].bottom + reach_px &&
+                       wide[j].bottom > wide[i].top - reach_px;
+            if (hi - lo >= min_width && rows_apart && near) shared++;
         }
         crosses[i] = shared + 1 >= min_rows;
     }
@@ -205,12 +207,13 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     if (!body || !mark || !parent || !line_of || !links || !crosses || !res) goto nomem;
 
     /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
-    const double mark_h = 0.5 * th;
+    const double mark_h = 0.75 * th; /* punctuation, dots, accents, dashes */
     const long min_speckle_px = (long)fmax(3, 0.01 * th * th);
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
         if (k->kind == LT_COMP_TEXT) {
-            if (box_h(&k->box) < mark_h && box_w(&k->box) < 3 * th)
+            const int kh = box_h(&k->box), kw = box_w(&k->box);
+            if ((kh < mark_h && kw < th) || (kh < 0.3 * th && kw < 3 * th))
                 mark[i] = 1;
             else
                 body[i] = 1;
@@ -222,7 +225,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     if (grid_build(c, body, 2 * th, &g)) goto nomem;
 
     /* Links to the nearest neighbour on each side. */
-    const double max_gap = p->link_max_gap * th, wide_gap = 1.3 * th;
+    const double max_gap = p->link_max_gap * th, wide_gap = 1.5 * th;
     int nlinks = 0;
     for (int i = 0; i < n; i++) {
         if (!body[i]) continue;
@@ -249,7 +252,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
             links[nwide++] = links[i];
             links[i] = t;
         }
-    find_gutter_links(links, nwide, 0.5 * th, 3, crosses);
+    find_gutter_links(links, nwide, 0.5 * th, 4, 10 * th, crosses);
     for (int i = 0; i < nlinks; i++)
         if (i >= nwide || !crosses[i]) unite(parent, links[i].a, links[i].b);
 

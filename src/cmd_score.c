@@ -1,0 +1,819 @@
+/* cmd_score.c — `lineate score [--json] [--per-page] TRUTH PRED`: compares predicted text
+ * lines with ground truth (two files paired page by page, or two folders paired by name) and
+ * prints per-page rows and summaries; the measures are those of score.c (IoU matching,
+ * precision / recall / F1, splits / merges, Kendall's tau-a, skew error).
+ *
+ * Pairing
+ *   TRUTH and PRED files: the k-th page object of PRED is scored against the k-th of TRUTH;
+ *   the page counts must agree. Either may be "-" (standard input), not both.
+ *   TRUTH and PRED folders: each TRUTH/NAME.gt.json (or, when the folder has none, each
+ *   TRUTH/NAME.json and TRUTH/NAME.jsonl in lineate's own format) is paired with the first of
+ *   PRED/NAME.json, PRED/NAME.jsonl, PRED/NAME.gt.json that exists, in byte order of NAME.
+ *   A missing prediction is scored as a page with no lines and listed as missing; a
+ *   prediction file that cannot be read is reported on stderr, scored as no lines, listed as
+ *   unreadable, and makes the exit status 1. A page whose analysis failed (an error record
+ *   in PRED) is scored as no lines and listed as failed; a page whose TRUTH is an error
+ *   record is left out of all scores and listed as skipped.
+ *
+ * Text output (stdout): with --per-page one row per page with the columns
+ *   page, truth (lines), pred (lines), F1@.50, F1@.75, splits, merges, tau, skew err (degrees),
+ *   and a note (missing / failed / unreadable / skipped); "-" marks an undefined value. Then
+ *   "summary: all pages" and, when the truth pages carry a variant, "summary: variant NAME"
+ *   for each variant in byte order, each with the lines
+ *   pages, truth lines, predicted lines, IoU >= 0.50, IoU >= 0.75 (precision, recall, F1 from
+ *   match counts summed over the pages, and the match count), mean page F1 (mean of the
+ *   pages' F1 at IoU >= 0.50), splits, merges (with cross-column merges), reading order
+ *   (median and minimum tau over the pages where tau is defined), skew error (median and
+ *   maximum in degrees over the pages where both skews are known). Lists of missing, failed,
+ *   unreadable and skipped pages follow.
+ *
+ * JSON output (--json): one object on one line:
+ *   "format": "lineate-score-1", "truth": TRUTH, "pred": PRED,
+ *   "pages": [ ... ]                      only with --per-page, one object per page:
+ *       "name", "variant" (string or null), "status" ("scored", "missing", "failed",
+ *       "unreadable", "skipped"), "truth_lines", "pred_lines", "matched_50", "matched_75",
+ *       "precision_50", "recall_50", "f1_50", "precision_75", "recall_75", "f1_75",
+ *       "splits", "merges", "cross_column_merges", "order_pairs" (matched in-order pairs
+ *       tau is computed over), "tau" (number or null), "skew_error_deg" (number or null);
+ *       a skipped page has only name, variant and status,
+ *   "summary": { "pages", "missing", "failed", "unreadable", "truth_lines", "pred_lines",
+ *       "matched_50", "matched_75", "precision_50", "recall_50", "f1_50", "precision_75",
+ *       "recall_75", "f1_75", "mean_page_f1_50", "splits", "merges", "cross_column_merges",
+ *       "tau_pages", "tau_median", "tau_min", "skew_pages", "skew_error_median_deg",
+ *       "skew_error_max_deg" }    (the tau and skew statistics are null over no pages),
+ *   "variants": { NAME: {same fields as "summary"}, ... }   only when the truth has variants,
+ *   "missing", "failed", "unreadable", "skipped": arrays of page names.
+ *   Fractions are rounded to 6 decimals.
+ *
+ * Exit status: 0 when scoring ran (whatever the scores), 1 when a file could not be read
+ * (message "lineate: FILE: reason" on stderr), 2 on a bad command line, 3 when the output
+ * could not be written. */
+#include "cli.h"
+#include "score.h"
+
+#include <cJSON.h>
+#include <dirent.h>
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#define USAGE "usage: lineate score [--json] [--per-page] TRUTH PRED"
+
+enum { ST_SCORED = 0, ST_MISSING, ST_FAILED, ST_UNREADABLE, ST_SKIPPED };
+static const char *const status_names[] = {"scored", "missing", "failed", "unreadable",
+                                           "skipped"};
+
+typedef struct result {
+    char *name;
+    char *variant; /* NULL when the truth page has none */
+    int status;
+    lt_page_score s;
+} result;
+
+typedef struct results {
+    result *items;
+    int count, cap;
+    int read_failures; /* files that could not be read (exit status 1) */
+} results;
+
+typedef struct summary {
+    int pages, missing, failed, unreadable;
+    long truth_lines, pred_lines, matched_50, matched_75;
+    double precision_50, recall_50, f1_50, precision_75, recall_75, f1_75;
+    double mean_page_f1_50;
+    long splits, merges, cross_merges;
+    int tau_pages, skew_pages;
+    double tau_median, tau_min, skew_median_deg, skew_max_deg;
+} summary;
+
+static char *xstrdup(const char *s)
+{
+    size_t n = strlen(s) + 1;
+    char *d = malloc(n);
+    if (d) memcpy(d, s, n);
+    return d;
+}
+
+/* "DIR/NAME" without doubling a trailing slash; NULL when out of memory. */
+static char *join_path(const char *dir, const char *name)
+{
+    size_t nd = strlen(dir), nn = strlen(name);
+    int slash = nd > 0 && dir[nd - 1] == '/';
+    char *p = malloc(nd + nn + 2);
+    if (!p) return NULL;
+    memcpy(p, dir, nd);
+    if (!slash) p[nd++] = '/';
+    memcpy(p + nd, name, nn + 1);
+    return p;
+}
+
+static int ends_with(const char *s, const char *suffix)
+{
+    size_t ns = strlen(s), nx = strlen(suffix);
+    return ns > nx && memcmp(s + ns - nx, suffix, nx) == 0;
+}
+
+static const char *base_name(const char *path)
+{
+    const char *slash = strrchr(path, '/');
+    return slash ? slash + 1 : path;
+}
+
+/* ---- results ------------------------------------------------------------------------- */
+
+/* Appends a result; `name` is copied, with ":PAGE" appended when `page` > 0. Returns the new
+ * entry or NULL when out of memory. */
+static result *add_result(results *r, const char *name, int page, const char *variant,
+                          int status)
+{
+    if (r->count == r->cap) {
+        int ncap = r->cap ? r->cap * 2 : 64;
+        result *n = realloc(r->items, (size_t)ncap * sizeof *n);
+        if (!n) return NULL;
+        r->items = n;
+        r->cap = ncap;
+    }
+    result *e = &r->items[r->count];
+    memset(e, 0, sizeof *e);
+    size_t len = strlen(name) + 16;
+    e->name = malloc(len);
+    if (!e->name) return NULL;
+    if (page > 0) snprintf(e->name, len, "%s:%d", name, page);
+    else snprintf(e->name, len, "%s", name);
+    if (variant && !(e->variant = xstrdup(variant))) {
+        free(e->name);
+        return NULL;
+    }
+    e->status = status;
+    r->count++;
+    return e;
+}
+
+static void results_free(results *r)
+{
+    for (int i = 0; i < r->count; i++) {
+        free(r->items[i].name);
+        free(r->items[i].variant);
+    }
+    free(r->items);
+}
+
+/* Scores truth[0..ntruth) against pred[0..ntruth) (pred NULL: each scored as a page with no
+ * lines, with status `absent_status`). Results are named `name`, or "name:PAGE" when
+ * `numbered`. Returns 0 or a negative code with a message in err. */
+static int score_pages(results *r, const char *name, const lt_scored_page *truth, int ntruth,
+                       const lt_scored_page *pred, int absent_status, int numbered,
+                       lt_error *err)
+{
+    static const lt_scored_page empty; /* a page with no lines and no skew */
+    for (int i = 0; i < ntruth; i++) {
+        const lt_scored_page *t = &truth[i];
+        const lt_scored_page *p = pred ? &pred[i] : &empty;
+        int status = !pred ? absent_status : p->failed ? ST_FAILED : ST_SCORED;
+        if (t->failed) status = ST_SKIPPED;
+        result *e = add_result(r, name, numbered ? t->page : 0, t->variant, status);
+        if (!e) return lt_error_set(err, LT_ENOMEM, "out of memory");
+        if (status == ST_SKIPPED) continue;
+        if (pred && !p->failed && (p->width != t->width || p->height != t->height))
+            fprintf(stderr, "lineate: warning: %s: predicted page is %dx%d, truth %dx%d\n",
+                    e->name, p->width, p->height, t->width, t->height);
+        lt_error why = {0};
+        int rc = lt_score_page(t, p, &e->s, &why);
+        if (rc) return lt_error_set(err, rc, "%s: %s", e->name, why.message);
+    }
+    return 0;
+}
+
+/* ---- summaries ------------------------------------------------------------------------- */
+
+static int cmp_dbl(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static double median_sorted(const double *v, int n)
+{
+    return (n & 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+/* Summary over the results whose variant equals `variant` (all results when NULL); skipped
+ * pages are left out. `scratch` holds at least r->count doubles. */
+static void summarize(const results *r, const char *variant, double *scratch, summary *s)
+{
+    memset(s, 0, sizeof *s);
+    double f1_sum = 0;
+    for (int i = 0; i < r->count; i++) {
+        const result *e = &r->items[i];
+        if (e->status == ST_SKIPPED) continue;
+        if (variant && (!e->variant || strcmp(e->variant, variant) != 0)) continue;
+        s->pages++;
+        s->missing += e->status == ST_MISSING;
+        s->failed += e->status == ST_FAILED;
+        s->unreadable += e->status == ST_UNREADABLE;
+        s->truth_lines += e->s.truth_lines;
+        s->pred_lines += e->s.pred_lines;
+        s->matched_50 += e->s.matched_50;
+        s->matched_75 += e->s.matched_75;
+        s->splits += e->s.splits;
+        s->merges += e->s.merges;
+        s->cross_merges += e->s.cross_merges;
+        f1_sum += e->s.f1_50;
+    }
+    lt_prf(s->matched_50, s->truth_lines, s->pred_lines, &s->precision_50, &s->recall_50,
+           &s->f1_50);
+    lt_prf(s->matched_75, s->truth_lines, s->pred_lines, &s->precision_75, &s->recall_75,
+           &s->f1_75);
+    s->mean_page_f1_50 = s->pages ? f1_sum / s->pages : 0;
+    for (int pass = 0; pass < 2; pass++) {
+        int n = 0;
+        for (int i = 0; i < r->count; i++) {
+            const result *e = &r->items[i];
+            if (e->status == ST_SKIPPED) continue;
+            if (variant && (!e->variant || strcmp(e->variant, variant) != 0)) continue;
+            if (pass == 0 && e->s.has_tau) scratch[n++] = e->s.tau;
+            if (pass == 1 && e->s.has_skew_error) scratch[n++] = e->s.skew_error_deg;
+        }
+        if (n == 0) continue;
+        qsort(scratch, (size_t)n, sizeof *scratch, cmp_dbl);
+        if (pass == 0) {
+            s->tau_pages = n;
+            s->tau_median = median_sorted(scratch, n);
+            s->tau_min = scratch[0];
+        } else {
+            s->skew_pages = n;
+            s->skew_median_deg = median_sorted(scratch, n);
+            s->skew_max_deg = scratch[n - 1];
+        }
+    }
+}
+
+/* Distinct variants of the results in byte order (pointers into the results); the caller
+ * frees the array. Returns the count, or -1 when out of memory. */
+static int collect_variants(const results *r, const char ***out)
+{
+    const char **v = malloc((size_t)(r->count > 0 ? r->count : 1) * sizeof *v);
+    *out = v;
+    if (!v) return -1;
+    int n = 0;
+    for (int i = 0; i < r->count; i++) {
+        const char *x = r->items[i].variant;
+        if (!x || r->items[i].status == ST_SKIPPED) continue;
+        int seen = 0;
+        for (int j = 0; j < n && !seen; j++) seen = strcmp(v[j], x) == 0;
+        if (!seen) {
+            int k = n++;
+            while (k > 0 && strcmp(v[k - 1], x) > 0) {
+                v[k] = v[k - 1];
+                k--;
+            }
+            v[k] = x;
+        }
+    }
+    return n;
+}
+
+/* ---- text output ----------------------------------------------------------------------- */
+
+static void print_row(const result *e, int name_w)
+{
+    static const char *const notes[] = {"", "missing", "failed", "unreadable", "skipped"};
+    if (e->status == ST_SKIPPED) {
+        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s  %s\n", name_w, e->name, "-", "-", "-", "-",
+               "-", "-", "-", "-", notes[e->status]);
+        return;
+    }
+    char tau[32] = "-", skew[32] = "-";
+    if (e->s.has_tau) snprintf(tau, sizeof tau, "%.3f", e->s.tau);
+    if (e->s.has_skew_error) snprintf(skew, sizeof skew, "%.3f", e->s.skew_error_deg);
+    printf("%-*s %6d %6d %7.3f %7.3f %6d %6d %7s %9s%s%s\n", name_w, e->name, e->s.truth_lines,
+           e->s.pred_lines, e->s.f1_50, e->s.f1_75, e->s.splits, e->s.merges, tau, skew,
+           e->status ? "  " : "", notes[e->status]);
+}
+
+static void print_summary(const char *title, const summary *s)
+{
+    printf("summary: %s\n", title);
+    printf("  pages             %d (missing %d, failed %d, unreadable %d)\n", s->pages,
+           s->missing, s->failed, s->unreadable);
+    printf("  truth lines       %ld\n", s->truth_lines);
+    printf("  predicted lines   %ld\n", s->pred_lines);
+    printf("  IoU >= 0.50       precision %.4f  recall %.4f  F1 %.4f  (%ld matched)\n",
+           s->precision_50, s->recall_50, s->f1_50, s->matched_50);
+    printf("  IoU >= 0.75       precision %.4f  recall %.4f  F1 %.4f  (%ld matched)\n",
+           s->precision_75, s->recall_75, s->f1_75, s->matched_75);
+    printf("  mean page F1      %.4f (IoU >= 0.50)\n", s->mean_page_f1_50);
+    printf("  splits            %ld\n", s->splits);
+    printf("  merges            %ld (cross-column %ld)\n", s->merges, s->cross_merges);
+    if (s->tau_pages)
+        printf("  reading order     tau median %.4f, min %.4f (%d page%s)\n", s->tau_median,
+               s->tau_min, s->tau_pages, s->tau_pages == 1 ? "" : "s");
+    else
+        printf("  reading order     - (no page with 2 matched lines in order)\n");
+    if (s->skew_pages)
+        printf("  skew error        median %.3f deg, max %.3f deg (%d page%s)\n",
+               s->skew_median_deg, s->skew_max_deg, s->skew_pages, s->skew_pages == 1 ? "" : "s");
+    else
+        printf("  skew error        - (no page with both skews)\n");
+}
+
+static void print_list(const results *r, int status, const char *title)
+{
+    int any = 0;
+    for (int i = 0; i < r->count; i++) {
+        if (r->items[i].status != status) continue;
+        if (!any) printf("%s\n", title);
+        any = 1;
+        printf("  %s\n", r->items[i].name);
+    }
+}
+
+static int print_text(const results *r, int per_page, double *scratch)
+{
+    if (per_page) {
+        int name_w = 4;
+        for (int i = 0; i < r->count; i++) {
+            int w = (int)strlen(r->items[i].name);
+            if (w > name_w) name_w = w > 80 ? 80 : w;
+        }
+        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s\n", name_w, "page", "truth", "pred",
+               "F1@.50", "F1@.75", "splits", "merges", "tau", "skew err");
+        for (int i = 0; i < r->count; i++) print_row(&r->items[i], name_w);
+        printf("\n");
+    }
+    summary s;
+    summarize(r, NULL, scratch, &s);
+    print_summary("all pages", &s);
+    const char **variants;
+    int nv = collect_variants(r, &variants);
+    if (nv < 0) return LT_ENOMEM;
+    for (int v = 0; v < nv; v++) {
+        char title[160];
+        snprintf(title, sizeof title, "variant %.140s", variants[v]);
+        summarize(r, variants[v], scratch, &s);
+        print_summary(title, &s);
+    }
+    free(variants);
+    print_list(r, ST_MISSING, "missing predictions (scored as pages with no lines):");
+    print_list(r, ST_FAILED, "failed pages (error records, scored as pages with no lines):");
+    print_list(r, ST_UNREADABLE, "unreadable predictions (scored as pages with no lines):");
+    print_list(r, ST_SKIPPED, "skipped pages (the truth is an error record):");
+    return 0;
+}
+
+/* ---- JSON output ----------------------------------------------------------------------- */
+
+static double round6(double x)
+{
+    return round(x * 1e6) / 1e6;
+}
+
+/* Adds key: number, or key: null when !defined. Returns 0 or -1 when out of memory. */
+static int add_num(cJSON *o, const char *key, double value, int defined)
+{
+    cJSON *v = defined ? cJSON_CreateNumber(value) : cJSON_CreateNull();
+    if (!v) return -1;
+    cJSON_AddItemToObject(o, key, v);
+    return 0;
+}
+
+static cJSON *summary_json(const summary *s)
+{
+    cJSON *o = cJSON_CreateObject();
+    if (!o) return NULL;
+    int bad = 0;
+    bad |= add_num(o, "pages", s->pages, 1);
+    bad |= add_num(o, "missing", s->missing, 1);
+    bad |= add_num(o, "failed", s->failed, 1);
+    bad |= add_num(o, "unreadable", s->unreadable, 1);
+    bad |= add_num(o, "truth_lines", (double)s->truth_lines, 1);
+    bad |= add_num(o, "pred_lines", (double)s->pred_lines, 1);
+    bad |= add_num(o, "matched_50", (double)s->matched_50, 1);
+    bad |= add_num(o, "matched_75", (double)s->matched_75, 1);
+    bad |= add_num(o, "precision_50", round6(s->precision_50), 1);
+    bad |= add_num(o, "recall_50", round6(s->recall_50), 1);
+    bad |= add_num(o, "f1_50", round6(s->f1_50), 1);
+    bad |= add_num(o, "precision_75", round6(s->precision_75), 1);
+    bad |= add_num(o, "recall_75", round6(s->recall_75), 1);
+    bad |= add_num(o, "f1_75", round6(s->f1_75), 1);
+    bad |= add_num(o, "mean_page_f1_50", round6(s->mean_page_f1_50), 1);
+    bad |= add_num(o, "splits", (double)s->splits, 1);
+    bad |= add_num(o, "merges", (double)s->merges, 1);
+    bad |= add_num(o, "cross_column_merges", (double)s->cross_merges, 1);
+    bad |= add_num(o, "tau_pages", s->tau_pages, 1);
+    bad |= add_num(o, "tau_median", round6(s->tau_median), s->tau_pages > 0);
+    bad |= add_num(o, "tau_min", round6(s->tau_min), s->tau_pages > 0);
+    bad |= add_num(o, "skew_pages", s->skew_pages, 1);
+    bad |= add_num(o, "skew_error_median_deg", round6(s->skew_median_deg), s->skew_pages > 0);
+    bad |= add_num(o, "skew_error_max_deg", round6(s->skew_max_deg), s->skew_pages > 0);
+    if (bad) {
+        cJSON_Delete(o);
+        return NULL;
+    }
+    return o;
+}
+
+static cJSON *page_json(const result *e)
+{
+    cJSON *o = cJSON_CreateObject();
+    if (!o) return NULL;
+    int bad = !cJSON_AddStringToObject(o, "name", e->name);
+    bad |= !(e->variant ? cJSON_AddStringToObject(o, "variant", e->variant)
+                        : cJSON_AddNullToObject(o, "variant"));
+    bad |= !cJSON_AddStringToObject(o, "status", status_names[e->status]);
+    if (e->status != ST_SKIPPED) {
+        const lt_page_score *s = &e->s;
+        bad |= add_num(o, "truth_lines", s->truth_lines, 1);
+        bad |= add_num(o, "pred_lines", s->pred_lines, 1);
+        bad |= add_num(o, "matched_50", s->matched_50, 1);
+        bad |= add_num(o, "matched_75", s->matched_75, 1);
+        bad |= add_num(o, "precision_50", round6(s->precision_50), 1);
+        bad |= add_num(o, "recall_50", round6(s->recall_50), 1);
+        bad |= add_num(o, "f1_50", round6(s->f1_50), 1);
+        bad |= add_num(o, "precision_75", round6(s->precision_75), 1);
+        bad |= add_num(o, "recall_75", round6(s->recall_75), 1);
+        bad |= add_num(o, "f1_75", round6(s->f1_75), 1);
+        bad |= add_num(o, "splits", s->splits, 1);
+        bad |= add_num(o, "merges", s->merges, 1);
+        bad |= add_num(o, "cross_column_merges", s->cross_merges, 1);
+        bad |= add_num(o, "order_pairs", s->order_pairs, 1);
+        bad |= add_num(o, "tau", round6(s->tau), s->has_tau);
+        bad |= add_num(o, "skew_error_deg", round6(s->skew_error_deg), s->has_skew_error);
+    }
+    if (bad) {
+        cJSON_Delete(o);
+        return NULL;
+    }
+    return o;
+}
+
+/* Builds the whole JSON document and prints it in one piece. */
+static int print_json(const results *r, int per_page, const char *truth, const char *pred,
+                      double *scratch)
+{
+    cJSON *doc = cJSON_CreateObject();
+    int bad = !doc;
+    const char **variants = NULL;
+    if (!bad) {
+        bad |= !cJSON_AddStringToObject(doc, "format", "lineate-score-1");
+        bad |= !cJSON_AddStringToObject(doc, "truth", truth);
+        bad |= !cJSON_AddStringToObject(doc, "pred", pred);
+    }
+    if (!bad && per_page) {
+        cJSON *arr = cJSON_AddArrayToObject(doc, "pages");
+        bad |= !arr;
+        for (int i = 0; i < r->count && !bad; i++) {
+            cJSON *p = page_json(&r->items[i]);
+            bad |= !p;
+            if (p) cJSON_AddItemToArray(arr, p);
+        }
+    }
+    summary s;
+    if (!bad) {
+        summarize(r, NULL, scratch, &s);
+        cJSON *so = summary_json(&s);
+        bad |= !so;
+        if (so) cJSON_AddItemToObject(doc, "summary", so);
+    }
+    int nv = bad ? 0 : collect_variants(r, &variants);
+    bad |= nv < 0;
+    if (!bad && nv > 0) {
+        cJSON *vo = cJSON_AddObjectToObject(doc, "variants");
+        bad |= !vo;
+        for (int v = 0; v < nv && !bad; v++) {
+            summarize(r, variants[v], scratch, &s);
+            cJSON *so = summary_json(&s);
+            bad |= !so;
+            if (so) cJSON_AddItemToObject(vo, variants[v], so);
+        }
+    }
+    static const int lists[] = {ST_MISSING, ST_FAILED, ST_UNREADABLE, ST_SKIPPED};
+    for (int l = 0; l < 4 && !bad; l++) {
+        cJSON *arr = cJSON_AddArrayToObject(doc, status_names[lists[l]]);
+        bad |= !arr;
+        for (int i = 0; i < r->count && !bad; i++) {
+            if (r->items[i].status != lists[l]) continue;
+            cJSON *str = cJSON_CreateString(r->items[i].name);
+            bad |= !str;
+            if (str) cJSON_AddItemToArray(arr, str);
+        }
+    }
+    char *text = bad ? NULL : cJSON_PrintUnformatted(doc);
+    free(variants);
+    cJSON_Delete(doc);
+    if (!text) return LT_ENOMEM;
+    fputs(text, stdout);
+    fputc('\n', stdout);
+    free(text);
+    return 0;
+}
+
+/* ---- the two pairing modes --------------------------------------------------------------- */
+
+/* File mode: both files read completely before anything is scored. */
+static int run_files(const char *truth_path, const char *pred_path, results *r)
+{
+    lt_error err = {0};
+    lt_scored_page *tp = NULL, *pp = NULL;
+    int nt = 0, np = 0;
+    int rc = lt_scored_pages_read(truth_path, &tp, &nt, &err);
+    if (!rc) rc = lt_scored_pages_read(pred_path, &pp, &np, &err);
+    if (!rc && nt != np)
+        rc = lt_error_set(&err, LT_EPARSE, "%s: %d page%s, but %s has %d",
+                          strcmp(pred_path, "-") ? pred_path : "stdin", np, np == 1 ? "" : "s",
+                          strcmp(truth_path, "-") ? truth_path : "stdin", nt);
+    for (int i = 0; !rc && i < nt; i++) {
+        const char *src = tp[i].source ? base_name(tp[i].source) : "page";
+        rc = score_pages(r, src, &tp[i], 1, &pp[i], ST_SCORED, nt > 1, &err);
+    }
+    lt_scored_pages_free(tp, nt);
+    lt_scored_pages_free(pp, np);
+    if (rc) {
+        fprintf(stderr, "lineate: %s\n", err.message);
+        r->read_failures++;
+        return rc;
+    }
+    return 0;
+}
+
+typedef struct name_list {
+    char **items; /* each "STEM\0FILE": the page name, then the file name in the folder */
+    int count, cap;
+} name_list;
+
+static const char *item_file(const char *item)
+{
+    return item + strlen(item) + 1;
+}
+
+/* By stem, then by file name: "a" before "a-d" (the file names would sort the other way,
+ * as '-' < '.'). */
+static int cmp_item(const void *a, const void *b)
+{
+    const char *x = *(char *const *)a, *y = *(char *const *)b;
+    int c = strcmp(x, y);
+    return c ? c : strcmp(item_file(x), item_file(y));
+}
+
+static void names_free(name_list *l)
+{
+    for (int i = 0; i < l->count; i++) free(l->items[i]);
+    free(l->items);
+    memset(l, 0, sizeof *l);
+}
+
+/* Regular files (or links to them) of `dir` whose names end in one of the suffixes and do
+ * not start with '.', as "STEM\0FILE" items sorted bytewise by stem. Returns 0, or prints
+ * the reason and returns -1. */
+static int list_dir(const char *dir, const char *const *suffixes, int nsuffixes,
+                    name_list *out)
+{
+    memset(out, 0, sizeof *out);
+    DIR *d = opendir(dir);
+    if (!d) {
+        fprintf(stderr, "lineate: %s: cannot open the folder: %s\n", dir, strerror(errno));
+        return -1;
+    }
+    struct dirent *de;
+    while ((de = readdir(d)) != NULL) {
+        const char *n = de->d_name;
+        if (n[0] == '.') continue;
+        int sfx = -1;
+        for (int s = 0; s < nsuffixes && sfx < 0; s++)
+            if (ends_with(n, suffixes[s])) sfx = s;
+        if (sfx < 0) continue;
+        char *full = join_path(dir, n);
+        struct stat st;
+        int regular = full && stat(full, &st) == 0 && S_ISREG(st.st_mode);
+        free(full);
+        if (!regular) continue;
+        if (out->count == out->cap) {
+            int ncap = out->cap ? out->cap * 2 : 64;
+            char **ni = realloc(out->items, (size_t)ncap * sizeof *ni);
+            if (!ni) goto oom;
+            out->items = ni;
+            out->cap = ncap;
+        }
+        size_t len = strlen(n), stem_len = len - strlen(suffixes[sfx]);
+        char *item = malloc(stem_len + 1 + len + 1);
+        if (!item) goto oom;
+        memcpy(item, n, stem_len);
+        item[stem_len] = '\0';
+        memcpy(item + stem_len + 1, n, len + 1);
+        out->items[out->count++] = item;
+    }
+    closedir(d);
+    if (out->count > 1) qsort(out->items, (size_t)out->count, sizeof *out->items, cmp_item);
+    return 0;
+oom:
+    closedir(d);
+    names_free(out);
+    fprintf(stderr, "lineate: out of memory\n");
+    return -1;
+}
+
+/* First of DIR/NAME.json, DIR/NAME.jsonl, DIR/NAME.gt.json that is a regular file, as a new
+ * string; NULL when none is (or out of memory: *oom set). */
+static char *find_prediction(const char *dir, const char *stem, int *oom)
+{
+    static const char *const exts[] = {".json", ".jsonl", ".gt.json"};
+    *oom = 0;
+    for (int i = 0; i < 3; i++) {
+        size_t len = strlen(stem) + strlen(exts[i]) + 1;
+        char *file = malloc(len);
+        if (!file) break;
+        snprintf(file, len, "%s%s", stem, exts[i]);
+        char *full = join_path(dir, file);
+        free(file);
+        if (!full) break;
+        struct stat st;
+        if (stat(full, &st) == 0 && S_ISREG(st.st_mode)) return full;
+        free(full);
+        if (i == 2) return NULL;
+    }
+    *oom = 1;
+    return NULL;
+}
+
+/* Folder mode. Returns 0 when every truth file was read (prediction failures are recorded
+ * as unreadable pages), or a negative code after a fatal problem. */
+static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
+{
+    static const char *const gt_suffix[] = {".gt.json"};
+    static const char *const own_suffix[] = {".json", ".jsonl"};
+    name_list names;
+    if (list_dir(truth_dir, gt_suffix, 1, &names)) return LT_EIO;
+    if (names.count == 0) { /* no ground truth: lineate's own files as the reference */
+        names_free(&names);
+        if (list_dir(truth_dir, own_suffix, 2, &names)) return LT_EIO;
+    }
+    if (names.count == 0) {
+        fprintf(stderr, "lineate: %s: no *.gt.json or *.json files in the folder\n", truth_dir);
+        names_free(&names);
+        return LT_EIO;
+    }
+    int rc = 0;
+    for (int i = 0; i < names.count && rc == 0; i++) {
+        const char *stem = names.items[i];
+        char *tpath = join_path(truth_dir, item_file(stem));
+        if (!tpath) {
+            fprintf(stderr, "lineate: out of memory\n");
+            rc = LT_ENOMEM;
+            break;
+        }
+        if (i > 0 && strcmp(names.items[i - 1], stem) == 0) {
+            fprintf(stderr, "lineate: %s: another truth file has the same name, ignored\n",
+                    tpath);
+            r->read_failures++;
+            free(tpath);
+            continue;
+        }
+        lt_error err = {0};
+        lt_scored_page *tp = NULL, *pp = NULL;
+        int nt = 0, np = 0;
+        if (lt_scored_pages_read(tpath, &tp, &nt, &err)) {
+            fprintf(stderr, "lineate: %s\n", err.message);
+            r->read_failures++;
+            free(tpath);
+            continue;
+        }
+        int oom;
+        char *ppath = find_prediction(pred_dir, stem, &oom);
+        if (oom) {
+            rc = lt_error_set(&err, LT_ENOMEM, "out of memory");
+        } else if (!ppath) {
+            rc = score_pages(r, stem, tp, nt, NULL, ST_MISSING, nt > 1, &err);
+        } else {
+            int prc = lt_scored_pages_read(ppath, &pp, &np, &err);
+            if (!prc && np != nt)
+                prc = lt_error_set(&err, LT_EPARSE, "%s: %d page%s, but %s has %d", ppath, np,
+                                   np == 1 ? "" : "s", tpath, nt);
+            if (prc) {
+                fprintf(stderr, "lineate: %s\n", err.message);
+                r->read_failures++;
+                memset(&err, 0, sizeof err);
+                rc = score_pages(r, stem, tp, nt, NULL, ST_UNREADABLE, nt > 1, &err);
+            } else {
+                rc = score_pages(r, stem, tp, nt, pp, ST_SCORED, nt > 1, &err);
+            }
+        }
+        if (rc && err.code) fprintf(stderr, "lineate: %s\n", err.message);
+        lt_scored_pages_free(tp, nt);
+        lt_scored_pages_free(pp, np);
+        free(ppath);
+        free(tpath);
+    }
+    names_free(&names);
+    return rc;
+}
+
+/* ---- entry point ------------------------------------------------------------------------- */
+
+static void usage_error(const char *fmt, const char *arg)
+{
+    fputs("lineate score: ", stderr);
+    fprintf(stderr, fmt, arg);
+    fputs("\n" USAGE " (see lineate score --help)\n", stderr);
+}
+
+static void print_help(void)
+{
+    fputs(USAGE "\n"
+          "Compare predicted text lines with ground truth.\n"
+          "\n"
+          "TRUTH and PRED are two files (pages paired in order; '-' reads standard input)\n"
+          "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, NAME.jsonl or\n"
+          "NAME.gt.json; without *.gt.json files, TRUTH/NAME.json in lineate's format).\n"
+          "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
+          "decreasing IoU); reading order is Kendall's tau-a over matched lines.\n"
+          "\n"
+          "  --per-page   also print one row per page\n"
+          "  --json       print the results as one JSON object\n"
+          "  --help       print this help and exit\n"
+          "\n"
+          "Exit status: 0 scored, 1 a file could not be read, 2 bad command line,\n"
+          "3 the output could not be written.\n",
+          stdout);
+}
+
+int lt_cmd_score(int argc, char **argv)
+{
+    int json = 0, per_page = 0, npos = 0, opts_done = 0;
+    const char *pos[2] = {NULL, NULL};
+    for (int i = 1; i < argc; i++) {
+        const char *a = argv[i];
+        if (!opts_done && a[0] == '-' && a[1] != '\0') {
+            if (strcmp(a, "--") == 0) opts_done = 1;
+            else if (strcmp(a, "--json") == 0) json = 1;
+            else if (strcmp(a, "--per-page") == 0) per_page = 1;
+            else if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) {
+                print_help();
+                return fflush(stdout) == 0 && !ferror(stdout) ? LT_EXIT_OK : LT_EXIT_OUTPUT;
+            } else {
+                usage_error("unknown option '%s'", a);
+                return LT_EXIT_USAGE;
+            }
+            continue;
+        }
+        if (npos == 2) {
+            usage_error("unexpected argument '%s'", a);
+            return LT_EXIT_USAGE;
+        }
+        pos[npos++] = a;
+    }
+    if (npos < 2) {
+        usage_error("%s", npos == 0 ? "missing TRUTH and PRED" : "missing PRED");
+        return LT_EXIT_USAGE;
+    }
+    if (strcmp(pos[0], "-") == 0 && strcmp(pos[1], "-") == 0) {
+        usage_error("%s", "TRUTH and PRED cannot both be standard input");
+        return LT_EXIT_USAGE;
+    }
+    int is_dir[2];
+    for (int k = 0; k < 2; k++) {
+        struct stat st;
+        if (strcmp(pos[k], "-") == 0) {
+            is_dir[k] = 0;
+            continue;
+        }
+        if (stat(pos[k], &st) != 0) {
+            fprintf(stderr, "lineate: %s: cannot open: %s\n", pos[k], strerror(errno));
+            return LT_EXIT_FAILED;
+        }
+        is_dir[k] = S_ISDIR(st.st_mode) ? 1 : 0;
+    }
+    if (is_dir[0] != is_dir[1]) {
+        usage_error("%s", "TRUTH and PRED must both be files or both be folders");
+        return LT_EXIT_USAGE;
+    }
+
+    results r = {0};
+    int rc = is_dir[0] ? run_dirs(pos[0], pos[1], &r) : run_files(pos[0], pos[1], &r);
+    if (rc) {
+        results_free(&r);
+        return LT_EXIT_FAILED;
+    }
+    double *scratch = malloc((size_t)(r.count > 0 ? r.count : 1) * sizeof *scratch);
+    if (!scratch) {
+        fprintf(stderr, "lineate: out of memory\n");
+        results_free(&r);
+        return LT_EXIT_FAILED;
+    }
+    rc = json ? print_json(&r, per_page, pos[0], pos[1], scratch)
+              : print_text(&r, per_page, scratch);
+    free(scratch);
+    int failures = r.read_failures;
+    results_free(&r);
+    if (rc) {
+        fprintf(stderr, "lineate: out of memory\n");
+        return LT_EXIT_FAILED;
+    }
+    if (fflush(stdout) != 0 || ferror(stdout)) {
+        fprintf(stderr, "lineate: cannot write the output: %s\n", strerror(errno));
+        return LT_EXIT_OUTPUT;
+    }
+    return failures ? LT_EXIT_FAILED : LT_EXIT_OK;
+}

@@ -1,0 +1,451 @@
+/* score.c — text-line scoring: box IoU, greedy one-to-one matching at IoU >= 0.5 found by a
+ * sweep over boxes sorted by top, precision / recall / F1, splits and merges by area
+ * containment, and Kendall's tau-a (Kendall 1938) of the reading order by merge-sort
+ * inversion counting (Knight 1966). Pure functions: no I/O. */
+#include "score.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+int64_t lt_box_area(const lt_box *b)
+{
+    int64_t w = (int64_t)b->right - b->left, h = (int64_t)b->bottom - b->top;
+    return (w > 0 && h > 0) ? w * h : 0;
+}
+
+int64_t lt_box_intersection(const lt_box *a, const lt_box *b)
+{
+    int64_t l = a->left > b->left ? a->left : b->left;
+    int64_t r = a->right < b->right ? a->right : b->right;
+    int64_t t = a->top > b->top ? a->top : b->top;
+    int64_t bo = a->bottom < b->bottom ? a->bottom : b->bottom;
+    return (r > l && bo > t) ? (r - l) * (bo - t) : 0;
+}
+
+double lt_box_iou(const lt_box *a, const lt_box *b)
+{
+    int64_t aa = lt_box_area(a), ab = lt_box_area(b);
+    if (aa == 0 || ab == 0) return 0.0;
+    int64_t inter = lt_box_intersection(a, b);
+    return (double)inter / (double)(aa + ab - inter);
+}
+
+/* ---- exact comparison of IoU fractions ------------------------------------------------- */
+
+/* 128-bit product of two non-negative 64-bit values as (hi, lo). */
+static void mul_u64(uint64_t a, uint64_t b, uint64_t *hi, uint64_t *lo)
+{
+    uint64_t a0 = a & 0xffffffffu, a1 = a >> 32, b0 = b & 0xffffffffu, b1 = b >> 32;
+    uint64_t p00 = a0 * b0, p01 = a0 * b1, p10 = a1 * b0, p11 = a1 * b1;
+    uint64_t mid = (p00 >> 32) + (p01 & 0xffffffffu) + (p10 & 0xffffffffu);
+    *lo = (p00 & 0xffffffffu) | (mid << 32);
+    *hi = p11 + (p01 >> 32) + (p10 >> 32) + (mid >> 32);
+}
+
+/* Sign of n1/d1 - n2/d2 for non-negative numerators and positive denominators. */
+static int cmp_fraction(int64_t n1, int64_t d1, int64_t n2, int64_t d2)
+{
+    uint64_t h1, l1, h2, l2;
+    mul_u64((uint64_t)n1, (uint64_t)d2, &h1, &l1);
+    mul_u64((uint64_t)n2, (uint64_t)d1, &h2, &l2);
+    if (h1 != h2) return h1 < h2 ? -1 : 1;
+    if (l1 != l2) return l1 < l2 ? -1 : 1;
+    return 0;
+}
+
+/* ---- sweep support ------------------------------------------------------------------- */
+
+typedef struct sorted_ref {
+    int top; /* box top, the sort key */
+    int index;
+} sorted_ref;
+
+static int cmp_ref(const void *a, const void *b)
+{
+    const sorted_ref *x = a, *y = b;
+    if (x->top != y->top) return x->top < y->top ? -1 : 1;
+    return (x->index > y->index) - (x->index < y->index);
+}
+
+/* Indices of lines sorted by box top (ties by index); NULL on allocation failure. */
+static sorted_ref *sort_by_top(const lt_scored_line *lines, int n)
+{
+    sorted_ref *r = malloc((size_t)(n > 0 ? n : 1) * sizeof *r);
+    if (!r) return NULL;
+    for (int i = 0; i < n; i++) {
+        r[i].top = lines[i].box.top;
+        r[i].index = i;
+    }
+    qsort(r, (size_t)n, sizeof *r, cmp_ref);
+    return r;
+}
+
+/* First position in r[0..n) whose top is >= top_px. */
+static int lower_bound(const sorted_ref *r, int n, long top_px)
+{
+    int lo = 0, hi = n;
+    while (lo < hi) {
+        int mid = lo + (hi - lo) / 2;
+        if ((long)r[mid].top < top_px) lo = mid + 1;
+        else hi = mid;
+    }
+    return lo;
+}
+
+/* Start of the sweep window of `outer` in boxes sorted by top. If at least half of the area
+ * of box B lies inside box A (which IoU(A, B) >= 0.5 implies too, since 2 * inter >= union
+ * >= area_B), the overlap height ih obeys ih >= h_B / 2 (inter <= w_B * ih) and ih <= h_A,
+ * and B.bottom >= A.top + ih, so B.top = B.bottom - h_B >= A.top + ih - 2 * ih >= A.top - h_A;
+ * and B.top < A.bottom as they overlap. Every such B thus has A.top - h_A <= B.top < A.bottom:
+ * the sweep examines only boxes whose tops fall there. */
+static int window_start(const sorted_ref *r, int n, const lt_box *outer)
+{
+    long h = (long)outer->bottom - outer->top;
+    return lower_bound(r, n, (long)outer->top - h);
+}
+
+/* ---- matching ------------------------------------------------------------------------ */
+
+typedef struct candidate {
+    int truth, pred;
+    int64_t inter, uni; /* IoU = inter / uni, exactly */
+} candidate;
+
+static int cmp_candidate(const void *a, const void *b)
+{
+    const candidate *x = a, *y = b;
+    int c = cmp_fraction(y->inter, y->uni, x->inter, x->uni); /* decreasing IoU */
+    if (c) return c;
+    if (x->truth != y->truth) return x->truth < y->truth ? -1 : 1;
+    return (x->pred > y->pred) - (x->pred < y->pred);
+}
+
+static int cmp_match_truth(const void *a, const void *b)
+{
+    const lt_line_match *x = a, *y = b;
+    return (x->truth > y->truth) - (x->truth < y->truth);
+}
+
+int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                   int npred, lt_line_match **matches, int *nmatches, lt_error *err)
+{
+    *matches = NULL;
+    *nmatches = 0;
+    if (ntruth < 0 || npred < 0 || (ntruth > 0 && !truth) || (npred > 0 && !pred))
+        return lt_error_set(err, LT_EINVAL, "match: bad line arrays");
+    if (ntruth == 0 || npred == 0) return 0;
+    sorted_ref *ps = sort_by_top(pred, npred);
+    candidate *cand = NULL;
+    char *used_t = calloc((size_t)ntruth, 1), *used_p = calloc((size_t)npred, 1);
+    lt_line_match *out = NULL;
+    int rc = 0;
+    if (!ps || !used_t || !used_p) {
+        rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
+        goto done;
+    }
+    /* Candidates: every pred with IoU >= 0.5 lies in the truth box's window (window_start). */
+    long ncand = 0, capcand = 0, tests = 0;
+    for (int t = 0; t < ntruth; t++) {
+        const lt_box *tb = &truth[t].box;
+        int64_t at = lt_box_area(tb);
+        if (at == 0) continue;
+        for (int k = window_start(ps, npred, tb); k < npred && ps[k].top < tb->bottom; k++) {
+            if (++tests > LT_SCORE_MAX_PAIR_TESTS) {
+                rc = lt_error_set(err, LT_ELIMIT, "match: more than %ld overlapping box pairs",
+                                  LT_SCORE_MAX_PAIR_TESTS);
+                goto done;
+            }
+            int p = ps[k].index;
+            int64_t ap = lt_box_area(&pred[p].box);
+            if (ap == 0) continue;
+            int64_t inter = lt_box_intersection(tb, &pred[p].box);
+            int64_t uni = at + ap - inter;
+            if (inter == 0 || 2 * inter < uni) continue;
+            if (ncand == capcand) {
+                if (capcand >= LT_SCORE_MAX_CANDIDATES) {
+                    rc = lt_error_set(err, LT_ELIMIT,
+                                      "match: more than %d box pairs with IoU >= 0.5",
+                                      LT_SCORE_MAX_CANDIDATES);
+                    goto done;
+                }
+                long ncap = capcand ? capcand * 2 : 256;
+                if (ncap > LT_SCORE_MAX_CANDIDATES) ncap = LT_SCORE_MAX_CANDIDATES;
+                candidate *nc = realloc(cand, (size_t)ncap * sizeof *nc);
+                if (!nc) {
+                    rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
+                    goto done;
+                }
+                cand = nc;
+                capcand = ncap;
+            }
+            cand[ncand++] = (candidate){t, p, inter, uni};
+        }
+    }
+    if (ncand == 0) goto done;
+    qsort(cand, (size_t)ncand, sizeof *cand, cmp_candidate);
+    int cap = ntruth < npred ? ntruth : npred;
+    out = malloc((size_t)cap * sizeof *out);
+    if (!out) {
+        rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
+        goto done;
+    }
+    int n = 0;
+    for (long c = 0; c < ncand && n < cap; c++) {
+        const candidate *x = &cand[c];
+        if (used_t[x->truth] || used_p[x->pred]) continue;
+        used_t[x->truth] = used_p[x->pred] = 1;
+        out[n].truth = x->truth;
+        out[n].pred = x->pred;
+        out[n].iou = (double)x->inter / (double)x->uni;
+        out[n].strict = 4 * x->inter >= 3 * x->uni; /* IoU >= 0.75 */
+        n++;
+    }
+    qsort(out, (size_t)n, sizeof *out, cmp_match_truth);
+    *matches = out;
+    *nmatches = n;
+    out = NULL;
+done:
+    free(out);
+    free(cand);
+    free(ps);
+    free(used_t);
+    free(used_p);
+    return rc;
+}
+
+void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall,
+            double *f1)
+{
+    double p, r, f;
+    if (ntruth == 0 && npred == 0) {
+        p = r = f = 1.0;
+    } else if (ntruth == 0 || npred == 0) {
+        p = r = f = 0.0;
+    } else {
+        p = (double)matched / (double)npred;
+        r = (double)matched / (double)ntruth;
+        f = (p + r > 0) ? 2.0 * p * r / (p + r) : 0.0;
+    }
+    if (precision) *precision = p;
+    if (recall) *recall = r;
+    if (f1) *f1 = f;
+}
+
+/* ---- Kendall's tau-a ------------------------------------------------------------------ */
+
+/* Sorts v[0..n) ascending with tmp as scratch; returns the number of inversions. */
+static int64_t count_inversions(int *v, int *tmp, int n)
+{
+    if (n < 2) return 0;
+    int h = n / 2;
+    int64_t inv = count_inversions(v, tmp, h) + count_inversions(v + h, tmp, n - h);
+    int i = 0, j = h, k = 0;
+    while (i < h && j < n) {
+        if (v[i] <= v[j]) {
+            tmp[k++] = v[i++];
+        } else {
+            inv += h - i; /* v[j] is smaller than every remaining left element */
+            tmp[k++] = v[j++];
+        }
+    }
+    while (i < h) tmp[k++] = v[i++];
+    while (j < n) tmp[k++] = v[j++];
+    memcpy(v, tmp, (size_t)n * sizeof *v);
+    return inv;
+}
+
+int lt_kendall_tau_a(const int *seq, int n, double *tau)
+{
+    *tau = 0.0;
+    if (n < 2 || !seq) return 1;
+    int *v = malloc((size_t)n * sizeof *v), *tmp = malloc((size_t)n * sizeof *tmp);
+    if (!v || !tmp) {
+        free(v);
+        free(tmp);
+        return LT_ENOMEM;
+    }
+    memcpy(v, seq, (size_t)n * sizeof *v);
+    int64_t discordant = count_inversions(v, tmp, n);
+    free(v);
+    free(tmp);
+    int64_t pairs = (int64_t)n * (n - 1) / 2;
+    *tau = (double)(pairs - 2 * discordant) / (double)pairs; /* (C - D) / pairs, C = pairs-D */
+    return 0;
+}
+
+/* ---- splits and merges ----------------------------------------------------------------- */
+
+/* For every `outer` box, counts the `inner` boxes with at least half of their own area
+ * inside it, sweeping the inner boxes sorted by top over the window of window_start.
+ * counts[a] receives min(count, 2) for each outer a; when `crossed` is not NULL, crossed[a]
+ * is set when two of its inner boxes overlap vertically by at least half the smaller
+ * height. When `partner` is not NULL, inner box b with partner[b] >= 0 (matched one-to-one to
+ * that outer box) is not counted inside any other outer box. *tests accumulates the pairs
+ * examined (LT_ELIMIT past LT_SCORE_MAX_PAIR_TESTS). */
+static int count_inside(const lt_scored_line *outer, int nouter, const lt_scored_line *inner,
+                        int ninner, const int *partner, unsigned char *counts,
+                        unsigned char *crossed, long *tests, lt_error *err)
+{
+    memset(counts, 0, (size_t)nouter);
+    if (crossed) memset(crossed, 0, (size_t)nouter);
+    if (ninner == 0 || nouter == 0) return 0;
+    sorted_ref *is = sort_by_top(inner, ninner);
+    int *inside = crossed ? malloc((size_t)ninner * sizeof *inside) : NULL;
+    int rc = 0;
+    if (!is || (crossed && !inside)) {
+        rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
+        goto done;
+    }
+    for (int a = 0; a < nouter; a++) {
+        const lt_box *ab = &outer[a].box;
+        if (lt_box_area(ab) == 0) continue;
+        int found = 0;
+        for (int k = window_start(is, ninner, ab); k < ninner && is[k].top < ab->bottom; k++) {
+            if (++*tests > LT_SCORE_MAX_PAIR_TESTS) {
+                rc = lt_error_set(err, LT_ELIMIT, "score: more than %ld overlapping box pairs",
+                                  LT_SCORE_MAX_PAIR_TESTS);
+                goto done;
+            }
+            int b = is[k].index;
+            if (partner && partner[b] >= 0 && partner[b] != a) continue;
+            const lt_box *bb = &inner[b].box;
+            int64_t area_b = lt_box_area(bb);
+            if (area_b == 0 || 2 * lt_box_intersection(ab, bb) < area_b) continue;
+            if (inside) inside[found] = b;
+            found++;
+            if (!crossed && found >= 2) break;
+        }
+        counts[a] = (unsigned char)(found >= 2 ? 2 : found);
+        if (!crossed || found < 2) continue;
+        /* inside[] is in order of top; a pair overlaps vertically only while top_j < bottom_i */
+        for (int i = 0; i < found && !crossed[a]; i++) {
+            const lt_box *bi = &inner[inside[i]].box;
+            for (int j = i + 1; j < found; j++) {
+                const lt_box *bj = &inner[inside[j]].box;
+                if (bj->top >= bi->bottom) break;
+                if (++*tests > LT_SCORE_MAX_PAIR_TESTS) {
+                    rc = lt_error_set(err, LT_ELIMIT,
+                                      "score: more than %ld overlapping box pairs",
+                                      LT_SCORE_MAX_PAIR_TESTS);
+                    goto done;
+                }
+                long hi = (long)bi->bottom - bi->top, hj = (long)bj->bottom - bj->top;
+                long ov = (bi->bottom < bj->bottom ? bi->bottom : bj->bottom) - (long)bj->top;
+                long hmin = hi < hj ? hi : hj;
+                if (ov > 0 && 2 * ov >= hmin) {
+                    crossed[a] = 1;
+                    break;
+                }
+            }
+        }
+    }
+done:
+    free(is);
+    free(inside);
+    return rc;
+}
+
+int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                           int npred, const lt_line_match *matches, int nmatches, int *splits,
+                           int *merges, int *cross_merges, lt_error *err)
+{
+    *splits = *merges = *cross_merges = 0;
+    if (ntruth < 0 || npred < 0 || (ntruth > 0 && !truth) || (npred > 0 && !pred))
+        return lt_error_set(err, LT_EINVAL, "score: bad line arrays");
+    if (ntruth == 0 || npred == 0) return 0;
+    unsigned char *tc = malloc((size_t)ntruth), *pc = malloc((size_t)npred);
+    unsigned char *cross = malloc((size_t)npred);
+    int *truth_partner = NULL, *pred_partner = NULL;
+    long tests = 0;
+    int rc = 0;
+    if (matches) {
+        truth_partner = malloc((size_t)ntruth * sizeof *truth_partner);
+        pred_partner = malloc((size_t)npred * sizeof *pred_partner);
+    }
+    if (!tc || !pc || !cross || (matches && (!truth_partner || !pred_partner))) {
+        rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
+        goto done;
+    }
+    if (matches) {
+        for (int t = 0; t < ntruth; t++) truth_partner[t] = -1;
+        for (int p = 0; p < npred; p++) pred_partner[p] = -1;
+        for (int i = 0; i < nmatches; i++) {
+            int t = matches[i].truth, p = matches[i].pred;
+            if (t < 0 || t >= ntruth || p < 0 || p >= npred) {
+                rc = lt_error_set(err, LT_EINVAL, "score: match %d is out of range", i);
+                goto done;
+            }
+            truth_partner[t] = p;
+            pred_partner[p] = t;
+        }
+    }
+    rc = count_inside(truth, ntruth, pred, npred, pred_partner, tc, NULL, &tests, err);
+    if (!rc)
+        rc = count_inside(pred, npred, truth, ntruth, truth_partner, pc, cross, &tests, err);
+    if (rc) goto done;
+    for (int t = 0; t < ntruth; t++) *splits += tc[t] >= 2;
+    for (int p = 0; p < npred; p++) {
+        *merges += pc[p] >= 2;
+        *cross_merges += pc[p] >= 2 && cross[p];
+    }
+done:
+    free(tc);
+    free(pc);
+    free(cross);
+    free(truth_partner);
+    free(pred_partner);
+    return rc;
+}
+
+/* ---- one page --------------------------------------------------------------------------- */
+
+typedef struct order_pair {
+    int truth, pred;
+} order_pair;
+
+int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_page_score *out,
+                  lt_error *err)
+{
+    memset(out, 0, sizeof *out);
+    int nt = truth->failed ? 0 : truth->nlines;
+    int np = pred->failed ? 0 : pred->nlines;
+    out->truth_lines = nt;
+    out->pred_lines = np;
+    lt_line_match *m = NULL;
+    int nm = 0;
+    int rc = lt_match_lines(truth->lines, nt, pred->lines, np, &m, &nm, err);
+    if (rc) return rc;
+    out->matched_50 = nm;
+    for (int i = 0; i < nm; i++) out->matched_75 += m[i].strict;
+    lt_prf(out->matched_50, nt, np, &out->precision_50, &out->recall_50, &out->f1_50);
+    lt_prf(out->matched_75, nt, np, &out->precision_75, &out->recall_75, &out->f1_75);
+
+    rc = lt_count_splits_merges(truth->lines, nt, pred->lines, np, m, nm, &out->splits,
+                                &out->merges, &out->cross_merges, err);
+    if (rc) {
+        free(m);
+        return rc;
+    }
+    /* m is sorted by truth index: the predicted indices of the in-order pairs, read in truth
+     * order, are the sequence whose agreement with 0, 1, 2, ... tau measures. */
+    int *seq = malloc((size_t)(nm > 0 ? nm : 1) * sizeof *seq);
+    if (!seq) {
+        free(m);
+        return lt_error_set(err, LT_ENOMEM, "score: out of memory");
+    }
+    int k = 0;
+    for (int i = 0; i < nm; i++)
+        if (truth->lines[m[i].truth].in_order) seq[k++] = m[i].pred;
+    out->order_pairs = k;
+    rc = lt_kendall_tau_a(seq, k, &out->tau);
+    free(seq);
+    free(m);
+    if (rc < 0) return lt_error_set(err, rc, "score: out of memory");
+    out->has_tau = rc == 0;
+    if (truth->has_skew && pred->has_skew && !truth->failed && !pred->failed) {
+        out->has_skew_error = 1;
+        out->skew_error_deg = fabs(pred->skew_deg - truth->skew_deg);
+    }
+    return 0;
+}

@@ -1,0 +1,146 @@
+/* score.h — reading layout / ground-truth JSON files and scoring predicted text lines against
+ * ground truth: box IoU, greedy one-to-one matching, precision / recall / F1, splits and
+ * merges, Kendall's tau-a (Kendall 1938) for reading order, and skew error. */
+#ifndef LINEATE_SCORE_H
+#define LINEATE_SCORE_H
+
+#include "lineate.h"
+
+#include <stddef.h>
+#include <stdint.h>
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* ---- limits ----------------------------------------------------------------------------- */
+#define LT_SCORE_MAX_FILE_BYTES (256L * 1024 * 1024) /* one layout or ground-truth file */
+#define LT_SCORE_MAX_LINES 1000000                   /* lines of one page */
+#define LT_SCORE_MAX_COORD 16777216                  /* |coordinate| and page side, pixels */
+#define LT_SCORE_MAX_SKEW_DEG 180.0                  /* |skew_deg| accepted by the reader */
+/* Work bound of one page: box pairs examined by the matching and split / merge sweeps.
+ * Ordinary pages need a few per line; only degenerate input (thousands of boxes piled on
+ * one row) comes near it, and it then fails with LT_ELIMIT instead of running for hours. */
+#define LT_SCORE_MAX_PAIR_TESTS 200000000L
+#define LT_SCORE_MAX_CANDIDATES 4000000 /* pairs with IoU >= 0.5 kept for the matching */
+
+/* ---- pages as read from a file ---------------------------------------------------------- */
+enum { LT_SCORED_LAYOUT = 0, LT_SCORED_TRUTH = 1 }; /* "lineate-layout-1", "lineseg-gt-1" */
+
+typedef struct lt_scored_line {
+    lt_box box;
+    int in_order; /* 0 when the line's place in the reading order is not meaningful */
+} lt_scored_line;
+
+typedef struct lt_scored_page {
+    char *source;       /* "source" (layout) or "image" (ground truth); NULL if absent */
+    int page;           /* page number within its file, from 1 (1 for ground truth) */
+    int width, height;  /* pixels; 0 in an error record that gives none */
+    double skew_deg;    /* 0 when has_skew is 0 */
+    int has_skew;       /* the object has a numeric "skew_deg" */
+    char *variant;      /* "clean" / "degraded" from ground truth, NULL otherwise */
+    int format;         /* LT_SCORED_LAYOUT or LT_SCORED_TRUTH */
+    int failed;         /* an error record: the page could not be analysed; no lines */
+    char *error;        /* its "error" text when failed, else NULL */
+    lt_scored_line *lines; /* in the file's (reading) order */
+    int nlines;
+} lt_scored_page;
+
+/* Reads all of `path` ("-" is standard input, called "stdin" in messages) into a new buffer
+ * with one NUL byte appended (not counted in *size); the caller frees *data with free().
+ * Fails with LT_EIO (cannot open or read; a directory), LT_ELIMIT (more than max_bytes) or
+ * LT_ENOMEM; the message is "PATH: reason". */
+int lt_read_whole_file(const char *path, size_t max_bytes, char **data, size_t *size,
+                       lt_error *err);
+
+/* Parses `size` bytes holding one or more JSON objects (one document, JSON Lines, or objects
+ * simply concatenated, separated by white space) into *pages / *npages, in file order. Each
+ * object is a lineate layout page or a ground-truth page (told apart by "format"), or an
+ * error record (an object with a string "error", kept as a failed page with no lines).
+ * Malformed input fails with LT_EPARSE and the one-line message "NAME: reason"; on failure
+ * *pages is NULL and *npages 0. */
+int lt_scored_pages_parse(const char *data, size_t size, const char *name,
+                          lt_scored_page **pages, int *npages, lt_error *err);
+
+/* lt_read_whole_file (capped at LT_SCORE_MAX_FILE_BYTES) followed by lt_scored_pages_parse;
+ * messages name `path` ("stdin" for "-"). */
+int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages,
+                         lt_error *err);
+
+/* Frees an array returned by the two functions above (NULL-safe). */
+void lt_scored_pages_free(lt_scored_page *pages, int npages);
+
+/* ---- scoring (pure: no I/O, inputs unchanged) -------------------------------------------- */
+/* Area of a box [l, t, r, b): (r - l) * (b - t), 0 when either side is not positive. */
+int64_t lt_box_area(const lt_box *b);
+/* Area of the intersection of two boxes (0 when they do not overlap). */
+int64_t lt_box_intersection(const lt_box *a, const lt_box *b);
+/* Intersection over union; 0 when either box has zero area. */
+double lt_box_iou(const lt_box *a, const lt_box *b);
+
+typedef struct lt_line_match {
+    int truth, pred; /* indices into the truth and predicted lines */
+    double iou;      /* >= 0.5 */
+    int strict;      /* 1 when IoU >= 0.75 (decided exactly, in integers) */
+} lt_line_match;
+
+/* One-to-one matching: every (truth, pred) pair with IoU >= 0.5 is a candidate; candidates
+ * are taken greedily by decreasing IoU (ties: lower truth index, then lower pred index; all
+ * comparisons exact), each line used at most once. *matches (sorted by truth index, caller
+ * frees; may be NULL when *nmatches is 0) and *nmatches receive the result. Candidates are
+ * found by a sweep over boxes sorted by top, not by testing all pairs. Fails with LT_ENOMEM,
+ * or LT_ELIMIT past LT_SCORE_MAX_PAIR_TESTS / LT_SCORE_MAX_CANDIDATES. */
+int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                   int npred, lt_line_match **matches, int *nmatches, lt_error *err);
+
+/* Precision matched/npred, recall matched/ntruth, F1 = 2PR/(P+R). Both empty: all 1; only
+ * one empty: all 0; F1 is 0 when P + R is 0. */
+void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall,
+            double *f1);
+
+/* Kendall's tau-a of `seq[0..n)` against the order 0, 1, ..., n-1: (concordant - discordant)
+ * / (n(n-1)/2), counting discordant pairs as inversions by merge sort, O(n log n). The
+ * values must be distinct (one-to-one matches are). Returns 0 and sets *tau, or returns 1
+ * (tau undefined, *tau set to 0) when n < 2, or LT_ENOMEM. */
+int lt_kendall_tau_a(const int *seq, int n, double *tau);
+
+/* Splits, merges and cross-column merges. A predicted line lies inside a truth line when at
+ * least half of its own area lies inside it; a truth line is split when two or more predicted
+ * lines lie inside it. A truth line lies inside a predicted line when at least half of the
+ * truth line's area lies inside it; a predicted line is a merge when two or more truth lines
+ * lie inside it, and a cross-column merge when two of them overlap vertically by at least
+ * half the smaller height. Zero-area boxes lie inside nothing.
+ * `matches` (from lt_match_lines; NULL for the plain definition above) refines it: a line
+ * matched one-to-one to a line of the other side lies inside no other line of that side. On
+ * skewed pages the axis-aligned boxes of neighbouring lines overlap so much that a perfect
+ * prediction would otherwise count as full of splits and merges; a matched neighbour is a
+ * line of its own, not a piece of this one.
+ * Fails with LT_ENOMEM, LT_EINVAL (a match out of range) or LT_ELIMIT
+ * (LT_SCORE_MAX_PAIR_TESTS). */
+int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                           int npred, const lt_line_match *matches, int nmatches, int *splits,
+                           int *merges, int *cross_merges, lt_error *err);
+
+typedef struct lt_page_score {
+    int truth_lines, pred_lines;
+    int matched_50, matched_75;    /* one-to-one matches with IoU >= 0.5, of them >= 0.75 */
+    double precision_50, recall_50, f1_50;
+    double precision_75, recall_75, f1_75;
+    int splits, merges, cross_merges;
+    int order_pairs;    /* matches at 0.5 whose truth line is in_order */
+    int has_tau;        /* 0 when order_pairs < 2 */
+    double tau;         /* Kendall tau-a of the predicted order over those pairs */
+    int has_skew_error; /* both pages have a skew */
+    double skew_error_deg; /* |pred skew - truth skew| */
+} lt_page_score;
+
+/* Scores one predicted page against its truth page (all of the above; splits and merges
+ * refined by the page's matches). A failed page is
+ * scored as a page with no lines and no skew. Fails with LT_ENOMEM or LT_ELIMIT. */
+int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_page_score *out,
+                  lt_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif
