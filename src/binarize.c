@@ -16,7 +16,7 @@ static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, d
 {
     double m = sum * inv_n;
     double a = g - m * (1.0 - k);
-    if (a < 0) return 1;
+    if (a <= 0) return 1;
     double var = sumsq * inv_n - m * m;
     if (var <= 0) return 0;
     double b = m * k_over_r;

@@ -92,18 +92,28 @@ static void grid_free(index_grid *g)
     free(g->items);
 }
 
-/* Whether b may sit beside a in one line: their vertical extents overlap by at least half
- * the smaller height and their centres are at most 0.7 smaller heights apart (so a tall
- * bracket joins only the line it is centred on), heights differ at most fourfold. */
+/* Whether b may sit beside a in one line. Of two similar heights, the vertical extents
+ * overlap by at least half the smaller height and the centres are at most 0.7 smaller
+ * heights apart (so a tall bracket joins only the line it is centred on). A clearly smaller
+ * one (comma, superscript, small capital) has its centre within the larger's extent or just
+ * below it. Heights differ at most fourfold. */
 static int same_row(const lt_component *a, const lt_component *b)
 {
-    int ha = box_h(&a->box), hb = box_h(&b->box);
-    int hmin = ha < hb ? ha : hb, hmax = ha < hb ? hb : ha;
-    int top = a->box.top > b->box.top ? a->box.top : b->box.top;
-    int bottom = a->box.bottom < b->box.bottom ? a->box.bottom : b->box.bottom;
+    const lt_box *small = &a->box, *large = &b->box;
+    if (box_h(small) > box_h(large)) {
+        small = &b->box;
+        large = &a->box;
+    }
+    const int hmin = box_h(small), hmax = box_h(large);
     if (hmax > 4 * hmin) return 0;
+    if (10 * hmin <= 7 * hmax) {
+        double cy = 0.5 * (small->top + small->bottom);
+        return cy >= large->top && cy <= large->bottom + 0.25 * hmax;
+    }
+    int top = small->top > large->top ? small->top : large->top;
+    int bottom = small->bottom < large->bottom ? small->bottom : large->bottom;
     if (2 * (bottom - top) < hmin) return 0;
-    double dcy = 0.5 * (a->box.top + a->box.bottom - b->box.top - b->box.bottom);
+    double dcy = 0.5 * (small->top + small->bottom - large->top - large->bottom);
     return fabs(dcy) <= 0.7 * hmin;
 }
 
@@ -190,6 +200,145 @@ static int cmp_line_pos(const void *pa, const void *pb)
     return (a->box.left > b->box.left) - (a->box.left < b->box.left);
 }
 
+static void grow(lt_box *b, const lt_box *k)
+{
+    if (k->left < b->left) b->left = k->left;
+    if (k->top < b->top) b->top = k->top;
+    if (k->right > b->right) b->right = k->right;
+    if (k->bottom > b->bottom) b->bottom = k->bottom;
+}
+
+typedef struct keyed {
+    int key, index;
+} keyed;
+
+static int cmp_keyed(const void *pa, const void *pb)
+{
+    const keyed *a = pa, *b = pb;
+    if (a->key != b->key) return (a->key > b->key) - (a->key < b->key);
+    return (a->index > b->index) - (a->index < b->index);
+}
+
+/* Box of every group (by root component) of bodies, in boxes[root]. */
+static void group_boxes(const lt_components *c, const uint8_t *body, int *parent, lt_box *boxes)
+{
+    for (int i = 0; i < c->count; i++)
+        if (body[i] && find_root(parent, i) == i) boxes[i] = c->items[i].box;
+    for (int i = 0; i < c->count; i++)
+        if (body[i]) grow(&boxes[find_root(parent, i)], &c->items[i].box);
+}
+
+/* Attaches each mark, left to right, to the group whose band holds it best (parent[mark] is
+ * set to the group's root). Groups grow as marks join, so that a chain of dots (a leader)
+ * follows from the line it starts at. Groups are found through horizontal bands one text
+ * height tall; each group is listed in the bands from one text height above its box to one
+ * below. */
+static int attach_marks(const lt_components *c, const uint8_t *body, const uint8_t *mark,
+                        int *parent, double th)
+{
+    const int n = c->count;
+    int maxy = 1, nmarks = 0;
+    for (int i = 0; i < n; i++) {
+        if (c->items[i].box.bottom > maxy) maxy = c->items[i].box.bottom;
+        nmarks += mark[i] != 0;
+    }
+    const int nbands = (int)(maxy / th) + 3;
+    lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
+    keyed *marks = malloc(((size_t)nmarks + 1) * sizeof *marks);
+    int *start = calloc((size_t)nbands + 1, sizeof *start);
+    int *fill = malloc(((size_t)nbands + 1) * sizeof *fill);
+    int *members = NULL;
+    int rc = LT_ENOMEM;
+    if (!boxes || !marks || !start || !fill) goto done;
+    group_boxes(c, body, parent, boxes);
+    for (int pass = 0; pass < 2; pass++) {
+        for (int i = 0; i < n; i++) {
+            if (!body[i] || find_root(parent, i) != i) continue;
+            int b0 = (int)((boxes[i].top - th) / th), b1 = (int)((boxes[i].bottom + th) / th);
+            if (b0 < 0) b0 = 0;
+            if (b1 > nbands - 1) b1 = nbands - 1;
+            for (int b = b0; b <= b1; b++) {
+                if (pass)
+                    members[fill[b]++] = i;
+                else
+                    start[b + 1]++;
+            }
+        }
+        if (pass) break;
+        for (int b = 0; b < nbands; b++) start[b + 1] += start[b];
+        memcpy(fill, start, (size_t)nbands * sizeof *fill);
+        members = malloc(((size_t)start[nbands] + 1) * sizeof *members);
+        if (!members) goto done;
+    }
+    int m = 0;
+    for (int i = 0; i < n; i++)
+        if (mark[i]) marks[m++] = (keyed){c->items[i].box.left, i};
+    qsort(marks, (size_t)nmarks, sizeof *marks, cmp_keyed);
+    for (int k = 0; k < nmarks; k++) {
+        const int i = marks[k].index;
+        const lt_component *mk = &c->items[i];
+        int band = (int)(0.5 * (mk->box.top + mk->box.bottom) / th);
+        if (band < 0 || band >= nbands) continue;
+        int best = -1;
+        double best_d = 1e300;
+        for (int j = start[band]; j < start[band + 1]; j++) {
+            double d = mark_fit(mk, &boxes[members[j]], th, mark[i] == 2);
+            if (d >= 0 && d < best_d) {
+                best_d = d;
+                best = members[j];
+            }
+        }
+        if (best < 0) continue;
+        parent[i] = best;
+        grow(&boxes[best], &mk->box);
+    }
+    rc = 0;
+done:
+    free(boxes);
+    free(marks);
+    free(start);
+    free(fill);
+    free(members);
+    return rc;
+}
+
+/* Joins groups that stand side by side on one row with a gap of at most half a text height
+ * once their marks are counted (leaders, punctuation between words). */
+static int join_rows(const lt_components *c, const uint8_t *body, int *parent, int n,
+                     double th)
+{
+    lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
+    keyed *roots = malloc(((size_t)n + 1) * sizeof *roots);
+    if (!boxes || !roots) {
+        free(boxes);
+        free(roots);
+        return LT_ENOMEM;
+    }
+    for (int i = 0; i < n; i++)
+        if (body[i] && find_root(parent, i) == i) boxes[i] = c->items[i].box;
+    for (int i = 0; i < n; i++)
+        if (body[i] || find_root(parent, i) != i) grow(&boxes[find_root(parent, i)], &c->items[i].box);
+    int nr = 0;
+    for (int i = 0; i < n; i++)
+        if (body[i] && find_root(parent, i) == i) roots[nr++] = (keyed){boxes[i].left, i};
+    qsort(roots, (size_t)nr, sizeof *roots, cmp_keyed);
+    const double max_gap = 0.5 * th;
+    for (int a = 0; a < nr; a++) {
+        const lt_box *ba = &boxes[roots[a].index];
+        for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
+            const lt_box *bb = &boxes[roots[b].index];
+            if (bb->left < ba->right) continue; /* overlapping in x: not side by side */
+            int top = ba->top > bb->top ? ba->top : bb->top;
+            int bottom = ba->bottom < bb->bottom ? ba->bottom : bb->bottom;
+            int hmin = box_h(ba) < box_h(bb) ? box_h(ba) : box_h(bb);
+            if (2 * (bottom - top) >= hmin) unite(parent, roots[a].index, roots[b].index);
+        }
+    }
+    free(boxes);
+    free(roots);
+    return 0;
+}
+
 int lt_build_lines(const lt_components *c, double text_height_px, const lt_params *p,
                    lt_raw_lines **out, lt_error *err)
 {
@@ -207,7 +356,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     if (!body || !mark || !parent || !line_of || !links || !crosses || !res) goto nomem;
 
     /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
-    const double mark_h = 0.75 * th; /* punctuation, dots, accents, dashes */
+    const double mark_h = 0.5 * th; /* punctuation, dots, accents, dashes */
     const long min_speckle_px = (long)fmax(3, 0.01 * th * th);
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
@@ -256,7 +405,10 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     for (int i = 0; i < nlinks; i++)
         if (i >= nwide || !crosses[i]) unite(parent, links[i].a, links[i].b);
 
-    /* One raw line per group of bodies. */
+    /* Marks join groups; groups that marks bring within reach of each other join. */
+    if (attach_marks(c, body, mark, parent, th) || join_rows(c, body, parent, n, th)) goto nomem;
+
+    /* One raw line per group. */
     int nl = 0;
     for (int i = 0; i < n; i++) line_of[i] = -1;
     for (int i = 0; i < n; i++)
@@ -270,21 +422,17 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         b->right = b->bottom = -1;
     }
     for (int i = 0; i < n; i++) {
-        if (!body[i]) continue;
+        if (!body[i] && !(mark[i] && find_root(parent, i) != i)) continue;
         int l = line_of[i] = line_of[find_root(parent, i)];
         lt_raw_line *r = &res->items[l];
-        const lt_box *k = &c->items[i].box;
-        if (k->left < r->box.left) r->box.left = k->left;
-        if (k->top < r->box.top) r->box.top = k->top;
-        if (k->right > r->box.right) r->box.right = k->right;
-        if (k->bottom > r->box.bottom) r->box.bottom = k->bottom;
+        grow(&r->box, &c->items[i].box);
         r->ncomponents++;
     }
     /* Baseline: median bottom of the line's bodies (descenders are the minority); x-height:
      * median height above it of the bodies that stand on it and are not tall. */
     double *vals = malloc(((size_t)n + 1) * sizeof *vals);
     int *order = malloc(((size_t)n + 1) * sizeof *order);
-    int *first = calloc((size_t)nl + 1, sizeof *first);
+    int *first = calloc((size_t)nl + 2, sizeof *first);
     if (!vals || !order || !first) {
         free(vals);
         free(order);
@@ -292,22 +440,10 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         goto nomem;
     }
     for (int i = 0; i < n; i++)
-        if (body[i]) first[line_of[i] + 1]++;
-    for (int l = 0; l < nl; l++) first[l + 1] += first[l];
-    {
-        int *fill = line_of; /* reuse: bucket bodies by line */
-        int *pos = malloc(((size_t)nl + 1) * sizeof *pos);
-        if (!pos) {
-            free(vals);
-            free(order);
-            free(first);
-            goto nomem;
-        }
-        memcpy(pos, first, (size_t)nl * sizeof *pos);
-        for (int i = 0; i < n; i++)
-            if (body[i]) order[pos[fill[i]]++] = i;
-        free(pos);
-    }
+        if (body[i]) first[line_of[i] + 2]++;
+    for (int l = 0; l < nl; l++) first[l + 2] += first[l + 1];
+    for (int i = 0; i < n; i++) /* counting sort: first[l+1] is the fill position of l */
+        if (body[i]) order[first[line_of[i] + 1]++] = i;
     for (int l = 0; l < nl; l++) {
         lt_raw_line *r = &res->items[l];
         int m = 0;
@@ -325,28 +461,6 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     free(vals);
     free(order);
     free(first);
-
-    /* Marks join the line whose band holds them best (lines are few: a plain scan). */
-    for (int i = 0; i < n; i++) {
-        if (!mark[i]) continue;
-        int best = -1;
-        double best_d = 1e300;
-        for (int l = 0; l < nl; l++) {
-            double d = mark_fit(&c->items[i], &res->items[l].box, th, mark[i] == 2);
-            if (d >= 0 && d < best_d) {
-                best_d = d;
-                best = l;
-            }
-        }
-        if (best < 0) continue;
-        const lt_box *k = &c->items[i].box;
-        lt_box *b = &res->items[best].box;
-        if (k->left < b->left) b->left = k->left;
-        if (k->top < b->top) b->top = k->top;
-        if (k->right > b->right) b->right = k->right;
-        if (k->bottom > b->bottom) b->bottom = k->bottom;
-        res->items[best].ncomponents++;
-    }
     qsort(res->items, (size_t)res->count, sizeof *res->items, cmp_line_pos);
     goto done;
 nomem:
