@@ -186,7 +186,7 @@ static void find_gutter_links(link *wide, int n, double min_width, int min_rows,
 static double mark_fit(const lt_component *k, const lt_box *b, double th, int speckle)
 {
     double cy = 0.5 * (k->box.top + k->box.bottom), cx = k->cx;
-    double reach = speckle ? 0 : 0.6 * th;
+    double reach = 1.5 * th;
     if (cx < b->left - reach || cx > b->right + reach) return -1;
     if (cy < b->top - 0.6 * th || cy > b->bottom + (speckle ? 0.0 : 0.3 * th)) return -1;
     double mid = 0.5 * (b->top + b->bottom);
@@ -322,7 +322,7 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
     for (int i = 0; i < n; i++)
         if (body[i] && find_root(parent, i) == i) roots[nr++] = (keyed){boxes[i].left, i};
     qsort(roots, (size_t)nr, sizeof *roots, cmp_keyed);
-    const double max_gap = 0.5 * th;
+    const double max_gap = 1.2 * th;
     for (int a = 0; a < nr; a++) {
         const lt_box *ba = &boxes[roots[a].index];
         for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
@@ -357,7 +357,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
     const double mark_h = 0.5 * th; /* punctuation, dots, accents, dashes */
-    const long min_speckle_px = (long)fmax(3, 0.01 * th * th);
+    const long min_speckle_px = (long)fmax(3, 0.02 * th * th);
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
         if (k->kind == LT_COMP_TEXT) {

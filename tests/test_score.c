@@ -1,0 +1,786 @@
+/* test_score.c — checks of the scorer (score.c) and the page reader (jsonread.c) on inputs
+ * built here: IoU of known boxes, matching, precision / recall / F1, splits and merges,
+ * Kendall's tau-a (a worked example of Kendall 1938), skew error and reader errors.
+ * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
+#include "score.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+static int failures;
+static char tmpdir[64];
+
+static void fail(const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    fputs("FAIL: ", stderr);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+    failures++;
+}
+
+#define CHECK(cond, ...)                                                                      \
+    do {                                                                                      \
+        if (!(cond)) fail(__VA_ARGS__);                                                       \
+    } while (0)
+#define CHECK_NEAR(got, want, tol, what)                                                      \
+    do {                                                                                      \
+        double g_ = (got), w_ = (want);                                                       \
+        if (!(fabs(g_ - w_) <= (tol))) fail("%s: got %.9g, want %.9g", what, g_, w_);         \
+    } while (0)
+#define CHECK_INT(got, want, what)                                                            \
+    do {                                                                                      \
+        long g_ = (long)(got), w_ = (long)(want);                                             \
+        if (g_ != w_) fail("%s: got %ld, want %ld", what, g_, w_);                            \
+    } while (0)
+
+static lt_box B(int l, int t, int r, int b)
+{
+    lt_box x = {l, t, r, b};
+    return x;
+}
+
+/* A page of n lines with the given boxes, all in order, with a skew. */
+static lt_scored_page make_page(lt_scored_line *lines, int n, double skew_deg)
+{
+    lt_scored_page p;
+    memset(&p, 0, sizeof p);
+    p.lines = lines;
+    p.nlines = n;
+    p.width = 1000;
+    p.height = 1000;
+    p.skew_deg = skew_deg;
+    p.has_skew = 1;
+    return p;
+}
+
+static void set_lines(lt_scored_line *dst, const lt_box *boxes, int n)
+{
+    for (int i = 0; i < n; i++) {
+        dst[i].box = boxes[i];
+        dst[i].in_order = 1;
+    }
+}
+
+static int score(const lt_scored_page *t, const lt_scored_page *p, lt_page_score *s,
+                 const char *what)
+{
+    lt_error err = {0};
+    int rc = lt_score_page(t, p, s, &err);
+    if (rc) fail("%s: lt_score_page failed (%d): %s", what, rc, err.message);
+    return rc;
+}
+
+/* ---- IoU: exact fractions worked out by hand from the definition |A n B| / |A u B| ------- */
+static void test_iou(void)
+{
+    lt_box a = B(0, 0, 10, 10), b = B(5, 0, 15, 10);
+    CHECK_NEAR(lt_box_iou(&a, &b), 50.0 / 150.0, 1e-15, "IoU half-shifted squares");
+    CHECK_NEAR(lt_box_iou(&a, &a), 1.0, 0, "IoU of a box with itself");
+    lt_box c = B(10, 0, 20, 10); /* touches a at x = 10: right edge exclusive */
+    CHECK_NEAR(lt_box_iou(&a, &c), 0.0, 0, "IoU of boxes sharing only an edge");
+    lt_box d = B(2, 3, 2, 9); /* zero width */
+    CHECK_NEAR(lt_box_iou(&a, &d), 0.0, 0, "IoU with a zero-area box");
+    CHECK_NEAR(lt_box_iou(&d, &d), 0.0, 0, "IoU of a zero-area box with itself");
+    lt_box e = B(0, 0, 20, 10); /* a is half of e */
+    CHECK_NEAR(lt_box_iou(&a, &e), 0.5, 0, "IoU of a box and its double");
+    lt_box f = B(3, 4, 8, 6), g = B(5, 1, 12, 5); /* inter [5,4,8,5]: 3; union 10+28-3 */
+    CHECK_NEAR(lt_box_iou(&f, &g), 3.0 / 35.0, 1e-15, "IoU of crossing boxes");
+    CHECK_INT(lt_box_area(&f), 10, "area of [3,4,8,6]");
+    CHECK_INT(lt_box_intersection(&f, &g), 3, "intersection of crossing boxes");
+    lt_box h = B(-5, -5, 5, 5);
+    CHECK_NEAR(lt_box_iou(&a, &h), 25.0 / 175.0, 1e-15, "IoU with negative coordinates");
+}
+
+/* ---- precision / recall / F1, with the 0/0 conventions -------------------------------- */
+static void test_prf(void)
+{
+    double p, r, f;
+    lt_prf(0, 0, 0, &p, &r, &f);
+    CHECK(p == 1 && r == 1 && f == 1, "both empty: P R F1 = %g %g %g, want 1 1 1", p, r, f);
+    lt_prf(0, 5, 0, &p, &r, &f);
+    CHECK(p == 0 && r == 0 && f == 0, "no prediction: P R F1 = %g %g %g, want 0", p, r, f);
+    lt_prf(0, 0, 3, &p, &r, &f);
+    CHECK(p == 0 && r == 0 && f == 0, "no truth: P R F1 = %g %g %g, want 0", p, r, f);
+    lt_prf(0, 4, 4, &p, &r, &f);
+    CHECK(p == 0 && r == 0 && f == 0, "no match: P R F1 = %g %g %g, want 0", p, r, f);
+    lt_prf(3, 4, 6, &p, &r, &f); /* P = 1/2, R = 3/4, F1 = 2PR/(P+R) = 0.6 */
+    CHECK_NEAR(p, 0.5, 1e-15, "P 3/6");
+    CHECK_NEAR(r, 0.75, 1e-15, "R 3/4");
+    CHECK_NEAR(f, 0.6, 1e-15, "F1 of P 1/2, R 3/4");
+}
+
+/* Five text lines stacked like a paragraph. */
+static const lt_box para[5] = {{100, 100, 900, 130}, {100, 140, 880, 170}, {100, 180, 900, 210},
+                               {100, 220, 900, 250}, {100, 260, 500, 290}};
+
+static void test_identical(void)
+{
+    lt_scored_line t[5], p[5];
+    set_lines(t, para, 5);
+    set_lines(p, para, 5);
+    lt_scored_page tp = make_page(t, 5, 0.4), pp = make_page(p, 5, 0.4);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "identical")) return;
+    CHECK_INT(s.matched_50, 5, "identical: matched@0.5");
+    CHECK_INT(s.matched_75, 5, "identical: matched@0.75");
+    CHECK_NEAR(s.f1_50, 1, 0, "identical: F1@0.5");
+    CHECK_NEAR(s.f1_75, 1, 0, "identical: F1@0.75");
+    CHECK(s.has_tau, "identical: tau undefined");
+    CHECK_NEAR(s.tau, 1, 0, "identical: tau");
+    CHECK_INT(s.splits + s.merges + s.cross_merges, 0, "identical: splits+merges");
+    CHECK(s.has_skew_error, "identical: no skew error");
+    CHECK_NEAR(s.skew_error_deg, 0, 0, "identical: skew error");
+
+    /* both pages empty: everything 1, tau undefined */
+    lt_scored_page e1 = make_page(NULL, 0, 0), e2 = make_page(NULL, 0, 0);
+    if (score(&e1, &e2, &s, "empty")) return;
+    CHECK(s.f1_50 == 1 && s.f1_75 == 1 && s.precision_50 == 1 && s.recall_50 == 1,
+          "empty pages: F1 %g %g, want 1", s.f1_50, s.f1_75);
+    CHECK(!s.has_tau, "empty pages: tau should be undefined");
+}
+
+static void test_missing_line(void)
+{
+    lt_scored_line t[5], p[4];
+    set_lines(t, para, 5);
+    const lt_box pb[4] = {para[0], para[1], para[3], para[4]}; /* third line not found */
+    set_lines(p, pb, 4);
+    lt_scored_page tp = make_page(t, 5, 0), pp = make_page(p, 4, 0);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "missing line")) return;
+    CHECK_INT(s.matched_50, 4, "missing line: matched");
+    CHECK_NEAR(s.precision_50, 1, 0, "missing line: precision");
+    CHECK_NEAR(s.recall_50, 0.8, 1e-15, "missing line: recall");
+    CHECK_NEAR(s.f1_50, 2 * 0.8 / 1.8, 1e-15, "missing line: F1");
+    CHECK_NEAR(s.tau, 1, 0, "missing line: tau");
+    CHECK_INT(s.order_pairs, 4, "missing line: order pairs");
+}
+
+static void test_split(void)
+{
+    /* one truth line cut at 60% of its width: IoUs 0.6 and 0.4 */
+    lt_scored_line t[1], p[2];
+    const lt_box tb[1] = {B(0, 0, 100, 10)};
+    const lt_box pb[2] = {B(0, 0, 60, 10), B(60, 0, 100, 10)};
+    set_lines(t, tb, 1);
+    set_lines(p, pb, 2);
+    lt_scored_page tp = make_page(t, 1, 0), pp = make_page(p, 2, 0);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "split")) return;
+    CHECK_INT(s.matched_50, 1, "split: matched@0.5");
+    CHECK_INT(s.matched_75, 0, "split: matched@0.75 (IoU 0.6)");
+    CHECK_NEAR(s.f1_50, 2.0 / 3.0, 1e-15, "split: F1@0.5 (P 1/2, R 1)");
+    CHECK_INT(s.splits, 1, "split: splits");
+    CHECK_INT(s.merges, 0, "split: merges");
+    CHECK(!s.has_tau, "split: tau needs two pairs");
+}
+
+static void test_merges(void)
+{
+    lt_page_score s;
+    /* two stacked lines joined: each IoU 1000/2200 < 0.5, no match; a merge, not
+     * cross-column (no vertical overlap) */
+    lt_scored_line t[2], p[1];
+    const lt_box tb[2] = {B(0, 0, 100, 10), B(0, 12, 100, 22)};
+    const lt_box pb[1] = {B(0, 0, 100, 22)};
+    set_lines(t, tb, 2);
+    set_lines(p, pb, 1);
+    lt_scored_page tp = make_page(t, 2, 0), pp = make_page(p, 1, 0);
+    if (score(&tp, &pp, &s, "stacked merge")) return;
+    CHECK_INT(s.matched_50, 0, "stacked merge: matched");
+    CHECK_INT(s.merges, 1, "stacked merge: merges");
+    CHECK_INT(s.cross_merges, 0, "stacked merge: cross-column merges");
+    CHECK_INT(s.splits, 0, "stacked merge: splits");
+    CHECK_NEAR(s.f1_50, 0, 0, "stacked merge: F1");
+
+    /* two columns' lines on one row joined across the gutter: a cross-column merge */
+    const lt_box cb[2] = {B(0, 0, 100, 10), B(120, 1, 220, 11)};
+    const lt_box qb[1] = {B(0, 0, 220, 11)};
+    set_lines(t, cb, 2);
+    set_lines(p, qb, 1);
+    if (score(&tp, &pp, &s, "cross-column merge")) return;
+    CHECK_INT(s.merges, 1, "cross-column merge: merges");
+    CHECK_INT(s.cross_merges, 1, "cross-column merge: cross-column merges");
+
+    /* a tall prediction swallowing three lines (its top far above theirs) */
+    lt_scored_line t3[3], p3[1];
+    const lt_box t3b[3] = {B(10, 300, 90, 310), B(10, 320, 90, 330), B(10, 340, 90, 350)};
+    const lt_box p3b[1] = {B(0, 0, 100, 400)};
+    set_lines(t3, t3b, 3);
+    set_lines(p3, p3b, 1);
+    tp = make_page(t3, 3, 0);
+    pp = make_page(p3, 1, 0);
+    if (score(&tp, &pp, &s, "tall merge")) return;
+    CHECK_INT(s.merges, 1, "tall merge: merges");
+    CHECK_INT(s.cross_merges, 0, "tall merge: cross-column merges");
+
+    /* a line half inside: exactly 50% of its area inside counts, 40% does not */
+    const lt_box hb[2] = {B(0, 0, 100, 10), B(50, 0, 150, 10)}; /* second: 50% inside */
+    const lt_box hp[1] = {B(0, 0, 100, 10)};
+    set_lines(t, hb, 2);
+    set_lines(p, hp, 1);
+    tp = make_page(t, 2, 0);
+    pp = make_page(p, 1, 0);
+    int sp, me, cr;
+    lt_error err = {0};
+    lt_count_splits_merges(t, 2, p, 1, NULL, 0, &sp, &me, &cr, &err);
+    CHECK_INT(me, 1, "half-inside merge (plain definition)");
+    CHECK_INT(cr, 1, "half-inside merge is side by side");
+    const lt_box hb2[2] = {B(0, 0, 100, 10), B(60, 0, 160, 10)}; /* 40% inside */
+    set_lines(t, hb2, 2);
+    lt_count_splits_merges(t, 2, p, 1, NULL, 0, &sp, &me, &cr, &err);
+    CHECK_INT(me, 0, "40%-inside is no merge");
+}
+
+/* Axis-aligned hulls of neighbouring lines of a page turned by 10 degrees overlap: with the
+ * plain definition a perfect prediction has splits and merges, with the match refinement it
+ * has none (both checked). */
+static void test_skewed_hulls(void)
+{
+    lt_scored_line t[3], p[3];
+    /* hulls of 800 px lines 40 px apart turned by ~10 deg: about 140 px tall each */
+    const lt_box hb[3] = {B(100, 100, 900, 240), B(100, 140, 900, 280), B(100, 180, 900, 320)};
+    set_lines(t, hb, 3);
+    set_lines(p, hb, 3);
+    int sp, me, cr;
+    lt_error err = {0};
+    lt_count_splits_merges(t, 3, p, 3, NULL, 0, &sp, &me, &cr, &err);
+    CHECK(sp == 3 && me == 3, "skewed hulls, plain definition: splits %d merges %d, want 3 3",
+          sp, me);
+    lt_scored_page tp = make_page(t, 3, 10), pp = make_page(p, 3, 10);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "skewed hulls")) return;
+    CHECK_INT(s.matched_50, 3, "skewed hulls: matched");
+    CHECK_INT(s.splits, 0, "skewed hulls: splits with matches");
+    CHECK_INT(s.merges, 0, "skewed hulls: merges with matches");
+}
+
+static void test_order(void)
+{
+    lt_scored_line t[5], p[5];
+    set_lines(t, para, 5);
+    const lt_box rb[5] = {para[4], para[3], para[2], para[1], para[0]};
+    set_lines(p, rb, 5);
+    lt_scored_page tp = make_page(t, 5, 0), pp = make_page(p, 5, 0);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "reversed")) return;
+    CHECK_INT(s.matched_50, 5, "reversed: matched");
+    CHECK_NEAR(s.tau, -1, 0, "reversed: tau");
+
+    /* truth line 1 is a margin number (in_order false): left out of tau. Pred order
+     * 0 2 1 3 4 in truth terms, with truth 1 excluded the order is perfect. */
+    set_lines(t, para, 5);
+    t[1].in_order = 0;
+    const lt_box ob[5] = {para[0], para[2], para[1], para[3], para[4]};
+    set_lines(p, ob, 5);
+    if (score(&tp, &pp, &s, "in_order")) return;
+    CHECK_INT(s.order_pairs, 4, "in_order false: pairs");
+    CHECK_NEAR(s.tau, 1, 0, "in_order false: tau");
+    t[1].in_order = 1; /* now one discordant pair among 10: (9 - 1) / 10 */
+    if (score(&tp, &pp, &s, "one swap")) return;
+    CHECK_NEAR(s.tau, 0.8, 1e-15, "one adjacent swap in 5: tau");
+}
+
+static void test_kendall(void)
+{
+    double tau;
+    /* Worked example, from memory: Kendall (1938), "A new measure of rank correlation",
+     * Biometrika 30, 81-93 (also opening chapter of Kendall's "Rank Correlation Methods"):
+     * ten objects ranked 1..10 by one observer and 4 7 2 10 3 6 8 1 5 9 by another;
+     * 25 concordant and 20 discordant pairs, tau = 5/45 = 0.111. The same value is given by
+     * scipy.stats.kendalltau 1.10 (Debian python3-scipy; equal to tau-a without ties):
+     * 0.1111111111111111. */
+    const int k1938[10] = {3, 6, 1, 9, 2, 5, 7, 0, 4, 8}; /* the ranks minus 1 */
+    CHECK(lt_kendall_tau_a(k1938, 10, &tau) == 0, "Kendall 1938 example: undefined");
+    CHECK_NEAR(tau, 5.0 / 45.0, 1e-15, "Kendall 1938 example tau");
+    /* More values of scipy.stats.kendalltau 1.10 (Debian python3-scipy), against 1..n:
+     * [3 1 4 2] -> 0.0, [2 1 4 3 6 5] -> 0.6, [1 3 2 5 4 7 6 9 8 10] -> 0.8222222222222221 */
+    const int s1[4] = {2, 0, 3, 1}, s2[6] = {1, 0, 3, 2, 5, 4};
+    const int s3[10] = {0, 2, 1, 4, 3, 6, 5, 8, 7, 9};
+    lt_kendall_tau_a(s1, 4, &tau);
+    CHECK_NEAR(tau, 0.0, 1e-15, "tau [3 1 4 2] (scipy 0.0)");
+    lt_kendall_tau_a(s2, 6, &tau);
+    CHECK_NEAR(tau, 0.6, 1e-15, "tau [2 1 4 3 6 5] (scipy 0.6)");
+    lt_kendall_tau_a(s3, 10, &tau);
+    CHECK_NEAR(tau, 0.8222222222222221, 1e-15, "tau [1 3 2 5 ...] (scipy 0.8222)");
+    /* values need only be distinct, not 0..n-1: ranks of matched lines are arbitrary */
+    const int gaps[4] = {10, 40, 20, 90}; /* one inversion of 6: (5 - 1) / 6 */
+    lt_kendall_tau_a(gaps, 4, &tau);
+    CHECK_NEAR(tau, 4.0 / 6.0, 1e-15, "tau of sparse ranks");
+    CHECK(lt_kendall_tau_a(gaps, 1, &tau) == 1, "tau of one pair should be undefined");
+    CHECK(lt_kendall_tau_a(gaps, 0, &tau) == 1, "tau of no pair should be undefined");
+    /* a long reversed sequence: every pair discordant, tau = -1 (counts need 64 bits) */
+    int n = 100000;
+    int *rev = malloc((size_t)n * sizeof *rev);
+    if (!rev) {
+        fail("out of memory");
+        return;
+    }
+    for (int i = 0; i < n; i++) rev[i] = n - i;
+    lt_kendall_tau_a(rev, n, &tau);
+    CHECK_NEAR(tau, -1.0, 0, "tau of 100000 reversed");
+    free(rev);
+}
+
+static void test_skew(void)
+{
+    lt_scored_line t[1], p[1];
+    set_lines(t, para, 1);
+    set_lines(p, para, 1);
+    lt_scored_page tp = make_page(t, 1, 1.5), pp = make_page(p, 1, -0.5);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "skew")) return;
+    CHECK(s.has_skew_error, "skew error undefined");
+    CHECK_NEAR(s.skew_error_deg, 2.0, 1e-12, "skew error |-0.5 - 1.5|");
+    pp.has_skew = 0;
+    if (score(&tp, &pp, &s, "no skew")) return;
+    CHECK(!s.has_skew_error, "skew error defined though the prediction has no skew");
+}
+
+/* Greedy by decreasing IoU: t0 and t1 tie for p0 (equal IoU: the lower truth index wins), so
+ * t0 takes p0, t0's other candidate p1 is then left over, and t1 stays unmatched although a
+ * matching of size 2 (t0-p1, t1-p0) exists: the specified, deterministic behaviour. */
+static void test_greedy(void)
+{
+    lt_scored_line t[2], p[2];
+    const lt_box tb[2] = {B(0, 0, 100, 10), B(10, 0, 110, 10)};
+    const lt_box pb[2] = {B(5, 0, 105, 10), B(0, 0, 60, 10)};
+    /* IoU(t0,p0) = 95/105, IoU(t1,p0) = 95/105 (tie), IoU(t0,p1) = 0.6, IoU(t1,p1) = 50/110 */
+    set_lines(t, tb, 2);
+    set_lines(p, pb, 2);
+    lt_line_match *m;
+    int nm;
+    lt_error err = {0};
+    if (lt_match_lines(t, 2, p, 2, &m, &nm, &err)) {
+        fail("greedy: %s", err.message);
+        return;
+    }
+    CHECK_INT(nm, 1, "greedy: matches");
+    if (nm == 1) CHECK(m[0].truth == 0 && m[0].pred == 0, "greedy: tie should give t0-p0");
+    free(m);
+    /* the same with the truth lines listed the other way round: now t0 is the old t1 */
+    lt_scored_line t2[2] = {t[1], t[0]};
+    if (lt_match_lines(t2, 2, p, 2, &m, &nm, &err)) {
+        fail("greedy: %s", err.message);
+        return;
+    }
+    CHECK_INT(nm, 2, "greedy, swapped: matches");
+    if (nm == 2)
+        CHECK(m[0].pred == 0 && m[1].pred == 1, "greedy, swapped: t0-p0 then t1-p1");
+    free(m);
+}
+
+/* ---- the sweep against a brute-force all-pairs version on random pages ------------------ */
+typedef struct bf_pair {
+    int t, p;
+    int64_t inter, uni;
+} bf_pair;
+
+static int cmp_bf(const void *a, const void *b)
+{
+    const bf_pair *x = a, *y = b;
+    /* decreasing IoU, exact in long double (products below 2^64 for these small boxes) */
+    long double l = (long double)x->inter * y->uni, r = (long double)y->inter * x->uni;
+    if (l != r) return l > r ? -1 : 1;
+    if (x->t != y->t) return x->t < y->t ? -1 : 1;
+    return (x->p > y->p) - (x->p < y->p);
+}
+
+static unsigned long rng_state = 12345;
+static int rnd(int n)
+{
+    rng_state = rng_state * 6364136223846793005UL + 1442695040888963407UL;
+    return (int)((rng_state >> 33) % (unsigned long)n);
+}
+
+static void test_against_brute_force(void)
+{
+    for (int trial = 0; trial < 200; trial++) {
+        int nt = 1 + rnd(60), np = 1 + rnd(60);
+        lt_scored_line *t = calloc((size_t)nt, sizeof *t), *p = calloc((size_t)np, sizeof *p);
+        bf_pair *pairs = malloc((size_t)nt * (size_t)np * sizeof *pairs);
+        int *used_t = calloc((size_t)nt, sizeof *used_t), *used_p = calloc((size_t)np, 4);
+        if (!t || !p || !pairs || !used_t || !used_p) {
+            fail("out of memory");
+            return;
+        }
+        /* lines on a coarse grid so that overlaps, ties and containment are common */
+        for (int i = 0; i < nt; i++) {
+            int l = rnd(20) * 10, tp = rnd(30) * 8;
+            t[i].box = B(l, tp, l + 5 + rnd(12) * 10, tp + rnd(4) * 8 + rnd(3));
+            t[i].in_order = 1;
+        }
+        for (int i = 0; i < np; i++) {
+            if (rnd(2)) { /* a perturbed truth line */
+                lt_box b = t[rnd(nt)].box;
+                p[i].box = B(b.left + rnd(7) - 3, b.top + rnd(5) - 2, b.right + rnd(7) - 3,
+                             b.bottom + rnd(5));
+            } else {
+                int l = rnd(20) * 10, tp = rnd(30) * 8;
+                p[i].box = B(l, tp, l + 5 + rnd(12) * 10, tp + 1 + rnd(40));
+            }
+            if (p[i].box.right < p[i].box.left) p[i].box.right = p[i].box.left;
+            if (p[i].box.bottom < p[i].box.top) p[i].box.bottom = p[i].box.top;
+            p[i].in_order = 1;
+        }
+        int n = 0;
+        for (int i = 0; i < nt; i++)
+            for (int j = 0; j < np; j++) {
+                int64_t at = lt_box_area(&t[i].box), ap = lt_box_area(&p[j].box);
+                int64_t in = lt_box_intersection(&t[i].box, &p[j].box);
+                if (at && ap && in && 2 * in >= at + ap - in)
+                    pairs[n++] = (bf_pair){i, j, in, at + ap - in};
+            }
+        qsort(pairs, (size_t)n, sizeof *pairs, cmp_bf);
+        int want = 0, want75 = 0;
+        int *want_pred = malloc((size_t)nt * sizeof *want_pred);
+        for (int i = 0; i < nt; i++) want_pred[i] = -1;
+        for (int k = 0; k < n; k++) {
+            if (used_t[pairs[k].t] || used_p[pairs[k].p]) continue;
+            used_t[pairs[k].t] = used_p[pairs[k].p] = 1;
+            want_pred[pairs[k].t] = pairs[k].p;
+            want++;
+            want75 += 4 * pairs[k].inter >= 3 * pairs[k].uni;
+        }
+        /* splits and merges by all pairs, plain definition */
+        int want_splits = 0, want_merges = 0, want_cross = 0;
+        for (int i = 0; i < nt; i++) {
+            int c = 0;
+            for (int j = 0; j < np; j++) {
+                int64_t ap = lt_box_area(&p[j].box);
+                c += ap > 0 && 2 * lt_box_intersection(&t[i].box, &p[j].box) >= ap &&
+                     lt_box_area(&t[i].box) > 0;
+            }
+            want_splits += c >= 2;
+        }
+        for (int j = 0; j < np; j++) {
+            int c = 0, cross = 0;
+            for (int i = 0; i < nt; i++) {
+                int64_t at = lt_box_area(&t[i].box);
+                if (!(at > 0 && lt_box_area(&p[j].box) > 0 &&
+                      2 * lt_box_intersection(&t[i].box, &p[j].box) >= at))
+                    continue;
+                c++;
+                for (int k = 0; k < i; k++) {
+                    int64_t ak = lt_box_area(&t[k].box);
+                    if (!(ak > 0 && 2 * lt_box_intersection(&t[k].box, &p[j].box) >= ak))
+                        continue;
+                    const lt_box *a = &t[i].box, *b = &t[k].box;
+                    int ov = (a->bottom < b->bottom ? a->bottom : b->bottom) -
+                             (a->top > b->top ? a->top : b->top);
+                    int ha = a->bottom - a->top, hb = b->bottom - b->top;
+                    if (ov > 0 && 2 * ov >= (ha < hb ? ha : hb)) cross = 1;
+                }
+            }
+            want_merges += c >= 2;
+            want_cross += c >= 2 && cross;
+        }
+        lt_line_match *m;
+        int nm, sp, me, cr;
+        lt_error err = {0};
+        if (lt_match_lines(t, nt, p, np, &m, &nm, &err) ||
+            lt_count_splits_merges(t, nt, p, np, NULL, 0, &sp, &me, &cr, &err)) {
+            fail("brute force trial %d: %s", trial, err.message);
+            return;
+        }
+        int got75 = 0, same = nm == want;
+        for (int k = 0; k < nm; k++) {
+            got75 += m[k].strict;
+            if (want_pred[m[k].truth] != m[k].pred) same = 0;
+        }
+        CHECK(same, "trial %d: sweep matching differs from brute force (%d vs %d)", trial, nm,
+              want);
+        CHECK_INT(got75, want75, "brute force: matches at 0.75");
+        CHECK(sp == want_splits && me == want_merges && cr == want_cross,
+              "trial %d: splits/merges/cross %d %d %d, brute force %d %d %d", trial, sp, me, cr,
+              want_splits, want_merges, want_cross);
+        free(m);
+        free(want_pred);
+        free(t);
+        free(p);
+        free(pairs);
+        free(used_t);
+        free(used_p);
+    }
+}
+
+/* ---- reader ------------------------------------------------------------------------------ */
+static char *write_tmp(const char *name, const char *text)
+{
+    static char path[128];
+    snprintf(path, sizeof path, "%s/%s", tmpdir, name);
+    FILE *f = fopen(path, "wb");
+    if (!f) {
+        fail("cannot write %s", path);
+        return path;
+    }
+    fputs(text, f);
+    fclose(f);
+    return path;
+}
+
+#define LAYOUT_HEAD "{\"format\":\"lineate-layout-1\",\"source\":\"scan.tif\","
+#define GT_HEAD "{\"format\":\"lineseg-gt-1\",\"image\":\"leaf.png\",\"variant\":\"clean\","
+
+/* Expects `text` to be rejected with `code`, the file name and `why` in the message. */
+static void expect_reject(const char *name, const char *text, int code, const char *why)
+{
+    char *path = write_tmp(name, text);
+    lt_scored_page *pages = (lt_scored_page *)1;
+    int n = -1;
+    lt_error err = {0};
+    int rc = lt_scored_pages_read(path, &pages, &n, &err);
+    CHECK(rc == code, "%s: rc %d, want %d (%s)", name, rc, code, err.message);
+    CHECK(pages == NULL && n == 0, "%s: output not cleared on failure", name);
+    CHECK(strstr(err.message, path) != NULL, "%s: message lacks the file name: %s", name,
+          err.message);
+    CHECK(strstr(err.message, why) != NULL, "%s: message '%s' lacks '%s'", name, err.message,
+          why);
+    CHECK(strchr(err.message, '\n') == NULL, "%s: message has a newline", name);
+    lt_scored_pages_free(pages, n);
+}
+
+static void test_reader(void)
+{
+    const char *page1 = LAYOUT_HEAD "\"page\":1,\"width\":2000,\"height\":3000,"
+                                    "\"skew_deg\":-1.25,\"lines\":[{\"box\":[1,2,30,40]},"
+                                    "{\"box\":[5,50,60,70],\"block\":0}],\"blocks\":[]}";
+    const char *page2 = LAYOUT_HEAD "\"page\":2,\"width\":2000,\"height\":3000,"
+                                    "\"skew_deg\":0.5,\"lines\":[]}";
+    char text[2048];
+    snprintf(text, sizeof text, "%s\n%s\n", page1, page2); /* JSON Lines */
+    char *path = write_tmp("two.jsonl", text);
+    lt_scored_page *pg;
+    int n;
+    lt_error err = {0};
+    if (lt_scored_pages_read(path, &pg, &n, &err)) {
+        fail("JSON Lines: %s", err.message);
+    } else {
+        CHECK_INT(n, 2, "JSON Lines: pages");
+        if (n == 2) {
+            CHECK(pg[0].source && strcmp(pg[0].source, "scan.tif") == 0, "JSON Lines: source");
+            CHECK(pg[0].page == 1 && pg[1].page == 2, "JSON Lines: page numbers");
+            CHECK(pg[0].width == 2000 && pg[0].height == 3000, "JSON Lines: size");
+            CHECK(pg[0].has_skew && pg[0].skew_deg == -1.25, "JSON Lines: skew");
+            CHECK_INT(pg[0].nlines, 2, "JSON Lines: lines of page 1");
+            CHECK_INT(pg[1].nlines, 0, "JSON Lines: lines of page 2");
+            CHECK(pg[0].lines[1].box.left == 5 && pg[0].lines[1].box.top == 50 &&
+                      pg[0].lines[1].box.right == 60 && pg[0].lines[1].box.bottom == 70,
+                  "JSON Lines: second box");
+            CHECK(pg[0].lines[0].in_order == 1, "layout lines are in order by default");
+            CHECK(pg[0].variant == NULL && pg[0].format == LT_SCORED_LAYOUT,
+                  "layout: no variant");
+        }
+        lt_scored_pages_free(pg, n);
+    }
+
+    /* concatenated without a newline, pretty-printed ground truth, and an error record */
+    snprintf(text, sizeof text,
+             "%s%s\n{\n  \"format\": \"lineate-layout-1\", \"source\": \"scan.tif\",\n"
+             "  \"page\": 3, \"error\": \"cannot decode page 3\"\n}\n",
+             page1, page2);
+    path = write_tmp("three.json", text);
+    if (lt_scored_pages_read(path, &pg, &n, &err)) {
+        fail("concatenated: %s", err.message);
+    } else {
+        CHECK_INT(n, 3, "concatenated: pages");
+        if (n == 3) {
+            CHECK(pg[2].failed && pg[2].nlines == 0 && pg[2].page == 3,
+                  "error record: failed page 3 with no lines");
+            CHECK(pg[2].error && strstr(pg[2].error, "cannot decode"), "error record: text");
+            CHECK(!pg[0].failed && !pg[1].failed, "ordinary pages marked failed");
+        }
+        lt_scored_pages_free(pg, n);
+    }
+
+    path = write_tmp("leaf.gt.json",
+                     "\xEF\xBB\xBF{\n  \"format\": \"lineseg-gt-1\",\n  \"image\": \"leaf.png\",\n"
+                     "  \"variant\": \"degraded\", \"width\": 800, \"height\": 600,\n"
+                     "  \"skew_deg\": 2.5,\n  \"lines\": [\n"
+                     "    {\"id\": 0, \"box\": [10, 20, 300, 45], \"in_order\": true},\n"
+                     "    {\"id\": 1, \"box\": [760, 20, 780, 45], \"in_order\": false}\n"
+                     "  ],\n  \"blocks\": []\n}\n");
+    if (lt_scored_pages_read(path, &pg, &n, &err)) {
+        fail("ground truth: %s", err.message);
+    } else {
+        CHECK(n == 1 && pg[0].format == LT_SCORED_TRUTH, "ground truth: one truth page");
+        CHECK(pg[0].variant && strcmp(pg[0].variant, "degraded") == 0, "ground truth: variant");
+        CHECK(pg[0].source && strcmp(pg[0].source, "leaf.png") == 0, "ground truth: image");
+        CHECK(pg[0].nlines == 2 && pg[0].lines[0].in_order == 1 && pg[0].lines[1].in_order == 0,
+              "ground truth: in_order flags");
+        CHECK(pg[0].has_skew && pg[0].skew_deg == 2.5, "ground truth: skew");
+        lt_scored_pages_free(pg, n);
+    }
+    lt_scored_pages_free(NULL, 0); /* NULL-safe */
+
+    const char *size = "\"width\":100,\"height\":100,";
+    char bad[512];
+    expect_reject("empty.json", "", LT_EPARSE, "no JSON object");
+    expect_reject("blank.json", " \n\t\n", LT_EPARSE, "no JSON object");
+    expect_reject("text.json", "lines of text\n", LT_EPARSE, "not valid JSON");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,3", GT_HEAD, size);
+    expect_reject("truncated.json", bad, LT_EPARSE, "truncated");
+    snprintf(bad, sizeof bad, "%s\n%s%s\"lines\":[{\"box\":[1,2,3,4]}]} x", page1, GT_HEAD, size);
+    expect_reject("trailing.json", bad, LT_EPARSE, "line 2");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[9,2,3,4]}]}", GT_HEAD, size);
+    expect_reject("leftright.json", bad, LT_EPARSE, "right < left");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,9,3,4]}]}", GT_HEAD, size);
+    expect_reject("topbottom.json", bad, LT_EPARSE, "bottom < top");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,3]}]}", GT_HEAD, size);
+    expect_reject("three.gt.json", bad, LT_EPARSE, "4 numbers");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2.5,3,4]}]}", GT_HEAD, size);
+    expect_reject("float.gt.json", bad, LT_EPARSE, "not whole");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,\"3\",4]}]}", GT_HEAD, size);
+    expect_reject("string.gt.json", bad, LT_EPARSE, "not a number");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,1e30,4]}]}", GT_HEAD, size);
+    expect_reject("huge.gt.json", bad, LT_EPARSE, "out of range");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"quad\":[]}]}", GT_HEAD, size);
+    expect_reject("nobox.gt.json", bad, LT_EPARSE, "missing \"box\"");
+    snprintf(bad, sizeof bad, "%s%s\"blocks\":[]}", GT_HEAD, size);
+    expect_reject("nolines.gt.json", bad, LT_EPARSE, "missing \"lines\"");
+    snprintf(bad, sizeof bad, "%s\"width\":100,\"lines\":[]}", GT_HEAD);
+    expect_reject("noheight.gt.json", bad, LT_EPARSE, "missing \"height\"");
+    snprintf(bad, sizeof bad, "%s\"width\":100,\"height\":0,\"lines\":[]}", GT_HEAD);
+    expect_reject("zeroheight.gt.json", bad, LT_EPARSE, "\"height\"");
+    snprintf(bad, sizeof bad, "%s\"width\":100,\"height\":99999999999,\"lines\":[]}", GT_HEAD);
+    expect_reject("absurd.gt.json", bad, LT_EPARSE, "\"height\"");
+    expect_reject("noformat.json", "{\"width\":10,\"height\":10,\"lines\":[]}", LT_EPARSE,
+                  "missing \"format\"");
+    expect_reject("otherformat.json", "{\"format\":\"other-9\",\"lines\":[]}", LT_EPARSE,
+                  "unknown format");
+    expect_reject("array.json", "[1,2,3]", LT_EPARSE, "not a JSON object");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":{}}", GT_HEAD, size);
+    expect_reject("linesobj.gt.json", bad, LT_EPARSE, "not an array");
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,3,4],\"in_order\":1}]}", GT_HEAD,
+             size);
+    expect_reject("inorder.gt.json", bad, LT_EPARSE, "in_order");
+    snprintf(bad, sizeof bad, "%s%s\"skew_deg\":\"x\",\"lines\":[]}", GT_HEAD, size);
+    expect_reject("skew.gt.json", bad, LT_EPARSE, "skew_deg");
+    snprintf(bad, sizeof bad, "%s\"page\":0,%s\"lines\":[]}", LAYOUT_HEAD, size);
+    expect_reject("page0.json", bad, LT_EPARSE, "\"page\"");
+    /* the second page is broken: the message says which */
+    snprintf(bad, sizeof bad, "%s\n%s%s\"lines\":[{\"box\":[1,2,3,-4]}]}\n", page1, GT_HEAD,
+             size);
+    expect_reject("second.jsonl", bad, LT_EPARSE, "page 2: lines[0]");
+
+    /* files that cannot be read */
+    err = (lt_error){0};
+    char missing[128];
+    snprintf(missing, sizeof missing, "%s/none.json", tmpdir);
+    CHECK(lt_scored_pages_read(missing, &pg, &n, &err) == LT_EIO, "absent file: not LT_EIO");
+    CHECK(strstr(err.message, missing) != NULL, "absent file: message %s", err.message);
+    err = (lt_error){0};
+    CHECK(lt_scored_pages_read(tmpdir, &pg, &n, &err) == LT_EIO, "folder read as a file");
+    char *data;
+    size_t sz;
+    err = (lt_error){0};
+    path = write_tmp("big.json", "0123456789");
+    CHECK(lt_read_whole_file(path, 9, &data, &sz, &err) == LT_ELIMIT, "size cap: not LT_ELIMIT");
+    err = (lt_error){0};
+    if (lt_read_whole_file(path, 10, &data, &sz, &err) == 0) {
+        CHECK(sz == 10 && data[10] == '\0' && memcmp(data, "0123456789", 10) == 0,
+              "whole file: content");
+        free(data);
+    } else {
+        fail("whole file at the cap: %s", err.message);
+    }
+}
+
+/* Reader and scorer together on a ground-truth page and a prediction of it. */
+static void test_end_to_end(void)
+{
+    char *tpath = write_tmp("e2e.gt.json",
+                            GT_HEAD "\"width\":1000,\"height\":1000,\"skew_deg\":1.0,\"lines\":["
+                                    "{\"box\":[100,100,900,130],\"in_order\":true},"
+                                    "{\"box\":[100,140,900,170],\"in_order\":true},"
+                                    "{\"box\":[950,140,980,170],\"in_order\":false},"
+                                    "{\"box\":[100,180,900,210],\"in_order\":true}]}");
+    char tcopy[128];
+    snprintf(tcopy, sizeof tcopy, "%s", tpath);
+    char *ppath = write_tmp("e2e.json",
+                            LAYOUT_HEAD "\"page\":1,\"width\":1000,\"height\":1000,"
+                                        "\"skew_deg\":0.75,\"lines\":["
+                                        "{\"box\":[101,139,899,171]},{\"box\":[100,100,900,131]},"
+                                        "{\"box\":[100,180,500,210]},{\"box\":[500,180,900,210]},"
+                                        "{\"box\":[951,141,979,169]}]}");
+    lt_scored_page *tp, *pp;
+    int nt, np;
+    lt_error err = {0};
+    if (lt_scored_pages_read(tcopy, &tp, &nt, &err) ||
+        lt_scored_pages_read(ppath, &pp, &np, &err)) {
+        fail("end to end: %s", err.message);
+        return;
+    }
+    lt_page_score s;
+    if (!score(&tp[0], &pp[0], &s, "end to end")) {
+        /* lines 0, 1 and the margin number match; line 3 is split in halves (IoU 0.5 each:
+         * the lower pred index wins) */
+        CHECK_INT(s.matched_50, 4, "end to end: matched@0.5");
+        CHECK_INT(s.matched_75, 3, "end to end: matched@0.75");
+        CHECK_NEAR(s.precision_50, 4.0 / 5.0, 1e-15, "end to end: precision");
+        CHECK_NEAR(s.recall_50, 1.0, 0, "end to end: recall");
+        CHECK_INT(s.splits, 1, "end to end: splits");
+        CHECK_INT(s.order_pairs, 3, "end to end: order pairs (margin number left out)");
+        /* truth order 0 1 3 has pred ranks 1 0 2: one discordant pair of 3 */
+        CHECK_NEAR(s.tau, 1.0 / 3.0, 1e-15, "end to end: tau");
+        CHECK_NEAR(s.skew_error_deg, 0.25, 1e-12, "end to end: skew error");
+    }
+    lt_scored_pages_free(tp, nt);
+    lt_scored_pages_free(pp, np);
+}
+
+static void cleanup(void)
+{
+    static const char *const files[] = {
+        "two.jsonl", "three.json", "leaf.gt.json", "empty.json", "blank.json", "text.json",
+        "truncated.json", "trailing.json", "leftright.json", "topbottom.json", "three.gt.json",
+        "float.gt.json", "string.gt.json", "huge.gt.json", "nobox.gt.json", "nolines.gt.json",
+        "noheight.gt.json", "zeroheight.gt.json", "absurd.gt.json", "noformat.json",
+        "otherformat.json", "array.json", "linesobj.gt.json", "inorder.gt.json",
+        "skew.gt.json", "page0.json", "second.jsonl", "big.json", "e2e.gt.json", "e2e.json"};
+    char path[128];
+    for (size_t i = 0; i < sizeof files / sizeof *files; i++) {
+        snprintf(path, sizeof path, "%s/%s", tmpdir, files[i]);
+        unlink(path);
+    }
+    if (rmdir(tmpdir) != 0) fail("could not remove %s (a file left behind?)", tmpdir);
+}
+
+int main(void)
+{
+    const char *base = getenv("TMPDIR");
+    if (!base || !*base || strlen(base) > 40) base = "/tmp";
+    snprintf(tmpdir, sizeof tmpdir, "%s/lt_score_XXXXXX", base);
+    if (!mkdtemp(tmpdir)) {
+        fprintf(stderr, "SKIP: cannot make a temporary folder\n");
+        return 77;
+    }
+    test_iou();
+    test_prf();
+    test_identical();
+    test_missing_line();
+    test_split();
+    test_merges();
+    test_skewed_hulls();
+    test_order();
+    test_kendall();
+    test_skew();
+    test_greedy();
+    test_against_brute_force();
+    test_reader();
+    test_end_to_end();
+    cleanup();
+    if (failures) {
+        fprintf(stderr, "test_score: %d check%s failed\n", failures, failures == 1 ? "" : "s");
+        return 1;
+    }
+    printf("test_score: all checks passed\n");
+    return 0;
+}
