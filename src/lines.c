@@ -152,32 +152,74 @@ static int nearest_beside(const lt_components *c, const index_grid *g, int i, in
     return best;
 }
 
-static int cmp_link_x0(const void *pa, const void *pb)
+/* Coarse occupancy of the page by line bodies, with a summed-area table for counting the
+ * occupied cells of any rectangle in constant time. */
+typedef struct occupancy {
+    int cols, rows;
+    double cell_px;
+    int32_t *sum; /* (cols+1) x (rows+1) summed-area table */
+} occupancy;
+
+static int occupancy_build(const lt_components *c, const uint8_t *body, double cell_px,
+                           occupancy *o)
 {
-    const link *a = pa, *b = pb;
-    return (a->x0 > b->x0) - (a->x0 < b->x0);
+    int maxx = 1, maxy = 1;
+    for (int i = 0; i < c->count; i++) {
+        if (c->items[i].box.right > maxx) maxx = c->items[i].box.right;
+        if (c->items[i].box.bottom > maxy) maxy = c->items[i].box.bottom;
+    }
+    o->cell_px = cell_px;
+    o->cols = (int)(maxx / cell_px) + 1;
+    o->rows = (int)(maxy / cell_px) + 1;
+    const size_t stride = (size_t)o->cols + 1;
+    o->sum = calloc(stride * ((size_t)o->rows + 1), sizeof *o->sum);
+    if (!o->sum) return LT_ENOMEM;
+    for (int i = 0; i < c->count; i++) {
+        if (!body[i]) continue;
+        const lt_box *b = &c->items[i].box;
+        int x0 = (int)(b->left / cell_px), x1 = (int)((b->right - 1) / cell_px);
+        int y0 = (int)(b->top / cell_px), y1 = (int)((b->bottom - 1) / cell_px);
+        for (int y = y0; y <= y1; y++)
+            for (int x = x0; x <= x1; x++) o->sum[(size_t)(y + 1) * stride + x + 1] = 1;
+    }
+    for (int y = 1; y <= o->rows; y++)
+        for (int x = 1; x <= o->cols; x++)
+            o->sum[(size_t)y * stride + x] += o->sum[(size_t)(y - 1) * stride + x] +
+                                              o->sum[(size_t)y * stride + x - 1] -
+                                              o->sum[(size_t)(y - 1) * stride + x - 1];
+    return 0;
 }
 
-/* Marks the wide links that cross a gutter: a white strip at least min_width wide that the
- * gaps of at least `min_rows` links of different rows within reach_px above or below share. */
-static void find_gutter_links(link *wide, int n, double min_width, int min_rows,
-                              double reach_px, uint8_t *crosses)
+/* Occupied cells of the pixel rectangle [x0, x1) x [y0, y1), clipped to the page. */
+static int occupancy_count(const occupancy *o, double x0, double y0, double x1, double y1)
 {
-    qsort(wide, (size_t)n, sizeof *wide, cmp_link_x0);
-    for (int i = 0; i < n; i++) {
-        int shared = 0;
-        for (int j = 0; j < n; j++) {
-            if (j == i) continue;
-            if (wide[j].x0 >= wide[i].x1) break;
-            int lo = wide[i].x0 > wide[j].x0 ? wide[i].x0 : wide[j].x0;
-            int hi = wide[i].x1 < wide[j].x1 ? wide[i].x1 : wide[j].x1;
-            int rows_apart = wide[j].bottom <= wide[i].top || wide[j].top >= wide[i].bottom;
-            int near = wide[j].top < wide[i].bottom + reach_px &&
-                       wide[j].bottom > wide[i].top - reach_px;
-            if (hi - lo >= min_width && rows_apart && near) shared++;
-        }
-        crosses[i] = shared + 1 >= min_rows;
-    }
+    int cx0 = (int)ceil(x0 / o->cell_px), cx1 = (int)floor(x1 / o->cell_px);
+    int cy0 = (int)floor(y0 / o->cell_px), cy1 = (int)ceil(y1 / o->cell_px);
+    if (cx0 < 0) cx0 = 0;
+    if (cy0 < 0) cy0 = 0;
+    if (cx1 > o->cols) cx1 = o->cols;
+    if (cy1 > o->rows) cy1 = o->rows;
+    if (cx1 <= cx0 || cy1 <= cy0) return 0;
+    const size_t stride = (size_t)o->cols + 1;
+    return o->sum[(size_t)cy1 * stride + cx1] - o->sum[(size_t)cy0 * stride + cx1] -
+           o->sum[(size_t)cy1 * stride + cx0] + o->sum[(size_t)cy0 * stride + cx0];
+}
+
+/* A wide gap lies in a gutter when the white between the two components continues up and
+ * down through the neighbouring rows while those rows have text on both sides of it: word
+ * gaps of a paragraph do not line up, and a hanging list label has no text under it, but a
+ * column gutter or a table column has both. */
+static int in_gutter(const occupancy *o, const link *l, double th)
+{
+    const double reach = 2.5 * th, margin = 0.25 * th, side = 2 * th;
+    const double x0 = l->x0 + margin, x1 = l->x1 - margin;
+    if (occupancy_count(o, x0, l->top - reach, x1, l->bottom + reach) != 0) return 0;
+    const double above0 = l->top - reach, below1 = l->bottom + reach;
+    int both_above = occupancy_count(o, l->x0 - side, above0, l->x0, l->top) > 0 &&
+                     occupancy_count(o, l->x1, above0, l->x1 + side, l->top) > 0;
+    int both_below = occupancy_count(o, l->x0 - side, l->bottom, l->x0, below1) > 0 &&
+                     occupancy_count(o, l->x1, l->bottom, l->x1 + side, below1) > 0;
+    return both_above || both_below;
 }
 
 /* Is component k (a mark) attachable to line box b? Returns a distance (smaller is better)
@@ -349,11 +391,11 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     int *parent = malloc(((size_t)n + 1) * sizeof *parent);
     int *line_of = malloc(((size_t)n + 1) * sizeof *line_of);
     link *links = malloc(((size_t)2 * n + 1) * sizeof *links);
-    uint8_t *crosses = calloc((size_t)2 * n + 1, 1);
     index_grid g = {0};
+    occupancy occ = {0};
     lt_raw_lines *res = calloc(1, sizeof *res);
     int rc = 0;
-    if (!body || !mark || !parent || !line_of || !links || !crosses || !res) goto nomem;
+    if (!body || !mark || !parent || !line_of || !links || !res) goto nomem;
 
     /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
     const double mark_h = 0.5 * th; /* punctuation, dots, accents, dashes */
@@ -393,17 +435,11 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
                                                                        : c->items[b].box.bottom;
         }
     }
-    /* Wide links first: those sharing a gutter with other rows are not joined. */
-    int nwide = 0;
+    /* Links across a gutter are not joined. */
+    if (occupancy_build(c, body, fmax(1.0, 0.25 * th), &occ)) goto nomem;
     for (int i = 0; i < nlinks; i++)
-        if (links[i].x1 - links[i].x0 >= wide_gap) {
-            link t = links[nwide];
-            links[nwide++] = links[i];
-            links[i] = t;
-        }
-    find_gutter_links(links, nwide, 0.5 * th, 4, 10 * th, crosses);
-    for (int i = 0; i < nlinks; i++)
-        if (i >= nwide || !crosses[i]) unite(parent, links[i].a, links[i].b);
+        if (links[i].x1 - links[i].x0 < wide_gap || !in_gutter(&occ, &links[i], th))
+            unite(parent, links[i].a, links[i].b);
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th) || join_rows(c, body, parent, n, th)) goto nomem;
@@ -474,7 +510,7 @@ done:
     free(parent);
     free(line_of);
     free(links);
-    free(crosses);
+    free(occ.sum);
     *out = res;
     return rc;
 }
