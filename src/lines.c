@@ -228,7 +228,7 @@ static int in_gutter(const occupancy *o, const link *l, double th)
 static double mark_fit(const lt_component *k, const lt_box *b, double th, int speckle)
 {
     double cy = 0.5 * (k->box.top + k->box.bottom), cx = k->cx;
-    double reach = 1.5 * th;
+    double reach = 2.0 * th;
     if (cx < b->left - reach || cx > b->right + reach) return -1;
     if (cy < b->top - 0.6 * th || cy > b->bottom + (speckle ? 0.0 : 0.3 * th)) return -1;
     double mid = 0.5 * (b->top + b->bottom);
@@ -344,10 +344,10 @@ done:
     return rc;
 }
 
-/* Joins groups that stand side by side on one row with a gap of at most half a text height
- * once their marks are counted (leaders, punctuation between words). */
+/* Joins groups that stand side by side on one row, once their marks are counted (leaders,
+ * punctuation between words), with a gap of at most max_gap that is not in a gutter. */
 static int join_rows(const lt_components *c, const uint8_t *body, int *parent, int n,
-                     double th)
+                     double th, double max_gap, const occupancy *occ)
 {
     lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
     keyed *roots = malloc(((size_t)n + 1) * sizeof *roots);
@@ -364,7 +364,6 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
     for (int i = 0; i < n; i++)
         if (body[i] && find_root(parent, i) == i) roots[nr++] = (keyed){boxes[i].left, i};
     qsort(roots, (size_t)nr, sizeof *roots, cmp_keyed);
-    const double max_gap = 1.2 * th;
     for (int a = 0; a < nr; a++) {
         const lt_box *ba = &boxes[roots[a].index];
         for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
@@ -373,7 +372,11 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
             int top = ba->top > bb->top ? ba->top : bb->top;
             int bottom = ba->bottom < bb->bottom ? ba->bottom : bb->bottom;
             int hmin = box_h(ba) < box_h(bb) ? box_h(ba) : box_h(bb);
-            if (2 * (bottom - top) >= hmin) unite(parent, roots[a].index, roots[b].index);
+            if (2 * (bottom - top) < hmin) continue;
+            link l = {roots[a].index, roots[b].index, ba->right, bb->left,
+                      ba->top < bb->top ? ba->top : bb->top,
+                      ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
+            if (!in_gutter(occ, &l, th)) unite(parent, roots[a].index, roots[b].index);
         }
     }
     free(boxes);
@@ -442,7 +445,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
             unite(parent, links[i].a, links[i].b);
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
-    if (attach_marks(c, body, mark, parent, th) || join_rows(c, body, parent, n, th)) goto nomem;
+    if (attach_marks(c, body, mark, parent, th) || join_rows(c, body, parent, n, th, max_gap, &occ)) goto nomem;
 
     /* One raw line per group. */
     int nl = 0;
