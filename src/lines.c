@@ -222,17 +222,23 @@ static int in_gutter(const occupancy *o, const link *l, double th)
     return both_above || both_below;
 }
 
-/* Is component k (a mark) attachable to line box b? Returns a distance (smaller is better)
- * or -1. Marks sit above (accents, dots) or on the band of the line, horizontally within it
- * or just beyond its ends (final punctuation). */
-static double mark_fit(const lt_component *k, const lt_box *b, double th, int speckle)
+/* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
+ * (accents, dots) or on the band of the line, horizontally within it or beyond its ends by
+ * at most `reach_px` (final punctuation, leaders), not across a gutter. */
+static double mark_fit(const lt_component *k, const lt_box *b, double th, int speckle,
+                       double reach_px, const occupancy *occ)
 {
     double cy = 0.5 * (k->box.top + k->box.bottom), cx = k->cx;
-    double reach = 2.0 * th;
-    if (cx < b->left - reach || cx > b->right + reach) return -1;
+    if (cx < b->left - reach_px || cx > b->right + reach_px) return -1;
     if (cy < b->top - 0.6 * th || cy > b->bottom + (speckle ? 0.0 : 0.3 * th)) return -1;
-    double mid = 0.5 * (b->top + b->bottom);
-    return fabs(cy - mid);
+    if (k->box.left > b->right + th || k->box.right < b->left - th) {
+        int right = k->box.left > b->right;
+        link l = {0, 0, right ? b->right : k->box.right, right ? k->box.left : b->left,
+                  b->top < k->box.top ? b->top : k->box.top,
+                  b->bottom > k->box.bottom ? b->bottom : k->box.bottom};
+        if (in_gutter(occ, &l, th)) return -1;
+    }
+    return fabs(cy - 0.5 * (b->top + b->bottom));
 }
 
 static int cmp_line_pos(const void *pa, const void *pb)
@@ -276,7 +282,7 @@ static void group_boxes(const lt_components *c, const uint8_t *body, int *parent
  * height tall; each group is listed in the bands from one text height above its box to one
  * below. */
 static int attach_marks(const lt_components *c, const uint8_t *body, const uint8_t *mark,
-                        int *parent, double th)
+                        int *parent, double th, double reach_px, const occupancy *occ)
 {
     const int n = c->count;
     int maxy = 1, nmarks = 0;
@@ -324,7 +330,7 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
         int best = -1;
         double best_d = 1e300;
         for (int j = start[band]; j < start[band + 1]; j++) {
-            double d = mark_fit(mk, &boxes[members[j]], th, mark[i] == 2);
+            double d = mark_fit(mk, &boxes[members[j]], th, mark[i] == 2, reach_px, occ);
             if (d >= 0 && d < best_d) {
                 best_d = d;
                 best = members[j];
@@ -445,7 +451,9 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
             unite(parent, links[i].a, links[i].b);
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
-    if (attach_marks(c, body, mark, parent, th) || join_rows(c, body, parent, n, th, max_gap, &occ)) goto nomem;
+    if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
+        join_rows(c, body, parent, n, th, max_gap, &occ))
+        goto nomem;
 
     /* One raw line per group. */
     int nl = 0;
