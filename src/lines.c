@@ -382,7 +382,8 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
             link l = {roots[a].index, roots[b].index, ba->right, bb->left,
                       ba->top < bb->top ? ba->top : bb->top,
                       ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
-            if (!in_gutter(occ, &l, th)) unite(parent, roots[a].index, roots[b].index);
+            if (bb->left - ba->right < 1.5 * th || !in_gutter(occ, &l, th))
+                unite(parent, roots[a].index, roots[b].index);
         }
     }
     free(boxes);
