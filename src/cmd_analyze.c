@@ -5,6 +5,8 @@
 #include "lineate.h"
 
 #include <errno.h>
+#include <fcntl.h>
+#include <sys/stat.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -49,6 +51,32 @@ static int parse_number(const char *opt, const char *text, double lo, double hi,
     return 0;
 }
 
+/* The decoders under leptonica (libpng, libjpeg, libtiff) print their own warnings on
+ * standard error; while a file is opened or a page decoded, fd 2 points at /dev/null so that
+ * each failed input gets exactly one message, ours. quiet_begin returns the saved fd (or -1,
+ * and then nothing is redirected); quiet_end restores it. */
+static int quiet_begin(void)
+{
+    fflush(stderr);
+    int saved = dup(2);
+    if (saved < 0) return -1;
+    int nul = open("/dev/null", O_WRONLY);
+    if (nul < 0 || dup2(nul, 2) < 0) {
+        if (nul >= 0) close(nul);
+        close(saved);
+        return -1;
+    }
+    close(nul);
+    return saved;
+}
+
+static void quiet_end(int saved)
+{
+    if (saved < 0) return;
+    dup2(saved, 2);
+    close(saved);
+}
+
 /* Analyses every page of one input, writing each page's JSON line to `out`. Returns 0, or 1
  * when the input (or a page of it) failed, with a message on stderr; -1 on a write error. */
 static int analyze_input(const char *path, const lt_params *params, long max_pages, int pretty,
@@ -56,7 +84,10 @@ static int analyze_input(const char *path, const lt_params *params, long max_pag
 {
     lt_error err = {0};
     lt_source *src = NULL;
-    if (lt_source_open(path, max_pages, &src, &err)) {
+    int quiet = quiet_begin();
+    int open_rc = lt_source_open(path, max_pages, &src, &err);
+    quiet_end(quiet);
+    if (open_rc) {
         fprintf(stderr, "lineate: %s\n", err.message);
         return 1;
     }
@@ -66,8 +97,10 @@ static int analyze_input(const char *path, const lt_params *params, long max_pag
         lt_error perr = {0};
         lt_image *img = NULL;
         lt_layout *layout = NULL;
-        if (lt_source_read_page(src, i, params->max_pixels, &img, &perr) ||
-            lt_analyze(img, params, &layout, &perr)) {
+        quiet = quiet_begin();
+        int read_rc = lt_source_read_page(src, i, params->max_pixels, &img, &perr);
+        quiet_end(quiet);
+        if (read_rc || lt_analyze(img, params, &layout, &perr)) {
             if (strncmp(perr.message, path, strlen(path)) == 0 ||
                 strncmp(perr.message, "stdin", 5) == 0)
                 fprintf(stderr, "lineate: %s\n", perr.message);
@@ -162,7 +195,14 @@ int lt_cmd_analyze(int argc, char **argv)
     }
     FILE *out = stdout;
     char *tmp_path = NULL;
-    if (output && strcmp(output, "-") != 0) {
+    struct stat st;
+    if (output && strcmp(output, "-") != 0 && stat(output, &st) == 0 && !S_ISREG(st.st_mode)) {
+        out = fopen(output, "wb"); /* a device or pipe: written in place, never replaced */
+        if (!out) {
+            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno));
+            return LT_EXIT_OUTPUT;
+        }
+    } else if (output && strcmp(output, "-") != 0) {
         size_t n = strlen(output) + 32;
         tmp_path = malloc(n);
         if (!tmp_path) return LT_EXIT_OUTPUT;
@@ -189,6 +229,10 @@ int lt_cmd_analyze(int argc, char **argv)
             remove(tmp_path);
         }
         free(tmp_path);
+    } else if (out != stdout) {
+        if (fclose(out) != 0) write_failed = 1;
+        if (write_failed)
+            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno ? errno : EIO));
     } else if (write_failed) {
         fprintf(stderr, "lineate: standard output: %s\n", strerror(errno ? errno : EIO));
     }
