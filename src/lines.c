@@ -205,20 +205,30 @@ static int occupancy_count(const occupancy *o, double x0, double y0, double x1, 
            o->sum[(size_t)cy1 * stride + cx0] + o->sum[(size_t)cy0 * stride + cx0];
 }
 
-/* A wide gap lies in a gutter when the white between the two components continues up and
- * down through the neighbouring rows while those rows have text on both sides of it: word
- * gaps of a paragraph do not line up, and a hanging list label has no text under it, but a
- * column gutter or a table column has both. */
+/* A wide gap lies in a gutter when a white strip at least half a text height wide runs
+ * through it and up and down through the neighbouring rows, while those rows have text on
+ * both sides of the strip: word gaps of a paragraph do not line up, and a hanging list label
+ * has no text under it, but a column gutter or a table column has both. The strip may be
+ * narrower than the gap, as the ragged edges of the columns leave it. */
 static int in_gutter(const occupancy *o, const link *l, double th)
 {
-    const double reach = 2.5 * th, margin = 0.25 * th, side = 2 * th;
-    const double x0 = l->x0 + margin, x1 = l->x1 - margin;
-    if (occupancy_count(o, x0, l->top - reach, x1, l->bottom + reach) != 0) return 0;
-    const double above0 = l->top - reach, below1 = l->bottom + reach;
-    int both_above = occupancy_count(o, l->x0 - side, above0, l->x0, l->top) > 0 &&
-                     occupancy_count(o, l->x1, above0, l->x1 + side, l->top) > 0;
-    int both_below = occupancy_count(o, l->x0 - side, l->bottom, l->x0, below1) > 0 &&
-                     occupancy_count(o, l->x1, l->bottom, l->x1 + side, below1) > 0;
+    const double reach = 2.5 * th, side = 4 * th, cell = o->cell_px;
+    const double y0 = l->top - reach, y1 = l->bottom + reach;
+    const int min_cells = (int)ceil(1.0 * th / cell);
+    int best_lo = 0, best_len = 0, run = 0;
+    for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
+        run = occupancy_count(o, cx * cell, y0, (cx + 1) * cell, y1) == 0 ? run + 1 : 0;
+        if (run > best_len) {
+            best_len = run;
+            best_lo = cx - run + 1;
+        }
+    }
+    if (best_len < min_cells) return 0;
+    const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
+    int both_above = occupancy_count(o, x0 - side, y0, x0, l->top) > 0 &&
+                     occupancy_count(o, x1, y0, x1 + side, l->top) > 0;
+    int both_below = occupancy_count(o, x0 - side, l->bottom, x0, y1) > 0 &&
+                     occupancy_count(o, x1, l->bottom, x1 + side, y1) > 0;
     return both_above || both_below;
 }
 

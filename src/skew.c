@@ -87,20 +87,20 @@ static int cells_from_grid(const grid *g, cells *out)
 
 /* Sharpness of the projection at angle_deg: sum of squared differences of adjacent bins of height bin_px of the
  * ink rotated by -angle_deg. `profile` has room for nbins bins. */
-static double sharpness(const cells *c, double angle_deg, double bin_px, float *profile,
-                        int nbins)
+static double sharpness(const cells *c, double angle_deg, double bin_px, int interpolate,
+                        float *profile, int nbins)
 {
     const double a = angle_deg * LT_PI / 180.0;
     const float s = (float)(sin(a) / bin_px), co = (float)(cos(a) / bin_px);
     const float offset = (float)(nbins / 2);
     memset(profile, 0, (size_t)nbins * sizeof *profile);
-    /* Each cell is shared linearly between its two nearest bins, so that the criterion
-     * varies smoothly with the angle instead of in steps of one bin. */
+    /* With `interpolate`, each cell is shared linearly between its two nearest bins, so that
+     * the criterion varies smoothly with the angle instead of in steps of one bin. */
     for (int i = 0; i < c->count; i++) {
         const cell *p = &c->items[i];
         float pos = p->x * s + p->y * co + offset;
         int b = (int)pos;
-        float frac = pos - (float)b;
+        float frac = interpolate ? pos - (float)b : 0.0f;
         profile[b] += p->weight * (1.0f - frac);
         profile[b + 1] += p->weight * frac;
     }
@@ -112,14 +112,38 @@ static double sharpness(const cells *c, double angle_deg, double bin_px, float *
     return sum;
 }
 
+/* Share of the profile's bins, within the central 98% of its mass, that are nearly empty
+ * (under 15% of the mean bin): the white between text lines. Structureless ink (noise,
+ * halftone) has none, whatever its projection's sharpness. `profile` holds the last profile
+ * computed by sharpness(). */
+static double gap_fraction(const float *profile, int nbins)
+{
+    double total = 0;
+    for (int b = 0; b < nbins; b++) total += profile[b];
+    if (total <= 0) return 0;
+    int first = 0, last = nbins - 1;
+    double acc = 0;
+    while (first < nbins && (acc += profile[first]) < 0.01 * total) first++;
+    acc = 0;
+    while (last > first && (acc += profile[last]) < 0.01 * total) last--;
+    const int n = last - first + 1;
+    if (n < 8) return 0;
+    double mean = 0;
+    for (int b = first; b <= last; b++) mean += profile[b];
+    mean /= n;
+    int gaps = 0;
+    for (int b = first; b <= last; b++) gaps += profile[b] < 0.15 * mean;
+    return (double)gaps / n;
+}
+
 /* Best angle in [lo, hi] at `step` (index of the maximum in *best), the criterion of every
  * angle in crit[] (room for the number of steps). */
 static int sweep(const cells *c, double lo, double hi, double step, double bin_px,
-                 float *profile, int nbins, double *crit)
+                 int interpolate, float *profile, int nbins, double *crit)
 {
     int n = (int)floor((hi - lo) / step + 0.5) + 1, best = 0;
     for (int i = 0; i < n; i++) {
-        crit[i] = sharpness(c, lo + i * step, bin_px, profile, nbins);
+        crit[i] = sharpness(c, lo + i * step, bin_px, interpolate, profile, nbins);
         if (crit[i] > crit[best]) best = i;
     }
     return best;
@@ -153,7 +177,7 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     if (c8.count < 8) goto done; /* blank page: no evidence */
 
     /* 1. Coarse sweep over the whole range; confidence from how far the peak stands out. */
-    int best = sweep(&c8, -range_deg, range_deg, coarse_step, 8, profile, nbins, crit);
+    int best = sweep(&c8, -range_deg, range_deg, coarse_step, 8, 1, profile, nbins, crit);
     double angle = -range_deg + best * coarse_step;
     memcpy(sorted, crit, (size_t)coarse_n * sizeof *sorted);
     double peak = crit[best], typical = lt_median(sorted, coarse_n);
@@ -169,7 +193,7 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
         double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;
         step = stages[s].step_deg;
         int n = (int)floor((hi - lo) / step + 0.5) + 1;
-        int b = sweep(stages[s].c, lo, hi, step, stages[s].bin_px, profile, nbins, crit);
+        int b = sweep(stages[s].c, lo, hi, step, stages[s].bin_px, 1, profile, nbins, crit);
         angle = lo + b * step;
         prev = b > 0 ? crit[b - 1] : crit[b];
         next = b < n - 1 ? crit[b + 1] : crit[b];
@@ -181,6 +205,10 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
         double shift = 0.5 * (prev - next) / denom;
         if (fabs(shift) <= 1) angle += shift * step;
     }
+    /* A sharp projection counts as evidence only when it shows white between lines. */
+    sharpness(&c2, angle, 2, 1, profile, nbins);
+    double gaps = gap_fraction(profile, nbins);
+    confidence *= gaps >= 0.25 ? 1.0 : gaps / 0.25;
     if (confidence >= min_confidence) {
         out->angle_deg = angle;
         out->confidence = confidence;

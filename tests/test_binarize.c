@@ -1,0 +1,273 @@
+/* test_binarize.c — checks lt_binarize against the published Sauvola & Pietikäinen (2000)
+ * threshold T = m * (1 + k * (s / R - 1)): exact results on built pages, a worked example done
+ * by hand, and a naive per-pixel reference (written here, independently) on random images.
+ * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
+#include "testutil.h"
+
+/* Naive reference: for every pixel, the mean m and standard deviation s of the window x window
+ * neighbourhood clipped to the image, straight from the definition (integer sums, so m and the
+ * variance are exact rationals), then T. The neighbourhood of an odd window w is the pixels at
+ * most w/2 away in x and in y. Result per pixel: 1 ink (g < T), 0 paper (g > T), 2 a tie
+ * (|g - T| within rounding, s > 0), which either answer satisfies. half_px = window / 2. */
+static void naive_sauvola(const lt_image *g, int half_px, double k, double r, uint8_t *out)
+{
+    const int w = g->width, h = g->height;
+    for (int y = 0; y < h; y++)
+        for (int x = 0; x < w; x++) {
+            int64_t sum = 0, sumsq = 0, n = 0;
+            for (int v = y - half_px; v <= y + half_px; v++) {
+                if (v < 0 || v >= h) continue;
+                for (int u = x - half_px; u <= x + half_px; u++) {
+                    if (u < 0 || u >= w) continue;
+                    int64_t p = g->pixels[(size_t)v * w + u];
+                    sum += p;
+                    sumsq += p * p;
+                    n++;
+                }
+            }
+            const int64_t var_num = n * sumsq - sum * sum; /* n^2 * variance, exact */
+            const int gray = g->pixels[(size_t)y * w + x];
+            if (var_num == 0) {
+                /* Flat window: g = m, s = 0, T = m (1 - k) < g unless g = 0 = T, a pixel
+                 * exactly at the threshold, which lineate counts as ink (an all-black window
+                 * is ink, not paper). */
+                out[(size_t)y * w + x] = gray == 0 || k == 0;
+                continue;
+            }
+            double m = (double)sum / n;
+            double s = sqrt((double)var_num) / n;
+            double t = m * (1 + k * (s / r - 1));
+            out[(size_t)y * w + x] = fabs(gray - t) <= 1e-9 * (1 + t) ? 2 : gray < t;
+        }
+}
+
+static lt_image *binarize(const lt_image *gray, int window, double k, double r, const char *what)
+{
+    lt_error err = {0};
+    lt_image *ink = NULL;
+    int rc = lt_binarize(gray, window, k, r, &ink, &err);
+    if (rc || !ink) {
+        tu_fail("%s: lt_binarize failed (%d): %s", what, rc, err.message);
+        return NULL;
+    }
+    CHECK(ink->kind == LT_IMAGE_INK, "%s: result kind %d, want LT_IMAGE_INK", what, ink->kind);
+    CHECK(ink->width == gray->width && ink->height == gray->height, "%s: size %dx%d, want %dx%d",
+          what, ink->width, ink->height, gray->width, gray->height);
+    return ink;
+}
+
+/* Uniform pages: white has no ink at all; pure black is all ink. For white, s = 0 and
+ * T = 255 (1 - k) < 255. For black, m = s = 0 so T = 0 = g: the pixel is at the threshold, and
+ * lineate counts ink at the threshold as ink (the mean of an all-black window is black). */
+static void test_uniform(void)
+{
+    const int windows[] = {1, 3, 15, 51, 201};
+    for (size_t i = 0; i < sizeof windows / sizeof windows[0]; i++) {
+        lt_image *white = tu_image(120, 90, LT_IMAGE_GRAY, 255);
+        lt_image *black = tu_image(120, 90, LT_IMAGE_GRAY, 0);
+        lt_image *a = binarize(white, windows[i], 0.34, 128, "uniform white");
+        lt_image *b = binarize(black, windows[i], 0.34, 128, "uniform black");
+        if (a) CHECK_INT(tu_count_ink(a), 0, "uniform white, window %d: ink pixels", windows[i]);
+        if (b)
+            CHECK_INT(tu_count_ink(b), 120L * 90, "uniform black, window %d: ink pixels",
+                      windows[i]);
+        /* Uniform mid gray: s = 0, T = m (1 - k) < m = g, so paper for any k > 0. */
+        lt_image *mid = tu_image(120, 90, LT_IMAGE_GRAY, 128);
+        lt_image *c = binarize(mid, windows[i], 0.34, 128, "uniform gray");
+        if (c) CHECK_INT(tu_count_ink(c), 0, "uniform gray 128, window %d: ink", windows[i]);
+        lt_image_free(white);
+        lt_image_free(black);
+        lt_image_free(mid);
+        lt_image_free(a);
+        lt_image_free(b);
+        lt_image_free(c);
+    }
+}
+
+/* A dark square on paper, with a window larger than the square: ink is exactly the square.
+ * Worked out from the formula for the 20 x 20 square of gray 30 on paper 220 at [40, 60) of a
+ * 100 x 100 page and a 41 px window: every square pixel's window holds the whole square,
+ * p = 400/1681 dark, m = 220 - 190 p = 174.8, s = 190 sqrt(p (1 - p)) = 80.9,
+ * T = 174.8 (1 + 0.34 (80.9/128 - 1)) = 152.9 > 30: ink. A paper pixel (g = 220) has
+ * T <= m (1 + k (s/R - 1)) < m <= 220 since s < R: paper. */
+static void test_square(void)
+{
+    struct {
+        int ink_gray, paper_gray, window;
+        double k;
+    } cases[] = {{30, 220, 41, 0.34}, {0, 255, 41, 0.34}, {0, 255, 63, 0.5}, {60, 200, 25, 0.2}};
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        lt_image *g = tu_image(100, 100, LT_IMAGE_GRAY, cases[i].paper_gray);
+        tu_fill(g, 40, 40, 60, 60, cases[i].ink_gray);
+        g->dpi = 150;
+        lt_image *ink = binarize(g, cases[i].window, cases[i].k, 128, "square");
+        if (ink) {
+            long wrong = 0;
+            for (int y = 0; y < 100; y++)
+                for (int x = 0; x < 100; x++) {
+                    int want = x >= 40 && x < 60 && y >= 40 && y < 60;
+                    wrong += ink->pixels[y * 100 + x] != want;
+                }
+            CHECK_INT(wrong, 0, "square %d on %d, window %d: pixels differing from the square",
+                      cases[i].ink_gray, cases[i].paper_gray, cases[i].window);
+            CHECK_NEAR(ink->dpi, 150, 0, "square: dpi carried over");
+        }
+        lt_image_free(g);
+        lt_image_free(ink);
+    }
+}
+
+/* Worked example by hand (k = 0.5, R = 128, window 3): a pixel of gray c amid eight of 200.
+ * c = 115: sum = 1715, m = 190.5556; sum of squares = 333225, E[g^2] = 37025,
+ *   var = 37025 - 190.5556^2 = 713.58, s = 26.713, s/R = 0.20870,
+ *   T = 190.5556 * (1 + 0.5 * (0.20870 - 1)) = 115.162 > 115: ink.
+ * c = 116: m = 190.6667, var = 696.889, s = 26.399, T = 114.995 < 116: paper.
+ * The corner pixels (gray 200) see a clipped 2 x 2 window {200, 200, 200, c}: for c = 115,
+ * m = 178.75, var = 1354.69, s = 36.81, T = 178.75 * 0.64378 = 115.07 < 200: paper. */
+static void test_worked_example(void)
+{
+    for (int c = 115; c <= 116; c++) {
+        lt_image *g = tu_image(3, 3, LT_IMAGE_GRAY, 200);
+        g->pixels[4] = (uint8_t)c;
+        lt_image *ink = binarize(g, 3, 0.5, 128, "worked example");
+        if (ink) {
+            CHECK_INT(ink->pixels[4], c == 115, "worked example: centre %d ink", c);
+            CHECK_INT(tu_count_ink(ink), c == 115, "worked example: ink pixels (centre %d)", c);
+        }
+        lt_image_free(g);
+        lt_image_free(ink);
+    }
+}
+
+/* Random pages (fixed seeds) against the naive reference, every pixel. Two kinds: uniform
+ * noise, and flat patches with noise and black areas (so that windows with s = 0, all-black
+ * windows and sharp edges all occur). Even windows: lt_binarize uses the odd neighbourhood
+ * of side window + 1 (pixels at most window/2 away), the only centred choice; the reference
+ * is given the same half width. */
+static void test_against_naive(void)
+{
+    const int windows[] = {1, 2, 3, 4, 5, 7, 8, 15, 16, 31, 60, 61, 150};
+    const double ks[] = {0.2, 0.34, 0.5};
+    const double rs[] = {128, 64};
+    const int sizes[][2] = {{61, 47}, {33, 70}};
+    long ties = 0, compared = 0;
+    for (int kind = 0; kind < 2; kind++)
+        for (size_t sz = 0; sz < 2; sz++) {
+            const int w = sizes[sz][0], h = sizes[sz][1];
+            tu_rng rng = {1000 + 10 * (uint64_t)kind + sz};
+            lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, 0);
+            if (kind == 0) {
+                for (int i = 0; i < w * h; i++) g->pixels[i] = (uint8_t)tu_range(&rng, 0, 255);
+            } else {
+                tu_fill(g, 0, 0, w, h, 230);
+                for (int b = 0; b < 12; b++) {
+                    int x0 = tu_range(&rng, -5, w - 1), y0 = tu_range(&rng, -5, h - 1);
+                    int v = b % 4 == 0 ? 0 : tu_range(&rng, 0, 255);
+                    tu_fill(g, x0, y0, x0 + tu_range(&rng, 2, 25), y0 + tu_range(&rng, 2, 25),
+                            v);
+                }
+                for (int i = 0; i < w * h / 20; i++)
+                    g->pixels[tu_range(&rng, 0, w * h - 1)] = (uint8_t)tu_range(&rng, 0, 255);
+            }
+            uint8_t *want = malloc((size_t)w * h);
+            if (!want) tu_die("out of memory");
+            for (size_t wi = 0; wi < sizeof windows / sizeof windows[0]; wi++)
+                for (size_t ki = 0; ki < 3; ki++)
+                    for (size_t ri = 0; ri < 2; ri++) {
+                        const int win = windows[wi];
+                        naive_sauvola(g, win / 2, ks[ki], rs[ri], want);
+                        lt_image *ink = binarize(g, win, ks[ki], rs[ri], "random");
+                        if (!ink) continue;
+                        long wrong = 0, first = -1, inked = 0;
+                        for (int i = 0; i < w * h; i++) {
+                            compared++;
+                            if (want[i] == 2) {
+                                ties++;
+                                continue;
+                            }
+                            inked += want[i];
+                            if (ink->pixels[i] != want[i]) {
+                                if (first < 0) first = i;
+                                wrong++;
+                            }
+                        }
+                        CHECK(wrong == 0,
+                              "random kind %d %dx%d, window %d, k %.2f, R %.0f: %ld pixels "
+                              "differ from the naive Sauvola reference (first at x %ld y %ld)",
+                              kind, w, h, win, ks[ki], rs[ri], wrong, first % w, first / w);
+                        /* The reference must see both classes, or the comparison is empty. */
+                        if (win > 1)
+                            CHECK(inked > 0 && inked < w * h,
+                                  "random kind %d window %d: reference has %ld ink pixels",
+                                  kind, win, inked);
+                        lt_image_free(ink);
+                    }
+            free(want);
+            lt_image_free(g);
+        }
+    /* With s > 0 a tie needs T to be an exact integer: this should (nearly) never happen. */
+    printf("naive comparison: %ld pixels, %ld near-ties (either answer accepted)\n", compared,
+           ties);
+    CHECK(ties * 10000 < compared, "naive comparison: %ld near-ties of %ld", ties, compared);
+}
+
+/* Window 1: m = g and s = 0, so T = g (1 - k): only black pixels (g = 0 = T, at the threshold)
+ * are ink. */
+static void test_window_one(void)
+{
+    tu_rng rng = {77};
+    lt_image *g = tu_image(50, 40, LT_IMAGE_GRAY, 0);
+    for (int i = 0; i < 2000; i++)
+        g->pixels[i] = (uint8_t)(tu_range(&rng, 0, 3) ? tu_range(&rng, 1, 255) : 0);
+    lt_image *ink = binarize(g, 1, 0.34, 128, "window 1");
+    if (ink) {
+        long wrong = 0;
+        for (int i = 0; i < 2000; i++) wrong += ink->pixels[i] != (g->pixels[i] == 0);
+        CHECK_INT(wrong, 0, "window 1: pixels where ink != (gray == 0)");
+    }
+    lt_image_free(g);
+    lt_image_free(ink);
+}
+
+/* Bad arguments: LT_EINVAL, no image, a message. */
+static void test_bad_arguments(void)
+{
+    lt_image *g = tu_image(10, 10, LT_IMAGE_GRAY, 128);
+    lt_image *inkimg = tu_image(10, 10, LT_IMAGE_INK, 0);
+    struct {
+        const lt_image *img;
+        int window;
+        double k, r;
+        const char *what;
+    } cases[] = {
+        {NULL, 15, 0.34, 128, "NULL image"},     {inkimg, 15, 0.34, 128, "ink image as input"},
+        {g, 0, 0.34, 128, "window 0"},           {g, -3, 0.34, 128, "negative window"},
+        {g, 15, 0.34, 0, "R = 0"},               {g, 15, 0.34, -128, "negative R"},
+        {g, 15, -0.1, 128, "negative k"},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        lt_error err = {0};
+        lt_image *out = (lt_image *)&err; /* must be reset to NULL */
+        int rc = lt_binarize(cases[i].img, cases[i].window, cases[i].k, cases[i].r, &out, &err);
+        CHECK_INT(rc, LT_EINVAL, "bad arguments (%s): return code", cases[i].what);
+        CHECK_INT(err.code, LT_EINVAL, "bad arguments (%s): error code", cases[i].what);
+        CHECK(err.message[0] != 0, "bad arguments (%s): no message", cases[i].what);
+        CHECK(out == NULL, "bad arguments (%s): output not NULL", cases[i].what);
+        if (out != NULL && out != (lt_image *)&err) lt_image_free(out);
+    }
+    lt_image_free(g);
+    lt_image_free(inkimg);
+}
+
+int main(void)
+{
+    double t0 = tu_now_s();
+    test_uniform();
+    test_square();
+    test_worked_example();
+    test_window_one();
+    test_against_naive();
+    test_bad_arguments();
+    printf("time %.2f s\n", tu_now_s() - t0);
+    return tu_summary("test_binarize");
+}

@@ -1,0 +1,228 @@
+/* test_blocks.c — checks lt_xy_cut (recursive XY-cut, Nagy & Seth 1984) and lt_reading_order
+ * on text lines built here: one column, two columns under a spanning title, a page header
+ * and footer, three columns, and columns followed by a full-width paragraph. The expected
+ * orders are the ones a reader of such a page follows (title, each column top to bottom, left
+ * to right, then what spans below). Lines are handed over in a shuffled order (fixed seed), so
+ * that no order can come out right by accident.
+ * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
+#include "testutil.h"
+
+#define TH 20      /* text height (x-height) of the page, px */
+#define ASC 29     /* line box top above the baseline */
+#define DESC 8     /* line box bottom below the baseline */
+#define PITCH 48   /* baseline to baseline: 2.4 text heights */
+#define MAX_LINES 200
+
+/* A page under construction: lines in reading order, each with the block it belongs to. */
+typedef struct page {
+    lt_raw_line lines[MAX_LINES];
+    int block[MAX_LINES];
+    int n, nblocks;
+} page;
+
+static void add_line(page *p, int left, int right, int baseline)
+{
+    if (p->n >= MAX_LINES) tu_die("too many lines");
+    lt_raw_line *l = &p->lines[p->n];
+    memset(l, 0, sizeof *l);
+    l->box = tu_box(left, baseline - ASC, right, baseline + DESC);
+    l->baseline_y = baseline;
+    l->xheight_px = TH;
+    l->ncomponents = (right - left) / 12;
+    p->block[p->n++] = p->nblocks;
+}
+
+/* A block of `count` lines at left..right from baseline `first`, ragged right (fixed seed).
+ * Returns the baseline after the block. */
+static int add_block(page *p, tu_rng *r, int left, int right, int first, int count)
+{
+    for (int i = 0; i < count; i++) {
+        int end = i == count - 1 ? right - tu_range(r, 100, (right - left) / 2)
+                                 : right - tu_range(r, 0, 40);
+        add_line(p, left, end, first + i * PITCH);
+    }
+    p->nblocks++;
+    return first + count * PITCH;
+}
+
+/* Runs XY-cut and reading order on the page's lines in a shuffled order and checks the
+ * reading order and the blocks against the page's. */
+static void check_page(const page *p, uint64_t seed, const char *what)
+{
+    /* Shuffle (Fisher-Yates): raw[k] = p->lines[perm[k]]. */
+    int perm[MAX_LINES];
+    for (int i = 0; i < p->n; i++) perm[i] = i;
+    tu_rng r = {seed};
+    for (int i = p->n - 1; i > 0; i--) {
+        int j = tu_range(&r, 0, i), t = perm[i];
+        perm[i] = perm[j];
+        perm[j] = t;
+    }
+    lt_raw_lines raw = {malloc((size_t)p->n * sizeof(lt_raw_line)), p->n};
+    if (!raw.items) tu_die("out of memory");
+    for (int k = 0; k < p->n; k++) raw.items[k] = p->lines[perm[k]];
+    lt_params prm;
+    lt_params_default(&prm);
+    lt_error err = {0};
+    lt_cut_node *root = NULL;
+    if (lt_xy_cut(&raw, TH, &prm, &root, &err)) {
+        tu_fail("%s: lt_xy_cut: %s", what, err.message);
+        free(raw.items);
+        return;
+    }
+    int order[MAX_LINES + 1], block_of[MAX_LINES + 1];
+    int nb = lt_reading_order(root, p->n, order, block_of);
+    CHECK_INT(nb, p->nblocks, "%s: number of blocks", what);
+    if (nb >= 0) {
+        int wrong = 0;
+        char got[1024] = "", *g = got;
+        for (int i = 0; i < p->n; i++) {
+            int line = perm[order[i]]; /* page line shown at reading position i */
+            if (g < got + sizeof got - 8)
+                g += snprintf(g, (size_t)(got + sizeof got - g), " %d", line);
+            wrong += line != i;
+            CHECK_INT(block_of[i], p->block[i], "%s: block of reading position %d", what, i);
+        }
+        CHECK(wrong == 0, "%s: %d lines out of reading order; got order%s", what, wrong, got);
+    }
+    /* A wrong line count is an error. */
+    CHECK_INT(lt_reading_order(root, p->n + 1, order, block_of), LT_EINVAL,
+              "%s: reading order with a wrong line count", what);
+    lt_cut_node_free(root);
+    free(raw.items);
+}
+
+/* One column: two paragraphs (a blank line between them: 59 px of white, more than the
+ * 1.2 text heights of block_min_gap; inside a paragraph 11 px). Top to bottom. */
+static void test_one_column(void)
+{
+    page p = {0};
+    tu_rng r = {1};
+    int y = add_block(&p, &r, 150, 1400, 200, 7);
+    add_block(&p, &r, 150, 1400, y + PITCH, 9);
+    check_page(&p, 11, "one column");
+    /* A single line, and a page of one block. */
+    page one = {0};
+    add_block(&one, &r, 150, 1400, 200, 1);
+    check_page(&one, 12, "single line");
+    page block = {0};
+    add_block(&block, &r, 150, 1400, 200, 20);
+    check_page(&block, 13, "one block of 20 lines");
+}
+
+/* Two columns (gutter 3 text heights, more than column_min_gap 1.5) under a title that spans
+ * both: title, column 1 top to bottom, column 2 top to bottom. Columns of unequal length. */
+static void test_two_columns(void)
+{
+    page p = {0};
+    tu_rng r = {2};
+    add_line(&p, 400, 1300, 120);
+    p.nblocks++;
+    add_block(&p, &r, 150, 760, 250, 12);
+    add_block(&p, &r, 820, 1430, 250, 8);
+    check_page(&p, 21, "two columns and a title");
+}
+
+/* A running head above the body (short, over the right column) and a page number below it
+ * (centred, over the gutter), around two columns: head, column 1, column 2, page number. */
+static void test_header_footer(void)
+{
+    page p = {0};
+    tu_rng r = {3};
+    add_line(&p, 1100, 1430, 90); /* running head */
+    p.nblocks++;
+    add_block(&p, &r, 150, 760, 250, 14);
+    add_block(&p, &r, 820, 1430, 250, 14);
+    add_line(&p, 770, 810, 250 + 15 * PITCH); /* page number */
+    p.nblocks++;
+    check_page(&p, 31, "header and footer");
+    /* The same with the page number at the outer margin (not over the gutter), so that a
+     * vertical cut through the whole page exists too: the head and foot must still come
+     * first and last. */
+    page q = {0};
+    add_line(&q, 1100, 1430, 90);
+    q.nblocks++;
+    add_block(&q, &r, 150, 760, 250, 14);
+    add_block(&q, &r, 820, 1430, 250, 13);
+    add_line(&q, 1380, 1430, 250 + 15 * PITCH);
+    q.nblocks++;
+    check_page(&q, 32, "header and footer at the margin");
+}
+
+/* Three columns under a title: title, column 1, column 2, column 3. */
+static void test_three_columns(void)
+{
+    page p = {0};
+    tu_rng r = {4};
+    add_line(&p, 300, 1500, 110);
+    p.nblocks++;
+    add_block(&p, &r, 150, 600, 240, 12);
+    add_block(&p, &r, 660, 1110, 240, 12);
+    add_block(&p, &r, 1170, 1620, 240, 9);
+    check_page(&p, 41, "three columns");
+    /* The third column with two paragraphs: its blocks follow each other. */
+    page q = {0};
+    add_line(&q, 300, 1500, 110);
+    q.nblocks++;
+    add_block(&q, &r, 150, 600, 240, 12);
+    add_block(&q, &r, 660, 1110, 240, 12);
+    int y = add_block(&q, &r, 1170, 1620, 240, 5);
+    add_block(&q, &r, 1170, 1620, y + PITCH, 6);
+    check_page(&q, 42, "three columns, two paragraphs in the third");
+}
+
+/* Title, two columns, then a full-width paragraph below both: the paragraph comes after
+ * column 2, not between the columns. */
+static void test_columns_then_paragraph(void)
+{
+    page p = {0};
+    tu_rng r = {5};
+    add_line(&p, 400, 1300, 120);
+    p.nblocks++;
+    add_block(&p, &r, 150, 760, 250, 10);
+    add_block(&p, &r, 820, 1430, 250, 10);
+    add_block(&p, &r, 150, 1430, 250 + 11 * PITCH, 4);
+    check_page(&p, 51, "columns then a full-width paragraph");
+}
+
+/* Two pieces of one row closer than a gutter (a short gap, 1 text height) stay one block,
+ * read left to right; the next row follows. */
+static void test_row_pieces(void)
+{
+    page p = {0};
+    add_line(&p, 150, 500, 200);
+    add_line(&p, 520, 900, 200);
+    add_line(&p, 150, 880, 200 + PITCH);
+    add_line(&p, 150, 300, 200 + 2 * PITCH);
+    add_line(&p, 320, 890, 200 + 2 * PITCH);
+    p.nblocks = 1;
+    check_page(&p, 61, "row pieces");
+}
+
+/* No lines: no tree, no blocks. */
+static void test_empty(void)
+{
+    lt_raw_lines raw = {NULL, 0};
+    lt_params prm;
+    lt_params_default(&prm);
+    lt_error err = {0};
+    lt_cut_node *root = (lt_cut_node *)&err;
+    CHECK_INT(lt_xy_cut(&raw, TH, &prm, &root, &err), 0, "empty page: lt_xy_cut");
+    CHECK(root == NULL, "empty page: tree not NULL");
+    int order[1], block_of[1];
+    CHECK_INT(lt_reading_order(NULL, 0, order, block_of), 0, "empty page: blocks");
+}
+
+int main(void)
+{
+    double t0 = tu_now_s();
+    test_one_column();
+    test_two_columns();
+    test_header_footer();
+    test_three_columns();
+    test_columns_then_paragraph();
+    test_row_pieces();
+    test_empty();
+    printf("time %.2f s\n", tu_now_s() - t0);
+    return tu_summary("test_blocks");
+}

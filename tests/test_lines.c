@@ -1,0 +1,414 @@
+/* test_lines.c — checks text-line building (lt_find_components + lt_text_height +
+ * lt_classify_components + lt_build_lines, and the whole lt_analyze) on pages drawn here from
+ * glyph-like boxes whose true lines are known by construction: x-height letters with
+ * ascenders, descenders, i-dots, commas and periods; word gaps of 0.6 and line pitch of 2.4
+ * text heights (common practice for book type: word space about a third of an em, leading
+ * 120% of the body, from memory). Exact line count, boxes, baselines and x-heights.
+ * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
+#include "testutil.h"
+
+/* Type metrics of the drawn "font", in pixels (a 300 dpi page of roughly 11 pt type). */
+#define XH 20       /* x-height: the text height lineate should measure */
+#define ASC 29      /* ascender letters reach this far above the baseline */
+#define DESC 8      /* descenders reach this far below it */
+#define LETTER_GAP 3
+#define WORD_GAP 12 /* 0.6 text heights */
+#define PITCH 48    /* baseline to baseline: 2.4 text heights */
+
+#define MAX_LINES 256
+#define MAX_MARKS 4096
+
+typedef struct page {
+    lt_image *img; /* ink image (1 = ink) */
+    int nlines;
+    lt_box line_box[MAX_LINES];
+    int baseline[MAX_LINES];
+    int ncomp[MAX_LINES]; /* components drawn for the line */
+    int nmarks;
+    lt_box mark_box[MAX_MARKS];
+    int mark_line[MAX_MARKS];
+} page;
+
+static page *page_new(int w, int h)
+{
+    page *p = calloc(1, sizeof *p);
+    if (!p) tu_die("out of memory");
+    p->img = tu_image(w, h, LT_IMAGE_INK, 0);
+    return p;
+}
+
+static void page_free(page *p)
+{
+    if (!p) return;
+    lt_image_free(p->img);
+    free(p);
+}
+
+typedef struct glyph {
+    lt_box box; /* x relative to the word start, y absolute */
+    int mark;   /* dot, comma, period */
+} glyph;
+
+typedef struct word {
+    glyph g[24];
+    int n, width;
+} word;
+
+static void add_glyph(word *w, int left, int top, int right, int bottom, int mark)
+{
+    w->g[w->n].box = tu_box(left, top, right, bottom);
+    w->g[w->n].mark = mark;
+    w->n++;
+    if (right > w->width) w->width = right;
+}
+
+/* A random word of 1..7 letters standing on `baseline`, maybe followed by a comma. */
+static void make_word(tu_rng *r, int baseline, int comma, word *w)
+{
+    memset(w, 0, sizeof *w);
+    int letters = tu_range(r, 1, 7), x = 0;
+    for (int i = 0; i < letters; i++) {
+        int kind = tu_range(r, 0, 99), lw;
+        if (kind < 60) { /* x-height letter */
+            lw = tu_range(r, 9, 13);
+            add_glyph(w, x, baseline - XH, x + lw, baseline, 0);
+        } else if (kind < 80) { /* ascender */
+            lw = tu_range(r, 5, 12);
+            add_glyph(w, x, baseline - ASC, x + lw, baseline, 0);
+        } else if (kind < 92) { /* descender */
+            lw = tu_range(r, 9, 12);
+            add_glyph(w, x, baseline - XH, x + lw, baseline + DESC, 0);
+        } else { /* i: a stem and a dot 4 px above it */
+            lw = 4;
+            add_glyph(w, x, baseline - XH, x + 4, baseline, 0);
+            add_glyph(w, x, baseline - XH - 8, x + 4, baseline - XH - 4, 1);
+        }
+        x += lw + LETTER_GAP;
+    }
+    if (comma) add_glyph(w, w->width + 2, baseline - 4, w->width + 6, baseline + 5, 1);
+}
+
+/* Draws one line of words from x0 on `baseline`, filling at most to x1 (justified towards x1
+ * when `justify`), ending with a period when `period`. Returns the line. */
+static int draw_line(page *p, tu_rng *r, int x0, int x1, int baseline, int justify, int period)
+{
+    word words[64];
+    int n = 0, width = 0;
+    for (;;) {
+        word w;
+        make_word(r, baseline, tu_range(r, 0, 3) == 0, &w);
+        int need = (n ? width + WORD_GAP : 0) + w.width + (period ? 8 : 0);
+        if (n > 0 && (x0 + need > x1 || n == 64)) break;
+        if (x0 + need > x1) continue; /* first word too long for the measure: draw another */
+        width = (n ? width + WORD_GAP : 0) + w.width;
+        words[n++] = w;
+    }
+    if (period) { /* the period replaces a final comma */
+        word *last = &words[n - 1];
+        if (last->g[last->n - 1].mark && last->g[last->n - 1].box.bottom > baseline) {
+            last->n--;
+            last->width = 0;
+            for (int i = 0; i < last->n; i++)
+                if (last->g[i].box.right > last->width) last->width = last->g[i].box.right;
+        }
+        add_glyph(last, last->width + 2, baseline - 5, last->width + 7, baseline, 1);
+    }
+    int total = 0;
+    for (int i = 0; i < n; i++) total += words[i].width;
+    /* Justified: the extra space goes into the word gaps, at most 6 px more per gap (a
+     * typesetter would hyphenate rather than open wider gaps), so a line may end short. */
+    int slack = justify && n > 1 ? x1 - x0 - total - (n - 1) * WORD_GAP : 0;
+    if (slack > 6 * (n - 1)) slack = 6 * (n - 1);
+    const int l = p->nlines++;
+    if (l >= MAX_LINES) tu_die("too many lines");
+    p->line_box[l] = tu_box(0, 0, 0, 0);
+    p->baseline[l] = baseline;
+    p->ncomp[l] = 0;
+    int x = x0;
+    for (int i = 0; i < n; i++) {
+        for (int k = 0; k < words[i].n; k++) {
+            lt_box b = words[i].g[k].box;
+            b.left += x;
+            b.right += x;
+            tu_fill_box(p->img, b, 1);
+            tu_box_union(&p->line_box[l], b);
+            p->ncomp[l]++;
+            if (words[i].g[k].mark) {
+                if (p->nmarks >= MAX_MARKS) tu_die("too many marks");
+                p->mark_box[p->nmarks] = b;
+                p->mark_line[p->nmarks++] = l;
+            }
+        }
+        /* Extra space of a justified line, shared out over the gaps. */
+        x += words[i].width + WORD_GAP + (n > 1 ? slack / (n - 1) + (i < slack % (n - 1)) : 0);
+    }
+    return l;
+}
+
+/* A paragraph of `lines` lines at x0..x1 from the baseline `first`, justified but the last. */
+static int draw_paragraph(page *p, tu_rng *r, int x0, int x1, int first, int lines)
+{
+    for (int i = 0; i < lines; i++)
+        draw_line(p, r, x0, x1, first + i * PITCH, i < lines - 1, i == lines - 1);
+    return first + lines * PITCH;
+}
+
+typedef struct result {
+    lt_components *comps;
+    lt_raw_lines *lines;
+    double th;
+} result;
+
+/* The line stages of lineate on the page, with lt_params_default. */
+static result run_stages(const page *p, const char *what)
+{
+    result res = {0};
+    lt_params prm;
+    lt_params_default(&prm);
+    lt_error err = {0};
+    if (lt_find_components(p->img, prm.max_components, &res.comps, &err)) {
+        tu_fail("%s: components: %s", what, err.message);
+        return res;
+    }
+    res.th = lt_text_height(res.comps, 300);
+    lt_classify_components(res.comps, res.th, &prm);
+    if (lt_build_lines(res.comps, res.th, &prm, &res.lines, &err))
+        tu_fail("%s: lines: %s", what, err.message);
+    return res;
+}
+
+static void result_free(result *r)
+{
+    lt_components_free(r->comps);
+    lt_raw_lines_free(r->lines);
+}
+
+typedef struct keyed_box {
+    lt_box box;
+    int index;
+} keyed_box;
+
+static int cmp_keyed_box(const void *a, const void *b)
+{
+    return tu_cmp_box(&((const keyed_box *)a)->box, &((const keyed_box *)b)->box);
+}
+
+/* Exact comparison of the built lines with the drawn ones: count, boxes, component counts,
+ * baselines, x-heights; every mark inside its own line's box. */
+static void compare_lines(const page *p, const result *r, const char *what)
+{
+    CHECK_NEAR(r->th, XH, 0.5, "%s: text height", what);
+    if (!r->lines) return;
+    const lt_raw_lines *got = r->lines;
+    CHECK_INT(got->count, p->nlines, "%s: number of lines", what);
+    keyed_box *want = malloc(((size_t)p->nlines + 1) * sizeof *want);
+    keyed_box *have = malloc(((size_t)got->count + 1) * sizeof *have);
+    if (!want || !have) tu_die("out of memory");
+    for (int i = 0; i < p->nlines; i++) want[i] = (keyed_box){p->line_box[i], i};
+    for (int i = 0; i < got->count; i++) have[i] = (keyed_box){got->items[i].box, i};
+    qsort(want, (size_t)p->nlines, sizeof *want, cmp_keyed_box);
+    qsort(have, (size_t)got->count, sizeof *have, cmp_keyed_box);
+    int n = p->nlines < got->count ? p->nlines : got->count, shown = 0;
+    for (int i = 0; i < n; i++) {
+        const lt_raw_line *g = &got->items[have[i].index];
+        const int l = want[i].index;
+        if (tu_cmp_box(&have[i].box, &want[i].box) != 0) {
+            if (shown++ < 6) CHECK_BOX(have[i].box, want[i].box, "%s: line %d (sorted)", what, i);
+            continue;
+        }
+        CHECK_INT(g->ncomponents, p->ncomp[l], "%s: components of line %d", what, i);
+        CHECK_NEAR(g->baseline_y, p->baseline[l], 1e-9, "%s: baseline of line %d", what, i);
+        CHECK_NEAR(g->xheight_px, XH, 1e-9, "%s: x-height of line %d", what, i);
+    }
+    if (shown > 6) tu_fail("%s: %d line boxes differ in all", what, shown);
+    /* Every mark lies inside exactly one line's box, and that is the line it belongs to. */
+    int lost = 0;
+    for (int m = 0; m < p->nmarks; m++) {
+        int inside = 0, own = 0;
+        for (int i = 0; i < got->count; i++)
+            if (tu_box_inside(p->mark_box[m], got->items[i].box)) {
+                inside++;
+                own += tu_cmp_box(&got->items[i].box, &p->line_box[p->mark_line[m]]) == 0;
+            }
+        if (inside != 1 || own != 1) {
+            if (lost++ < 3)
+                tu_fail("%s: mark [%d %d %d %d) inside %d line boxes (own line: %d)", what,
+                        p->mark_box[m].left, p->mark_box[m].top, p->mark_box[m].right,
+                        p->mark_box[m].bottom, inside, own);
+        }
+    }
+    CHECK_INT(lost, 0, "%s: marks (of %d) not inside exactly their own line", what, p->nmarks);
+    free(want);
+    free(have);
+}
+
+/* One column: three paragraphs of justified lines with a blank line between them. */
+static void test_one_column(void)
+{
+    tu_rng r = {2024};
+    page *p = page_new(1700, 1400);
+    int y = 150;
+    y = draw_paragraph(p, &r, 150, 1550, y, 6) + PITCH;
+    y = draw_paragraph(p, &r, 150, 1550, y, 4) + PITCH;
+    draw_paragraph(p, &r, 150, 1550, y, 7);
+    result res = run_stages(p, "one column");
+    compare_lines(p, &res, "one column");
+    result_free(&res);
+    page_free(p);
+}
+
+/* Two columns: gutters of 3 text heights (the main case; wider than most word gaps) on
+ * eight random pages, and of 2 text heights (narrower than lt_params' link_max_gap, still
+ * wider than column_min_gap: lines must be kept apart by the gutter evidence, the white strip
+ * that many rows share) on three. The left column is justified, so the gutter is straight,
+ * but lines may end up to a few pixels short of it, and each paragraph's last line short.
+ * KNOWN DEFECT (kept failing on purpose until lines.c is fixed): with link_max_gap 3.5 (wider than
+ * these gutters) some rows are joined across the gutter, by a link or by join_rows, wherever the
+ * gutter evidence is missing near them: the evidence wanted is text on both sides of the white
+ * strip within 2 text heights, above or below the row, which is absent next to a neighbouring line
+ * that ends short of the gutter or next to the end of a paragraph in the other column. */
+static void test_two_columns(void)
+{
+    const struct {
+        int gutter_px, seeds;
+    } cases[] = {{3 * XH, 8}, {2 * XH, 3}};
+    for (int ci = 0; ci < 2; ci++)
+        for (int seed = 1; seed <= cases[ci].seeds; seed++) {
+            char what[64];
+            snprintf(what, sizeof what, "two columns, gutter %d px, seed %d", cases[ci].gutter_px,
+                     seed);
+            tu_rng r = {(uint64_t)seed};
+            page *p = page_new(1700, 1400);
+            const int col = 620, x0 = 150, x1 = x0 + col, x2 = x1 + cases[ci].gutter_px;
+            int y = draw_paragraph(p, &r, x0, x1, 150, 9) + PITCH;
+            draw_paragraph(p, &r, x0, x1, y, 5);
+            y = draw_paragraph(p, &r, x2, x2 + col, 150, 6) + PITCH;
+            draw_paragraph(p, &r, x2, x2 + col, y, 8);
+            result res = run_stages(p, what);
+            compare_lines(p, &res, what);
+            /* No line may cross the gutter. */
+            int crossing = 0;
+            for (int i = 0; res.lines && i < res.lines->count; i++)
+                crossing +=
+                    res.lines->items[i].box.left < x1 && res.lines->items[i].box.right > x2;
+            CHECK_INT(crossing, 0, "%s: lines crossing the gutter", what);
+            result_free(&res);
+            page_free(p);
+        }
+}
+
+/* Rules and a picture: a horizontal rule in the white between two lines, a vertical rule in
+ * a column gutter, and a picture block (a filled 300 x 300 box, 15 text heights) standing
+ * between text on its left and on its right, one text height from each. None of them joins
+ * or extends any line. */
+static void test_rules_and_picture(void)
+{
+    tu_rng r = {31337};
+    page *p = page_new(1900, 1500);
+    /* Paragraph, a rule 12 px below the last line's baseline (in the 11 px of white between
+     * the descenders and the next line's ascenders), another paragraph. */
+    draw_paragraph(p, &r, 150, 1000, 150, 4);
+    int last = 150 + 3 * PITCH;
+    tu_fill(p->img, 150, last + DESC + 2, 1000, last + DESC + 5, 1);
+    draw_paragraph(p, &r, 150, 1000, last + PITCH, 4);
+    /* Two columns with a vertical rule in the middle of a 3-text-height gutter. */
+    const int top = 150 + 9 * PITCH;
+    draw_paragraph(p, &r, 150, 550, top, 6);
+    draw_paragraph(p, &r, 610, 1000, top, 6);
+    tu_fill(p->img, 579, top - ASC, 582, top + 5 * PITCH + DESC, 1);
+    /* Text, a picture, text. */
+    const int px0 = 1320, px1 = 1620, ptop = 150;
+    draw_paragraph(p, &r, 1060, px0 - XH, ptop + ASC, 6);
+    tu_fill(p->img, px0, ptop, px1, ptop + 300, 1);
+    draw_paragraph(p, &r, px1 + XH, 1850, ptop + ASC, 6);
+    /* Text under the picture, one line pitch below it. */
+    draw_paragraph(p, &r, 1060, 1850, ptop + 300 + PITCH, 3);
+
+    result res = run_stages(p, "rules and picture");
+    compare_lines(p, &res, "rules and picture");
+    int rules = 0, pictures = 0;
+    for (int i = 0; res.comps && i < res.comps->count; i++) {
+        rules += res.comps->items[i].kind == LT_COMP_RULE;
+        pictures += res.comps->items[i].kind == LT_COMP_PICTURE;
+    }
+    CHECK_INT(rules, 2, "rules and picture: components classified as rules");
+    CHECK_INT(pictures, 1, "rules and picture: components classified as pictures");
+    result_free(&res);
+    page_free(p);
+}
+
+/* Marks at the ends of lines and of the page: a line that is a single word with a period,
+ * a line of two words separated by a comma, a lone "i" (stem and dot). */
+static void test_small_marks(void)
+{
+    page *p = page_new(800, 520);
+    tu_rng r = {5};
+    draw_line(p, &r, 100, 300, 100, 0, 1);
+    draw_line(p, &r, 100, 700, 100 + PITCH, 1, 1);
+    /* The lone i. */
+    int b = 100 + 2 * PITCH, l = p->nlines++;
+    tu_fill(p->img, 100, b - XH, 104, b, 1);
+    tu_fill(p->img, 100, b - XH - 8, 104, b - XH - 4, 1);
+    p->line_box[l] = tu_box(100, b - XH - 8, 104, b);
+    p->baseline[l] = b;
+    p->ncomp[l] = 2;
+    p->mark_box[p->nmarks] = tu_box(100, b - XH - 8, 104, b - XH - 4);
+    p->mark_line[p->nmarks++] = l;
+    /* Enough ordinary text for the page's text height to be measured. */
+    draw_paragraph(p, &r, 100, 700, 100 + 4 * PITCH, 4);
+    result res = run_stages(p, "small marks");
+    compare_lines(p, &res, "small marks");
+    result_free(&res);
+    page_free(p);
+}
+
+/* The whole pipeline on a drawn gray page (black on white): a title, two columns, a page
+ * number. lt_analyze's lines (in reading order) must be the drawn ones, in the order
+ * title, left column top to bottom, right column top to bottom, page number. */
+static void test_analyze(void)
+{
+    tu_rng r = {4242};
+    page *p = page_new(1600, 1300);
+    /* Title: one line of bigger type would change the text height measure; a line of the
+     * body type, centred, set apart by two blank lines. */
+    draw_line(p, &r, 500, 1100, 120, 0, 0);
+    const int top = 120 + 3 * PITCH, x0 = 120, col = 640, gutter = 3 * XH;
+    int y = draw_paragraph(p, &r, x0, x0 + col, top, 8) + PITCH;
+    draw_paragraph(p, &r, x0, x0 + col, y, 6);
+    draw_paragraph(p, &r, x0 + col + gutter, x0 + 2 * col + gutter, top, 10);
+    draw_line(p, &r, 780, 830, top + 18 * PITCH, 0, 0); /* page number, short */
+    lt_image *gray = tu_image(1600, 1300, LT_IMAGE_GRAY, 255);
+    for (size_t i = 0; i < (size_t)1600 * 1300; i++)
+        if (p->img->pixels[i]) gray->pixels[i] = 0;
+    lt_layout *lay = NULL;
+    lt_error err = {0};
+    lt_params prm;
+    lt_params_default(&prm);
+    if (lt_analyze(gray, &prm, &lay, &err)) {
+        tu_fail("analyze: %s", err.message);
+    } else {
+        CHECK(fabs(lay->skew_deg) < prm.deskew_min_deg, "analyze: skew %.3f on a level page",
+              lay->skew_deg);
+        CHECK_NEAR(lay->text_height_px, XH, 0.5, "analyze: text height");
+        CHECK_INT(lay->nlines, p->nlines, "analyze: number of lines");
+        /* The drawing order is the reading order. */
+        for (int i = 0; i < lay->nlines && i < p->nlines; i++)
+            CHECK_BOX(lay->lines[i].box, p->line_box[i], "analyze: line %d in reading order", i);
+        CHECK_INT(lay->nblocks >= 4, 1, "analyze: at least 4 blocks (got %d)", lay->nblocks);
+    }
+    lt_layout_free(lay);
+    lt_image_free(gray);
+    page_free(p);
+}
+
+int main(void)
+{
+    double t0 = tu_now_s();
+    test_one_column();
+    test_two_columns();
+    test_rules_and_picture();
+    test_small_marks();
+    test_analyze();
+    printf("time %.2f s\n", tu_now_s() - t0);
+    return tu_summary("test_lines");
+}

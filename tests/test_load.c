@@ -1,0 +1,584 @@
+/* test_load.c — checks lt_source_* on image files written by leptonica (a general-purpose image
+ * library lineate did not write) into a temp folder: PNG gray, RGB, palette, 16-bit, 1-bit and
+ * RGBA; JPEG; PGM/PPM; TIFF G4 and a multi-page TIFF; resolution from the file; and bad input
+ * (empty, not an image, truncated, a header claiming a huge size, missing file, a folder),
+ * each with a one-line message naming the file.
+ * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
+#include "testutil.h"
+
+#include <errno.h>
+
+static char dir[256];
+
+static const char *tmp(const char *name)
+{
+    static char path[8][512];
+    static int slot;
+    slot = (slot + 1) % 8;
+    return tu_path(path[slot], sizeof path[slot], dir, name);
+}
+
+static void write_pix(PIX *pix, const char *path, int format)
+{
+    if (pixWrite(path, pix, format)) tu_die("leptonica could not write %s", path);
+}
+
+/* Opens path and reads page `index`; NULL (and a failed check) when it cannot. */
+static lt_image *load(const char *path, int index)
+{
+    lt_error err = {0};
+    lt_source *src = NULL;
+    lt_image *img = NULL;
+    if (lt_source_open(path, LT_DEFAULT_MAX_PAGES, &src, &err) ||
+        lt_source_read_page(src, index, LT_DEFAULT_MAX_PIXELS, &img, &err))
+        tu_fail("%s: %s", path, err.message);
+    lt_source_free(src);
+    return img;
+}
+
+/* A smooth 8-bpp page for lossy formats: a gradient with a few flat boxes. */
+static PIX *smooth_pix(int w, int h)
+{
+    PIX *pix = pixCreate(w, h, 8);
+    for (int y = 0; y < h; y++)
+        for (int x = 0; x < w; x++) {
+            int v = 40 + (x * 150) / w + (y * 60) / h;
+            if (x > w / 4 && x < w / 2 && y > h / 4 && y < h / 2) v = 30;
+            pixSetPixel(pix, x, y, (l_uint32)v);
+        }
+    return pix;
+}
+
+/* An 8-bpp gradient with noise (fixed seed). */
+static PIX *gray_pix(int w, int h, uint64_t seed)
+{
+    tu_rng r = {seed};
+    PIX *pix = pixCreate(w, h, 8);
+    for (int y = 0; y < h; y++)
+        for (int x = 0; x < w; x++)
+            pixSetPixel(pix, x, y, (l_uint32)((x * 7 + y * 3 + tu_range(&r, 0, 40)) & 255));
+    return pix;
+}
+
+/* Pixels of a 1-bpp PIX with text-like boxes (fixed seed). */
+static PIX *ink_pix(int w, int h, uint64_t seed)
+{
+    tu_rng r = {seed};
+    PIX *pix = pixCreate(w, h, 1);
+    for (int b = 0; b < w * h / 400; b++) {
+        int x = tu_range(&r, 0, w - 1), y = tu_range(&r, 0, h - 1);
+        pixRasterop(pix, x, y, tu_range(&r, 2, 14), tu_range(&r, 2, 20), PIX_SET, NULL, 0, 0);
+    }
+    return pix;
+}
+
+/* Pixels of img equal to the 8-bpp (gray) or 1-bpp (ink) PIX, in kind and value. */
+static void check_same(const lt_image *img, PIX *pix, const char *what)
+{
+    if (!img) return;
+    const int d = pixGetDepth(pix);
+    CHECK_INT(img->kind, d == 1 ? LT_IMAGE_INK : LT_IMAGE_GRAY, "%s: kind", what);
+    CHECK(img->width == pixGetWidth(pix) && img->height == pixGetHeight(pix),
+          "%s: size %dx%d, want %dx%d", what, img->width, img->height, pixGetWidth(pix),
+          pixGetHeight(pix));
+    if (img->width != pixGetWidth(pix) || img->height != pixGetHeight(pix)) return;
+    long wrong = 0;
+    for (int y = 0; y < img->height; y++)
+        for (int x = 0; x < img->width; x++) {
+            l_uint32 v = 0;
+            pixGetPixel(pix, x, y, &v);
+            wrong += img->pixels[(size_t)y * img->width + x] != v;
+        }
+    CHECK_INT(wrong, 0, "%s: pixels differing from what was written", what);
+}
+
+static void check_header(const char *path, int bps, int spp, int cmap, const char *what)
+{
+    l_int32 format, w, h, b = 0, s = 0, c = 0;
+    if (pixReadHeader(path, &format, &w, &h, &b, &s, &c)) tu_die("%s: no header", path);
+    CHECK(b == bps && s == spp && !!c == cmap,
+          "%s: the file written is not what the test needs (bps %d spp %d cmap %d)", what, b, s,
+          c);
+}
+
+static void test_png(void)
+{
+    /* 8-bit gray. */
+    PIX *g = gray_pix(97, 61, 1);
+    write_pix(g, tmp("gray.png"), IFF_PNG);
+    check_header(tmp("gray.png"), 8, 1, 0, "gray png");
+    lt_source *src = NULL;
+    lt_error err = {0};
+    if (lt_source_open(tmp("gray.png"), 10, &src, &err)) {
+        tu_fail("gray png: %s", err.message);
+    } else {
+        CHECK_INT(lt_source_pages(src), 1, "gray png: pages");
+        CHECK(!strcmp(lt_source_format(src), "png"), "gray png: format %s",
+              lt_source_format(src));
+        CHECK(!strcmp(lt_source_name(src), tmp("gray.png")), "gray png: name %s",
+              lt_source_name(src));
+        lt_image *img = NULL;
+        if (lt_source_read_page(src, 0, LT_DEFAULT_MAX_PIXELS, &img, &err))
+            tu_fail("gray png: %s", err.message);
+        check_same(img, g, "gray png");
+        if (img) CHECK_NEAR(img->dpi, 0, 0, "gray png without resolution: dpi");
+        lt_image_free(img);
+        /* Page 2 of a one-page file. */
+        lt_error e2 = {0};
+        img = NULL;
+        CHECK_INT(lt_source_read_page(src, 1, LT_DEFAULT_MAX_PIXELS, &img, &e2), LT_EINVAL,
+                  "gray png: page 2");
+        CHECK(img == NULL && strstr(e2.message, "gray.png"), "gray png page 2: '%s'",
+              e2.message);
+    }
+    lt_source_free(src);
+    /* The same bytes from memory. */
+    size_t size = 0;
+    uint8_t *bytes = tu_read_file(tmp("gray.png"), &size);
+    lt_error em = {0};
+    lt_image *img = NULL;
+    if (!bytes || lt_source_open_memory(bytes, size, "buffer", 1, &src, &em) ||
+        lt_source_read_page(src, 0, LT_DEFAULT_MAX_PIXELS, &img, &em))
+        tu_fail("gray png from memory: %s", em.message);
+    check_same(img, g, "gray png from memory");
+    lt_image_free(img);
+    lt_source_free(src);
+    free(bytes);
+    pixDestroy(&g);
+
+    /* 16-bit gray: values v * 257 must come back as v; others as the high byte (libpng's
+     * strip) or the rounded v / 257 (libpng's scale), which differ by at most one. */
+    PIX *g16 = pixCreate(64, 40, 16);
+    for (int y = 0; y < 40; y++)
+        for (int x = 0; x < 64; x++)
+            pixSetPixel(g16, x, y, y < 20 ? (l_uint32)((x * 4) * 257) : (l_uint32)(x * 1000 + y));
+    write_pix(g16, tmp("gray16.png"), IFF_PNG);
+    check_header(tmp("gray16.png"), 16, 1, 0, "16-bit png");
+    img = load(tmp("gray16.png"), 0);
+    if (img) {
+        CHECK_INT(img->kind, LT_IMAGE_GRAY, "16-bit png: kind");
+        long exact_wrong = 0, near_wrong = 0;
+        for (int y = 0; y < 40; y++)
+            for (int x = 0; x < 64; x++) {
+                int v = img->pixels[y * 64 + x];
+                if (y < 20)
+                    exact_wrong += v != x * 4;
+                else
+                    near_wrong += fabs(v - (x * 1000 + y) / 257.0) > 1.0;
+            }
+        CHECK_INT(exact_wrong, 0, "16-bit png: pixels v*257 not read as v");
+        CHECK_INT(near_wrong, 0, "16-bit png: pixels more than 1 from v/257");
+    }
+    lt_image_free(img);
+    pixDestroy(&g16);
+
+    /* RGB: neutral pixels keep their value exactly (any luminance weights sum to 1); coloured
+     * pixels lie between their smallest and largest channel; dark blue text stays dark. */
+    PIX *rgb = pixCreate(60, 30, 32);
+    for (int y = 0; y < 30; y++)
+        for (int x = 0; x < 60; x++) {
+            l_uint32 px;
+            int v = x * 4;
+            if (y < 10)
+                composeRGBPixel(v, v, v, &px);
+            else if (y < 20)
+                composeRGBPixel(v, 255 - v, (v * 3) & 255, &px);
+            else
+                composeRGBPixel(x < 30 ? 0 : 255, x < 30 ? 0 : 255, x < 30 ? 128 : 255, &px);
+            pixSetPixel(rgb, x, y, px);
+        }
+    write_pix(rgb, tmp("rgb.png"), IFF_PNG);
+    check_header(tmp("rgb.png"), 8, 3, 0, "rgb png");
+    img = load(tmp("rgb.png"), 0);
+    if (img) {
+        CHECK_INT(img->kind, LT_IMAGE_GRAY, "rgb png: kind");
+        long neutral = 0, outside = 0, blue = 0;
+        for (int x = 0; x < 60; x++) {
+            int v = x * 4, r = v, gg = 255 - v, b = (v * 3) & 255;
+            int lo = r < gg ? (r < b ? r : b) : (gg < b ? gg : b);
+            int hi = r > gg ? (r > b ? r : b) : (gg > b ? gg : b);
+            neutral += img->pixels[5 * 60 + x] != v;
+            outside += img->pixels[15 * 60 + x] < lo - 1 || img->pixels[15 * 60 + x] > hi + 1;
+            blue += x < 30 ? img->pixels[25 * 60 + x] >= 128 : img->pixels[25 * 60 + x] != 255;
+        }
+        CHECK_INT(neutral, 0, "rgb png: neutral pixels not kept exactly");
+        CHECK_INT(outside, 0, "rgb png: coloured pixels outside their channels' range");
+        CHECK_INT(blue, 0, "rgb png: dark blue on white not dark on white");
+    }
+    lt_image_free(img);
+    pixDestroy(&rgb);
+
+    /* Palette: white, black, mid gray and an orange; the grays exactly. */
+    PIX *pal = pixCreate(40, 20, 8);
+    PIXCMAP *cmap = pixcmapCreate(8);
+    pixcmapAddColor(cmap, 255, 255, 255);
+    pixcmapAddColor(cmap, 0, 0, 0);
+    pixcmapAddColor(cmap, 128, 128, 128);
+    pixcmapAddColor(cmap, 200, 100, 50);
+    pixSetColormap(pal, cmap);
+    for (int y = 0; y < 20; y++)
+        for (int x = 0; x < 40; x++) pixSetPixel(pal, x, y, (l_uint32)(x / 10));
+    write_pix(pal, tmp("palette.png"), IFF_PNG);
+    check_header(tmp("palette.png"), 8, 1, 1, "palette png");
+    img = load(tmp("palette.png"), 0);
+    if (img) {
+        CHECK_INT(img->kind, LT_IMAGE_GRAY, "palette png: kind");
+        CHECK_INT(img->pixels[5], 255, "palette png: white entry");
+        CHECK_INT(img->pixels[15], 0, "palette png: black entry");
+        CHECK_INT(img->pixels[25], 128, "palette png: gray entry");
+        CHECK(img->pixels[35] >= 50 && img->pixels[35] <= 200, "palette png: orange gives %d",
+              img->pixels[35]);
+    }
+    lt_image_free(img);
+    pixDestroy(&pal);
+
+    /* 1-bit PNG: ink image, same ink. And a 1-bit palette whose entry 0 is BLACK (the
+     * opposite of the usual 0 = white): ink where the index is 0. */
+    PIX *bw = ink_pix(75, 50, 3);
+    write_pix(bw, tmp("bw.png"), IFF_PNG);
+    img = load(tmp("bw.png"), 0);
+    check_same(img, bw, "1-bit png");
+    lt_image_free(img);
+    PIX *inv = pixCopy(NULL, bw);
+    PIXCMAP *c2 = pixcmapCreate(1);
+    pixcmapAddColor(c2, 0, 0, 0);
+    pixcmapAddColor(c2, 255, 255, 255);
+    pixSetColormap(inv, c2);
+    write_pix(inv, tmp("bw-palette.png"), IFF_PNG);
+    check_header(tmp("bw-palette.png"), 1, 1, 1, "1-bit palette png");
+    img = load(tmp("bw-palette.png"), 0);
+    if (img) {
+        CHECK_INT(img->kind, LT_IMAGE_INK, "1-bit palette png: kind");
+        long wrong = 0;
+        for (int y = 0; y < 50; y++)
+            for (int x = 0; x < 75; x++) {
+                l_uint32 v;
+                pixGetPixel(bw, x, y, &v);
+                wrong += img->pixels[y * 75 + x] != (v == 0);
+            }
+        CHECK_INT(wrong, 0, "1-bit palette png (0 = black): pixels with the wrong ink");
+    }
+    lt_image_free(img);
+    pixDestroy(&inv);
+    pixDestroy(&bw);
+
+    /* RGBA with a transparent background: transparent black must read as white paper, opaque
+     * black as ink, 50% black over white as mid gray (alpha compositing, Porter & Duff 1984:
+     * 255 * (1 - 128/255) = 127). */
+    PIX *rgba = pixCreate(50, 30, 32);
+    pixSetSpp(rgba, 4);
+    for (int y = 0; y < 30; y++)
+        for (int x = 0; x < 50; x++) {
+            l_uint32 px;
+            int a = x >= 10 && x < 20 && y >= 10 && y < 20 ? 255 : x >= 30 && x < 40 ? 128 : 0;
+            composeRGBAPixel(0, 0, 0, a, &px);
+            pixSetPixel(rgba, x, y, px);
+        }
+    write_pix(rgba, tmp("rgba.png"), IFF_PNG);
+    check_header(tmp("rgba.png"), 8, 4, 0, "rgba png");
+    img = load(tmp("rgba.png"), 0);
+    if (img) {
+        CHECK_INT(img->kind, LT_IMAGE_GRAY, "rgba png: kind");
+        CHECK_INT(img->pixels[2 * 50 + 2], 255, "rgba png: transparent background");
+        CHECK_INT(img->pixels[15 * 50 + 15], 0, "rgba png: opaque black");
+        CHECK_NEAR(img->pixels[5 * 50 + 35], 127, 2, "rgba png: 50%% black over white");
+    }
+    lt_image_free(img);
+    pixDestroy(&rgba);
+}
+
+static void test_jpeg_pnm(void)
+{
+    /* JPEG is lossy: the gray page must equal leptonica's own decoding of the file, and be
+     * close to what was written (mean error < 4 levels at leptonica's default quality 75 on
+     * smooth content with a few edges: from memory). */
+    PIX *g = smooth_pix(120, 90);
+    pixSetResolution(g, 150, 150);
+    write_pix(g, tmp("gray.jpg"), IFF_JFIF_JPEG);
+    PIX *dec = pixRead(tmp("gray.jpg"));
+    lt_image *img = load(tmp("gray.jpg"), 0);
+    if (img && dec) {
+        check_same(img, dec, "gray jpeg vs leptonica's decoding");
+        double sum = 0;
+        for (int y = 0; y < 90; y++)
+            for (int x = 0; x < 120; x++) {
+                l_uint32 v;
+                pixGetPixel(g, x, y, &v);
+                sum += fabs((double)img->pixels[y * 120 + x] - v);
+            }
+        CHECK(sum / (120 * 90) < 4, "gray jpeg: mean error %.2f vs the original", sum / 10800);
+        CHECK_NEAR(img->dpi, 150, 0, "jpeg: resolution from the file");
+    }
+    lt_source *src = NULL;
+    lt_error err = {0};
+    if (!lt_source_open(tmp("gray.jpg"), 1, &src, &err))
+        CHECK(!strcmp(lt_source_format(src), "jpeg"), "jpeg: format %s", lt_source_format(src));
+    lt_source_free(src);
+    lt_image_free(img);
+    pixDestroy(&dec);
+
+    /* Colour JPEG of a neutral gradient: gray within 3 levels of the original. */
+    PIX *rgb = pixConvertTo32(g);
+    write_pix(rgb, tmp("rgb.jpg"), IFF_JFIF_JPEG);
+    img = load(tmp("rgb.jpg"), 0);
+    if (img) {
+        CHECK_INT(img->kind, LT_IMAGE_GRAY, "rgb jpeg: kind");
+        double sum = 0;
+        for (int y = 0; y < 90; y++)
+            for (int x = 0; x < 120; x++) {
+                l_uint32 v;
+                pixGetPixel(g, x, y, &v);
+                sum += fabs((double)img->pixels[y * 120 + x] - v);
+            }
+        CHECK(sum / (120 * 90) < 4, "rgb jpeg: mean error %.2f vs the original", sum / 10800);
+    }
+    lt_image_free(img);
+
+    /* PGM (P5) and PPM (P6): lossless. */
+    write_pix(g, tmp("gray.pgm"), IFF_PNM);
+    write_pix(rgb, tmp("rgb.ppm"), IFF_PNM);
+    size_t n1 = 0, n2 = 0;
+    uint8_t *b1 = tu_read_file(tmp("gray.pgm"), &n1), *b2 = tu_read_file(tmp("rgb.ppm"), &n2);
+    CHECK(b1 && n1 > 2 && !memcmp(b1, "P5", 2), "pgm: leptonica did not write P5");
+    CHECK(b2 && n2 > 2 && !memcmp(b2, "P6", 2), "ppm: leptonica did not write P6");
+    free(b1);
+    free(b2);
+    img = load(tmp("gray.pgm"), 0);
+    check_same(img, g, "pgm");
+    lt_image_free(img);
+    img = load(tmp("rgb.ppm"), 0);
+    check_same(img, g, "ppm of a neutral image");
+    if (!lt_source_open(tmp("rgb.ppm"), 1, &src, &err))
+        CHECK(!strcmp(lt_source_format(src), "pnm"), "ppm: format %s", lt_source_format(src));
+    lt_source_free(src);
+    lt_image_free(img);
+    pixDestroy(&rgb);
+    pixDestroy(&g);
+}
+
+static void test_tiff(void)
+{
+    /* 1-bit G4: an ink image with the same ink; resolution from the file. */
+    PIX *bw = ink_pix(203, 157, 5);
+    pixSetResolution(bw, 300, 300);
+    write_pix(bw, tmp("g4.tif"), IFF_TIFF_G4);
+    lt_image *img = load(tmp("g4.tif"), 0);
+    check_same(img, bw, "tiff g4");
+    if (img) CHECK_NEAR(img->dpi, 300, 0, "tiff g4: resolution from the file");
+    lt_image_free(img);
+
+    /* Three pages of different sizes and kinds: G4, 8-bit gray (zip), RGB (LZW). */
+    PIX *gray = gray_pix(120, 80, 6);
+    PIX *gray2 = gray_pix(64, 200, 7);
+    PIX *rgb = pixConvertTo32(gray2); /* neutral: must read back as gray2 exactly */
+    const char *multi = tmp("multi.tif");
+    if (pixWriteTiff(multi, bw, IFF_TIFF_G4, "w") || pixWriteTiff(multi, gray, IFF_TIFF_ZIP, "a") ||
+        pixWriteTiff(multi, rgb, IFF_TIFF_LZW, "a"))
+        tu_die("leptonica could not write %s", multi);
+    lt_source *src = NULL;
+    lt_error err = {0};
+    if (lt_source_open(multi, 10, &src, &err)) {
+        tu_fail("multi-page tiff: %s", err.message);
+    } else {
+        CHECK_INT(lt_source_pages(src), 3, "multi-page tiff: pages");
+        CHECK(!strcmp(lt_source_format(src), "tiff"), "tiff: format %s", lt_source_format(src));
+        PIX *want[3] = {bw, gray, gray2};
+        for (int i = 0; i < 3 && lt_source_pages(src) == 3; i++) {
+            lt_image *page = NULL;
+            char what[64];
+            snprintf(what, sizeof what, "multi-page tiff, page %d", i + 1);
+            if (lt_source_read_page(src, i, LT_DEFAULT_MAX_PIXELS, &page, &err))
+                tu_fail("%s: %s", what, err.message);
+            check_same(page, want[i], what);
+            lt_image_free(page);
+        }
+        lt_error e2 = {0};
+        lt_image *none = NULL;
+        CHECK_INT(lt_source_read_page(src, 3, LT_DEFAULT_MAX_PIXELS, &none, &e2), LT_EINVAL,
+                  "multi-page tiff: page 4");
+        CHECK(strstr(e2.message, "multi.tif") != NULL, "page 4: message '%s'", e2.message);
+    }
+    lt_source_free(src);
+    /* More pages than max_pages. */
+    lt_error e3 = {0};
+    src = NULL;
+    CHECK_INT(lt_source_open(multi, 2, &src, &e3), LT_ELIMIT, "multi-page tiff, max_pages 2");
+    CHECK(src == NULL && strstr(e3.message, "multi.tif"), "max_pages: message '%s'", e3.message);
+    lt_source_free(src);
+    pixDestroy(&gray);
+    pixDestroy(&rgb);
+    pixDestroy(&gray2);
+    pixDestroy(&bw);
+}
+
+static void test_resolution(void)
+{
+    /* PNG stores pixels per metre: 200 dpi is 7874 px/m, which reads back as 200 within the
+     * rounding of that conversion (1 inch = 0.0254 m). */
+    PIX *g = gray_pix(30, 20, 8);
+    pixSetResolution(g, 200, 200);
+    write_pix(g, tmp("dpi200.png"), IFF_PNG);
+    lt_image *img = load(tmp("dpi200.png"), 0);
+    if (img) CHECK_NEAR(img->dpi, 200, 0.5, "png: resolution from the file");
+    lt_image_free(img);
+    pixSetResolution(g, 400, 400);
+    write_pix(g, tmp("dpi400.tif"), IFF_TIFF_ZIP);
+    img = load(tmp("dpi400.tif"), 0);
+    if (img) CHECK_NEAR(img->dpi, 400, 0, "tiff: resolution from the file");
+    lt_image_free(img);
+    pixDestroy(&g);
+}
+
+/* Standard error of this process goes to a file from begin_quiet() to end_quiet(), which
+ * returns what was written there (the library must never print), NUL-terminated. */
+static int saved_stderr = -1;
+
+static void begin_quiet(void)
+{
+    fflush(stderr);
+    saved_stderr = dup(2);
+    FILE *fp = fopen(tmp("stderr.txt"), "w");
+    if (saved_stderr < 0 || !fp) tu_die("cannot redirect standard error");
+    dup2(fileno(fp), 2);
+    fclose(fp);
+}
+
+static const char *end_quiet(void)
+{
+    static char text[512];
+    fflush(stderr);
+    dup2(saved_stderr, 2);
+    close(saved_stderr);
+    size_t n = 0;
+    uint8_t *b = tu_read_file(tmp("stderr.txt"), &n);
+    if (n >= sizeof text) n = sizeof text - 1;
+    if (b) memcpy(text, b, n);
+    text[b ? n : 0] = 0;
+    free(b);
+    char *nl = strchr(text, '\n');
+    if (nl && nl[1] == 0) *nl = 0;
+    return text;
+}
+
+/* Checks that opening or reading path fails with `code`, names the file in a one-line
+ * message, returns no image, and prints nothing. */
+static void expect_failure(const char *path, int code, long max_pixels, const char *what)
+{
+    lt_error err = {0};
+    lt_source *src = NULL;
+    lt_image *img = NULL;
+    double t0 = tu_now_s();
+    begin_quiet();
+    int rc = lt_source_open(path, 10, &src, &err);
+    if (rc == 0) rc = lt_source_read_page(src, 0, max_pixels, &img, &err);
+    const char *printed = end_quiet();
+    CHECK(printed[0] == 0, "%s: the library printed '%s' (it must never print)", what, printed);
+    CHECK_INT(rc, code, "%s: return code (message '%s')", what, err.message);
+    CHECK_INT(err.code, code, "%s: error code", what);
+    CHECK(img == NULL, "%s: an image came back", what);
+    CHECK(strstr(err.message, path) != NULL, "%s: message '%s' does not name the file", what,
+          err.message);
+    CHECK(strchr(err.message, '\n') == NULL && strlen(err.message) > strlen(path) + 2,
+          "%s: message '%s' is not one line with a reason", what, err.message);
+    CHECK(tu_now_s() - t0 < 2, "%s: took %.1f s", what, tu_now_s() - t0);
+    lt_image_free(img);
+    lt_source_free(src);
+}
+
+/* CRC-32 of PNG chunks (ISO 3309 / ITU-T V.42 polynomial, as the PNG specification gives). */
+static uint32_t crc32_png(const uint8_t *p, size_t n)
+{
+    uint32_t c = 0xffffffffu;
+    for (size_t i = 0; i < n; i++) {
+        c ^= p[i];
+        for (int k = 0; k < 8; k++) c = c & 1 ? 0xedb88320u ^ (c >> 1) : c >> 1;
+    }
+    return c ^ 0xffffffffu;
+}
+
+static void put32(uint8_t *p, uint32_t v)
+{
+    p[0] = (uint8_t)(v >> 24);
+    p[1] = (uint8_t)(v >> 16);
+    p[2] = (uint8_t)(v >> 8);
+    p[3] = (uint8_t)v;
+}
+
+static void test_bad_input(void)
+{
+    tu_write_file(tmp("empty.png"), "", 0);
+    expect_failure(tmp("empty.png"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "empty file");
+    const char *text = "Minutes of the harbour committee: buoys, moorings and the slipway.\n";
+    tu_write_file(tmp("notes.png"), text, strlen(text));
+    expect_failure(tmp("notes.png"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "text file named .png");
+    tu_write_file(tmp("short.tif"), "II*\0\x08\0\0\0\x01\0", 10);
+    expect_failure(tmp("short.tif"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "ten bytes of TIFF");
+    uint8_t bad_tiff[64] = "II*\0\x08\0\0\0";
+    memset(bad_tiff + 8, 0xff, sizeof bad_tiff - 8); /* a directory of 65535 garbage entries */
+    tu_write_file(tmp("corrupt.tif"), bad_tiff, sizeof bad_tiff);
+    expect_failure(tmp("corrupt.tif"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "corrupt TIFF");
+
+    /* Truncated PNG: half of a real file, and its first 30 bytes (IHDR cut). */
+    PIX *g = gray_pix(200, 150, 9);
+    write_pix(g, tmp("full.png"), IFF_PNG);
+    size_t size = 0;
+    uint8_t *bytes = tu_read_file(tmp("full.png"), &size);
+    if (!bytes || size < 100) tu_die("cannot read back full.png");
+    tu_write_file(tmp("half.png"), bytes, size / 2);
+    expect_failure(tmp("half.png"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "truncated png (half)");
+    tu_write_file(tmp("cut.png"), bytes, 30);
+    expect_failure(tmp("cut.png"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "truncated png (30 B)");
+    /* A real image over a small max_pixels. */
+    expect_failure(tmp("full.png"), LT_ELIMIT, 200 * 150 - 1, "png over max_pixels");
+
+    /* A PNG header claiming 100000 x 100000 pixels (10^10, over the 2 * 10^8 default), with a
+     * correct CRC and no image data: LT_ELIMIT from the header, before any decoding. */
+    uint8_t huge[8 + 25 + 12];
+    memcpy(huge, "\x89PNG\r\n\x1a\n", 8);
+    put32(huge + 8, 13);
+    memcpy(huge + 12, "IHDR", 4);
+    put32(huge + 16, 100000);
+    put32(huge + 20, 100000);
+    memcpy(huge + 24, "\x08\x00\x00\x00\x00", 5); /* 8-bit gray, no interlace */
+    put32(huge + 29, crc32_png(huge + 12, 17));
+    put32(huge + 33, 0);
+    memcpy(huge + 37, "IEND", 4);
+    put32(huge + 41, crc32_png(huge + 37, 4));
+    tu_write_file(tmp("huge.png"), huge, sizeof huge);
+    expect_failure(tmp("huge.png"), LT_ELIMIT, LT_DEFAULT_MAX_PIXELS, "png claiming 10^10 px");
+    const char *pgm = "P5\n60000 60000\n255\n\x01\x02\x03\x04\x05\x06\x07\x08";
+    tu_write_file(tmp("huge.pgm"), pgm, strlen(pgm));
+    expect_failure(tmp("huge.pgm"), LT_ELIMIT, LT_DEFAULT_MAX_PIXELS, "pgm claiming 3.6e9 px");
+
+    /* Missing file and a folder: LT_EIO. */
+    expect_failure(tmp("no-such-page.png"), LT_EIO, LT_DEFAULT_MAX_PIXELS, "missing file");
+    expect_failure(dir, LT_EIO, LT_DEFAULT_MAX_PIXELS, "a folder");
+    /* From memory: garbage and nothing, named by the caller. */
+    lt_error err = {0}, e2 = {0};
+    lt_source *src = NULL;
+    CHECK_INT(lt_source_open_memory(text, strlen(text), "clipboard", 1, &src, &err), LT_EFORMAT,
+              "memory garbage: return code");
+    CHECK(strstr(err.message, "clipboard") != NULL, "memory garbage: message '%s'", err.message);
+    CHECK_INT(lt_source_open_memory(text, 0, "nothing", 1, &src, &e2), LT_EFORMAT,
+              "memory empty: return code");
+    CHECK(src == NULL, "bad memory input: a source came back");
+    free(bytes);
+    pixDestroy(&g);
+}
+
+int main(void)
+{
+    setMsgSeverity(L_SEVERITY_NONE);
+    double t0 = tu_now_s();
+    tu_mkdtemp(dir, sizeof dir);
+    test_png();
+    test_jpeg_pnm();
+    test_tiff();
+    test_resolution();
+    test_bad_input();
+    tu_rmtree(dir);
+    struct stat st;
+    CHECK(stat(dir, &st) != 0 && errno == ENOENT, "temp folder %s not removed", dir);
+    printf("time %.2f s\n", tu_now_s() - t0);
+    return tu_summary("test_load");
+}
