@@ -4,6 +4,8 @@
 #include "internal.h"
 
 #include <leptonica/allheaders.h>
+#include <png.h>
+#include <setjmp.h>
 
 #include <errno.h>
 #include <stdio.h>
@@ -216,6 +218,106 @@ static PIX *normalise(PIX *pix)
     return pixConvertTo8(pix, 0);
 }
 
+/* ---- PNG through libpng directly: its messages are kept, never printed ------------------- */
+typedef struct png_input {
+    const uint8_t *data;
+    size_t size, pos;
+    char message[160];
+} png_input;
+
+static void png_read_memory(png_structp png, png_bytep out, png_size_t n)
+{
+    png_input *in = png_get_io_ptr(png);
+    if (n > in->size - in->pos) png_error(png, "truncated data");
+    memcpy(out, in->data + in->pos, n);
+    in->pos += n;
+}
+
+static void png_fail(png_structp png, png_const_charp msg)
+{
+    png_input *in = png_get_error_ptr(png);
+    snprintf(in->message, sizeof in->message, "%s", msg);
+    png_longjmp(png, 1);
+}
+
+static void png_ignore_warning(png_structp png, png_const_charp msg)
+{
+    (void)png;
+    (void)msg;
+}
+
+/* Decodes a PNG to 8-bit gray (colour by luminance, alpha composited over white paper) or,
+ * for 1-bit gray or two-colour palette, to an ink image (dark = ink). Dimensions were checked against the limit already. */
+static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
+{
+    png_input in = {src->data, src->size, 0, "corrupt data"};
+    png_structp png = png_create_read_struct(PNG_LIBPNG_VER_STRING, &in, png_fail,
+                                             png_ignore_warning);
+    png_infop info = png ? png_create_info_struct(png) : NULL;
+    uint8_t *volatile pixels = NULL;
+    png_bytep *volatile rows = NULL;
+    lt_image *volatile img = NULL;
+    if (!png || !info) {
+        png_destroy_read_struct(png ? &png : NULL, NULL, NULL);
+        return lt_error_set(err, LT_ENOMEM, "%s: out of memory", src->name);
+    }
+    if (setjmp(png_jmpbuf(png))) {
+        png_destroy_read_struct(&png, &info, NULL);
+        free(pixels);
+        free(rows);
+        lt_image_free(img);
+        return lt_error_set(err, LT_EFORMAT, "%s: page 1: cannot decode PNG (%s)", src->name,
+                            in.message);
+    }
+    png_set_read_fn(png, &in, png_read_memory);
+    png_set_user_limits(png, 1u << 24, 1u << 24);
+    png_set_chunk_malloc_max(png, 64u << 20);
+    png_read_info(png, info);
+    const png_uint_32 w = png_get_image_width(png, info), h = png_get_image_height(png, info);
+    const int depth = png_get_bit_depth(png, info), type = png_get_color_type(png, info);
+    const int one_bit = depth == 1 &&
+                        (type == PNG_COLOR_TYPE_GRAY || type == PNG_COLOR_TYPE_PALETTE) &&
+                        !png_get_valid(png, info, PNG_INFO_tRNS);
+    if (type == PNG_COLOR_TYPE_PALETTE) png_set_palette_to_rgb(png);
+    if (type == PNG_COLOR_TYPE_GRAY && depth < 8) png_set_expand_gray_1_2_4_to_8(png);
+    if (png_get_valid(png, info, PNG_INFO_tRNS)) png_set_tRNS_to_alpha(png);
+    if (depth == 16) png_set_strip_16(png);
+    if (type & PNG_COLOR_MASK_COLOR || type == PNG_COLOR_TYPE_PALETTE)
+        png_set_rgb_to_gray_fixed(png, 1, -1, -1);
+    png_set_interlace_handling(png);
+    png_read_update_info(png, info);
+    const int channels = png_get_channels(png, info); /* 1 (gray) or 2 (gray + alpha) */
+    const size_t rowbytes = png_get_rowbytes(png, info);
+    if (channels < 1 || channels > 2 || rowbytes != (size_t)w * channels)
+        png_error(png, "unsupported pixel layout");
+    pixels = malloc(rowbytes * h);
+    rows = malloc(sizeof *rows * h);
+    img = lt_image_new((int)w, (int)h, one_bit ? LT_IMAGE_INK : LT_IMAGE_GRAY);
+    if (!pixels || !rows || !img) png_error(png, "out of memory");
+    for (png_uint_32 y = 0; y < h; y++) rows[y] = pixels + (size_t)y * rowbytes;
+    png_read_image(png, rows);
+    png_uint_32 res_x = 0, res_y = 0;
+    int unit = 0;
+    if (png_get_pHYs(png, info, &res_x, &res_y, &unit) && unit == PNG_RESOLUTION_METER)
+        img->dpi = res_x * 0.0254;
+    png_destroy_read_struct(&png, &info, NULL);
+    const size_t n = (size_t)w * h;
+    if (channels == 2) {
+        for (size_t i = 0; i < n; i++) {
+            unsigned v = pixels[2 * i], a = pixels[2 * i + 1];
+            img->pixels[i] = (uint8_t)((v * a + 255u * (255u - a) + 127u) / 255u);
+        }
+    } else if (one_bit) {
+        for (size_t i = 0; i < n; i++) img->pixels[i] = pixels[i] < 128;
+    } else {
+        memcpy(img->pixels, pixels, n);
+    }
+    free(pixels);
+    free(rows);
+    *out = img;
+    return 0;
+}
+
 int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out,
                         lt_error *err)
 {
@@ -236,6 +338,7 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
         return lt_error_set(err, LT_ELIMIT,
                             "%s: page %d: %d x %d pixels, more than the limit of %ld", src->name,
                             index + 1, (int)w, (int)h, max_pixels);
+    if (src->format == IFF_PNG) return decode_png(src, out, err);
     PIX *pix = is_tiff(src->format) ? pixReadMemTiff(src->data, src->size, index)
                                     : pixReadMem(src->data, src->size);
     if (!pix)
