@@ -360,6 +360,44 @@ done:
     return rc;
 }
 
+/* Groups lying inside a much taller group (the dots and accents of large type) are part of
+ * it: a group joins the first group at least twice its height whose box holds its centre,
+ * allowing half its own height above. */
+static int absorb_nested(const lt_components *c, const uint8_t *body, int *parent, int n)
+{
+    lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
+    int *roots = malloc(((size_t)n + 1) * sizeof *roots);
+    if (!boxes || !roots) {
+        free(boxes);
+        free(roots);
+        return LT_ENOMEM;
+    }
+    for (int i = 0; i < n; i++)
+        if (body[i] && find_root(parent, i) == i) boxes[i] = c->items[i].box;
+    for (int i = 0; i < n; i++)
+        if (body[i] || find_root(parent, i) != i) grow(&boxes[find_root(parent, i)], &c->items[i].box);
+    int nr = 0;
+    for (int i = 0; i < n; i++)
+        if (body[i] && find_root(parent, i) == i) roots[nr++] = i;
+    for (int a = 0; a < nr && nr <= 5000; a++) {
+        const lt_box *g = &boxes[roots[a]];
+        const double cx = 0.5 * (g->left + g->right), cy = 0.5 * (g->top + g->bottom);
+        const int h = box_h(g);
+        for (int b = 0; b < nr; b++) {
+            const lt_box *host = &boxes[roots[b]];
+            if (b == a || box_h(host) < 2 * h) continue;
+            if (cx >= host->left && cx < host->right && cy >= host->top - 0.5 * h &&
+                cy < host->bottom) {
+                unite(parent, roots[a], roots[b]);
+                break;
+            }
+        }
+    }
+    free(boxes);
+    free(roots);
+    return 0;
+}
+
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that is not in a gutter. */
 static int join_rows(const lt_components *c, const uint8_t *body, int *parent, int n,
@@ -463,7 +501,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
-        join_rows(c, body, parent, n, th, max_gap, &occ))
+        join_rows(c, body, parent, n, th, max_gap, &occ) || absorb_nested(c, body, parent, n))
         goto nomem;
 
     /* One raw line per group. */
