@@ -103,7 +103,8 @@ typedef struct lt_params {
     double speckle_max;    /* text units: components smaller in both sides are speckle (0.2) */
     double rule_min_aspect;     /* long side / short side of a rule (default 12) */
     double picture_min_height;  /* text units: taller components are non-text (default 6) */
-    double link_max_gap;        /* text units: widest gap bridged inside a line (default 2.2) */
+    double link_max_gap;        /* text units: widest gap bridged inside a line unless it lies
+                                   in a gutter (default 3.5: stretched spaces, leaders) */
     double column_min_gap;      /* text units: narrowest gutter the XY-cut splits at (1.5) */
     double block_min_gap;       /* text units: narrowest vertical gap between blocks (1.2) */
     long max_pixels;            /* LT_DEFAULT_MAX_PIXELS */
@@ -174,8 +175,9 @@ char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, i
  * Exposed for tests, tools and embedders who need one step. */
 
 /* Sauvola & Pietikäinen (2000) with running window sums: ink where
- * gray < m * (1 + k * (s / R - 1)), m and s the mean and standard deviation of the
- * window x window neighbourhood clipped to the image. O(pixels), any window. */
+ * gray <= m * (1 + k * (s / R - 1)), m and s the mean and standard deviation of the
+ * neighbourhood of pixels at most window_px / 2 away (an even window acts as window_px + 1),
+ * clipped to the image. A flat black area is ink. O(pixels), any window. */
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                 lt_error *err);
 

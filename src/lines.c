@@ -422,7 +422,6 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
         const lt_box *ba = &boxes[roots[a].index];
         for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
             const lt_box *bb = &boxes[roots[b].index];
-            if (bb->left < ba->right) continue; /* overlapping in x: not side by side */
             int top = ba->top > bb->top ? ba->top : bb->top;
             int bottom = ba->bottom < bb->bottom ? ba->bottom : bb->bottom;
             int hmin = box_h(ba) < box_h(bb) ? box_h(ba) : box_h(bb);
