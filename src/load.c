@@ -100,7 +100,8 @@ static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pa
         return lt_error_set(err, LT_EFORMAT, "%s: empty file", name);
     }
     l_int32 format = IFF_UNKNOWN;
-    if (size < 12 || findFileFormatBuffer(data, &format) || format == IFF_UNKNOWN) {
+    if (size < 12 || findFileFormatBuffer(data, &format) ||
+        strcmp(lt_source_format(&(lt_source){.format = format}), "unknown") == 0) {
         free(data);
         return lt_error_set(err, LT_EFORMAT, "%s: not an image file (unknown format)", name);
     }
