@@ -1,0 +1,35 @@
+/* fuzz_json.c — libFuzzer harness for the scorer's JSON reader: parse a buffer as one or more
+ * layout / ground-truth page objects and free the result (coverage-guided fuzzing as in
+ * LLVM's libFuzzer; build and run with fuzz/run.sh). Never prints. */
+#include "score.h"
+
+#include <stddef.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
+
+/* One input, parsed from a private copy of exactly `size` bytes with no NUL after them, so
+ * that AddressSanitizer reports any read past the end that the reader's length handling
+ * would allow. A parse error is an ordinary outcome. */
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
+{
+    char *copy = malloc(size ? size : 1);
+    if (!copy) return 0;
+    for (size_t i = 0; i < size; i++) copy[i] = (char)data[i];
+    lt_error err = {0};
+    lt_scored_page *pages = NULL;
+    int npages = 0;
+    if (lt_scored_pages_parse(copy, size, "fuzz-input", &pages, &npages, &err) == 0) {
+        /* The contract: a successful parse gives at least one page. */
+        if (npages < 1 || !pages) abort();
+    } else if (pages || npages != 0 || err.code == 0 || err.message[0] == '\0' ||
+               strchr(err.message, '\n') || strncmp(err.message, "fuzz-input", 10) != 0) {
+        /* The contract: on failure *pages is NULL, *npages 0, and one line names the file. */
+        abort();
+    }
+    lt_scored_pages_free(pages, npages);
+    free(copy);
+    return 0;
+}

@@ -1,0 +1,158 @@
+"""Table of bad inputs: each case is a file built here, the exit status lineate must give and a
+fragment its one-line message must contain. Every case must finish within 10 s; in one batch
+run of all cases, every good page still comes out. Run by tests/bad_input.sh."""
+import io, os, resource, struct, subprocess, sys, tempfile, zlib
+
+import numpy as np
+from PIL import Image
+
+LINEATE = sys.argv[1]
+SRC = sys.argv[2]
+TIMEOUT_S = 10
+LIMIT_BYTES = 2 << 30  # 2 GiB of address space per run (skipped under sanitizers)
+
+
+def png_bytes(img):
+    out = io.BytesIO()
+    img.save(out, format="PNG")
+    return out.getvalue()
+
+
+def page(w=600, h=400):
+    """A small gray page with three dark text-like bars."""
+    a = np.full((h, w), 255, np.uint8)
+    for row in range(3):
+        y = 60 + row * 40
+        for x in range(40, w - 60, 30):
+            a[y:y + 18, x:x + 20] = 0
+    return Image.fromarray(a)
+
+
+def chunk(kind, data):
+    return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
+
+
+def png_header_bomb():
+    # A valid signature and IHDR claiming 100000 x 100000 pixels (PNG spec, ISO/IEC 15948).
+    ihdr = struct.pack(">IIBBBBB", 100000, 100000, 8, 0, 0, 0, 0)
+    return b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", ihdr) + chunk(b"IEND", b"")
+
+
+def tiff_pages(n, broken=None):
+    """n deflate-compressed pages; page `broken` (1-based) gets its image data overwritten."""
+    out = io.BytesIO()
+    imgs = [page(300 + 20 * i, 200) for i in range(n)]
+    imgs[0].save(out, format="TIFF", save_all=True, append_images=imgs[1:],
+                 compression="tiff_deflate")
+    data = bytearray(out.getvalue())
+    if broken:
+        im = Image.open(io.BytesIO(bytes(data)))
+        im.seek(broken - 1)
+        offsets, counts = im.tag_v2[273], im.tag_v2[279]
+        for off, cnt in zip(offsets, counts):
+            data[off:off + cnt] = b"\xa5" * cnt
+    return bytes(data)
+
+
+def jpeg_bytes():
+    out = io.BytesIO()
+    page().save(out, format="JPEG", quality=80)
+    return out.getvalue()
+
+
+def noise(fraction):
+    rng = np.random.default_rng(7)
+    a = np.where(rng.random((1200, 900)) < fraction, 0, 255).astype(np.uint8)
+    return png_bytes(Image.fromarray(a))
+
+
+good_png = png_bytes(page())
+good_tiff = tiff_pages(1)
+CASES = [
+    # name, file name, bytes, exit status, message fragment (None: success)
+    ("good page", "good.png", good_png, 0, None),
+    ("zero bytes", "empty.png", b"", 1, "empty file"),
+    ("text with an image extension", "notes.png", b"minutes of the meeting\n" * 20, 1,
+     "not an image file"),
+    ("truncated PNG", "trunc.png", good_png[: len(good_png) // 2], 1, "cannot decode"),
+    ("truncated PNG header", "trunc-header.png", good_png[:30], 1, "trunc-header.png"),
+    ("truncated TIFF", "trunc.tif", good_tiff[: len(good_tiff) // 2], 1, "trunc.tif"),
+    ("truncated JPEG", "trunc.jpg", jpeg_bytes()[: len(jpeg_bytes()) // 2], None, None),
+    ("PNG header bomb 100000 x 100000", "bomb.png", png_header_bomb(), 1, "more than the limit"),
+    ("1 x 1 pixel", "dot.png", png_bytes(Image.new("L", (1, 1), 255)), 0, None),
+    ("1 x 100000 pixels", "thread.png", png_bytes(Image.new("L", (1, 100000), 255)), 0, None),
+    ("all white", "white.png", png_bytes(Image.new("L", (900, 1200), 255)), 0, None),
+    ("all black", "black.png", png_bytes(Image.new("L", (900, 1200), 0)), 0, None),
+    ("salt and pepper 50%", "noise.png", noise(0.5), 0, None),
+    ("4-page TIFF, page 3 broken", "broken3.tif", tiff_pages(4, broken=3), 1, "page 3"),
+]
+# Inputs that once crashed or hung lineate (found by fuzzing, kept in testdata/bad): any
+# clean outcome, exit 0 or 1 with at most one message, within the time limit.
+BAD_DIR = os.path.join(SRC, "testdata", "bad")
+for fname in sorted(os.listdir(BAD_DIR)) if os.path.isdir(BAD_DIR) else []:
+    if fname.endswith((".json", ".md")):
+        continue
+    with open(os.path.join(BAD_DIR, fname), "rb") as f:
+        CASES.append(("regression " + fname, fname, f.read(), None, None))
+
+
+def limit_memory():
+    if not os.environ.get("LT_SANITIZED"):
+        resource.setrlimit(resource.RLIMIT_AS, (LIMIT_BYTES, LIMIT_BYTES))
+
+
+def run(args):
+    return subprocess.run([LINEATE] + args, capture_output=True, timeout=TIMEOUT_S,
+                          preexec_fn=limit_memory)
+
+
+failed = 0
+
+
+def check(ok, what):
+    global failed
+    print(("ok   " if ok else "FAIL ") + what)
+    failed += not ok
+
+
+with tempfile.TemporaryDirectory() as tmp:
+    paths = []
+    for name, fname, data, status, fragment in CASES:
+        path = os.path.join(tmp, fname)
+        with open(path, "wb") as f:
+            f.write(data)
+        paths.append(path)
+        try:
+            r = run([path])
+        except subprocess.TimeoutExpired:
+            check(False, "%s: finishes within %d s" % (name, TIMEOUT_S))
+            continue
+        err = r.stderr.decode(errors="replace").splitlines()
+        if status is None:  # decoders may recover some of a damaged JPEG: either outcome, cleanly
+            check(r.returncode in (0, 1) and len(err) <= 1,
+                  "%s: exit %d, %d stderr line(s)" % (name, r.returncode, len(err)))
+            continue
+        check(r.returncode == status, "%s: exit %d (want %d)" % (name, r.returncode, status))
+        if fragment is None:
+            check(not err, "%s: no message (%s)" % (name, err[:1]))
+            check(len(r.stdout.splitlines()) >= 1, "%s: a JSON line" % name)
+        else:
+            one = len(err) == 1 and fname in err[0] and fragment in err[0]
+            check(one, "%s: one line naming the file with '%s' (%s)" % (name, fragment, err))
+    # One batch: every good page comes out, the bad ones are reported, the exit says so.
+    r = run(paths)
+    good_pages = sum(1 for c in CASES if c[3] == 0) + 3  # pages 1, 2, 4 of broken3.tif
+    lines = r.stdout.splitlines()
+    maybe = 1 if any(c[3] is None for c in CASES) else 0
+    check(r.returncode == 1, "batch: exit 1 (%d)" % r.returncode)
+    check(good_pages <= len(lines) <= good_pages + maybe,
+          "batch: %d JSON lines for %d good pages" % (len(lines), good_pages))
+    # A reader that closes the pipe early: exit 3 with a message, no crash.
+    p = subprocess.Popen([LINEATE] + [paths[0]] * 200, stdout=subprocess.PIPE,
+                         stderr=subprocess.PIPE)
+    p.stdout.read(10)
+    p.stdout.close()
+    err = p.stderr.read().decode()
+    p.wait(timeout=60)
+    check(p.returncode == 3 and "output" in err, "closed pipe: exit %d, '%s'" % (p.returncode, err.strip()))
+sys.exit(1 if failed else 0)
