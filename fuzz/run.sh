@@ -1,0 +1,126 @@
+#!/bin/sh
+# run.sh — builds lineate's two libFuzzer harnesses with AddressSanitizer and UBSan and runs
+# each for SECONDS on a working copy of its seed corpus; prints executions and findings.
+#
+# Usage: sh fuzz/run.sh SECONDS [image] [json]      (no harness named: both, one after another)
+#
+# Everything it writes lies under fuzz/build/ of the source tree that holds this script:
+#   fuzz/build/fuzz_image, fuzz_json   the harness binaries
+#   fuzz/build/corpus-image, -json     working corpora, seeded from fuzz/seeds/* on first use
+#                                      and kept between runs (libFuzzer adds to them)
+#   fuzz/build/findings-image, -json   crash-*, leak-*, timeout-*, oom-* inputs
+#   fuzz/build/NAME.log                libFuzzer's output of the last run
+# Exit status: 0 when no harness found anything, 1 when one did, 2 on a usage or build error.
+# Environment: CC (default clang), FUZZ_JOBS_NICE (default 10: the runs are niced).
+set -eu
+
+usage() {
+    echo "usage: sh fuzz/run.sh SECONDS [image] [json]" >&2
+    exit 2
+}
+
+[ $# -ge 1 ] || usage
+seconds=$1
+shift
+case $seconds in
+'' | *[!0-9]*) usage ;;
+esac
+[ "$seconds" -ge 1 ] || usage
+harnesses=${*:-image json}
+for h in $harnesses; do
+    case $h in
+    image | json) ;;
+    *) usage ;;
+    esac
+done
+
+here=$(cd "$(dirname "$0")" && pwd)
+top=$(cd "$here/.." && pwd)
+build=$here/build
+cc=${CC:-clang}
+niceness=${FUZZ_JOBS_NICE:-10}
+mkdir -p "$build"
+
+command -v "$cc" >/dev/null 2>&1 || {
+    echo "run.sh: $cc not found (Debian: apt-get install clang libclang-rt-14-dev)" >&2
+    exit 2
+}
+deps=$(pkg-config --cflags --libs lept libtiff-4 libpng libcjson) || {
+    echo "run.sh: pkg-config cannot find lept, libtiff-4, libpng or libcjson" >&2
+    exit 2
+}
+
+# Builds into a private folder, then renames the binaries into place, so that two runs
+# started together (one per harness) never share a half-written object file.
+stage=$(mktemp -d "$build/stage.XXXXXX")
+trap 'rm -rf "$stage"' EXIT INT TERM
+cflags="-fsanitize=fuzzer,address,undefined -g -O1 -std=c11 -D_POSIX_C_SOURCE=200809L"
+cflags="$cflags -Wall -Wextra -I$top/src"
+objs=
+for src in "$top"/src/*.c; do
+    base=$(basename "$src" .c)
+    case $base in
+    main | cmd_*) continue ;;
+    esac
+    # shellcheck disable=SC2086 # word splitting of the flag lists is intended
+    "$cc" $cflags $(pkg-config --cflags lept libtiff-4 libpng libcjson) \
+        -c "$src" -o "$stage/$base.o" || {
+        echo "run.sh: cannot compile src/$base.c" >&2
+        exit 2
+    }
+    objs="$objs $stage/$base.o"
+done
+for h in $harnesses; do
+    # shellcheck disable=SC2086
+    "$cc" $cflags "$here/fuzz_$h.c" $objs $deps -lm -o "$stage/fuzz_$h" || {
+        echo "run.sh: cannot build fuzz/fuzz_$h.c" >&2
+        exit 2
+    }
+    mv -f "$stage/fuzz_$h" "$build/fuzz_$h"
+done
+
+# UBSan: stop at the first report (by default it prints and goes on) so libFuzzer keeps it.
+UBSAN_OPTIONS=${UBSAN_OPTIONS:-halt_on_error=1:abort_on_error=1:print_stacktrace=1}
+ASAN_OPTIONS=${ASAN_OPTIONS:-detect_leaks=1:allocator_may_return_null=1}
+export UBSAN_OPTIONS ASAN_OPTIONS
+
+status=0
+for h in $harnesses; do
+    case $h in
+    image) max_len=65536 ;;
+    json) max_len=16384 ;;
+    esac
+    corpus=$build/corpus-$h
+    findings=$build/findings-$h
+    log=$build/$h.log
+    if [ ! -d "$corpus" ]; then
+        mkdir -p "$corpus"
+        cp "$here/seeds/$h"/* "$corpus/"
+    fi
+    mkdir -p "$findings"
+    dict=
+    [ -f "$here/seeds/$h.dict" ] && dict="-dict=$here/seeds/$h.dict"
+    before=$(find "$findings" -type f | wc -l)
+    stamp=$build/$h.start
+    : >"$stamp"
+    echo "fuzz_$h: fuzzing for $seconds s (log: fuzz/build/$h.log)"
+    rc=0
+    # shellcheck disable=SC2086
+    nice -n "$niceness" "$build/fuzz_$h" -max_total_time="$seconds" -timeout=10 \
+        -rss_limit_mb=2048 -max_len="$max_len" -print_final_stats=1 \
+        -artifact_prefix="$findings/" $dict "$corpus" >"$log" 2>&1 || rc=$?
+    runs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -n 1)
+    [ -n "$runs" ] || runs=$(sed -n 's/^Done \([0-9]*\) runs.*/\1/p' "$log" | tail -n 1)
+    [ -n "$runs" ] || runs=$(sed -n 's/^#\([0-9]*\).*/\1/p' "$log" | tail -n 1)
+    after=$(find "$findings" -type f | wc -l)
+    new=$((after - before))
+    echo "fuzz_$h: ${runs:-?} executions, $new new finding(s), corpus $(ls "$corpus" | wc -l) files"
+    if [ "$new" -gt 0 ] || [ "$rc" -ne 0 ]; then
+        status=1
+        grep -m 1 -E '^==[0-9]+==ERROR|^SUMMARY|runtime error|ALARM|out-of-memory' "$log" || true
+        find "$findings" -type f -newer "$stamp" | sed 's/^/  /'
+
+        echo "fuzz_$h: libFuzzer exited with $rc; see fuzz/build/$h.log"
+    fi
+done
+exit $status
