@@ -16,6 +16,15 @@ int lt_cmp_double(const void *a, const void *b);
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
 double lt_median(double *v, int n);
 
+/* ---- TIFF (load_tiff.c) --------------------------------------------------------------- */
+/* Number of pages (directories) of a TIFF in memory. */
+int lt_tiff_count_pages(const uint8_t *data, size_t size, const char *name, int *pages,
+                        lt_error *err);
+/* Decodes page `index` (0-based): 1-bit pages to ink, others to 8-bit gray; the size is
+ * checked against max_pixels before any pixel is decoded. */
+int lt_tiff_read_page(const uint8_t *data, size_t size, const char *name, int index,
+                      long max_pixels, lt_image **out, lt_error *err);
+
 /* ---- geometry (geom.c) ---------------------------------------------------------------- */
 /* Maps between the deskewed frame (the canvas lt_rotate_ink produces) and the original
  * image. Built once per page; all output coordinates pass through it. */

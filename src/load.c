@@ -1,5 +1,6 @@
-/* load.c — reads PNG, TIFF (every page), JPEG, PNM and the other formats leptonica decodes,
- * and normalises each page to 8-bit gray, or to an ink image when the page is 1-bit.
+/* load.c — reads PNG (libpng), TIFF (every page, load_tiff.c), JPEG, PNM and the other
+ * formats leptonica decodes, and normalises each page to 8-bit gray, or to an ink image when
+ * the page is 1-bit.
  * Files are read into memory once; every page's size is checked before it is decoded. */
 #include "internal.h"
 
@@ -78,18 +79,6 @@ static int slurp(FILE *fp, const char *name, uint8_t **data, size_t *size, lt_er
     return 0;
 }
 
-static int count_tiff_pages(const uint8_t *data, size_t size, int *pages)
-{
-    FILE *fp = fmemopen((void *)data, size, "rb");
-    if (!fp) return -1;
-    l_int32 n = 0;
-    int bad = tiffGetCount(fp, &n);
-    fclose(fp);
-    if (bad || n <= 0) return -1;
-    *pages = n;
-    return 0;
-}
-
 static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pages,
                        lt_source **out, lt_error *err)
 {
@@ -106,10 +95,9 @@ static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pa
         return lt_error_set(err, LT_EFORMAT, "%s: not an image file (unknown format)", name);
     }
     int pages = 1;
-    if (is_tiff(format) && count_tiff_pages(data, size, &pages)) {
+    if (is_tiff(format) && lt_tiff_count_pages(data, size, name, &pages, err)) {
         free(data);
-        return lt_error_set(err, LT_EFORMAT, "%s: corrupt TIFF (no readable page directory)",
-                            name);
+        return err ? err->code : LT_EFORMAT;
     }
     if (pages > max_pages) {
         free(data);
@@ -325,13 +313,10 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
     *out = NULL;
     if (!src || index < 0 || index >= src->pages)
         return lt_error_set(err, LT_EINVAL, "%s: no page %d", src ? src->name : "?", index + 1);
-    l_int32 w = 0, h = 0, bps = 0, spp = 0, cmap = 0, fmt = 0, res = 0;
-    int bad;
     if (is_tiff(src->format))
-        bad = readHeaderMemTiff(src->data, src->size, index, &w, &h, &bps, &spp, &res, &cmap,
-                                &fmt);
-    else
-        bad = pixReadHeaderMem(src->data, src->size, &fmt, &w, &h, &bps, &spp, &cmap);
+        return lt_tiff_read_page(src->data, src->size, src->name, index, max_pixels, out, err);
+    l_int32 w = 0, h = 0, bps = 0, spp = 0, cmap = 0, fmt = 0;
+    int bad = pixReadHeaderMem(src->data, src->size, &fmt, &w, &h, &bps, &spp, &cmap);
     if (bad || w <= 0 || h <= 0)
         return lt_error_set(err, LT_EFORMAT, "%s: page %d: unreadable image header", src->name,
                             index + 1);
@@ -340,8 +325,7 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
                             "%s: page %d: %d x %d pixels, more than the limit of %ld", src->name,
                             index + 1, (int)w, (int)h, max_pixels);
     if (src->format == IFF_PNG) return decode_png(src, out, err);
-    PIX *pix = is_tiff(src->format) ? pixReadMemTiff(src->data, src->size, index)
-                                    : pixReadMem(src->data, src->size);
+    PIX *pix = pixReadMem(src->data, src->size);
     if (!pix)
         return lt_error_set(err, LT_EFORMAT, "%s: page %d: cannot decode (corrupt or truncated)",
                             src->name, index + 1);
