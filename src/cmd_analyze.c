@@ -29,6 +29,7 @@ static const char usage_text[] =
     "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n"
     "      --max-pixels N    refuse pages larger than N pixels (default 200000000)\n"
     "      --max-pages N     refuse files with more than N pages (default 10000)\n"
+    "      --max-components N  refuse pages with more than N ink components (default 2000000)\n"
     "  -h, --help            show this help and exit\n"
     "  -V, --version         show the version and exit\n"
     "\n"
@@ -36,7 +37,7 @@ static const char usage_text[] =
     "2 bad command line, 3 the output could not be written.\n";
 
 enum { OPT_PRETTY = 256, OPT_DPI, OPT_FORCE_DPI, OPT_WINDOW, OPT_K, OPT_MAX_SKEW,
-       OPT_MAX_PIXELS, OPT_MAX_PAGES };
+       OPT_MAX_PIXELS, OPT_MAX_PAGES, OPT_MAX_COMPONENTS };
 
 static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
 {
@@ -142,6 +143,7 @@ int lt_cmd_analyze(int argc, char **argv)
         {"max-skew", required_argument, NULL, OPT_MAX_SKEW},
         {"max-pixels", required_argument, NULL, OPT_MAX_PIXELS},
         {"max-pages", required_argument, NULL, OPT_MAX_PAGES},
+        {"max-components", required_argument, NULL, OPT_MAX_COMPONENTS},
         {"help", no_argument, NULL, 'h'},
         {"version", no_argument, NULL, 'V'},
         {NULL, 0, NULL, 0}};
@@ -176,6 +178,10 @@ int lt_cmd_analyze(int argc, char **argv)
             break;
         case OPT_MAX_PAGES:
             if (parse_number("--max-pages", optarg, 1, 1e9, &max_pages)) return LT_EXIT_USAGE;
+            break;
+        case OPT_MAX_COMPONENTS:
+            if (parse_number("--max-components", optarg, 1, 1e9, &v)) return LT_EXIT_USAGE;
+            params.max_components = (long)v;
             break;
         case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;
         case 'V': printf("lineate %s\n", LT_VERSION_STRING); return LT_EXIT_OK;
