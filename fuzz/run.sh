@@ -11,7 +11,9 @@
 #   fuzz/build/findings-image, -json   crash-*, leak-*, timeout-*, oom-* inputs
 #   fuzz/build/NAME.log                libFuzzer's output of the last run
 # Exit status: 0 when no harness found anything, 1 when one did, 2 on a usage or build error.
-# Environment: CC (default clang), FUZZ_JOBS_NICE (default 10: the runs are niced).
+# Environment: CC (default clang), FUZZ_JOBS_NICE (default 10: the runs are niced),
+#   LT_CONFIG_DIR: folder holding the config.h that ./configure wrote (default: the top of
+#   the source tree; give the build folder for a build outside the source tree).
 set -eu
 
 usage() {
@@ -45,6 +47,12 @@ command -v "$cc" >/dev/null 2>&1 || {
     echo "run.sh: $cc not found (Debian: apt-get install clang libclang-rt-14-dev)" >&2
     exit 2
 }
+config_dir=${LT_CONFIG_DIR:-$top}
+[ -f "$config_dir/config.h" ] || {
+    echo "run.sh: $config_dir/config.h not found: run ./configure first" \
+        "(or set LT_CONFIG_DIR to the build folder)" >&2
+    exit 2
+}
 deps=$(pkg-config --cflags --libs lept libtiff-4 libpng libcjson) || {
     echo "run.sh: pkg-config cannot find lept, libtiff-4, libpng or libcjson" >&2
     exit 2
@@ -55,7 +63,7 @@ deps=$(pkg-config --cflags --libs lept libtiff-4 libpng libcjson) || {
 stage=$(mktemp -d "$build/stage.XXXXXX")
 trap 'rm -rf "$stage"' EXIT INT TERM
 cflags="-fsanitize=fuzzer,address,undefined -g -O1 -std=c11 -D_POSIX_C_SOURCE=200809L"
-cflags="$cflags -Wall -Wextra -I$top/src"
+cflags="$cflags -Wall -Wextra -I$top/src -I$config_dir"
 objs=
 for src in "$top"/src/*.c; do
     base=$(basename "$src" .c)

@@ -14,6 +14,9 @@ int lt_error_set(lt_error *err, int code, const char *fmt, ...)
         va_start(ap, fmt);
         vsnprintf(err->message, sizeof err->message, fmt, ap);
         va_end(ap);
+        /* One line whatever the input put in it (file names, strings from a JSON file). */
+        for (char *c = err->message; *c; c++)
+            if ((unsigned char)*c < 0x20 || *c == 0x7f) *c = '?';
         err->code = code;
     }
     return code;

@@ -155,4 +155,17 @@ with tempfile.TemporaryDirectory() as tmp:
     err = p.stderr.read().decode()
     p.wait(timeout=60)
     check(p.returncode == 3 and "output" in err, "closed pipe: exit %d, '%s'" % (p.returncode, err.strip()))
+    # JSON that once broke the reader of `lineate score`: exit 0 or 1, at most one message.
+    for fname in sorted(os.listdir(BAD_DIR)) if os.path.isdir(BAD_DIR) else []:
+        if not fname.endswith(".json"):
+            continue
+        path = os.path.join(BAD_DIR, fname)
+        try:
+            r = run(["score", path, path])
+        except subprocess.TimeoutExpired:
+            check(False, "score regression %s: finishes within %d s" % (fname, TIMEOUT_S))
+            continue
+        err = r.stderr.decode(errors="replace").splitlines()
+        check(r.returncode in (0, 1) and len(err) <= 1,
+              "score regression %s: exit %d, %d stderr line(s)" % (fname, r.returncode, len(err)))
 sys.exit(1 if failed else 0)
