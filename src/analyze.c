@@ -17,9 +17,8 @@ static int auto_window(double dpi)
 
 /* Fills layout->lines and ->blocks: text blocks in reading order, then one block per rule
  * or picture component. */
-static int assemble(lt_layout *out, const lt_raw_lines *raw, const int *order,
-                    const int *block_of, int ntext_blocks, const lt_components *comps,
-                    const lt_frame *frame)
+static int assemble(lt_layout *out, const lt_raw_lines *raw, const int *order, const int *block_of,
+                    int ntext_blocks, const lt_components *comps, const lt_frame *frame)
 {
     int nontext = 0;
     for (int i = 0; i < comps->count; i++) {
@@ -102,8 +101,8 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     /* 1. Binarize (1-bit input is used as it is). */
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
-        int window = params->sauvola_window_px > 0 ? params->sauvola_window_px
-                                                   : auto_window(res->dpi);
+        int window =
+            params->sauvola_window_px > 0 ? params->sauvola_window_px : auto_window(res->dpi);
         rc = lt_binarize(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
         if (rc) goto done;
         ink = ink_own;

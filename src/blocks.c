@@ -63,9 +63,11 @@ static int leaf_lines(lt_cut_node *node, const lt_raw_line *lines, const int *id
         free(items);
         return LT_ENOMEM;
     }
-    for (int i = 0; i < n; i++) items[i] = (leaf_item){lines[idx[i]].box, idx[i]};
+    for (int i = 0; i < n; i++)
+        items[i] = (leaf_item){lines[idx[i]].box, idx[i]};
     qsort(items, (size_t)n, sizeof *items, cmp_leaf);
-    for (int i = 0; i < n; i++) node->lines[i] = items[i].line;
+    for (int i = 0; i < n; i++)
+        node->lines[i] = items[i].line;
     node->nlines = n;
     free(items);
     return 0;
@@ -87,8 +89,8 @@ static lt_cut_node *node_new(const lt_raw_line *lines, const int *idx, int n)
 }
 
 /* Builds the subtree of lines idx[0..n), n >= 1. `spans` is scratch room for n spans. */
-static lt_cut_node *cut(const lt_raw_line *lines, int *idx, int n, double col_gap,
-                        double row_gap, span *spans)
+static lt_cut_node *cut(const lt_raw_line *lines, int *idx, int n, double col_gap, double row_gap,
+                        span *spans)
 {
     lt_cut_node *node = node_new(lines, idx, n);
     if (!node) return NULL;
@@ -153,9 +155,10 @@ int lt_xy_cut(const lt_raw_lines *lines, double text_height_px, const lt_params 
         free(spans);
         return lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
     }
-    for (int i = 0; i < lines->count; i++) idx[i] = i;
-    *root = cut(lines->items, idx, lines->count, p->column_min_gap * th,
-                p->block_min_gap * th, spans);
+    for (int i = 0; i < lines->count; i++)
+        idx[i] = i;
+    *root =
+        cut(lines->items, idx, lines->count, p->column_min_gap * th, p->block_min_gap * th, spans);
     free(idx);
     free(spans);
     return *root ? 0 : lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
@@ -164,7 +167,8 @@ int lt_xy_cut(const lt_raw_lines *lines, double text_height_px, const lt_params 
 void lt_cut_node_free(lt_cut_node *n)
 {
     if (!n) return;
-    for (int i = 0; i < n->nchildren; i++) lt_cut_node_free(n->children[i]);
+    for (int i = 0; i < n->nchildren; i++)
+        lt_cut_node_free(n->children[i]);
     free(n->children);
     free(n->lines);
     free(n);

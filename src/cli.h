@@ -6,10 +6,10 @@
 
 /* Exit statuses, documented in man/lineate.1. */
 enum {
-    LT_EXIT_OK = 0,      /* every input processed */
-    LT_EXIT_FAILED = 1,  /* at least one input could not be processed (others were) */
-    LT_EXIT_USAGE = 2,   /* bad command line */
-    LT_EXIT_OUTPUT = 3   /* the output could not be written */
+    LT_EXIT_OK = 0,     /* every input processed */
+    LT_EXIT_FAILED = 1, /* at least one input could not be processed (others were) */
+    LT_EXIT_USAGE = 2,  /* bad command line */
+    LT_EXIT_OUTPUT = 3  /* the output could not be written */
 };
 
 int lt_cmd_analyze(int argc, char **argv);

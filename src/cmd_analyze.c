@@ -6,11 +6,11 @@
 
 #include <errno.h>
 #include <fcntl.h>
-#include <sys/stat.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 static const char usage_text[] =
@@ -36,8 +36,17 @@ static const char usage_text[] =
     "Exit status: 0 all pages analysed, 1 some input failed (the others are written),\n"
     "2 bad command line, 3 the output could not be written.\n";
 
-enum { OPT_PRETTY = 256, OPT_DPI, OPT_FORCE_DPI, OPT_WINDOW, OPT_K, OPT_MAX_SKEW,
-       OPT_MAX_PIXELS, OPT_MAX_PAGES, OPT_MAX_COMPONENTS };
+enum {
+    OPT_PRETTY = 256,
+    OPT_DPI,
+    OPT_FORCE_DPI,
+    OPT_WINDOW,
+    OPT_K,
+    OPT_MAX_SKEW,
+    OPT_MAX_PIXELS,
+    OPT_MAX_PAGES,
+    OPT_MAX_COMPONENTS
+};
 
 static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
 {

@@ -63,8 +63,7 @@
 #define USAGE "usage: lineate score [--json] [--per-page] TRUTH PRED"
 
 enum { ST_SCORED = 0, ST_MISSING, ST_FAILED, ST_UNREADABLE, ST_SKIPPED };
-static const char *const status_names[] = {"scored", "missing", "failed", "unreadable",
-                                           "skipped"};
+static const char *const status_names[] = {"scored", "missing", "failed", "unreadable", "skipped"};
 
 typedef struct result {
     char *name;
@@ -126,8 +125,7 @@ static const char *base_name(const char *path)
 
 /* Appends a result; `name` is copied, with ":PAGE" appended when `page` > 0. Returns the new
  * entry or NULL when out of memory. */
-static result *add_result(results *r, const char *name, int page, const char *variant,
-                          int status)
+static result *add_result(results *r, const char *name, int page, const char *variant, int status)
 {
     if (r->count == r->cap) {
         int ncap = r->cap ? r->cap * 2 : 64;
@@ -141,8 +139,10 @@ static result *add_result(results *r, const char *name, int page, const char *va
     size_t len = strlen(name) + 16;
     e->name = malloc(len);
     if (!e->name) return NULL;
-    if (page > 0) snprintf(e->name, len, "%s:%d", name, page);
-    else snprintf(e->name, len, "%s", name);
+    if (page > 0)
+        snprintf(e->name, len, "%s:%d", name, page);
+    else
+        snprintf(e->name, len, "%s", name);
     if (variant && !(e->variant = xstrdup(variant))) {
         free(e->name);
         return NULL;
@@ -165,8 +165,7 @@ static void results_free(results *r)
  * lines, with status `absent_status`). Results are named `name`, or "name:PAGE" when
  * `numbered`. Returns 0 or a negative code with a message in err. */
 static int score_pages(results *r, const char *name, const lt_scored_page *truth, int ntruth,
-                       const lt_scored_page *pred, int absent_status, int numbered,
-                       lt_error *err)
+                       const lt_scored_page *pred, int absent_status, int numbered, lt_error *err)
 {
     static const lt_scored_page empty; /* a page with no lines and no skew */
     for (int i = 0; i < ntruth; i++) {
@@ -178,8 +177,8 @@ static int score_pages(results *r, const char *name, const lt_scored_page *truth
         if (!e) return lt_error_set(err, LT_ENOMEM, "out of memory");
         if (status == ST_SKIPPED) continue;
         if (pred && !p->failed && (p->width != t->width || p->height != t->height))
-            fprintf(stderr, "lineate: warning: %s: predicted page is %dx%d, truth %dx%d\n",
-                    e->name, p->width, p->height, t->width, t->height);
+            fprintf(stderr, "lineate: warning: %s: predicted page is %dx%d, truth %dx%d\n", e->name,
+                    p->width, p->height, t->width, t->height);
         lt_error why = {0};
         int rc = lt_score_page(t, p, &e->s, &why);
         if (rc) return lt_error_set(err, rc, "%s: %s", e->name, why.message);
@@ -263,7 +262,8 @@ static int collect_variants(const results *r, const char ***out)
         const char *x = r->items[i].variant;
         if (!x || r->items[i].status == ST_SKIPPED) continue;
         int seen = 0;
-        for (int j = 0; j < n && !seen; j++) seen = strcmp(v[j], x) == 0;
+        for (int j = 0; j < n && !seen; j++)
+            seen = strcmp(v[j], x) == 0;
         if (!seen) {
             int k = n++;
             while (k > 0 && strcmp(v[k - 1], x) > 0) {
@@ -297,8 +297,8 @@ static void print_row(const result *e, int name_w)
 static void print_summary(const char *title, const summary *s)
 {
     printf("summary: %s\n", title);
-    printf("  pages             %d (missing %d, failed %d, unreadable %d)\n", s->pages,
-           s->missing, s->failed, s->unreadable);
+    printf("  pages             %d (missing %d, failed %d, unreadable %d)\n", s->pages, s->missing,
+           s->failed, s->unreadable);
     printf("  truth lines       %ld\n", s->truth_lines);
     printf("  predicted lines   %ld\n", s->pred_lines);
     printf("  IoU >= 0.50       precision %.4f  recall %.4f  F1 %.4f  (%ld matched)\n",
@@ -339,9 +339,10 @@ static int print_text(const results *r, int per_page, double *scratch)
             int w = (int)strlen(r->items[i].name);
             if (w > name_w) name_w = w > 80 ? 80 : w;
         }
-        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s\n", name_w, "page", "truth", "pred",
-               "F1@.50", "F1@.75", "splits", "merges", "tau", "skew err");
-        for (int i = 0; i < r->count; i++) print_row(&r->items[i], name_w);
+        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s\n", name_w, "page", "truth", "pred", "F1@.50",
+               "F1@.75", "splits", "merges", "tau", "skew err");
+        for (int i = 0; i < r->count; i++)
+            print_row(&r->items[i], name_w);
         printf("\n");
     }
     summary s;
@@ -560,7 +561,8 @@ static int cmp_item(const void *a, const void *b)
 
 static void names_free(name_list *l)
 {
-    for (int i = 0; i < l->count; i++) free(l->items[i]);
+    for (int i = 0; i < l->count; i++)
+        free(l->items[i]);
     free(l->items);
     memset(l, 0, sizeof *l);
 }
@@ -568,8 +570,7 @@ static void names_free(name_list *l)
 /* Regular files (or links to them) of `dir` whose names end in one of the suffixes and do
  * not start with '.', as "STEM\0FILE" items sorted bytewise by stem. Returns 0, or prints
  * the reason and returns -1. */
-static int list_dir(const char *dir, const char *const *suffixes, int nsuffixes,
-                    name_list *out)
+static int list_dir(const char *dir, const char *const *suffixes, int nsuffixes, name_list *out)
 {
     memset(out, 0, sizeof *out);
     DIR *d = opendir(dir);
@@ -665,8 +666,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
             break;
         }
         if (i > 0 && strcmp(names.items[i - 1], stem) == 0) {
-            fprintf(stderr, "lineate: %s: another truth file has the same name, ignored\n",
-                    tpath);
+            fprintf(stderr, "lineate: %s: another truth file has the same name, ignored\n", tpath);
             r->read_failures++;
             free(tpath);
             continue;
@@ -722,20 +722,20 @@ static void usage_error(const char *fmt, const char *arg)
 static void print_help(void)
 {
     fputs(USAGE "\n"
-          "Compare predicted text lines with ground truth.\n"
-          "\n"
-          "TRUTH and PRED are two files (pages paired in order; '-' reads standard input)\n"
-          "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, NAME.jsonl or\n"
-          "NAME.gt.json; without *.gt.json files, TRUTH/NAME.json in lineate's format).\n"
-          "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
-          "decreasing IoU); reading order is Kendall's tau-a over matched lines.\n"
-          "\n"
-          "  --per-page   also print one row per page\n"
-          "  --json       print the results as one JSON object\n"
-          "  --help       print this help and exit\n"
-          "\n"
-          "Exit status: 0 scored, 1 a file could not be read, 2 bad command line,\n"
-          "3 the output could not be written.\n",
+                "Compare predicted text lines with ground truth.\n"
+                "\n"
+                "TRUTH and PRED are two files (pages paired in order; '-' reads standard input)\n"
+                "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, NAME.jsonl or\n"
+                "NAME.gt.json; without *.gt.json files, TRUTH/NAME.json in lineate's format).\n"
+                "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
+                "decreasing IoU); reading order is Kendall's tau-a over matched lines.\n"
+                "\n"
+                "  --per-page   also print one row per page\n"
+                "  --json       print the results as one JSON object\n"
+                "  --help       print this help and exit\n"
+                "\n"
+                "Exit status: 0 scored, 1 a file could not be read, 2 bad command line,\n"
+                "3 the output could not be written.\n",
           stdout);
 }
 
@@ -746,9 +746,12 @@ int lt_cmd_score(int argc, char **argv)
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i];
         if (!opts_done && a[0] == '-' && a[1] != '\0') {
-            if (strcmp(a, "--") == 0) opts_done = 1;
-            else if (strcmp(a, "--json") == 0) json = 1;
-            else if (strcmp(a, "--per-page") == 0) per_page = 1;
+            if (strcmp(a, "--") == 0)
+                opts_done = 1;
+            else if (strcmp(a, "--json") == 0)
+                json = 1;
+            else if (strcmp(a, "--per-page") == 0)
+                per_page = 1;
             else if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) {
                 print_help();
                 return fflush(stdout) == 0 && !ferror(stdout) ? LT_EXIT_OK : LT_EXIT_OUTPUT;

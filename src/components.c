@@ -10,25 +10,6 @@ typedef struct run {
     int x0, x1, y; /* pixels [x0, x1) of row y */
 } run;
 
-static int find_root(int *parent, int i)
-{
-    while (parent[i] != i) {
-        parent[i] = parent[parent[i]];
-        i = parent[i];
-    }
-    return i;
-}
-
-static void unite(int *parent, int a, int b)
-{
-    a = find_root(parent, a);
-    b = find_root(parent, b);
-    if (a < b)
-        parent[b] = a;
-    else if (b < a)
-        parent[a] = b;
-}
-
 /* Appends the runs of every row; row_start[y] is the index of row y's first run. */
 static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *row_start)
 {
@@ -41,10 +22,12 @@ static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *ro
         const uint8_t *row = ink->pixels + (size_t)y * w;
         int x = 0;
         while (x < w) {
-            while (x < w && !row[x]) x++;
+            while (x < w && !row[x])
+                x++;
             if (x == w) break;
             int x0 = x;
-            while (x < w && row[x]) x++;
+            while (x < w && row[x])
+                x++;
             if (n == cap) {
                 if (cap > (size_t)1 << 30) {
                     free(runs);
@@ -70,8 +53,7 @@ static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *ro
     return 0;
 }
 
-int lt_find_components(const lt_image *ink, long max_components, lt_components **out,
-                       lt_error *err)
+int lt_find_components(const lt_image *ink, long max_components, lt_components **out, lt_error *err)
 {
     *out = NULL;
     if (!ink || ink->kind != LT_IMAGE_INK)
@@ -87,13 +69,16 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
         rc = LT_ENOMEM;
         goto fail;
     }
-    for (int i = 0; i < nruns; i++) parent[i] = i;
+    for (int i = 0; i < nruns; i++)
+        parent[i] = i;
     /* Runs of consecutive rows touch (8-connected) when [x0-1, x1] ranges overlap. */
     for (int y = 1; y < ink->height; y++) {
         int j = row_start[y - 1], jend = row_start[y];
         for (int i = row_start[y]; i < row_start[y + 1]; i++) {
-            while (j < jend && runs[j].x1 < runs[i].x0) j++;
-            for (int k = j; k < jend && runs[k].x0 <= runs[i].x1; k++) unite(parent, i, k);
+            while (j < jend && runs[j].x1 < runs[i].x0)
+                j++;
+            for (int k = j; k < jend && runs[k].x0 <= runs[i].x1; k++)
+                lt_uf_unite(parent, i, k);
         }
     }
     /* Number components by their first run in raster order. */
@@ -104,7 +89,7 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
         goto fail;
     }
     for (int i = 0; i < nruns; i++) {
-        int r = find_root(parent, i);
+        int r = lt_uf_find(parent, i);
         if (r == i) root_label[i] = count++;
         root_label[i] = root_label[r];
     }

@@ -13,6 +13,10 @@ int lt_mul_overflows(size_t a, size_t b, size_t *out);
 /* malloc of count*size bytes with overflow check; NULL on failure. */
 void *lt_alloc_array(size_t count, size_t size);
 int lt_cmp_double(const void *a, const void *b);
+/* Union-find over 0..n-1 in parent[] (parent[i] == i for a root). The root of a set is its
+ * smallest member, so results do not depend on the order of unions. */
+int lt_uf_find(int *parent, int i);
+void lt_uf_unite(int *parent, int a, int b);
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
 double lt_median(double *v, int n);
 
@@ -43,14 +47,14 @@ lt_point lt_frame_to_original(const lt_frame *f, double x, double y);
 lt_point lt_frame_to_deskewed(const lt_frame *f, double x, double y);
 /* Quad (TL, TR, BR, BL) and its integer hull of an axis-aligned deskewed box, in original
  * coordinates, the hull clipped to the image. */
-void lt_frame_map_box(const lt_frame *f, lt_box deskewed, int width, int height,
-                      lt_point quad[4], lt_box *hull);
+void lt_frame_map_box(const lt_frame *f, lt_box deskewed, int width, int height, lt_point quad[4],
+                      lt_box *hull);
 
 /* ---- lines (lines.c) ------------------------------------------------------------------ */
 /* A text line in the deskewed frame, before mapping. */
 typedef struct lt_raw_line {
-    lt_box box;           /* deskewed frame */
-    double baseline_y;    /* deskewed frame */
+    lt_box box;        /* deskewed frame */
+    double baseline_y; /* deskewed frame */
     double xheight_px;
     int ncomponents;
 } lt_raw_line;

@@ -30,7 +30,8 @@ static cJSON *point_json(lt_point p)
 static cJSON *points_json(const lt_point *p, int n)
 {
     cJSON *a = cJSON_CreateArray();
-    for (int i = 0; a && i < n; i++) cJSON_AddItemToArray(a, point_json(p[i]));
+    for (int i = 0; a && i < n; i++)
+        cJSON_AddItemToArray(a, point_json(p[i]));
     return a;
 }
 
@@ -43,8 +44,7 @@ static const char *block_kind_name(int kind)
     }
 }
 
-char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pages,
-                        int pretty)
+char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pages, int pretty)
 {
     cJSON *o = cJSON_CreateObject();
     if (!o) return NULL;

@@ -56,8 +56,8 @@ static int read_fd(int fd, const char *name, size_t max_bytes, size_t hint, char
         len += (size_t)got;
         if (len > max_bytes) {
             free(buf);
-            return lt_error_set(err, LT_ELIMIT, "%s: file is larger than the %zu MiB limit",
-                                name, max_bytes >> 20);
+            return lt_error_set(err, LT_ELIMIT, "%s: file is larger than the %zu MiB limit", name,
+                                max_bytes >> 20);
         }
     }
     buf[len] = '\0';
@@ -66,8 +66,7 @@ static int read_fd(int fd, const char *name, size_t max_bytes, size_t hint, char
     return 0;
 }
 
-int lt_read_whole_file(const char *path, size_t max_bytes, char **data, size_t *size,
-                       lt_error *err)
+int lt_read_whole_file(const char *path, size_t max_bytes, char **data, size_t *size, lt_error *err)
 {
     *data = NULL;
     *size = 0;
@@ -113,8 +112,10 @@ static int ends_inside_value(const char *data, size_t n)
     for (size_t i = 0; i < n; i++) {
         char c = data[i];
         if (in_string) {
-            if (c == '\\') i++;
-            else if (c == '"') in_string = 0;
+            if (c == '\\')
+                i++;
+            else if (c == '"')
+                in_string = 0;
         } else if (c == '"') {
             in_string = 1;
         } else if (c == '{' || c == '[') {
@@ -220,10 +221,10 @@ static void page_clear(lt_scored_page *pg)
 static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_page *pg,
                         lt_error *err)
 {
-#define FAIL(code, ...)                                                                       \
-    do {                                                                                      \
-        page_clear(pg);                                                                       \
-        return lt_error_set(err, code, __VA_ARGS__);                                          \
+#define FAIL(code, ...)                                                                            \
+    do {                                                                                           \
+        page_clear(pg);                                                                            \
+        return lt_error_set(err, code, __VA_ARGS__);                                               \
     } while (0)
     if (!cJSON_IsObject(obj)) FAIL(LT_EPARSE, "%s: page %d: not a JSON object", name, k);
 
@@ -249,8 +250,8 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
     }
     if (!fmt) FAIL(LT_EPARSE, "%s: page %d: missing \"format\"", name, k);
     if (pg->format == LT_SCORED_LAYOUT && strcmp(fmt, LT_FORMAT_NAME) != 0)
-        FAIL(LT_EPARSE, "%s: page %d: unknown format \"%.40s\" (expected %s or %s)", name, k,
-             fmt, LT_FORMAT_NAME, FORMAT_TRUTH);
+        FAIL(LT_EPARSE, "%s: page %d: unknown format \"%.40s\" (expected %s or %s)", name, k, fmt,
+             LT_FORMAT_NAME, FORMAT_TRUTH);
 
     rc = get_string(obj, src_key, &pg->source);
     if (rc == LT_ENOMEM) FAIL(LT_ENOMEM, "%s: out of memory", name);
@@ -289,7 +290,8 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
     if (!lines) FAIL(LT_EPARSE, "%s: page %d: missing \"lines\"", name, k);
     if (!cJSON_IsArray(lines)) FAIL(LT_EPARSE, "%s: page %d: \"lines\" is not an array", name, k);
     long n = 0;
-    for (const cJSON *it = lines->child; it; it = it->next) n++;
+    for (const cJSON *it = lines->child; it; it = it->next)
+        n++;
     if (n > LT_SCORE_MAX_LINES)
         FAIL(LT_ELIMIT, "%s: page %d: %ld lines, more than the limit of %d", name, k, n,
              LT_SCORE_MAX_LINES);
@@ -307,8 +309,8 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
         const cJSON *io = cJSON_GetObjectItemCaseSensitive(it, "in_order");
         if (io) {
             if (!cJSON_IsBool(io))
-                FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: \"in_order\" is not true or false",
-                     name, k, i);
+                FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: \"in_order\" is not true or false", name,
+                     k, i);
             pg->lines[i].in_order = cJSON_IsTrue(io) ? 1 : 0;
         }
     }
@@ -317,8 +319,8 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
 #undef FAIL
 }
 
-int lt_scored_pages_parse(const char *data, size_t size, const char *name,
-                          lt_scored_page **pages, int *npages, lt_error *err)
+int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_scored_page **pages,
+                          int *npages, lt_error *err)
 {
     *pages = NULL;
     *npages = 0;
@@ -331,7 +333,8 @@ int lt_scored_pages_parse(const char *data, size_t size, const char *name,
     /* A UTF-8 byte order mark at the start is allowed (cJSON skips it too). */
     if (size >= 3 && memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
     for (;;) {
-        while (pos < size && is_json_space(data[pos])) pos++;
+        while (pos < size && is_json_space(data[pos]))
+            pos++;
         if (pos >= size) break;
         const char *end = NULL;
         cJSON *obj = cJSON_ParseWithLengthOpts(data + pos, size - pos, &end, 0);
@@ -389,8 +392,8 @@ int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages, 
     size_t size;
     int rc = lt_read_whole_file(path, LT_SCORE_MAX_FILE_BYTES, &data, &size, err);
     if (rc) return rc;
-    rc = lt_scored_pages_parse(data, size, strcmp(path, "-") == 0 ? "stdin" : path, pages,
-                               npages, err);
+    rc = lt_scored_pages_parse(data, size, strcmp(path, "-") == 0 ? "stdin" : path, pages, npages,
+                               err);
     free(data);
     return rc;
 }
@@ -398,6 +401,7 @@ int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages, 
 void lt_scored_pages_free(lt_scored_page *pages, int npages)
 {
     if (!pages) return;
-    for (int i = 0; i < npages; i++) page_clear(&pages[i]);
+    for (int i = 0; i < npages; i++)
+        page_clear(&pages[i]);
     free(pages);
 }

@@ -48,8 +48,8 @@ int lt_error_set(lt_error *err, int code, const char *fmt, ...)
 
 /* ---- limits (named, documented; each has a parameter to change it) ------------------- */
 #define LT_DEFAULT_MAX_PIXELS (200L * 1000L * 1000L) /* 200 Mpx: 600 dpi A2 fits */
-#define LT_DEFAULT_MAX_PAGES 10000                  /* pages per multi-page TIFF */
-#define LT_DEFAULT_MAX_COMPONENTS 2000000           /* beyond this the page is noise */
+#define LT_DEFAULT_MAX_PAGES 10000                   /* pages per multi-page TIFF */
+#define LT_DEFAULT_MAX_COMPONENTS 2000000            /* beyond this the page is noise */
 #define LT_MAX_FILE_BYTES (2LL * 1024 * 1024 * 1024) /* files are read into memory */
 
 /* ---- images --------------------------------------------------------------------------- */
@@ -83,8 +83,7 @@ const char *lt_source_name(const lt_source *src);
 const char *lt_source_format(const lt_source *src);
 /* Decodes page `index` (0-based) to 8-bit gray, or to an ink image when the page is 1-bit.
  * The page size is checked against `max_pixels` before the pixels are decoded. */
-int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out,
-                        lt_error *err);
+int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out, lt_error *err);
 void lt_source_free(lt_source *src);
 
 /* ---- parameters ----------------------------------------------------------------------- */
@@ -92,15 +91,15 @@ void lt_source_free(lt_source *src);
  * component heights, close to the x-height for Latin scripts), so that a 200 dpi and a
  * 600 dpi scan of one page give the same lines. 0 for an "auto" field means: derive it. */
 typedef struct lt_params {
-    double dpi;            /* resolution to assume when the file gives none (default 300) */
-    int force_dpi;         /* nonzero: use `dpi` even when the file has one */
-    int sauvola_window_px; /* Sauvola window side, odd; 0 = auto: 0.17 inch (51 px at 300) */
-    double sauvola_k;      /* Sauvola k (default 0.34; the paper uses 0.5 for clean scans) */
-    double sauvola_r;      /* Sauvola R, dynamic range of the deviation (default 128) */
-    double skew_range_deg; /* search -range..+range (default 15) */
+    double dpi;                 /* resolution to assume when the file gives none (default 300) */
+    int force_dpi;              /* nonzero: use `dpi` even when the file has one */
+    int sauvola_window_px;      /* Sauvola window side, odd; 0 = auto: 0.17 inch (51 px at 300) */
+    double sauvola_k;           /* Sauvola k (default 0.34; the paper uses 0.5 for clean scans) */
+    double sauvola_r;           /* Sauvola R, dynamic range of the deviation (default 128) */
+    double skew_range_deg;      /* search -range..+range (default 15) */
     double skew_min_confidence; /* below this the page reports no estimate (default 0.05) */
-    double deskew_min_deg; /* below this |skew| the page is analysed unrotated (0.05) */
-    double speckle_max;    /* text units: components smaller in both sides are speckle (0.2) */
+    double deskew_min_deg;      /* below this |skew| the page is analysed unrotated (0.05) */
+    double speckle_max;         /* text units: components smaller in both sides are speckle (0.2) */
     double rule_min_aspect;     /* long side / short side of a rule (default 12) */
     double picture_min_height;  /* text units: taller components are non-text (default 6) */
     double link_max_gap;        /* text units: widest gap bridged inside a line unless it lies
@@ -187,8 +186,8 @@ typedef struct lt_skew {
 } lt_skew;
 
 /* Projection-profile skew of an ink image in [-range, +range] degrees. */
-int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence,
-                     lt_skew *out, lt_error *err);
+int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence, lt_skew *out,
+                     lt_error *err);
 
 /* Rotates an ink image by -angle_deg (so text skewed by angle_deg becomes level), about its
  * centre, onto a canvas large enough to hold all of it (nearest-neighbour sampling). */
@@ -196,9 +195,9 @@ int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, lt_erro
 
 typedef struct lt_component {
     lt_box box;
-    long pixels;       /* ink pixel count */
-    double cx, cy;     /* centroid (mean of pixel centres) */
-    int kind;          /* LT_COMP_* (set by lt_classify_components) */
+    long pixels;   /* ink pixel count */
+    double cx, cy; /* centroid (mean of pixel centres) */
+    int kind;      /* LT_COMP_* (set by lt_classify_components) */
 } lt_component;
 
 typedef struct lt_components {

@@ -11,8 +11,8 @@
 #include <string.h>
 
 typedef struct link {
-    int a, b;       /* components, a left of b */
-    int x0, x1;     /* the white gap between them, [x0, x1) */
+    int a, b;        /* components, a left of b */
+    int x0, x1;      /* the white gap between them, [x0, x1) */
     int top, bottom; /* vertical extent of the pair */
 } link;
 
@@ -22,25 +22,6 @@ typedef struct index_grid {
     int *start; /* cols*rows+1 offsets into items */
     int *items; /* component indices, by cell */
 } index_grid;
-
-static int find_root(int *parent, int i)
-{
-    while (parent[i] != i) {
-        parent[i] = parent[parent[i]];
-        i = parent[i];
-    }
-    return i;
-}
-
-static void unite(int *parent, int a, int b)
-{
-    a = find_root(parent, a);
-    b = find_root(parent, b);
-    if (a < b)
-        parent[b] = a;
-    else if (b < a)
-        parent[a] = b;
-}
 
 static int box_w(const lt_box *b)
 {
@@ -53,8 +34,7 @@ static int box_h(const lt_box *b)
 }
 
 /* Grid of the components in `use` (by centroid) for neighbour queries. */
-static int grid_build(const lt_components *c, const uint8_t *use, double cell_px,
-                      index_grid *g)
+static int grid_build(const lt_components *c, const uint8_t *use, double cell_px, index_grid *g)
 {
     int maxx = 1, maxy = 1;
     for (int i = 0; i < c->count; i++) {
@@ -73,7 +53,8 @@ static int grid_build(const lt_components *c, const uint8_t *use, double cell_px
         int cx = (int)(c->items[i].cx / cell_px), cy = (int)(c->items[i].cy / cell_px);
         g->start[(size_t)cy * g->cols + cx + 1]++;
     }
-    for (size_t k = 0; k < ncell; k++) g->start[k + 1] += g->start[k];
+    for (size_t k = 0; k < ncell; k++)
+        g->start[k + 1] += g->start[k];
     int *fill = malloc((ncell + 1) * sizeof *fill);
     if (!fill) return LT_ENOMEM;
     memcpy(fill, g->start, (ncell + 1) * sizeof *fill);
@@ -128,7 +109,8 @@ static int nearest_beside(const lt_components *c, const index_grid *g, int i, in
     int x_hi = dir > 0 ? a->box.right + reach : (int)a->cx;
     int cx0 = x_lo / g->cell_px < 0 ? 0 : (int)(x_lo / g->cell_px);
     int cx1 = (int)(x_hi / g->cell_px);
-    int cy0 = (int)((a->box.top - g->cell_px) / g->cell_px), cy1 = (int)(a->box.bottom / g->cell_px) + 1;
+    int cy0 = (int)((a->box.top - g->cell_px) / g->cell_px),
+        cy1 = (int)(a->box.bottom / g->cell_px) + 1;
     if (cx1 >= g->cols) cx1 = g->cols - 1;
     if (cy0 < 0) cy0 = 0;
     if (cy1 >= g->rows) cy1 = g->rows - 1;
@@ -180,7 +162,8 @@ static int occupancy_build(const lt_components *c, const uint8_t *body, double c
         int x0 = (int)(b->left / cell_px), x1 = (int)((b->right - 1) / cell_px);
         int y0 = (int)(b->top / cell_px), y1 = (int)((b->bottom - 1) / cell_px);
         for (int y = y0; y <= y1; y++)
-            for (int x = x0; x <= x1; x++) o->sum[(size_t)(y + 1) * stride + x + 1] = 1;
+            for (int x = x0; x <= x1; x++)
+                o->sum[(size_t)(y + 1) * stride + x + 1] = 1;
     }
     for (int y = 1; y <= o->rows; y++)
         for (int x = 1; x <= o->cols; x++)
@@ -243,7 +226,10 @@ static double mark_fit(const lt_component *k, const lt_box *b, double th, int sp
     if (cy < b->top - 0.6 * th || cy > b->bottom + (speckle ? 0.0 : 0.3 * th)) return -1;
     if (k->box.left > b->right + th || k->box.right < b->left - th) {
         int right = k->box.left > b->right;
-        link l = {0, 0, right ? b->right : k->box.right, right ? k->box.left : b->left,
+        link l = {0,
+                  0,
+                  right ? b->right : k->box.right,
+                  right ? k->box.left : b->left,
                   b->top < k->box.top ? b->top : k->box.top,
                   b->bottom > k->box.bottom ? b->bottom : k->box.bottom};
         if (in_gutter(occ, &l, th)) return -1;
@@ -277,13 +263,15 @@ static int cmp_keyed(const void *pa, const void *pb)
     return (a->index > b->index) - (a->index < b->index);
 }
 
-/* Box of every group (by root component) of bodies, in boxes[root]. */
+/* Box of every group (by root component) in boxes[root]: its bodies and the marks attached
+ * to it (a mark is attached when it is not its own root). */
 static void group_boxes(const lt_components *c, const uint8_t *body, int *parent, lt_box *boxes)
 {
     for (int i = 0; i < c->count; i++)
-        if (body[i] && find_root(parent, i) == i) boxes[i] = c->items[i].box;
+        if (body[i] && lt_uf_find(parent, i) == i) boxes[i] = c->items[i].box;
     for (int i = 0; i < c->count; i++)
-        if (body[i]) grow(&boxes[find_root(parent, i)], &c->items[i].box);
+        if (body[i] || lt_uf_find(parent, i) != i)
+            grow(&boxes[lt_uf_find(parent, i)], &c->items[i].box);
 }
 
 /* Attaches each mark, left to right, to the group whose band holds it best (parent[mark] is
@@ -311,7 +299,7 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
     group_boxes(c, body, parent, boxes);
     for (int pass = 0; pass < 2; pass++) {
         for (int i = 0; i < n; i++) {
-            if (!body[i] || find_root(parent, i) != i) continue;
+            if (!body[i] || lt_uf_find(parent, i) != i) continue;
             int b0 = (int)((boxes[i].top - th) / th), b1 = (int)((boxes[i].bottom + th) / th);
             if (b0 < 0) b0 = 0;
             if (b1 > nbands - 1) b1 = nbands - 1;
@@ -323,7 +311,8 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
             }
         }
         if (pass) break;
-        for (int b = 0; b < nbands; b++) start[b + 1] += start[b];
+        for (int b = 0; b < nbands; b++)
+            start[b + 1] += start[b];
         memcpy(fill, start, (size_t)nbands * sizeof *fill);
         members = malloc(((size_t)start[nbands] + 1) * sizeof *members);
         if (!members) goto done;
@@ -372,13 +361,10 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
         free(roots);
         return LT_ENOMEM;
     }
-    for (int i = 0; i < n; i++)
-        if (body[i] && find_root(parent, i) == i) boxes[i] = c->items[i].box;
-    for (int i = 0; i < n; i++)
-        if (body[i] || find_root(parent, i) != i) grow(&boxes[find_root(parent, i)], &c->items[i].box);
+    group_boxes(c, body, parent, boxes);
     int nr = 0;
     for (int i = 0; i < n; i++)
-        if (body[i] && find_root(parent, i) == i) roots[nr++] = i;
+        if (body[i] && lt_uf_find(parent, i) == i) roots[nr++] = i;
     for (int a = 0; a < nr && nr <= 5000; a++) {
         const lt_box *g = &boxes[roots[a]];
         const double cx = 0.5 * (g->left + g->right), cy = 0.5 * (g->top + g->bottom);
@@ -388,7 +374,7 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
             if (b == a || box_h(host) < 2 * h) continue;
             if (cx >= host->left && cx < host->right && cy >= host->top - 0.5 * h &&
                 cy < host->bottom) {
-                unite(parent, roots[a], roots[b]);
+                lt_uf_unite(parent, roots[a], roots[b]);
                 break;
             }
         }
@@ -400,8 +386,8 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
 
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that is not in a gutter. */
-static int join_rows(const lt_components *c, const uint8_t *body, int *parent, int n,
-                     double th, double max_gap, const occupancy *occ)
+static int join_rows(const lt_components *c, const uint8_t *body, int *parent, int n, double th,
+                     double max_gap, const occupancy *occ)
 {
     lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
     keyed *roots = malloc(((size_t)n + 1) * sizeof *roots);
@@ -410,13 +396,10 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
         free(roots);
         return LT_ENOMEM;
     }
-    for (int i = 0; i < n; i++)
-        if (body[i] && find_root(parent, i) == i) boxes[i] = c->items[i].box;
-    for (int i = 0; i < n; i++)
-        if (body[i] || find_root(parent, i) != i) grow(&boxes[find_root(parent, i)], &c->items[i].box);
+    group_boxes(c, body, parent, boxes);
     int nr = 0;
     for (int i = 0; i < n; i++)
-        if (body[i] && find_root(parent, i) == i) roots[nr++] = (keyed){boxes[i].left, i};
+        if (body[i] && lt_uf_find(parent, i) == i) roots[nr++] = (keyed){boxes[i].left, i};
     qsort(roots, (size_t)nr, sizeof *roots, cmp_keyed);
     for (int a = 0; a < nr; a++) {
         const lt_box *ba = &boxes[roots[a].index];
@@ -426,11 +409,14 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, i
             int bottom = ba->bottom < bb->bottom ? ba->bottom : bb->bottom;
             int hmin = box_h(ba) < box_h(bb) ? box_h(ba) : box_h(bb);
             if (2 * (bottom - top) < hmin) continue;
-            link l = {roots[a].index, roots[b].index, ba->right, bb->left,
+            link l = {roots[a].index,
+                      roots[b].index,
+                      ba->right,
+                      bb->left,
                       ba->top < bb->top ? ba->top : bb->top,
                       ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
             if (bb->left - ba->right < 1.5 * th || !in_gutter(occ, &l, th))
-                unite(parent, roots[a].index, roots[b].index);
+                lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
     }
     free(boxes);
@@ -489,14 +475,14 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
             l->top = c->items[a].box.top < c->items[b].box.top ? c->items[a].box.top
                                                                : c->items[b].box.top;
             l->bottom = c->items[a].box.bottom > c->items[b].box.bottom ? c->items[a].box.bottom
-                                                                       : c->items[b].box.bottom;
+                                                                        : c->items[b].box.bottom;
         }
     }
     /* Links across a gutter are not joined. */
     if (occupancy_build(c, body, fmax(1.0, 0.25 * th), &occ)) goto nomem;
     for (int i = 0; i < nlinks; i++)
         if (links[i].x1 - links[i].x0 < wide_gap || !in_gutter(&occ, &links[i], th))
-            unite(parent, links[i].a, links[i].b);
+            lt_uf_unite(parent, links[i].a, links[i].b);
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
@@ -505,9 +491,10 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* One raw line per group. */
     int nl = 0;
-    for (int i = 0; i < n; i++) line_of[i] = -1;
     for (int i = 0; i < n; i++)
-        if (body[i] && find_root(parent, i) == i) line_of[i] = nl++;
+        line_of[i] = -1;
+    for (int i = 0; i < n; i++)
+        if (body[i] && lt_uf_find(parent, i) == i) line_of[i] = nl++;
     res->items = calloc((size_t)nl + 1, sizeof *res->items);
     if (!res->items) goto nomem;
     res->count = nl;
@@ -517,8 +504,8 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         b->right = b->bottom = -1;
     }
     for (int i = 0; i < n; i++) {
-        if (!body[i] && !(mark[i] && find_root(parent, i) != i)) continue;
-        int l = line_of[i] = line_of[find_root(parent, i)];
+        if (!body[i] && !(mark[i] && lt_uf_find(parent, i) != i)) continue;
+        int l = line_of[i] = line_of[lt_uf_find(parent, i)];
         lt_raw_line *r = &res->items[l];
         grow(&r->box, &c->items[i].box);
         r->ncomponents++;
@@ -536,13 +523,15 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     }
     for (int i = 0; i < n; i++)
         if (body[i]) first[line_of[i] + 2]++;
-    for (int l = 0; l < nl; l++) first[l + 2] += first[l + 1];
+    for (int l = 0; l < nl; l++)
+        first[l + 2] += first[l + 1];
     for (int i = 0; i < n; i++) /* counting sort: first[l+1] is the fill position of l */
         if (body[i]) order[first[line_of[i] + 1]++] = i;
     for (int l = 0; l < nl; l++) {
         lt_raw_line *r = &res->items[l];
         int m = 0;
-        for (int k = first[l]; k < first[l + 1]; k++) vals[m++] = c->items[order[k]].box.bottom;
+        for (int k = first[l]; k < first[l + 1]; k++)
+            vals[m++] = c->items[order[k]].box.bottom;
         double base = lt_median(vals, m);
         m = 0;
         for (int k = first[l]; k < first[l + 1]; k++) {

@@ -101,8 +101,8 @@ static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pa
     }
     if (pages > max_pages) {
         free(data);
-        return lt_error_set(err, LT_ELIMIT, "%s: %d pages, more than the limit of %ld", name,
-                            pages, max_pages);
+        return lt_error_set(err, LT_ELIMIT, "%s: %d pages, more than the limit of %ld", name, pages,
+                            max_pages);
     }
     lt_source *src = calloc(1, sizeof *src);
     char *copy = strdup(name);
@@ -172,7 +172,8 @@ static void copy_ink(PIX *pix, lt_image *img)
     for (int y = 0; y < img->height; y++) {
         const l_uint32 *row = data + (size_t)y * wpl;
         uint8_t *dst = img->pixels + (size_t)y * w;
-        for (int x = 0; x < w; x++) dst[x] = (row[x >> 5] >> (31 - (x & 31))) & 1;
+        for (int x = 0; x < w; x++)
+            dst[x] = (row[x >> 5] >> (31 - (x & 31))) & 1;
     }
 }
 
@@ -184,7 +185,8 @@ static void copy_gray(PIX *pix, lt_image *img)
     for (int y = 0; y < img->height; y++) {
         const l_uint32 *row = data + (size_t)y * wpl;
         uint8_t *dst = img->pixels + (size_t)y * w;
-        for (int x = 0; x < w; x++) dst[x] = (row[x >> 2] >> (8 * (3 - (x & 3)))) & 0xff;
+        for (int x = 0; x < w; x++)
+            dst[x] = (row[x >> 2] >> (8 * (3 - (x & 3)))) & 0xff;
     }
 }
 
@@ -236,12 +238,13 @@ static void png_ignore_warning(png_structp png, png_const_charp msg)
 }
 
 /* Decodes a PNG to 8-bit gray (colour by luminance, alpha composited over white paper) or,
- * for 1-bit gray or two-colour palette, to an ink image (dark = ink). Dimensions were checked against the limit already. */
+ * for 1-bit gray or two-colour palette, to an ink image (dark = ink). Dimensions were checked
+ * against the limit already. */
 static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
 {
     png_input in = {src->data, src->size, 0, "corrupt data"};
-    png_structp png = png_create_read_struct(PNG_LIBPNG_VER_STRING, &in, png_fail,
-                                             png_ignore_warning);
+    png_structp png =
+        png_create_read_struct(PNG_LIBPNG_VER_STRING, &in, png_fail, png_ignore_warning);
     png_infop info = png ? png_create_info_struct(png) : NULL;
     uint8_t *volatile pixels = NULL;
     png_bytep *volatile rows = NULL;
@@ -283,7 +286,8 @@ static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
     rows = malloc(sizeof *rows * h);
     img = lt_image_new((int)w, (int)h, one_bit ? LT_IMAGE_INK : LT_IMAGE_GRAY);
     if (!pixels || !rows || !img) png_error(png, "out of memory");
-    for (png_uint_32 y = 0; y < h; y++) rows[y] = pixels + (size_t)y * rowbytes;
+    for (png_uint_32 y = 0; y < h; y++)
+        rows[y] = pixels + (size_t)y * rowbytes;
     png_read_image(png, rows);
     png_uint_32 res_x = 0, res_y = 0;
     int unit = 0;
@@ -297,7 +301,8 @@ static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
             img->pixels[i] = (uint8_t)((v * a + 255u * (255u - a) + 127u) / 255u);
         }
     } else if (one_bit) {
-        for (size_t i = 0; i < n; i++) img->pixels[i] = pixels[i] < 128;
+        for (size_t i = 0; i < n; i++)
+            img->pixels[i] = pixels[i] < 128;
     } else {
         memcpy(img->pixels, pixels, n);
     }
@@ -307,8 +312,7 @@ static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
     return 0;
 }
 
-int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out,
-                        lt_error *err)
+int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out, lt_error *err)
 {
     *out = NULL;
     if (!src || index < 0 || index >= src->pages)
@@ -331,8 +335,8 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
                             src->name, index + 1);
     if (pixGetWidth(pix) != w || pixGetHeight(pix) != h) {
         pixDestroy(&pix);
-        return lt_error_set(err, LT_EFORMAT, "%s: page %d: size differs from its header",
-                            src->name, index + 1);
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: size differs from its header", src->name,
+                            index + 1);
     }
     PIX *norm = normalise(pix);
     double dpi = pixGetXRes(pix);

@@ -73,8 +73,7 @@ static void tiff_unmap(thandle_t h, void *base, toff_t size)
 }
 
 #ifdef HAVE_TIFFCLIENTOPENEXT
-static int tiff_keep_error(TIFF *tif, void *user, const char *module, const char *fmt,
-                           va_list ap)
+static int tiff_keep_error(TIFF *tif, void *user, const char *module, const char *fmt, va_list ap)
 {
     (void)tif;
     (void)module;
@@ -103,8 +102,8 @@ static TIFF *tiff_open(tiff_input *in)
     TIFFOpenOptionsSetMaxSingleMemAlloc(opts, LT_TIFF_MAX_SINGLE_ALLOC);
     TIFFOpenOptionsSetErrorHandlerExtR(opts, tiff_keep_error, in);
     TIFFOpenOptionsSetWarningHandlerExtR(opts, tiff_ignore_warning, in);
-    TIFF *tif = TIFFClientOpenExt("memory", "rm", in, tiff_read, tiff_write, tiff_seek,
-                                  tiff_close, tiff_size, tiff_map, tiff_unmap, opts);
+    TIFF *tif = TIFFClientOpenExt("memory", "rm", in, tiff_read, tiff_write, tiff_seek, tiff_close,
+                                  tiff_size, tiff_map, tiff_unmap, opts);
     TIFFOpenOptionsFree(opts);
     return tif;
 #else
@@ -202,9 +201,9 @@ int lt_tiff_read_page(const uint8_t *data, size_t size, const char *name, int in
     TIFFGetFieldDefaulted(tif, TIFFTAG_BITSPERSAMPLE, &bps);
     TIFFGetFieldDefaulted(tif, TIFFTAG_SAMPLESPERPIXEL, &spp);
     TIFFGetField(tif, TIFFTAG_PHOTOMETRIC, &photometric);
-    const int bilevel = bps == 1 && spp == 1 && !TIFFIsTiled(tif) &&
-                        (photometric == PHOTOMETRIC_MINISWHITE ||
-                         photometric == PHOTOMETRIC_MINISBLACK);
+    const int bilevel =
+        bps == 1 && spp == 1 && !TIFFIsTiled(tif) &&
+        (photometric == PHOTOMETRIC_MINISWHITE || photometric == PHOTOMETRIC_MINISBLACK);
     lt_image *img = lt_image_new((int)w, (int)h, bilevel ? LT_IMAGE_INK : LT_IMAGE_GRAY);
     if (!img) {
         rc = lt_error_set(err, LT_ENOMEM, "%s: page %d: out of memory", name, index + 1);

@@ -14,7 +14,8 @@ static void walk(const lt_cut_node *node, int *order, int *block_of, int *pos, i
         (*block)++;
         return;
     }
-    for (int i = 0; i < node->nchildren; i++) walk(node->children[i], order, block_of, pos, block);
+    for (int i = 0; i < node->nchildren; i++)
+        walk(node->children[i], order, block_of, pos, block);
 }
 
 int lt_reading_order(const lt_cut_node *root, int nlines, int *order, int *block_of)

@@ -87,8 +87,10 @@ static int lower_bound(const sorted_ref *r, int n, long top_px)
     int lo = 0, hi = n;
     while (lo < hi) {
         int mid = lo + (hi - lo) / 2;
-        if ((long)r[mid].top < top_px) lo = mid + 1;
-        else hi = mid;
+        if ((long)r[mid].top < top_px)
+            lo = mid + 1;
+        else
+            hi = mid;
     }
     return lo;
 }
@@ -127,8 +129,8 @@ static int cmp_match_truth(const void *a, const void *b)
     return (x->truth > y->truth) - (x->truth < y->truth);
 }
 
-int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
-                   int npred, lt_line_match **matches, int *nmatches, lt_error *err)
+int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred, int npred,
+                   lt_line_match **matches, int *nmatches, lt_error *err)
 {
     *matches = NULL;
     *nmatches = 0;
@@ -214,8 +216,7 @@ done:
     return rc;
 }
 
-void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall,
-            double *f1)
+void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall, double *f1)
 {
     double p, r, f;
     if (ntruth == 0 && npred == 0) {
@@ -249,8 +250,10 @@ static int64_t count_inversions(int *v, int *tmp, int n)
             tmp[k++] = v[j++];
         }
     }
-    while (i < h) tmp[k++] = v[i++];
-    while (j < n) tmp[k++] = v[j++];
+    while (i < h)
+        tmp[k++] = v[i++];
+    while (j < n)
+        tmp[k++] = v[j++];
     memcpy(v, tmp, (size_t)n * sizeof *v);
     return inv;
 }
@@ -325,8 +328,7 @@ static int count_inside(const lt_scored_line *outer, int nouter, const lt_scored
                 const lt_box *bj = &inner[inside[j]].box;
                 if (bj->top >= bi->bottom) break;
                 if (++*tests > LT_SCORE_MAX_PAIR_TESTS) {
-                    rc = lt_error_set(err, LT_ELIMIT,
-                                      "score: more than %ld overlapping box pairs",
+                    rc = lt_error_set(err, LT_ELIMIT, "score: more than %ld overlapping box pairs",
                                       LT_SCORE_MAX_PAIR_TESTS);
                     goto done;
                 }
@@ -368,8 +370,10 @@ int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_sco
         goto done;
     }
     if (matches) {
-        for (int t = 0; t < ntruth; t++) truth_partner[t] = -1;
-        for (int p = 0; p < npred; p++) pred_partner[p] = -1;
+        for (int t = 0; t < ntruth; t++)
+            truth_partner[t] = -1;
+        for (int p = 0; p < npred; p++)
+            pred_partner[p] = -1;
         for (int i = 0; i < nmatches; i++) {
             int t = matches[i].truth, p = matches[i].pred;
             if (t < 0 || t >= ntruth || p < 0 || p >= npred) {
@@ -381,10 +385,10 @@ int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_sco
         }
     }
     rc = count_inside(truth, ntruth, pred, npred, pred_partner, tc, NULL, &tests, err);
-    if (!rc)
-        rc = count_inside(pred, npred, truth, ntruth, truth_partner, pc, cross, &tests, err);
+    if (!rc) rc = count_inside(pred, npred, truth, ntruth, truth_partner, pc, cross, &tests, err);
     if (rc) goto done;
-    for (int t = 0; t < ntruth; t++) *splits += tc[t] >= 2;
+    for (int t = 0; t < ntruth; t++)
+        *splits += tc[t] >= 2;
     for (int p = 0; p < npred; p++) {
         *merges += pc[p] >= 2;
         *cross_merges += pc[p] >= 2 && cross[p];
@@ -417,7 +421,8 @@ int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_pa
     int rc = lt_match_lines(truth->lines, nt, pred->lines, np, &m, &nm, err);
     if (rc) return rc;
     out->matched_50 = nm;
-    for (int i = 0; i < nm; i++) out->matched_75 += m[i].strict;
+    for (int i = 0; i < nm; i++)
+        out->matched_75 += m[i].strict;
     lt_prf(out->matched_50, nt, np, &out->precision_50, &out->recall_50, &out->f1_50);
     lt_prf(out->matched_75, nt, np, &out->precision_75, &out->recall_75, &out->f1_75);
 

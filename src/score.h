@@ -33,15 +33,15 @@ typedef struct lt_scored_line {
 } lt_scored_line;
 
 typedef struct lt_scored_page {
-    char *source;       /* "source" (layout) or "image" (ground truth); NULL if absent */
-    int page;           /* page number within its file, from 1 (1 for ground truth) */
-    int width, height;  /* pixels; 0 in an error record that gives none */
-    double skew_deg;    /* 0 when has_skew is 0 */
-    int has_skew;       /* the object has a numeric "skew_deg" */
-    char *variant;      /* "clean" / "degraded" from ground truth, NULL otherwise */
-    int format;         /* LT_SCORED_LAYOUT or LT_SCORED_TRUTH */
-    int failed;         /* an error record: the page could not be analysed; no lines */
-    char *error;        /* its "error" text when failed, else NULL */
+    char *source;          /* "source" (layout) or "image" (ground truth); NULL if absent */
+    int page;              /* page number within its file, from 1 (1 for ground truth) */
+    int width, height;     /* pixels; 0 in an error record that gives none */
+    double skew_deg;       /* 0 when has_skew is 0 */
+    int has_skew;          /* the object has a numeric "skew_deg" */
+    char *variant;         /* "clean" / "degraded" from ground truth, NULL otherwise */
+    int format;            /* LT_SCORED_LAYOUT or LT_SCORED_TRUTH */
+    int failed;            /* an error record: the page could not be analysed; no lines */
+    char *error;           /* its "error" text when failed, else NULL */
     lt_scored_line *lines; /* in the file's (reading) order */
     int nlines;
 } lt_scored_page;
@@ -59,13 +59,12 @@ int lt_read_whole_file(const char *path, size_t max_bytes, char **data, size_t *
  * error record (an object with a string "error", kept as a failed page with no lines).
  * Malformed input fails with LT_EPARSE and the one-line message "NAME: reason"; on failure
  * *pages is NULL and *npages 0. */
-int lt_scored_pages_parse(const char *data, size_t size, const char *name,
-                          lt_scored_page **pages, int *npages, lt_error *err);
+int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_scored_page **pages,
+                          int *npages, lt_error *err);
 
 /* lt_read_whole_file (capped at LT_SCORE_MAX_FILE_BYTES) followed by lt_scored_pages_parse;
  * messages name `path` ("stdin" for "-"). */
-int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages,
-                         lt_error *err);
+int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages, lt_error *err);
 
 /* Frees an array returned by the two functions above (NULL-safe). */
 void lt_scored_pages_free(lt_scored_page *pages, int npages);
@@ -90,13 +89,12 @@ typedef struct lt_line_match {
  * frees; may be NULL when *nmatches is 0) and *nmatches receive the result. Candidates are
  * found by a sweep over boxes sorted by top, not by testing all pairs. Fails with LT_ENOMEM,
  * or LT_ELIMIT past LT_SCORE_MAX_PAIR_TESTS / LT_SCORE_MAX_CANDIDATES. */
-int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
-                   int npred, lt_line_match **matches, int *nmatches, lt_error *err);
+int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred, int npred,
+                   lt_line_match **matches, int *nmatches, lt_error *err);
 
 /* Precision matched/npred, recall matched/ntruth, F1 = 2PR/(P+R). Both empty: all 1; only
  * one empty: all 0; F1 is 0 when P + R is 0. */
-void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall,
-            double *f1);
+void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall, double *f1);
 
 /* Kendall's tau-a of `seq[0..n)` against the order 0, 1, ..., n-1: (concordant - discordant)
  * / (n(n-1)/2), counting discordant pairs as inversions by merge sort, O(n log n). The
@@ -123,14 +121,14 @@ int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_sco
 
 typedef struct lt_page_score {
     int truth_lines, pred_lines;
-    int matched_50, matched_75;    /* one-to-one matches with IoU >= 0.5, of them >= 0.75 */
+    int matched_50, matched_75; /* one-to-one matches with IoU >= 0.5, of them >= 0.75 */
     double precision_50, recall_50, f1_50;
     double precision_75, recall_75, f1_75;
     int splits, merges, cross_merges;
-    int order_pairs;    /* matches at 0.5 whose truth line is in_order */
-    int has_tau;        /* 0 when order_pairs < 2 */
-    double tau;         /* Kendall tau-a of the predicted order over those pairs */
-    int has_skew_error; /* both pages have a skew */
+    int order_pairs;       /* matches at 0.5 whose truth line is in_order */
+    int has_tau;           /* 0 when order_pairs < 2 */
+    double tau;            /* Kendall tau-a of the predicted order over those pairs */
+    int has_skew_error;    /* both pages have a skew */
     double skew_error_deg; /* |pred skew - truth skew| */
 } lt_page_score;
 

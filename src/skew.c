@@ -37,7 +37,8 @@ static int grid_from_ink(const lt_image *ink, grid *g)
         const uint8_t *row = ink->pixels + (size_t)y * ink->width;
         uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
         int x = 0;
-        for (; x + 1 < ink->width; x += 2) dst[x / 2] += row[x] + row[x + 1];
+        for (; x + 1 < ink->width; x += 2)
+            dst[x / 2] += row[x] + row[x + 1];
         if (x < ink->width) dst[x / 2] += row[x];
     }
     return 0;
@@ -54,7 +55,8 @@ static int grid_halve(const grid *src, grid *g)
     for (int y = 0; y < src->height; y++) {
         const uint16_t *row = src->count + (size_t)y * src->width;
         uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
-        for (int x = 0; x < src->width; x++) dst[x / 2] += row[x];
+        for (int x = 0; x < src->width; x++)
+            dst[x / 2] += row[x];
     }
     return 0;
 }
@@ -64,7 +66,8 @@ static int cells_from_grid(const grid *g, cells *out)
 {
     size_t n = 0;
     const size_t total = (size_t)g->width * g->height;
-    for (size_t i = 0; i < total; i++) n += g->count[i] != 0;
+    for (size_t i = 0; i < total; i++)
+        n += g->count[i] != 0;
     out->items = malloc((n ? n : 1) * sizeof *out->items);
     out->count = 0;
     if (!out->items) return LT_ENOMEM;
@@ -85,8 +88,8 @@ static int cells_from_grid(const grid *g, cells *out)
     return 0;
 }
 
-/* Sharpness of the projection at angle_deg: sum of squared differences of adjacent bins of height bin_px of the
- * ink rotated by -angle_deg. `profile` has room for nbins bins. */
+/* Sharpness of the projection at angle_deg: sum of squared differences of adjacent bins of height
+ * bin_px of the ink rotated by -angle_deg. `profile` has room for nbins bins. */
 static double sharpness(const cells *c, double angle_deg, double bin_px, int interpolate,
                         float *profile, int nbins)
 {
@@ -119,27 +122,32 @@ static double sharpness(const cells *c, double angle_deg, double bin_px, int int
 static double gap_fraction(const float *profile, int nbins)
 {
     double total = 0;
-    for (int b = 0; b < nbins; b++) total += profile[b];
+    for (int b = 0; b < nbins; b++)
+        total += profile[b];
     if (total <= 0) return 0;
     int first = 0, last = nbins - 1;
     double acc = 0;
-    while (first < nbins && (acc += profile[first]) < 0.01 * total) first++;
+    while (first < nbins && (acc += profile[first]) < 0.01 * total)
+        first++;
     acc = 0;
-    while (last > first && (acc += profile[last]) < 0.01 * total) last--;
+    while (last > first && (acc += profile[last]) < 0.01 * total)
+        last--;
     const int n = last - first + 1;
     if (n < 8) return 0;
     double mean = 0;
-    for (int b = first; b <= last; b++) mean += profile[b];
+    for (int b = first; b <= last; b++)
+        mean += profile[b];
     mean /= n;
     int gaps = 0;
-    for (int b = first; b <= last; b++) gaps += profile[b] < 0.15 * mean;
+    for (int b = first; b <= last; b++)
+        gaps += profile[b] < 0.15 * mean;
     return (double)gaps / n;
 }
 
 /* Best angle in [lo, hi] at `step` (index of the maximum in *best), the criterion of every
  * angle in crit[] (room for the number of steps). */
-static int sweep(const cells *c, double lo, double hi, double step, double bin_px,
-                 int interpolate, float *profile, int nbins, double *crit)
+static int sweep(const cells *c, double lo, double hi, double step, double bin_px, int interpolate,
+                 float *profile, int nbins, double *crit)
 {
     int n = (int)floor((hi - lo) / step + 0.5) + 1, best = 0;
     for (int i = 0; i < n; i++) {
@@ -149,8 +157,8 @@ static int sweep(const cells *c, double lo, double hi, double step, double bin_p
     return best;
 }
 
-int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence,
-                     lt_skew *out, lt_error *err)
+int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence, lt_skew *out,
+                     lt_error *err)
 {
     out->angle_deg = 0;
     out->confidence = 0;
@@ -168,8 +176,7 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     cells c2 = {0}, c4 = {0}, c8 = {0};
     int rc = 0;
     if (!profile || !crit || !sorted || grid_from_ink(ink, &g2) || grid_halve(&g2, &g4) ||
-        grid_halve(&g4, &g8) || cells_from_grid(&g2, &c2) ||
-        cells_from_grid(&g4, &c4) ||
+        grid_halve(&g4, &g8) || cells_from_grid(&g2, &c2) || cells_from_grid(&g4, &c4) ||
         cells_from_grid(&g8, &c8)) {
         rc = lt_error_set(err, LT_ENOMEM, "skew: out of memory");
         goto done;

@@ -157,14 +157,14 @@ static void test_against_naive(void)
             tu_rng rng = {1000 + 10 * (uint64_t)kind + sz};
             lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, 0);
             if (kind == 0) {
-                for (int i = 0; i < w * h; i++) g->pixels[i] = (uint8_t)tu_range(&rng, 0, 255);
+                for (int i = 0; i < w * h; i++)
+                    g->pixels[i] = (uint8_t)tu_range(&rng, 0, 255);
             } else {
                 tu_fill(g, 0, 0, w, h, 230);
                 for (int b = 0; b < 12; b++) {
                     int x0 = tu_range(&rng, -5, w - 1), y0 = tu_range(&rng, -5, h - 1);
                     int v = b % 4 == 0 ? 0 : tu_range(&rng, 0, 255);
-                    tu_fill(g, x0, y0, x0 + tu_range(&rng, 2, 25), y0 + tu_range(&rng, 2, 25),
-                            v);
+                    tu_fill(g, x0, y0, x0 + tu_range(&rng, 2, 25), y0 + tu_range(&rng, 2, 25), v);
                 }
                 for (int i = 0; i < w * h / 20; i++)
                     g->pixels[tu_range(&rng, 0, w * h - 1)] = (uint8_t)tu_range(&rng, 0, 255);
@@ -198,8 +198,8 @@ static void test_against_naive(void)
                         /* The reference must see both classes, or the comparison is empty. */
                         if (win > 1)
                             CHECK(inked > 0 && inked < w * h,
-                                  "random kind %d window %d: reference has %ld ink pixels",
-                                  kind, win, inked);
+                                  "random kind %d window %d: reference has %ld ink pixels", kind,
+                                  win, inked);
                         lt_image_free(ink);
                     }
             free(want);
@@ -222,7 +222,8 @@ static void test_window_one(void)
     lt_image *ink = binarize(g, 1, 0.34, 128, "window 1");
     if (ink) {
         long wrong = 0;
-        for (int i = 0; i < 2000; i++) wrong += ink->pixels[i] != (g->pixels[i] == 0);
+        for (int i = 0; i < 2000; i++)
+            wrong += ink->pixels[i] != (g->pixels[i] == 0);
         CHECK_INT(wrong, 0, "window 1: pixels where ink != (gray == 0)");
     }
     lt_image_free(g);
@@ -240,9 +241,9 @@ static void test_bad_arguments(void)
         double k, r;
         const char *what;
     } cases[] = {
-        {NULL, 15, 0.34, 128, "NULL image"},     {inkimg, 15, 0.34, 128, "ink image as input"},
-        {g, 0, 0.34, 128, "window 0"},           {g, -3, 0.34, 128, "negative window"},
-        {g, 15, 0.34, 0, "R = 0"},               {g, 15, 0.34, -128, "negative R"},
+        {NULL, 15, 0.34, 128, "NULL image"}, {inkimg, 15, 0.34, 128, "ink image as input"},
+        {g, 0, 0.34, 128, "window 0"},       {g, -3, 0.34, 128, "negative window"},
+        {g, 15, 0.34, 0, "R = 0"},           {g, 15, 0.34, -128, "negative R"},
         {g, 15, -0.1, 128, "negative k"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {

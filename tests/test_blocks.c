@@ -7,10 +7,10 @@
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
 
-#define TH 20      /* text height (x-height) of the page, px */
-#define ASC 29     /* line box top above the baseline */
-#define DESC 8     /* line box bottom below the baseline */
-#define PITCH 48   /* baseline to baseline: 2.4 text heights */
+#define TH 20    /* text height (x-height) of the page, px */
+#define ASC 29   /* line box top above the baseline */
+#define DESC 8   /* line box bottom below the baseline */
+#define PITCH 48 /* baseline to baseline: 2.4 text heights */
 #define MAX_LINES 200
 
 /* A page under construction: lines in reading order, each with the block it belongs to. */
@@ -51,7 +51,8 @@ static void check_page(const page *p, uint64_t seed, const char *what)
 {
     /* Shuffle (Fisher-Yates): raw[k] = p->lines[perm[k]]. */
     int perm[MAX_LINES];
-    for (int i = 0; i < p->n; i++) perm[i] = i;
+    for (int i = 0; i < p->n; i++)
+        perm[i] = i;
     tu_rng r = {seed};
     for (int i = p->n - 1; i > 0; i--) {
         int j = tu_range(&r, 0, i), t = perm[i];
@@ -60,7 +61,8 @@ static void check_page(const page *p, uint64_t seed, const char *what)
     }
     lt_raw_lines raw = {malloc((size_t)p->n * sizeof(lt_raw_line)), p->n};
     if (!raw.items) tu_die("out of memory");
-    for (int k = 0; k < p->n; k++) raw.items[k] = p->lines[perm[k]];
+    for (int k = 0; k < p->n; k++)
+        raw.items[k] = p->lines[perm[k]];
     lt_params prm;
     lt_params_default(&prm);
     lt_error err = {0};

@@ -76,8 +76,10 @@ static void compare_with_leptonica(const lt_image *ink, const char *what)
     lt_box *a = malloc(((size_t)c->count + 1) * sizeof *a);
     lt_box *b = malloc(((size_t)nref + 1) * sizeof *b);
     if (!a || !b) tu_die("out of memory");
-    for (int i = 0; i < c->count; i++) a[i] = c->items[i].box;
-    for (int i = 0; i < nref; i++) b[i] = ref[i].box;
+    for (int i = 0; i < c->count; i++)
+        a[i] = c->items[i].box;
+    for (int i = 0; i < nref; i++)
+        b[i] = ref[i].box;
     qsort(a, (size_t)c->count, sizeof *a, tu_cmp_box);
     qsort(b, (size_t)nref, sizeof *b, tu_cmp_box);
     int box_diff = 0;
@@ -98,10 +100,9 @@ static void compare_with_leptonica(const lt_image *ink, const char *what)
         if (k->pixels != ref[i].pixels && pix_diff++ == 0)
             CHECK_INT(k->pixels, ref[i].pixels, "%s: pixels of component %d", what, i);
         /* leptonica's centroid is single precision: tolerance 1e-3 px (from its float type). */
-        if ((fabs(k->cx - ref[i].cx) > 1e-3 || fabs(k->cy - ref[i].cy) > 1e-3) &&
-            cent_diff++ == 0)
-            tu_fail("%s: centroid of component %d: (%.4f, %.4f), leptonica (%.4f, %.4f)", what,
-                    i, k->cx, k->cy, ref[i].cx, ref[i].cy);
+        if ((fabs(k->cx - ref[i].cx) > 1e-3 || fabs(k->cy - ref[i].cy) > 1e-3) && cent_diff++ == 0)
+            tu_fail("%s: centroid of component %d: (%.4f, %.4f), leptonica (%.4f, %.4f)", what, i,
+                    k->cx, k->cy, ref[i].cx, ref[i].cy);
     }
     CHECK_INT(order_diff, 0, "%s: components out of leptonica's (raster) order", what);
     CHECK_INT(pix_diff, 0, "%s: components whose pixel count differs from leptonica", what);
@@ -113,7 +114,8 @@ static void compare_with_leptonica(const lt_image *ink, const char *what)
         raster_bad += c->items[i].box.top < c->items[i - 1].box.top;
     CHECK_INT(raster_bad, 0, "%s: tops decreasing in the component order", what);
     long total = 0;
-    for (int i = 0; i < c->count; i++) total += c->items[i].pixels;
+    for (int i = 0; i < c->count; i++)
+        total += c->items[i].pixels;
     CHECK_INT(total, tu_count_ink(ink), "%s: pixels of all components vs ink pixels", what);
     printf("%-34s %7d components, leptonica %7d: boxes %s, order %s\n", what, c->count, nref,
            box_diff || c->count != nref ? "DIFFER" : "agree", order_diff ? "DIFFERS" : "agrees");
@@ -184,15 +186,18 @@ static void test_page(void)
 static void test_diagonals(void)
 {
     lt_image *img = tu_image(40, 30, LT_IMAGE_INK, 0);
-    for (int i = 0; i < 10; i++) img->pixels[(size_t)(2 + i) * 40 + 2 + i] = 1;  /* "\" */
-    for (int i = 0; i < 10; i++) img->pixels[(size_t)(2 + i) * 40 + 30 - i] = 1; /* "/" */
+    for (int i = 0; i < 10; i++)
+        img->pixels[(size_t)(2 + i) * 40 + 2 + i] = 1; /* "\" */
+    for (int i = 0; i < 10; i++)
+        img->pixels[(size_t)(2 + i) * 40 + 30 - i] = 1; /* "/" */
     /* An "X" of two diagonals crossing between pixels, and a checkerboard patch. */
     for (int i = 0; i < 6; i++) {
         img->pixels[(size_t)(15 + i) * 40 + 5 + i] = 1;
         img->pixels[(size_t)(15 + i) * 40 + 10 - i] = 1;
     }
     for (int y = 15; y < 25; y++)
-        for (int x = 20; x < 30; x++) img->pixels[(size_t)y * 40 + x] = (x + y) % 2;
+        for (int x = 20; x < 30; x++)
+            img->pixels[(size_t)y * 40 + x] = (x + y) % 2;
     lt_components *c = find(img, 100, "diagonals");
     if (c) {
         CHECK_INT(c->count, 4, "diagonals: components (two diagonal lines, an X, a checkerboard)");
@@ -258,7 +263,8 @@ static void test_borders(void)
     }
     /* Alternating columns on a 1-row and a 1-column image: separate pixels. */
     lt_image *row = tu_image(33, 1, LT_IMAGE_INK, 0);
-    for (int x = 0; x < 33; x += 2) row->pixels[x] = 1;
+    for (int x = 0; x < 33; x += 2)
+        row->pixels[x] = 1;
     compare_with_leptonica(row, "alternating 33x1");
     lt_image_free(row);
 }
@@ -315,7 +321,8 @@ static void test_limit(void)
 {
     lt_image *img = tu_image(100, 100, LT_IMAGE_INK, 0);
     for (int y = 0; y < 100; y += 2)
-        for (int x = 0; x < 100; x += 2) img->pixels[y * 100 + x] = 1; /* 2500 specks */
+        for (int x = 0; x < 100; x += 2)
+            img->pixels[y * 100 + x] = 1; /* 2500 specks */
     lt_components *c = find(img, 2500, "limit 2500");
     if (c) CHECK_INT(c->count, 2500, "limit: components at the limit");
     lt_components_free(c);

@@ -8,9 +8,9 @@
 #include "testutil.h"
 
 /* Type metrics of the drawn "font", in pixels (a 300 dpi page of roughly 11 pt type). */
-#define XH 20       /* x-height: the text height lineate should measure */
-#define ASC 29      /* ascender letters reach this far above the baseline */
-#define DESC 8      /* descenders reach this far below it */
+#define XH 20  /* x-height: the text height lineate should measure */
+#define ASC 29 /* ascender letters reach this far above the baseline */
+#define DESC 8 /* descenders reach this far below it */
 #define LETTER_GAP 3
 #define WORD_GAP 12 /* 0.6 text heights */
 #define PITCH 48    /* baseline to baseline: 2.4 text heights */
@@ -114,7 +114,8 @@ static int draw_line(page *p, tu_rng *r, int x0, int x1, int baseline, int justi
         add_glyph(last, last->width + 2, baseline - 5, last->width + 7, baseline, 1);
     }
     int total = 0;
-    for (int i = 0; i < n; i++) total += words[i].width;
+    for (int i = 0; i < n; i++)
+        total += words[i].width;
     /* Justified: the extra space goes into the word gaps, at most 6 px more per gap (a
      * typesetter would hyphenate rather than open wider gaps), so a line may end short. */
     int slack = justify && n > 1 ? x1 - x0 - total - (n - 1) * WORD_GAP : 0;
@@ -204,8 +205,10 @@ static void compare_lines(const page *p, const result *r, const char *what)
     keyed_box *want = malloc(((size_t)p->nlines + 1) * sizeof *want);
     keyed_box *have = malloc(((size_t)got->count + 1) * sizeof *have);
     if (!want || !have) tu_die("out of memory");
-    for (int i = 0; i < p->nlines; i++) want[i] = (keyed_box){p->line_box[i], i};
-    for (int i = 0; i < got->count; i++) have[i] = (keyed_box){got->items[i].box, i};
+    for (int i = 0; i < p->nlines; i++)
+        want[i] = (keyed_box){p->line_box[i], i};
+    for (int i = 0; i < got->count; i++)
+        have[i] = (keyed_box){got->items[i].box, i};
     qsort(want, (size_t)p->nlines, sizeof *want, cmp_keyed_box);
     qsort(have, (size_t)got->count, sizeof *have, cmp_keyed_box);
     int n = p->nlines < got->count ? p->nlines : got->count, shown = 0;
@@ -289,8 +292,7 @@ static void test_two_columns(void)
             /* No line may cross the gutter. */
             int crossing = 0;
             for (int i = 0; res.lines && i < res.lines->count; i++)
-                crossing +=
-                    res.lines->items[i].box.left < x1 && res.lines->items[i].box.right > x2;
+                crossing += res.lines->items[i].box.left < x1 && res.lines->items[i].box.right > x2;
             CHECK_INT(crossing, 0, "%s: lines crossing the gutter", what);
             result_free(&res);
             page_free(p);

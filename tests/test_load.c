@@ -97,8 +97,7 @@ static void check_header(const char *path, int bps, int spp, int cmap, const cha
     l_int32 format, w, h, b = 0, s = 0, c = 0;
     if (pixReadHeader(path, &format, &w, &h, &b, &s, &c)) tu_die("%s: no header", path);
     CHECK(b == bps && s == spp && !!c == cmap,
-          "%s: the file written is not what the test needs (bps %d spp %d cmap %d)", what, b, s,
-          c);
+          "%s: the file written is not what the test needs (bps %d spp %d cmap %d)", what, b, s, c);
 }
 
 static void test_png(void)
@@ -113,8 +112,7 @@ static void test_png(void)
         tu_fail("gray png: %s", err.message);
     } else {
         CHECK_INT(lt_source_pages(src), 1, "gray png: pages");
-        CHECK(!strcmp(lt_source_format(src), "png"), "gray png: format %s",
-              lt_source_format(src));
+        CHECK(!strcmp(lt_source_format(src), "png"), "gray png: format %s", lt_source_format(src));
         CHECK(!strcmp(lt_source_name(src), tmp("gray.png")), "gray png: name %s",
               lt_source_name(src));
         lt_image *img = NULL;
@@ -128,8 +126,7 @@ static void test_png(void)
         img = NULL;
         CHECK_INT(lt_source_read_page(src, 1, LT_DEFAULT_MAX_PIXELS, &img, &e2), LT_EINVAL,
                   "gray png: page 2");
-        CHECK(img == NULL && strstr(e2.message, "gray.png"), "gray png page 2: '%s'",
-              e2.message);
+        CHECK(img == NULL && strstr(e2.message, "gray.png"), "gray png page 2: '%s'", e2.message);
     }
     lt_source_free(src);
     /* The same bytes from memory. */
@@ -217,7 +214,8 @@ static void test_png(void)
     pixcmapAddColor(cmap, 200, 100, 50);
     pixSetColormap(pal, cmap);
     for (int y = 0; y < 20; y++)
-        for (int x = 0; x < 40; x++) pixSetPixel(pal, x, y, (l_uint32)(x / 10));
+        for (int x = 0; x < 40; x++)
+            pixSetPixel(pal, x, y, (l_uint32)(x / 10));
     write_pix(pal, tmp("palette.png"), IFF_PNG);
     check_header(tmp("palette.png"), 8, 1, 1, "palette png");
     img = load(tmp("palette.png"), 0);
@@ -491,7 +489,8 @@ static uint32_t crc32_png(const uint8_t *p, size_t n)
     uint32_t c = 0xffffffffu;
     for (size_t i = 0; i < n; i++) {
         c ^= p[i];
-        for (int k = 0; k < 8; k++) c = c & 1 ? 0xedb88320u ^ (c >> 1) : c >> 1;
+        for (int k = 0; k < 8; k++)
+            c = c & 1 ? 0xedb88320u ^ (c >> 1) : c >> 1;
     }
     return c ^ 0xffffffffu;
 }

@@ -25,19 +25,19 @@ static void fail(const char *fmt, ...)
     failures++;
 }
 
-#define CHECK(cond, ...)                                                                      \
-    do {                                                                                      \
-        if (!(cond)) fail(__VA_ARGS__);                                                       \
+#define CHECK(cond, ...)                                                                           \
+    do {                                                                                           \
+        if (!(cond)) fail(__VA_ARGS__);                                                            \
     } while (0)
-#define CHECK_NEAR(got, want, tol, what)                                                      \
-    do {                                                                                      \
-        double g_ = (got), w_ = (want);                                                       \
-        if (!(fabs(g_ - w_) <= (tol))) fail("%s: got %.9g, want %.9g", what, g_, w_);         \
+#define CHECK_NEAR(got, want, tol, what)                                                           \
+    do {                                                                                           \
+        double g_ = (got), w_ = (want);                                                            \
+        if (!(fabs(g_ - w_) <= (tol))) fail("%s: got %.9g, want %.9g", what, g_, w_);              \
     } while (0)
-#define CHECK_INT(got, want, what)                                                            \
-    do {                                                                                      \
-        long g_ = (long)(got), w_ = (long)(want);                                             \
-        if (g_ != w_) fail("%s: got %ld, want %ld", what, g_, w_);                            \
+#define CHECK_INT(got, want, what)                                                                 \
+    do {                                                                                           \
+        long g_ = (long)(got), w_ = (long)(want);                                                  \
+        if (g_ != w_) fail("%s: got %ld, want %ld", what, g_, w_);                                 \
     } while (0)
 
 static lt_box B(int l, int t, int r, int b)
@@ -117,8 +117,11 @@ static void test_prf(void)
 }
 
 /* Five text lines stacked like a paragraph. */
-static const lt_box para[5] = {{100, 100, 900, 130}, {100, 140, 880, 170}, {100, 180, 900, 210},
-                               {100, 220, 900, 250}, {100, 260, 500, 290}};
+static const lt_box para[5] = {{100, 100, 900, 130},
+                               {100, 140, 880, 170},
+                               {100, 180, 900, 210},
+                               {100, 220, 900, 250},
+                               {100, 260, 500, 290}};
 
 static void test_identical(void)
 {
@@ -252,8 +255,8 @@ static void test_skewed_hulls(void)
     int sp, me, cr;
     lt_error err = {0};
     lt_count_splits_merges(t, 3, p, 3, NULL, 0, &sp, &me, &cr, &err);
-    CHECK(sp == 3 && me == 3, "skewed hulls, plain definition: splits %d merges %d, want 3 3",
-          sp, me);
+    CHECK(sp == 3 && me == 3, "skewed hulls, plain definition: splits %d merges %d, want 3 3", sp,
+          me);
     lt_scored_page tp = make_page(t, 3, 10), pp = make_page(p, 3, 10);
     lt_page_score s;
     if (score(&tp, &pp, &s, "skewed hulls")) return;
@@ -323,7 +326,8 @@ static void test_kendall(void)
         fail("out of memory");
         return;
     }
-    for (int i = 0; i < n; i++) rev[i] = n - i;
+    for (int i = 0; i < n; i++)
+        rev[i] = n - i;
     lt_kendall_tau_a(rev, n, &tau);
     CHECK_NEAR(tau, -1.0, 0, "tau of 100000 reversed");
     free(rev);
@@ -372,8 +376,7 @@ static void test_greedy(void)
         return;
     }
     CHECK_INT(nm, 2, "greedy, swapped: matches");
-    if (nm == 2)
-        CHECK(m[0].pred == 0 && m[1].pred == 1, "greedy, swapped: t0-p0 then t1-p1");
+    if (nm == 2) CHECK(m[0].pred == 0 && m[1].pred == 1, "greedy, swapped: t0-p0 then t1-p1");
     free(m);
 }
 
@@ -441,7 +444,8 @@ static void test_against_brute_force(void)
         qsort(pairs, (size_t)n, sizeof *pairs, cmp_bf);
         int want = 0, want75 = 0;
         int *want_pred = malloc((size_t)nt * sizeof *want_pred);
-        for (int i = 0; i < nt; i++) want_pred[i] = -1;
+        for (int i = 0; i < nt; i++)
+            want_pred[i] = -1;
         for (int k = 0; k < n; k++) {
             if (used_t[pairs[k].t] || used_p[pairs[k].p]) continue;
             used_t[pairs[k].t] = used_p[pairs[k].p] = 1;
@@ -470,8 +474,7 @@ static void test_against_brute_force(void)
                 c++;
                 for (int k = 0; k < i; k++) {
                     int64_t ak = lt_box_area(&t[k].box);
-                    if (!(ak > 0 && 2 * lt_box_intersection(&t[k].box, &p[j].box) >= ak))
-                        continue;
+                    if (!(ak > 0 && 2 * lt_box_intersection(&t[k].box, &p[j].box) >= ak)) continue;
                     const lt_box *a = &t[i].box, *b = &t[k].box;
                     int ov = (a->bottom < b->bottom ? a->bottom : b->bottom) -
                              (a->top > b->top ? a->top : b->top);
@@ -541,8 +544,7 @@ static void expect_reject(const char *name, const char *text, int code, const ch
     CHECK(pages == NULL && n == 0, "%s: output not cleared on failure", name);
     CHECK(strstr(err.message, path) != NULL, "%s: message lacks the file name: %s", name,
           err.message);
-    CHECK(strstr(err.message, why) != NULL, "%s: message '%s' lacks '%s'", name, err.message,
-          why);
+    CHECK(strstr(err.message, why) != NULL, "%s: message '%s' lacks '%s'", name, err.message, why);
     CHECK(strchr(err.message, '\n') == NULL, "%s: message has a newline", name);
     lt_scored_pages_free(pages, n);
 }
@@ -575,8 +577,7 @@ static void test_reader(void)
                       pg[0].lines[1].box.right == 60 && pg[0].lines[1].box.bottom == 70,
                   "JSON Lines: second box");
             CHECK(pg[0].lines[0].in_order == 1, "layout lines are in order by default");
-            CHECK(pg[0].variant == NULL && pg[0].format == LT_SCORED_LAYOUT,
-                  "layout: no variant");
+            CHECK(pg[0].variant == NULL && pg[0].format == LT_SCORED_LAYOUT, "layout: no variant");
         }
         lt_scored_pages_free(pg, n);
     }
@@ -658,16 +659,14 @@ static void test_reader(void)
     expect_reject("array.json", "[1,2,3]", LT_EPARSE, "not a JSON object");
     snprintf(bad, sizeof bad, "%s%s\"lines\":{}}", GT_HEAD, size);
     expect_reject("linesobj.gt.json", bad, LT_EPARSE, "not an array");
-    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,3,4],\"in_order\":1}]}", GT_HEAD,
-             size);
+    snprintf(bad, sizeof bad, "%s%s\"lines\":[{\"box\":[1,2,3,4],\"in_order\":1}]}", GT_HEAD, size);
     expect_reject("inorder.gt.json", bad, LT_EPARSE, "in_order");
     snprintf(bad, sizeof bad, "%s%s\"skew_deg\":\"x\",\"lines\":[]}", GT_HEAD, size);
     expect_reject("skew.gt.json", bad, LT_EPARSE, "skew_deg");
     snprintf(bad, sizeof bad, "%s\"page\":0,%s\"lines\":[]}", LAYOUT_HEAD, size);
     expect_reject("page0.json", bad, LT_EPARSE, "\"page\"");
     /* the second page is broken: the message says which */
-    snprintf(bad, sizeof bad, "%s\n%s%s\"lines\":[{\"box\":[1,2,3,-4]}]}\n", page1, GT_HEAD,
-             size);
+    snprintf(bad, sizeof bad, "%s\n%s%s\"lines\":[{\"box\":[1,2,3,-4]}]}\n", page1, GT_HEAD, size);
     expect_reject("second.jsonl", bad, LT_EPARSE, "page 2: lines[0]");
 
     /* files that cannot be read */
@@ -704,12 +703,12 @@ static void test_end_to_end(void)
                                     "{\"box\":[100,180,900,210],\"in_order\":true}]}");
     char tcopy[128];
     snprintf(tcopy, sizeof tcopy, "%s", tpath);
-    char *ppath = write_tmp("e2e.json",
-                            LAYOUT_HEAD "\"page\":1,\"width\":1000,\"height\":1000,"
-                                        "\"skew_deg\":0.75,\"lines\":["
-                                        "{\"box\":[101,139,899,171]},{\"box\":[100,100,900,131]},"
-                                        "{\"box\":[100,180,500,210]},{\"box\":[500,180,900,210]},"
-                                        "{\"box\":[951,141,979,169]}]}");
+    char *ppath =
+        write_tmp("e2e.json", LAYOUT_HEAD "\"page\":1,\"width\":1000,\"height\":1000,"
+                                          "\"skew_deg\":0.75,\"lines\":["
+                                          "{\"box\":[101,139,899,171]},{\"box\":[100,100,900,131]},"
+                                          "{\"box\":[100,180,500,210]},{\"box\":[500,180,900,210]},"
+                                          "{\"box\":[951,141,979,169]}]}");
     lt_scored_page *tp, *pp;
     int nt, np;
     lt_error err = {0};
@@ -738,13 +737,16 @@ static void test_end_to_end(void)
 
 static void cleanup(void)
 {
-    static const char *const files[] = {
-        "two.jsonl", "three.json", "leaf.gt.json", "empty.json", "blank.json", "text.json",
-        "truncated.json", "trailing.json", "leftright.json", "topbottom.json", "three.gt.json",
-        "float.gt.json", "string.gt.json", "huge.gt.json", "nobox.gt.json", "nolines.gt.json",
-        "noheight.gt.json", "zeroheight.gt.json", "absurd.gt.json", "noformat.json",
-        "otherformat.json", "array.json", "linesobj.gt.json", "inorder.gt.json",
-        "skew.gt.json", "page0.json", "second.jsonl", "big.json", "e2e.gt.json", "e2e.json"};
+    static const char *const files[] = {"two.jsonl",       "three.json",       "leaf.gt.json",
+                                        "empty.json",      "blank.json",       "text.json",
+                                        "truncated.json",  "trailing.json",    "leftright.json",
+                                        "topbottom.json",  "three.gt.json",    "float.gt.json",
+                                        "string.gt.json",  "huge.gt.json",     "nobox.gt.json",
+                                        "nolines.gt.json", "noheight.gt.json", "zeroheight.gt.json",
+                                        "absurd.gt.json",  "noformat.json",    "otherformat.json",
+                                        "array.json",      "linesobj.gt.json", "inorder.gt.json",
+                                        "skew.gt.json",    "page0.json",       "second.jsonl",
+                                        "big.json",        "e2e.gt.json",      "e2e.json"};
     char path[128];
     for (size_t i = 0; i < sizeof files / sizeof *files; i++) {
         snprintf(path, sizeof path, "%s/%s", tmpdir, files[i]);

@@ -19,8 +19,8 @@ static double leptonica_sign(void)
     PIX *pix = pixCreate(400, 400, 8);
     pixSetAllArbitrary(pix, 255);
     pixRasterop(pix, 100, 199, 200, 3, PIX_CLR, NULL, 0, 0); /* black line x 100..299, y 199..201 */
-    PIX *rot = pixRotate(pix, (l_float32)(5.0 * LT_PI / 180.0), L_ROTATE_AREA_MAP,
-                         L_BRING_IN_WHITE, 0, 0);
+    PIX *rot =
+        pixRotate(pix, (l_float32)(5.0 * LT_PI / 180.0), L_ROTATE_AREA_MAP, L_BRING_IN_WHITE, 0, 0);
     if (!rot) tu_die("pixRotate failed");
     /* Mean row of the dark pixels near the right end (x 280..299) vs near the left end. */
     double ysum[2] = {0, 0};
@@ -108,8 +108,7 @@ static void test_rotated_pages(double sign)
                     tu_fail("%s: lt_rotate_ink: %s", what, err.message);
                 } else {
                     lt_skew s2 = estimate(level, what);
-                    CHECK_NEAR(s2.angle_deg, 0, TOLERANCE_DEG, "%s, deskewed: residual skew",
-                               what);
+                    CHECK_NEAR(s2.angle_deg, 0, TOLERANCE_DEG, "%s, deskewed: residual skew", what);
                 }
                 lt_image_free(level);
             }
@@ -151,8 +150,7 @@ static void test_no_evidence(void)
             noise->pixels[k] = tu_unit(&rng) < densities[i];
         s = estimate(noise, "noise");
         CHECK(s.angle_deg == 0 && s.confidence == 0,
-              "uniform noise %.2f: angle %.4f confidence %.4f, want 0 and 0",
-              densities[i],
+              "uniform noise %.2f: angle %.4f confidence %.4f, want 0 and 0", densities[i],
               s.angle_deg, s.confidence);
         lt_image_free(noise);
     }
@@ -162,13 +160,13 @@ static void test_no_evidence(void)
     for (int y = 0; y < 2200; y++)
         for (int x = 0; x < 1700; x++) {
             double dx = x - 850.0, dy = y - 1100.0;
-            disc->pixels[(size_t)y * 1700 + x] = dx * dx + dy * dy < 800.0 * 800 &&
-                                                 tu_unit(&rng) < 0.1;
+            disc->pixels[(size_t)y * 1700 + x] =
+                dx * dx + dy * dy < 800.0 * 800 && tu_unit(&rng) < 0.1;
         }
     s = estimate(disc, "noise disc");
     CHECK(s.angle_deg == 0 && s.confidence == 0,
-          "uniform noise 0.10 in a disc: angle %.4f confidence %.4f, want 0 and 0",
-          s.angle_deg, s.confidence);
+          "uniform noise 0.10 in a disc: angle %.4f confidence %.4f, want 0 and 0", s.angle_deg,
+          s.confidence);
     lt_image_free(disc);
     /* Tiny images carry no estimate; bad arguments are rejected. */
     lt_image *tiny = tu_image(10, 10, LT_IMAGE_INK, 1);
@@ -192,7 +190,8 @@ static lt_image *blob_page(int w, int h, uint64_t seed)
         int x = tu_range(&rng, 0, w - 1), y = tu_range(&rng, 0, h - 1);
         tu_fill(img, x, y, x + tu_range(&rng, 1, 12), y + tu_range(&rng, 1, 12), 1);
     }
-    for (int k = 0; k < w * h / 50; k++) img->pixels[tu_range(&rng, 0, w * h - 1)] = 1;
+    for (int k = 0; k < w * h / 50; k++)
+        img->pixels[tu_range(&rng, 0, w * h - 1)] = 1;
     return img;
 }
 
@@ -273,8 +272,7 @@ static void test_rotate_and_frame(void)
                 ink_rot += got != 0;
                 wrong += got != want;
             }
-        CHECK_INT(wrong, 0, "rotate %+.1f: pixels not equal to the original pixel they map to",
-                  a);
+        CHECK_INT(wrong, 0, "rotate %+.1f: pixels not equal to the original pixel they map to", a);
         CHECK(skipped * 100 < (long)rot->width * rot->height, "rotate %+.1f: %ld skipped", a,
               skipped);
         /* Rotation keeps area: ink within 3% of the original's (nearest-neighbour sampling). */

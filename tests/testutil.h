@@ -37,42 +37,42 @@ static inline void tu_fail(const char *fmt, ...)
     tu_failures++;
 }
 
-#define CHECK(cond, ...)                                                                      \
-    do {                                                                                      \
-        tu_checks++;                                                                          \
-        if (!(cond)) tu_fail(__VA_ARGS__);                                                    \
+#define CHECK(cond, ...)                                                                           \
+    do {                                                                                           \
+        tu_checks++;                                                                               \
+        if (!(cond)) tu_fail(__VA_ARGS__);                                                         \
     } while (0)
-#define CHECK_INT(got, want, ...)                                                             \
-    do {                                                                                      \
-        long g_ = (long)(got), w_ = (long)(want);                                             \
-        tu_checks++;                                                                          \
-        if (g_ != w_) {                                                                       \
-            char what_[512];                                                                  \
-            snprintf(what_, sizeof what_, __VA_ARGS__);                                       \
-            tu_fail("%s: got %ld, want %ld", what_, g_, w_);                                  \
-        }                                                                                     \
+#define CHECK_INT(got, want, ...)                                                                  \
+    do {                                                                                           \
+        long g_ = (long)(got), w_ = (long)(want);                                                  \
+        tu_checks++;                                                                               \
+        if (g_ != w_) {                                                                            \
+            char what_[512];                                                                       \
+            snprintf(what_, sizeof what_, __VA_ARGS__);                                            \
+            tu_fail("%s: got %ld, want %ld", what_, g_, w_);                                       \
+        }                                                                                          \
     } while (0)
-#define CHECK_NEAR(got, want, tol, ...)                                                       \
-    do {                                                                                      \
-        double g_ = (got), w_ = (want);                                                       \
-        tu_checks++;                                                                          \
-        if (!(fabs(g_ - w_) <= (tol))) {                                                      \
-            char what_[512];                                                                  \
-            snprintf(what_, sizeof what_, __VA_ARGS__);                                       \
-            tu_fail("%s: got %.9g, want %.9g (tolerance %g)", what_, g_, w_, (double)(tol)); \
-        }                                                                                     \
+#define CHECK_NEAR(got, want, tol, ...)                                                            \
+    do {                                                                                           \
+        double g_ = (got), w_ = (want);                                                            \
+        tu_checks++;                                                                               \
+        if (!(fabs(g_ - w_) <= (tol))) {                                                           \
+            char what_[512];                                                                       \
+            snprintf(what_, sizeof what_, __VA_ARGS__);                                            \
+            tu_fail("%s: got %.9g, want %.9g (tolerance %g)", what_, g_, w_, (double)(tol));       \
+        }                                                                                          \
     } while (0)
-#define CHECK_BOX(got, want, ...)                                                             \
-    do {                                                                                      \
-        lt_box g_ = (got), w_ = (want);                                                       \
-        tu_checks++;                                                                          \
-        if (g_.left != w_.left || g_.top != w_.top || g_.right != w_.right ||                 \
-            g_.bottom != w_.bottom) {                                                         \
-            char what_[512];                                                                  \
-            snprintf(what_, sizeof what_, __VA_ARGS__);                                       \
-            tu_fail("%s: got box [%d %d %d %d), want [%d %d %d %d)", what_, g_.left, g_.top,  \
-                    g_.right, g_.bottom, w_.left, w_.top, w_.right, w_.bottom);               \
-        }                                                                                     \
+#define CHECK_BOX(got, want, ...)                                                                  \
+    do {                                                                                           \
+        lt_box g_ = (got), w_ = (want);                                                            \
+        tu_checks++;                                                                               \
+        if (g_.left != w_.left || g_.top != w_.top || g_.right != w_.right ||                      \
+            g_.bottom != w_.bottom) {                                                              \
+            char what_[512];                                                                       \
+            snprintf(what_, sizeof what_, __VA_ARGS__);                                            \
+            tu_fail("%s: got box [%d %d %d %d), want [%d %d %d %d)", what_, g_.left, g_.top,       \
+                    g_.right, g_.bottom, w_.left, w_.top, w_.right, w_.bottom);                    \
+        }                                                                                          \
     } while (0)
 
 /* Prints "NAME: N passed, N failed" and returns the exit status (0 or 1). */
@@ -144,7 +144,8 @@ static inline void tu_fill(lt_image *img, int left, int top, int right, int bott
     if (right > img->width) right = img->width;
     if (bottom > img->height) bottom = img->height;
     for (int y = top; y < bottom; y++)
-        for (int x = left; x < right; x++) img->pixels[(size_t)y * img->width + x] = (uint8_t)value;
+        for (int x = left; x < right; x++)
+            img->pixels[(size_t)y * img->width + x] = (uint8_t)value;
 }
 
 static inline void tu_fill_box(lt_image *img, lt_box b, int value)
@@ -189,7 +190,8 @@ static inline int tu_cmp_box(const void *pa, const void *pb)
 static inline long tu_count_ink(const lt_image *img)
 {
     long n = 0;
-    for (size_t i = 0; i < (size_t)img->width * img->height; i++) n += img->pixels[i] != 0;
+    for (size_t i = 0; i < (size_t)img->width * img->height; i++)
+        n += img->pixels[i] != 0;
     return n;
 }
 

@@ -15,8 +15,8 @@ static lt_image *load(const char *path)
     lt_error err = {0};
     lt_source *src = NULL;
     lt_image *img = NULL;
-    if (lt_source_open(path, 1, &src, &err) || lt_source_read_page(src, 0, LT_DEFAULT_MAX_PIXELS,
-                                                                     &img, &err)) {
+    if (lt_source_open(path, 1, &src, &err) ||
+        lt_source_read_page(src, 0, LT_DEFAULT_MAX_PIXELS, &img, &err)) {
         fprintf(stderr, "tool_stage: %s\n", err.message);
         lt_source_free(src);
         exit(1);
@@ -52,7 +52,8 @@ static int write_pgm(const lt_image *ink, const char *path)
     if (!fp) return 1;
     fprintf(fp, "P5\n%d %d\n255\n", ink->width, ink->height);
     size_t n = (size_t)ink->width * ink->height;
-    for (size_t i = 0; i < n; i++) fputc(ink->pixels[i] ? 0 : 255, fp);
+    for (size_t i = 0; i < n; i++)
+        fputc(ink->pixels[i] ? 0 : 255, fp);
     return fclose(fp) != 0;
 }
 
