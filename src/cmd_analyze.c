@@ -5,7 +5,6 @@
 #include "lineate.h"
 
 #include <errno.h>
-#include <fcntl.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -61,32 +60,6 @@ static int parse_number(const char *opt, const char *text, double lo, double hi,
     return 0;
 }
 
-/* The decoders under leptonica (libpng, libjpeg, libtiff) print their own warnings on
- * standard error; while a file is opened or a page decoded, fd 2 points at /dev/null so that
- * each failed input gets exactly one message, ours. quiet_begin returns the saved fd (or -1,
- * and then nothing is redirected); quiet_end restores it. */
-static int quiet_begin(void)
-{
-    fflush(stderr);
-    int saved = dup(2);
-    if (saved < 0) return -1;
-    int nul = open("/dev/null", O_WRONLY);
-    if (nul < 0 || dup2(nul, 2) < 0) {
-        if (nul >= 0) close(nul);
-        close(saved);
-        return -1;
-    }
-    close(nul);
-    return saved;
-}
-
-static void quiet_end(int saved)
-{
-    if (saved < 0) return;
-    dup2(saved, 2);
-    close(saved);
-}
-
 /* Analyses every page of one input, writing each page's JSON line to `out`. Returns 0, or 1
  * when the input (or a page of it) failed, with a message on stderr; -1 on a write error. */
 static int analyze_input(const char *path, const lt_params *params, long max_pages, int pretty,
@@ -94,10 +67,7 @@ static int analyze_input(const char *path, const lt_params *params, long max_pag
 {
     lt_error err = {0};
     lt_source *src = NULL;
-    int quiet = quiet_begin();
-    int open_rc = lt_source_open(path, max_pages, &src, &err);
-    quiet_end(quiet);
-    if (open_rc) {
+    if (lt_source_open(path, max_pages, &src, &err)) {
         fprintf(stderr, "lineate: %s\n", err.message);
         return 1;
     }
@@ -107,10 +77,8 @@ static int analyze_input(const char *path, const lt_params *params, long max_pag
         lt_error perr = {0};
         lt_image *img = NULL;
         lt_layout *layout = NULL;
-        quiet = quiet_begin();
-        int read_rc = lt_source_read_page(src, i, params->max_pixels, &img, &perr);
-        quiet_end(quiet);
-        if (read_rc || lt_analyze(img, params, &layout, &perr)) {
+        if (lt_source_read_page(src, i, params->max_pixels, &img, &perr) ||
+            lt_analyze(img, params, &layout, &perr)) {
             if (strncmp(perr.message, path, strlen(path)) == 0 ||
                 strncmp(perr.message, "stdin", 5) == 0)
                 fprintf(stderr, "lineate: %s\n", perr.message);

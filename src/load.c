@@ -1,10 +1,11 @@
-/* load.c — reads PNG (libpng), TIFF (every page, load_tiff.c), JPEG, PNM and the other
- * formats leptonica decodes, and normalises each page to 8-bit gray, or to an ink image when
+/* load.c — reads PNG (libpng), TIFF (every page, load_tiff.c), JPEG (libjpeg), and PNM and
+ * the other formats leptonica decodes, and normalises each page to 8-bit gray, or to an ink image when
  * the page is 1-bit.
  * Files are read into memory once; every page's size is checked before it is decoded. */
 #include "internal.h"
 
 #include <leptonica/allheaders.h>
+#include <jpeglib.h>
 #include <png.h>
 #include <setjmp.h>
 
@@ -312,6 +313,73 @@ static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
     return 0;
 }
 
+/* ---- JPEG through libjpeg directly: messages kept, never printed ------------------------- */
+typedef struct jpeg_failure {
+    struct jpeg_error_mgr base;
+    jmp_buf jump;
+    char message[JMSG_LENGTH_MAX];
+} jpeg_failure;
+
+static void jpeg_fail(j_common_ptr cinfo)
+{
+    jpeg_failure *f = (jpeg_failure *)cinfo->err;
+    cinfo->err->format_message(cinfo, f->message);
+    longjmp(f->jump, 1);
+}
+
+/* A warning ("Premature end of JPEG file", "Corrupt JPEG data") means a damaged page that the
+ * decoder would fill in with gray: it is kept and the page fails after decoding. */
+static void jpeg_keep_warning(j_common_ptr cinfo)
+{
+    jpeg_failure *f = (jpeg_failure *)cinfo->err;
+    if (!f->message[0]) cinfo->err->format_message(cinfo, f->message);
+}
+
+/* Decodes a JPEG to 8-bit gray (libjpeg converts colour to luminance itself). */
+static int decode_jpeg(const lt_source *src, lt_image **out, lt_error *err)
+{
+    struct jpeg_decompress_struct cinfo;
+    jpeg_failure failure;
+    lt_image *volatile img = NULL;
+    cinfo.err = jpeg_std_error(&failure.base);
+    failure.base.error_exit = jpeg_fail;
+    failure.base.output_message = jpeg_keep_warning;
+    failure.message[0] = 0;
+    if (setjmp(failure.jump)) {
+        jpeg_destroy_decompress(&cinfo);
+        lt_image_free(img);
+        return lt_error_set(err, LT_EFORMAT, "%s: page 1: cannot decode JPEG (%s)", src->name,
+                            failure.message);
+    }
+    jpeg_create_decompress(&cinfo);
+    jpeg_mem_src(&cinfo, src->data, (unsigned long)src->size);
+    jpeg_read_header(&cinfo, TRUE);
+    cinfo.out_color_space = JCS_GRAYSCALE;
+    jpeg_start_decompress(&cinfo);
+    if (cinfo.output_components != 1) {
+        snprintf(failure.message, sizeof failure.message, "unsupported colour space");
+        longjmp(failure.jump, 1);
+    }
+    img = lt_image_new((int)cinfo.output_width, (int)cinfo.output_height, LT_IMAGE_GRAY);
+    if (!img) {
+        snprintf(failure.message, sizeof failure.message, "out of memory");
+        longjmp(failure.jump, 1);
+    }
+    while (cinfo.output_scanline < cinfo.output_height) {
+        JSAMPROW row = img->pixels + (size_t)cinfo.output_scanline * img->width;
+        jpeg_read_scanlines(&cinfo, &row, 1);
+    }
+    if (cinfo.saw_JFIF_marker && cinfo.X_density > 0)
+        img->dpi = cinfo.density_unit == 1   ? cinfo.X_density
+                   : cinfo.density_unit == 2 ? cinfo.X_density * 2.54
+                                             : 0;
+    if (failure.message[0]) longjmp(failure.jump, 1); /* damaged: a warning was given */
+    jpeg_finish_decompress(&cinfo);
+    jpeg_destroy_decompress(&cinfo);
+    *out = img;
+    return 0;
+}
+
 int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out, lt_error *err)
 {
     *out = NULL;
@@ -329,6 +397,7 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
                             "%s: page %d: %d x %d pixels, more than the limit of %ld", src->name,
                             index + 1, (int)w, (int)h, max_pixels);
     if (src->format == IFF_PNG) return decode_png(src, out, err);
+    if (src->format == IFF_JFIF_JPEG) return decode_jpeg(src, out, err);
     PIX *pix = pixReadMem(src->data, src->size);
     if (!pix)
         return lt_error_set(err, LT_EFORMAT, "%s: page %d: cannot decode (corrupt or truncated)",

@@ -77,7 +77,7 @@ CASES = [
     ("truncated PNG", "trunc.png", good_png[: len(good_png) // 2], 1, "cannot decode"),
     ("truncated PNG header", "trunc-header.png", good_png[:30], 1, "trunc-header.png"),
     ("truncated TIFF", "trunc.tif", good_tiff[: len(good_tiff) // 2], 1, "trunc.tif"),
-    ("truncated JPEG", "trunc.jpg", jpeg_bytes()[: len(jpeg_bytes()) // 2], None, None),
+    ("truncated JPEG", "trunc.jpg", jpeg_bytes()[: len(jpeg_bytes()) // 2], 1, "cannot decode"),
     ("PNG header bomb 100000 x 100000", "bomb.png", png_header_bomb(), 1, "more than the limit"),
     ("1 x 1 pixel", "dot.png", png_bytes(Image.new("L", (1, 1), 255)), 0, None),
     ("1 x 100000 pixels", "thread.png", png_bytes(Image.new("L", (1, 100000), 255)), 0, None),
