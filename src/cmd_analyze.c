@@ -1,8 +1,9 @@
-/* cmd_analyze.c — `lineate [OPTIONS] IMAGE...`: analyses every page of every input and
- * writes one JSON object per page, one per line, to stdout or to -o FILE (written to a
- * temporary name and renamed into place, so a failed run leaves no partial file). */
+/* cmd_analyze.c — `lineate [OPTIONS] IMAGE...`: options of the analyse command, and its
+ * output: one record per page, one per line, to stdout, to -o FILE (written to a temporary
+ * name and renamed into place, so a failed run leaves no partial file) or, with --out-dir,
+ * to one file per page. The work itself is src/batch.c. */
+#include "batch.h"
 #include "cli.h"
-#include "lineate.h"
 
 #include <errno.h>
 #include <getopt.h>
@@ -13,13 +14,19 @@
 #include <unistd.h>
 
 static const char usage_text[] =
-    "Usage: lineate [OPTIONS] IMAGE...\n"
+    "Usage: lineate [OPTIONS] IMAGE|FOLDER...\n"
     "       lineate score [OPTIONS] TRUTH PRED\n"
     "Find the skew, text lines, blocks and reading order of page images (PNG, TIFF, JPEG,\n"
-    "PNM; '-' reads standard input) and write one JSON object per page.\n"
+    "PNM; '-' reads standard input; folders are searched for images at any depth) and write\n"
+    "one JSON object per page: its layout, or an error record when the page failed.\n"
     "\n"
     "Options:\n"
     "  -o, --output FILE     write to FILE instead of standard output\n"
+    "      --out-dir DIR     write each page to its own file in DIR instead\n"
+    "      --resume          with --out-dir: skip pages whose output is already complete\n"
+    "      --from FILE       also analyse the paths listed in FILE, one a line ('-': stdin)\n"
+    "  -j, --jobs N          worker threads (default: the number of processors)\n"
+    "      --progress        report progress on standard error, a line every 50 pages\n"
     "      --pretty          indent the JSON for reading (one object spans many lines)\n"
     "      --dpi N           resolution to assume when a file gives none (default 300)\n"
     "      --force-dpi       use --dpi even when the file gives a resolution\n"
@@ -44,7 +51,11 @@ enum {
     OPT_MAX_SKEW,
     OPT_MAX_PIXELS,
     OPT_MAX_PAGES,
-    OPT_MAX_COMPONENTS
+    OPT_MAX_COMPONENTS,
+    OPT_OUT_DIR,
+    OPT_RESUME,
+    OPT_FROM,
+    OPT_PROGRESS
 };
 
 static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
@@ -60,54 +71,6 @@ static int parse_number(const char *opt, const char *text, double lo, double hi,
     return 0;
 }
 
-/* Analyses every page of one input, writing each page's JSON line to `out`. Returns 0, or 1
- * when the input (or a page of it) failed, with a message on stderr; -1 on a write error. */
-static int analyze_input(const char *path, const lt_params *params, long max_pages, int pretty,
-                         FILE *out)
-{
-    lt_error err = {0};
-    lt_source *src = NULL;
-    if (lt_source_open(path, max_pages, &src, &err)) {
-        fprintf(stderr, "lineate: %s\n", err.message);
-        return 1;
-    }
-    int failed = 0;
-    const int pages = lt_source_pages(src);
-    for (int i = 0; i < pages; i++) {
-        lt_error perr = {0};
-        lt_image *img = NULL;
-        lt_layout *layout = NULL;
-        if (lt_source_read_page(src, i, params->max_pixels, &img, &perr) ||
-            lt_analyze(img, params, &layout, &perr)) {
-            if (strncmp(perr.message, path, strlen(path)) == 0 ||
-                strncmp(perr.message, "stdin", 5) == 0)
-                fprintf(stderr, "lineate: %s\n", perr.message);
-            else
-                fprintf(stderr, "lineate: %s: page %d: %s\n", lt_source_name(src), i + 1,
-                        perr.message);
-            failed = 1;
-            lt_image_free(img);
-            continue;
-        }
-        lt_image_free(img);
-        char *json = lt_layout_to_json(layout, path, i + 1, pages, pretty);
-        lt_layout_free(layout);
-        if (!json) {
-            fprintf(stderr, "lineate: %s: page %d: out of memory\n", lt_source_name(src), i + 1);
-            failed = 1;
-            continue;
-        }
-        int bad = fputs(json, out) < 0 || fputc('\n', out) == EOF;
-        free(json);
-        if (bad) {
-            lt_source_free(src);
-            return -1;
-        }
-    }
-    lt_source_free(src);
-    return failed;
-}
-
 int lt_cmd_analyze(int argc, char **argv)
 {
     static const struct option longopts[] = {
@@ -121,18 +84,31 @@ int lt_cmd_analyze(int argc, char **argv)
         {"max-pixels", required_argument, NULL, OPT_MAX_PIXELS},
         {"max-pages", required_argument, NULL, OPT_MAX_PAGES},
         {"max-components", required_argument, NULL, OPT_MAX_COMPONENTS},
+        {"out-dir", required_argument, NULL, OPT_OUT_DIR},
+        {"resume", no_argument, NULL, OPT_RESUME},
+        {"from", required_argument, NULL, OPT_FROM},
+        {"jobs", required_argument, NULL, 'j'},
+        {"progress", no_argument, NULL, OPT_PROGRESS},
         {"help", no_argument, NULL, 'h'},
         {"version", no_argument, NULL, 'V'},
         {NULL, 0, NULL, 0}};
     lt_params params;
     lt_params_default(&params);
-    const char *output = NULL;
-    int pretty = 0, c;
-    double v, max_pages = LT_DEFAULT_MAX_PAGES;
+    const char *output = NULL, *out_dir = NULL, *from = NULL;
+    int pretty = 0, resume = 0, progress = 0, c;
+    long cpus = sysconf(_SC_NPROCESSORS_ONLN);
+    double v, max_pages = LT_DEFAULT_MAX_PAGES, jobs = cpus > 0 ? (double)cpus : 1;
     opterr = 0;
-    while ((c = getopt_long(argc, argv, ":o:hV", longopts, NULL)) != -1) {
+    while ((c = getopt_long(argc, argv, ":o:j:hV", longopts, NULL)) != -1) {
         switch (c) {
         case 'o': output = optarg; break;
+        case OPT_OUT_DIR: out_dir = optarg; break;
+        case OPT_RESUME: resume = 1; break;
+        case OPT_FROM: from = optarg; break;
+        case OPT_PROGRESS: progress = 1; break;
+        case 'j':
+            if (parse_number("--jobs", optarg, 1, 256, &jobs)) return LT_EXIT_USAGE;
+            break;
         case OPT_PRETTY: pretty = 1; break;
         case OPT_DPI:
             if (parse_number("--dpi", optarg, 10, 100000, &params.dpi)) return LT_EXIT_USAGE;
@@ -172,9 +148,27 @@ int lt_cmd_analyze(int argc, char **argv)
             return LT_EXIT_USAGE;
         }
     }
-    if (optind >= argc) {
+    if (optind >= argc && !from) {
         fprintf(stderr, "lineate: no input image (see lineate --help)\n");
         return LT_EXIT_USAGE;
+    }
+    if (out_dir && output) {
+        fprintf(stderr, "lineate: -o and --out-dir exclude each other (see lineate --help)\n");
+        return LT_EXIT_USAGE;
+    }
+    if (resume && !out_dir) {
+        fprintf(stderr, "lineate: --resume needs --out-dir (see lineate --help)\n");
+        return LT_EXIT_USAGE;
+    }
+    lt_inputs inputs = {0};
+    int status = LT_EXIT_OK;
+    for (int i = optind; i < argc; i++)
+        if (lt_inputs_add_arg(&inputs, argv[i])) status = LT_EXIT_FAILED;
+    if (from && lt_inputs_add_list(&inputs, from)) status = LT_EXIT_FAILED;
+    if (out_dir && mkdir(out_dir, 0777) != 0 && errno != EEXIST) {
+        fprintf(stderr, "lineate: %s: %s\n", out_dir, strerror(errno));
+        lt_inputs_free(&inputs);
+        return LT_EXIT_OUTPUT;
     }
     FILE *out = stdout;
     char *tmp_path = NULL;
@@ -197,12 +191,13 @@ int lt_cmd_analyze(int argc, char **argv)
             return LT_EXIT_OUTPUT;
         }
     }
-    int status = LT_EXIT_OK, write_failed = 0;
-    for (int i = optind; i < argc && !write_failed; i++) {
-        int r = analyze_input(argv[i], &params, (long)max_pages, pretty, out);
-        if (r < 0) write_failed = 1;
-        if (r > 0) status = LT_EXIT_FAILED;
-    }
+    lt_batch_options opt = {&params, (long)max_pages, pretty, (int)jobs, out, out_dir, resume,
+                            progress ? 1 : isatty(2) && inputs.count > 1 ? 2 : 0,
+                            out_dir != NULL || progress || (isatty(2) && inputs.count > 1)};
+    lt_batch_totals totals;
+    int write_failed = lt_batch_run(&inputs, &opt, &totals) != 0 || totals.write_failed;
+    lt_inputs_free(&inputs);
+    if (totals.failed) status = LT_EXIT_FAILED;
     if (fflush(out) != 0 || ferror(out)) write_failed = 1;
     if (tmp_path) {
         if (fclose(out) != 0) write_failed = 1;

@@ -1,7 +1,7 @@
 """Table of bad inputs: each case is a file built here, the exit status lineate must give and a
 fragment its one-line message must contain. Every case must finish within 10 s; in one batch
 run of all cases, every good page still comes out. Run by tests/bad_input.sh."""
-import io, os, resource, struct, subprocess, sys, tempfile, zlib
+import io, json, os, resource, struct, subprocess, sys, tempfile, zlib
 
 import numpy as np
 from PIL import Image
@@ -140,13 +140,21 @@ with tempfile.TemporaryDirectory() as tmp:
             one = len(err) == 1 and fname in err[0] and fragment in err[0]
             check(one, "%s: one line naming the file with '%s' (%s)" % (name, fragment, err))
     # One batch: every good page comes out, the bad ones are reported, the exit says so.
+    # Every input page gives one record: its layout or an error record.
     r = run(paths)
+    records = [json.loads(line) for line in r.stdout.splitlines()]
+    layouts = [x for x in records if "error" not in x]
+    errors = [x for x in records if "error" in x]
     good_pages = sum(1 for c in CASES if c[3] == 0) + 3  # pages 1, 2, 4 of broken3.tif
-    lines = r.stdout.splitlines()
-    maybe = 1 if any(c[3] is None for c in CASES) else 0
+    bad_pages = sum(1 for c in CASES if c[3] == 1)  # one record each (page 3 of broken3.tif)
+    maybe = sum(1 for c in CASES if c[3] is None)
     check(r.returncode == 1, "batch: exit 1 (%d)" % r.returncode)
-    check(good_pages <= len(lines) <= good_pages + maybe,
-          "batch: %d JSON lines for %d good pages" % (len(lines), good_pages))
+    check(len(layouts) + len(errors) == good_pages + bad_pages + maybe,
+          "batch: %d records for %d pages" % (len(records), good_pages + bad_pages + maybe))
+    check(good_pages <= len(layouts) <= good_pages + maybe,
+          "batch: %d layouts for %d good pages" % (len(layouts), good_pages))
+    check(all(e.get("source") and "page" in e for e in errors),
+          "batch: every error record names its file and page")
     # A reader that closes the pipe early: exit 3 with a message, no crash.
     p = subprocess.Popen([LINEATE] + [paths[0]] * 200, stdout=subprocess.PIPE,
                          stderr=subprocess.PIPE)

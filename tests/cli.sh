@@ -107,7 +107,11 @@ def tags(block):
     return [roff_plain(block[i + 1]) for i, l in enumerate(block[:-1]) if l.startswith(".TP")]
 
 def cmd_count(path, n, source):
-    ps = jsonl(path)
+    """n layout records (error records of failed pages aside, which must name the source)."""
+    ps = [p for p in jsonl(path) if "error" not in p]
+    for e in jsonl(path):
+        if "error" in e and not (e.get("format") == "lineate-layout-1" and e.get("source")):
+            die("%s: error record without format or source: %r" % (path, e))
     if len(ps) != int(n):
         die("%s: %d JSON lines, expected %s" % (path, len(ps), n))
     for p in ps:
@@ -162,7 +166,8 @@ def cmd_fields(schema_path, man_path):
     schema = json.load(open(schema_path))
     lines = open(man_path, encoding="utf-8").read().splitlines()
     out = section(lines, ".SH OUTPUT", r"\.SH ")
-    for title, props in (("The page object", schema["properties"]),
+    for title, props in (("The page object", schema["$defs"]["page"]["properties"]),
+                         ("The error record", schema["$defs"]["error_record"]["properties"]),
                          ("The line object", schema["$defs"]["line"]["properties"]),
                          ("The block object", schema["$defs"]["block"]["properties"])):
         block = section(out, ".SS " + title, r"\.S[SH] ")
@@ -402,8 +407,9 @@ for bad in in/missing.png in/empty.png in/notes.png in/folder.png in/truncated.p
         py count out 1 "$good"
 done
 run - <in/notes.png
-check "bad standard input: exit 1, one stderr line naming stdin" \
-    test "$rc" -eq 1 -a "$(nlines err)" -eq 1 -a "$(grep -c stdin err)" -eq 1 -a ! -s out
+check "bad standard input: exit 1, one stderr line naming stdin, one error record" \
+    test "$rc" -eq 1 -a "$(nlines err)" -eq 1 -a "$(grep -c stdin err)" -eq 1 -a \
+    "$(grep -c '"error"' out)" -eq 1 -a "$(nlines out)" -eq 1
 
 # ---- standard input, -o, write errors, determinism ------------------------------------------
 run "$good"
@@ -472,8 +478,8 @@ check "--max-pages 2 on three pages: exit 1, one line naming the file, the good 
 check "--max-pages 2: the good file's line is written" py count out 1 "$good"
 run --max-pixels 1000000 in/three.tif
 check "--max-pixels under the page size: exit 1, one line per page naming file and page" \
-    test "$rc" -eq 1 -a ! -s out -a "$(nlines err)" -eq 3 -a \
-    "$(grep -c -e 'in/three.tif: page [123]:' err)" -eq 3
+    test "$rc" -eq 1 -a "$(nlines err)" -eq 3 -a \
+    "$(grep -c -e 'in/three.tif: page [123]:' err)" -eq 3 -a "$(grep -c '"error"' out)" -eq 3
 
 # ---- --pretty --------------------------------------------------------------------------------
 run --pretty "$good"

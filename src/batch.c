@@ -1,0 +1,531 @@
+/* batch.c — the analyse command over many inputs: folders are searched for image files, pages
+ * are analysed by a pool of worker threads, and the writer emits each input's records in input
+ * order, so the output does not depend on the number of threads. At most 2 x jobs inputs are
+ * in flight, which bounds memory. With an output folder every page is its own file, written
+ * under a temporary name and renamed into place; --resume skips pages already complete. */
+#include "batch.h"
+
+#include <cjson/cJSON.h>
+#include <dirent.h>
+#include <errno.h>
+#include <pthread.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+#include <sys/stat.h>
+#include <time.h>
+#include <unistd.h>
+
+/* ---- inputs --------------------------------------------------------------------------- */
+
+static const char *const image_extensions[] = {".png", ".tif", ".tiff", ".jpg", ".jpeg", ".jpe",
+                                               ".pnm", ".pbm", ".pgm", ".ppm", ".bmp", ".gif",
+                                               ".webp", ".jp2"};
+
+static int is_image_name(const char *name)
+{
+    const char *dot = strrchr(name, '.');
+    if (!dot) return 0;
+    for (size_t i = 0; i < sizeof image_extensions / sizeof *image_extensions; i++)
+        if (strcasecmp(dot, image_extensions[i]) == 0) return 1;
+    return 0;
+}
+
+/* `name` without its extension (a new string). */
+static char *strip_extension(const char *name)
+{
+    const char *slash = strrchr(name, '/'), *dot = strrchr(name, '.');
+    size_t n = dot && (!slash || dot > slash) ? (size_t)(dot - name) : strlen(name);
+    char *s = malloc(n + 1);
+    if (s) {
+        memcpy(s, name, n);
+        s[n] = 0;
+    }
+    return s;
+}
+
+static int push_input(lt_inputs *in, const char *path, const char *out_name)
+{
+    if (in->count == in->cap) {
+        int cap = in->cap ? 2 * in->cap : 64;
+        lt_input *bigger = realloc(in->items, (size_t)cap * sizeof *bigger);
+        if (!bigger) return -1;
+        in->items = bigger;
+        in->cap = cap;
+    }
+    lt_input *it = &in->items[in->count];
+    it->path = strdup(path);
+    it->out_name = strip_extension(out_name);
+    if (!it->path || !it->out_name) {
+        free(it->path);
+        free(it->out_name);
+        return -1;
+    }
+    in->count++;
+    return 0;
+}
+
+static int cmp_str(const void *a, const void *b)
+{
+    return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+/* Adds the image files below `dir`; `rel` is the path relative to the folder given. */
+static int add_folder(lt_inputs *in, const char *dir, const char *rel, int depth)
+{
+    if (depth > 64) {
+        fprintf(stderr, "lineate: %s: folders nested too deep\n", dir);
+        return -1;
+    }
+    DIR *d = opendir(dir);
+    if (!d) {
+        fprintf(stderr, "lineate: %s: %s\n", dir, strerror(errno));
+        return -1;
+    }
+    char **names = NULL;
+    size_t n = 0, cap = 0;
+    int rc = 0;
+    for (struct dirent *e; (e = readdir(d));) {
+        if (e->d_name[0] == '.') continue; /* hidden files, ".", ".." */
+        if (n == cap) {
+            cap = cap ? 2 * cap : 64;
+            char **bigger = realloc(names, cap * sizeof *bigger);
+            if (!bigger) {
+                rc = -1;
+                break;
+            }
+            names = bigger;
+        }
+        if (!(names[n] = strdup(e->d_name))) {
+            rc = -1;
+            break;
+        }
+        n++;
+    }
+    closedir(d);
+    qsort(names, n, sizeof *names, cmp_str);
+    for (size_t i = 0; i < n && rc == 0; i++) {
+        size_t lp = strlen(dir) + strlen(names[i]) + 2, lr = strlen(rel) + strlen(names[i]) + 2;
+        char *path = malloc(lp), *sub = malloc(lr);
+        if (!path || !sub) {
+            rc = -1;
+        } else {
+            snprintf(path, lp, "%s/%s", dir, names[i]);
+            snprintf(sub, lr, "%s%s%s", rel, *rel ? "/" : "", names[i]);
+            struct stat st;
+            if (stat(path, &st) == 0 && S_ISDIR(st.st_mode))
+                rc = add_folder(in, path, sub, depth + 1);
+            else if (is_image_name(names[i]))
+                rc = push_input(in, path, sub);
+        }
+        free(path);
+        free(sub);
+    }
+    for (size_t i = 0; i < n; i++) free(names[i]);
+    free(names);
+    if (rc) fprintf(stderr, "lineate: %s: out of memory\n", dir);
+    return rc;
+}
+
+int lt_inputs_add_arg(lt_inputs *in, const char *arg)
+{
+    struct stat st;
+    if (strcmp(arg, "-") != 0 && stat(arg, &st) == 0 && S_ISDIR(st.st_mode)) {
+        size_t n = strlen(arg);
+        char *dir = strdup(arg);
+        if (!dir) return -1;
+        while (n > 1 && dir[n - 1] == '/') dir[--n] = 0;
+        const int before = in->count;
+        int rc = add_folder(in, dir, "", 0);
+        if (rc == 0 && in->count == before) {
+            fprintf(stderr, "lineate: %s: no image files in this folder\n", dir);
+            rc = -1;
+        }
+        free(dir);
+        return rc;
+    }
+    const char *base = strrchr(arg, '/');
+    base = base ? base + 1 : arg;
+    if (push_input(in, arg, strcmp(arg, "-") == 0 ? "stdin" : base)) {
+        fprintf(stderr, "lineate: out of memory\n");
+        return -1;
+    }
+    return 0;
+}
+
+int lt_inputs_add_list(lt_inputs *in, const char *list_path)
+{
+    FILE *fp = strcmp(list_path, "-") == 0 ? stdin : fopen(list_path, "r");
+    if (!fp) {
+        fprintf(stderr, "lineate: %s: %s\n", list_path, strerror(errno));
+        return -1;
+    }
+    char *line = NULL;
+    size_t cap = 0;
+    ssize_t len;
+    int rc = 0;
+    while (rc == 0 && (len = getline(&line, &cap, fp)) >= 0) {
+        while (len > 0 && (line[len - 1] == '\n' || line[len - 1] == '\r')) line[--len] = 0;
+        if (len > 0) rc = lt_inputs_add_arg(in, line);
+    }
+    if (rc == 0 && ferror(fp)) {
+        fprintf(stderr, "lineate: %s: read error\n", list_path);
+        rc = -1;
+    }
+    free(line);
+    if (fp != stdin) fclose(fp);
+    return rc;
+}
+
+void lt_inputs_free(lt_inputs *in)
+{
+    for (int i = 0; i < in->count; i++) {
+        free(in->items[i].path);
+        free(in->items[i].out_name);
+    }
+    free(in->items);
+    in->items = NULL;
+    in->count = in->cap = 0;
+}
+
+/* ---- growing text buffers ------------------------------------------------------------- */
+
+typedef struct text {
+    char *data;
+    size_t len, cap;
+    int failed; /* out of memory: the result is incomplete */
+} text;
+
+static void text_add(text *t, const char *s, size_t n)
+{
+    if (t->failed) return;
+    if (t->len + n + 1 > t->cap) {
+        size_t cap = t->cap ? t->cap : 4096;
+        while (cap < t->len + n + 1) cap *= 2;
+        char *bigger = realloc(t->data, cap);
+        if (!bigger) {
+            t->failed = 1;
+            return;
+        }
+        t->data = bigger;
+        t->cap = cap;
+    }
+    memcpy(t->data + t->len, s, n);
+    t->len += n;
+    t->data[t->len] = 0;
+}
+
+static void text_printf(text *t, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void text_printf(text *t, const char *fmt, ...)
+{
+    char buf[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    int n = vsnprintf(buf, sizeof buf, fmt, ap);
+    va_end(ap);
+    if (n > 0) text_add(t, buf, (size_t)n < sizeof buf ? (size_t)n : sizeof buf - 1);
+}
+
+/* ---- one input ------------------------------------------------------------------------ */
+
+typedef struct result {
+    text records;  /* JSON lines for the stream */
+    text messages; /* lines for stderr */
+    long done, failed, skipped;
+    int write_failed;
+    int finished;
+} result;
+
+/* The error record of a page: format, source, page (0 when the file did not open), error. */
+static char *error_record(const char *source, int page, int pages, const char *message)
+{
+    cJSON *o = cJSON_CreateObject();
+    if (!o) return NULL;
+    cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME);
+    cJSON_AddStringToObject(o, "source", source);
+    if (page > 0)
+        cJSON_AddNumberToObject(o, "page", page);
+    else
+        cJSON_AddNullToObject(o, "page");
+    if (pages > 0) cJSON_AddNumberToObject(o, "pages", pages);
+    cJSON_AddStringToObject(o, "error", message);
+    char *s = cJSON_PrintUnformatted(o);
+    cJSON_Delete(o);
+    return s;
+}
+
+/* Path of a page's file in the output folder (new string). */
+static char *page_file(const char *dir, const char *name, int page, int pages)
+{
+    size_t n = strlen(dir) + strlen(name) + 32;
+    char *p = malloc(n);
+    if (!p) return NULL;
+    if (pages <= 1)
+        snprintf(p, n, "%s/%s.json", dir, name);
+    else
+        snprintf(p, n, "%s/%s.p%d.json", dir, name, page);
+    return p;
+}
+
+/* Creates the folders leading to `path` (its last component is a file). */
+static int make_parents(char *path)
+{
+    for (char *s = strchr(path + 1, '/'); s; s = strchr(s + 1, '/')) {
+        *s = 0;
+        int bad = mkdir(path, 0777) != 0 && errno != EEXIST;
+        *s = '/';
+        if (bad) return -1;
+    }
+    return 0;
+}
+
+/* Writes `json` and a newline to `path` through a temporary file renamed into place. */
+static int write_page_file(char *path, const char *json)
+{
+    if (make_parents(path)) return -1;
+    size_t n = strlen(path) + 32;
+    char *tmp = malloc(n);
+    if (!tmp) return -1;
+    snprintf(tmp, n, "%s.tmp.%ld", path, (long)getpid());
+    FILE *fp = fopen(tmp, "wb");
+    int bad = !fp;
+    if (fp) {
+        bad = fputs(json, fp) < 0 || fputc('\n', fp) == EOF;
+        bad |= fclose(fp) != 0;
+        if (!bad) bad = rename(tmp, path) != 0;
+        if (bad) remove(tmp);
+    }
+    free(tmp);
+    return bad ? -1 : 0;
+}
+
+/* Whether a page file from an earlier run is complete: a layout (not an error record) that
+ * parses as one JSON object. Files are only ever renamed into place whole, so a partial file
+ * cannot exist; this also rejects a file edited or damaged since. */
+static int page_file_complete(const char *path)
+{
+    FILE *fp = fopen(path, "rb");
+    if (!fp) return 0;
+    text t = {0};
+    char buf[65536];
+    size_t got;
+    while ((got = fread(buf, 1, sizeof buf, fp)) > 0) text_add(&t, buf, got);
+    fclose(fp);
+    int ok = 0;
+    if (!t.failed && t.data) {
+        cJSON *o = cJSON_Parse(t.data);
+        ok = cJSON_IsObject(o) && cJSON_IsArray(cJSON_GetObjectItemCaseSensitive(o, "lines")) &&
+             !cJSON_GetObjectItemCaseSensitive(o, "error");
+        cJSON_Delete(o);
+    }
+    free(t.data);
+    return ok;
+}
+
+/* Hands one page's record to the stream or the output folder. */
+static void emit(result *r, const lt_batch_options *opt, const lt_input *in, int page,
+                 int pages, char *json)
+{
+    if (!opt->out_dir) {
+        text_add(&r->records, json, strlen(json));
+        text_add(&r->records, "\n", 1);
+        return;
+    }
+    char *path = page_file(opt->out_dir, in->out_name, page, pages);
+    if (!path || write_page_file(path, json)) {
+        text_printf(&r->messages, "lineate: %s: cannot write: %s\n", path ? path : opt->out_dir,
+                    strerror(errno ? errno : ENOMEM));
+        r->write_failed = 1;
+    }
+    free(path);
+}
+
+static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in, int page,
+                      int pages, const char *message)
+{
+    text_printf(&r->messages, "lineate: %s\n", message);
+    char *rec = error_record(in->path, page, pages, message);
+    if (rec) emit(r, opt, in, page > 0 ? page : 1, pages, rec);
+    free(rec);
+    r->failed++;
+}
+
+/* Prefixes "FILE: page N: " unless the message names the file already. */
+static void page_message(char *buf, size_t n, const char *name, int page, const char *msg)
+{
+    if (strncmp(msg, name, strlen(name)) == 0)
+        snprintf(buf, n, "%s", msg);
+    else
+        snprintf(buf, n, "%s: page %d: %s", name, page, msg);
+}
+
+static void process_input(const lt_input *in, const lt_batch_options *opt, result *r)
+{
+    lt_error err = {0};
+    lt_source *src = NULL;
+    if (lt_source_open(in->path, opt->max_pages, &src, &err)) {
+        fail_page(r, opt, in, 0, 0, err.message);
+        return;
+    }
+    const int pages = lt_source_pages(src);
+    for (int i = 0; i < pages; i++) {
+        if (opt->out_dir && opt->resume) {
+            char *path = page_file(opt->out_dir, in->out_name, i + 1, pages);
+            int complete = path && page_file_complete(path);
+            free(path);
+            if (complete) {
+                r->skipped++;
+                continue;
+            }
+        }
+        lt_error perr = {0};
+        lt_image *img = NULL;
+        lt_layout *layout = NULL;
+        if (lt_source_read_page(src, i, opt->params->max_pixels, &img, &perr) ||
+            lt_analyze(img, opt->params, &layout, &perr)) {
+            char msg[512];
+            page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
+            fail_page(r, opt, in, i + 1, pages, msg);
+            lt_image_free(img);
+            continue;
+        }
+        lt_image_free(img);
+        char *json = lt_layout_to_json(layout, in->path, i + 1, pages, opt->pretty);
+        lt_layout_free(layout);
+        if (!json) {
+            char msg[512];
+            page_message(msg, sizeof msg, lt_source_name(src), i + 1, "out of memory");
+            fail_page(r, opt, in, i + 1, pages, msg);
+            continue;
+        }
+        emit(r, opt, in, i + 1, pages, json);
+        free(json);
+        r->done++;
+    }
+    lt_source_free(src);
+}
+
+/* ---- the pool ------------------------------------------------------------------------- */
+
+typedef struct pool {
+    const lt_inputs *in;
+    const lt_batch_options *opt;
+    result *results;
+    int next;    /* next input to take */
+    int written; /* inputs handed to the writer so far */
+    int window;  /* inputs allowed in flight beyond `written` */
+    pthread_mutex_t lock;
+    pthread_cond_t changed;
+} pool;
+
+static void *worker(void *arg)
+{
+    pool *p = arg;
+    pthread_mutex_lock(&p->lock);
+    for (;;) {
+        while (p->next < p->in->count && p->next >= p->written + p->window)
+            pthread_cond_wait(&p->changed, &p->lock);
+        if (p->next >= p->in->count) break;
+        int k = p->next++;
+        pthread_mutex_unlock(&p->lock);
+        process_input(&p->in->items[k], p->opt, &p->results[k]);
+        pthread_mutex_lock(&p->lock);
+        p->results[k].finished = 1;
+        pthread_cond_broadcast(&p->changed);
+    }
+    pthread_mutex_unlock(&p->lock);
+    return NULL;
+}
+
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return ts.tv_sec + ts.tv_nsec * 1e-9;
+}
+
+static void report_progress(const lt_batch_options *opt, const lt_batch_totals *t, int inputs_done,
+                            int inputs, double elapsed_s, long *last_line)
+{
+    const long pages = t->done + t->failed + t->skipped;
+    const double rate = elapsed_s > 0 ? (t->done + t->failed) / elapsed_s : 0;
+    if (opt->progress == 2) {
+        const int width = 30, filled = inputs ? (int)((long)width * inputs_done / inputs) : width;
+        double eta = inputs_done > 0 ? elapsed_s * (inputs - inputs_done) / inputs_done : 0;
+        fprintf(stderr, "\r[%.*s%*s] %d/%d files, %ld pages, %.1f pages/s, ETA %.0f s ", filled,
+                "##############################", width - filled, "", inputs_done, inputs,
+                pages, rate, eta);
+        if (inputs_done == inputs) fputc('\n', stderr);
+    } else if (opt->progress == 1 && (pages / 50 > *last_line / 50 || inputs_done == inputs)) {
+        fprintf(stderr, "lineate: progress: %d/%d files, %ld pages, %.1f pages/s\n", inputs_done,
+                inputs, pages, rate);
+        *last_line = pages;
+    }
+}
+
+int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals)
+{
+    memset(totals, 0, sizeof *totals);
+    pool p = {in, opt, calloc((size_t)in->count + 1, sizeof(result)), 0, 0, 2 * opt->jobs,
+              PTHREAD_MUTEX_INITIALIZER, PTHREAD_COND_INITIALIZER};
+    pthread_t *threads = calloc((size_t)opt->jobs, sizeof *threads);
+    if (!p.results || !threads) {
+        free(p.results);
+        free(threads);
+        fprintf(stderr, "lineate: out of memory\n");
+        return -1;
+    }
+    int started = 0;
+    for (; started < opt->jobs; started++)
+        if (pthread_create(&threads[started], NULL, worker, &p)) break;
+    if (started == 0) { /* no thread could start: work in this one */
+        for (int k = 0; k < in->count; k++) process_input(&in->items[k], opt, &p.results[k]);
+        for (int k = 0; k < in->count; k++) p.results[k].finished = 1;
+        p.window = in->count + 1;
+    }
+    const double t0 = now_s();
+    long last_line = 0;
+    for (int k = 0; k < in->count; k++) {
+        pthread_mutex_lock(&p.lock);
+        while (!p.results[k].finished) pthread_cond_wait(&p.changed, &p.lock);
+        pthread_mutex_unlock(&p.lock);
+        result *r = &p.results[k];
+        if (r->records.len && !totals->write_failed &&
+            fwrite(r->records.data, 1, r->records.len, opt->out) != r->records.len)
+            totals->write_failed = 1;
+        if (r->records.failed || r->messages.failed) {
+            fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
+            r->failed++;
+        }
+        if (r->messages.len) fputs(r->messages.data, stderr);
+        totals->done += r->done;
+        totals->failed += r->failed;
+        totals->skipped += r->skipped;
+        totals->write_failed |= r->write_failed;
+        free(r->records.data);
+        free(r->messages.data);
+        r->records.data = r->messages.data = NULL;
+        const int stop = totals->write_failed && !opt->out_dir; /* nowhere to write to */
+        pthread_mutex_lock(&p.lock);
+        p.written = k + 1;
+        if (stop) p.next = in->count;
+        pthread_cond_broadcast(&p.changed);
+        pthread_mutex_unlock(&p.lock);
+        if (opt->progress) report_progress(opt, totals, k + 1, in->count, now_s() - t0, &last_line);
+        if (stop) break;
+    }
+    for (int i = 0; i < started; i++) pthread_join(threads[i], NULL);
+    for (int k = 0; k < in->count; k++) { /* inputs left unwritten after a write failure */
+        free(p.results[k].records.data);
+        free(p.results[k].messages.data);
+    }
+    const double elapsed = now_s() - t0;
+    if (opt->summary)
+        fprintf(stderr, "lineate: %ld pages done, %ld failed, %ld skipped, %.2f pages/s\n",
+                totals->done, totals->failed, totals->skipped,
+                elapsed > 0 ? (totals->done + totals->failed) / elapsed : 0.0);
+    free(threads);
+    free(p.results);
+    return 0;
+}

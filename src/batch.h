@@ -1,0 +1,51 @@
+/* batch.h — the analyse command's batch machinery (src/batch.c): the list of inputs
+ * (files, folders searched recursively, lists of paths) and the parallel run that writes one
+ * record per page, in input order whatever the number of worker threads. */
+#ifndef LINEATE_BATCH_H
+#define LINEATE_BATCH_H
+
+#include "lineate.h"
+
+#include <stdio.h>
+
+typedef struct lt_input {
+    char *path;     /* as given or found */
+    char *out_name; /* for --out-dir: relative path without the extension */
+} lt_input;
+
+typedef struct lt_inputs {
+    lt_input *items;
+    int count, cap;
+} lt_inputs;
+
+/* Adds a command-line argument: a file (or "-"), or a folder whose image files (by
+ * extension, any depth) are added in byte order of their paths. 0, or -1 with a message on
+ * stderr. */
+int lt_inputs_add_arg(lt_inputs *in, const char *arg);
+/* Adds every non-empty line of a list file ("-" reads standard input) as an argument. */
+int lt_inputs_add_list(lt_inputs *in, const char *list_path);
+void lt_inputs_free(lt_inputs *in);
+
+typedef struct lt_batch_options {
+    const lt_params *params;
+    long max_pages;
+    int pretty;
+    int jobs;            /* worker threads, >= 1 */
+    FILE *out;           /* the stream of records, when out_dir is NULL */
+    const char *out_dir; /* one file per page instead of the stream */
+    int resume;          /* with out_dir: skip pages whose complete output exists */
+    int progress;        /* 0 none, 1 a line per 50 pages, 2 a live bar (terminal) */
+    int summary;         /* print the closing summary line on stderr */
+} lt_batch_options;
+
+typedef struct lt_batch_totals {
+    long done, failed, skipped;
+    int write_failed; /* the stream or a page file could not be written */
+} lt_batch_totals;
+
+/* Analyses every page of every input with opt->jobs threads. Each page gives one record: its
+ * layout or an error record (`error` field), in input order; errors are also reported on
+ * stderr, one line each. */
+int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals);
+
+#endif
