@@ -274,6 +274,26 @@ static void group_boxes(const lt_components *c, const uint8_t *body, int *parent
             grow(&boxes[lt_uf_find(parent, i)], &c->items[i].box);
 }
 
+/* The groups as they stand: *boxes (by root, see group_boxes) and their roots sorted by the
+ * left edge of their boxes (*roots, *nr). The caller frees both. */
+static int list_groups(const lt_components *c, const uint8_t *body, int *parent, lt_box **boxes,
+                       keyed **roots, int *nr)
+{
+    *boxes = malloc(((size_t)c->count + 1) * sizeof **boxes);
+    *roots = malloc(((size_t)c->count + 1) * sizeof **roots);
+    if (!*boxes || !*roots) {
+        free(*boxes);
+        free(*roots);
+        return LT_ENOMEM;
+    }
+    group_boxes(c, body, parent, *boxes);
+    *nr = 0;
+    for (int i = 0; i < c->count; i++)
+        if (body[i] && lt_uf_find(parent, i) == i) (*roots)[(*nr)++] = (keyed){(*boxes)[i].left, i};
+    qsort(*roots, (size_t)*nr, sizeof **roots, cmp_keyed);
+    return 0;
+}
+
 /* Attaches each mark, left to right, to the group whose band holds it best (parent[mark] is
  * set to the group's root). Groups grow as marks join, so that a chain of dots (a leader)
  * follows from the line it starts at. Groups are found through horizontal bands one text
@@ -352,29 +372,22 @@ done:
 /* Groups lying inside a much taller group (the dots and accents of large type) are part of
  * it: a group joins the first group at least twice its height whose box holds its centre,
  * allowing half its own height above. */
-static int absorb_nested(const lt_components *c, const uint8_t *body, int *parent, int n)
+static int absorb_nested(const lt_components *c, const uint8_t *body, int *parent)
 {
-    lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
-    int *roots = malloc(((size_t)n + 1) * sizeof *roots);
-    if (!boxes || !roots) {
-        free(boxes);
-        free(roots);
-        return LT_ENOMEM;
-    }
-    group_boxes(c, body, parent, boxes);
-    int nr = 0;
-    for (int i = 0; i < n; i++)
-        if (body[i] && lt_uf_find(parent, i) == i) roots[nr++] = i;
+    lt_box *boxes;
+    keyed *roots;
+    int nr;
+    if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
     for (int a = 0; a < nr && nr <= 5000; a++) {
-        const lt_box *g = &boxes[roots[a]];
+        const lt_box *g = &boxes[roots[a].index];
         const double cx = 0.5 * (g->left + g->right), cy = 0.5 * (g->top + g->bottom);
         const int h = box_h(g);
         for (int b = 0; b < nr; b++) {
-            const lt_box *host = &boxes[roots[b]];
+            const lt_box *host = &boxes[roots[b].index];
             if (b == a || box_h(host) < 2 * h) continue;
             if (cx >= host->left && cx < host->right && cy >= host->top - 0.5 * h &&
                 cy < host->bottom) {
-                lt_uf_unite(parent, roots[a], roots[b]);
+                lt_uf_unite(parent, roots[a].index, roots[b].index);
                 break;
             }
         }
@@ -386,21 +399,13 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
 
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that is not in a gutter. */
-static int join_rows(const lt_components *c, const uint8_t *body, int *parent, int n, double th,
+static int join_rows(const lt_components *c, const uint8_t *body, int *parent, double th,
                      double max_gap, const occupancy *occ)
 {
-    lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
-    keyed *roots = malloc(((size_t)n + 1) * sizeof *roots);
-    if (!boxes || !roots) {
-        free(boxes);
-        free(roots);
-        return LT_ENOMEM;
-    }
-    group_boxes(c, body, parent, boxes);
-    int nr = 0;
-    for (int i = 0; i < n; i++)
-        if (body[i] && lt_uf_find(parent, i) == i) roots[nr++] = (keyed){boxes[i].left, i};
-    qsort(roots, (size_t)nr, sizeof *roots, cmp_keyed);
+    lt_box *boxes;
+    keyed *roots;
+    int nr;
+    if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
     for (int a = 0; a < nr; a++) {
         const lt_box *ba = &boxes[roots[a].index];
         for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
@@ -486,7 +491,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
-        join_rows(c, body, parent, n, th, max_gap, &occ) || absorb_nested(c, body, parent, n))
+        join_rows(c, body, parent, th, max_gap, &occ) || absorb_nested(c, body, parent))
         goto nomem;
 
     /* One raw line per group. */
