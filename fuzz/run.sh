@@ -53,10 +53,25 @@ config_dir=${LT_CONFIG_DIR:-$top}
         "(or set LT_CONFIG_DIR to the build folder)" >&2
     exit 2
 }
-deps=$(pkg-config --cflags --libs lept libtiff-4 libpng libcjson) || {
-    echo "run.sh: pkg-config cannot find lept, libtiff-4, libpng or libcjson" >&2
+modules="lept libtiff-4 libpng libjpeg libcjson"
+# shellcheck disable=SC2086 # word splitting of the module and flag lists is intended
+deps_cflags=$(pkg-config --cflags $modules) && deps_libs=$(pkg-config --libs $modules) || {
+    echo "run.sh: pkg-config cannot find one of: $modules" >&2
     exit 2
 }
+
+# The library's sources: liblineate_la_SOURCES of Makefile.am when it can be read, else every
+# src/*.c but the command-line tool's (main.c, cmd_*.c, batch.c).
+sources=$(sed -n '/^liblineate_la_SOURCES *=/,/[^\\]$/p' "$top/Makefile.am" 2>/dev/null |
+    tr ' \t\\' '\n\n\n' | sed -n 's/^\(src\/.*\.c\)$/\1/p')
+if [ -z "$sources" ]; then
+    for src in "$top"/src/*.c; do
+        case $(basename "$src") in
+        main.c | cmd_*.c | batch.c) ;;
+        *) sources="$sources src/$(basename "$src")" ;;
+        esac
+    done
+fi
 
 # Builds into a private folder, then renames the binaries into place, so that two runs
 # started together (one per harness) never share a half-written object file.
@@ -65,22 +80,19 @@ trap 'rm -rf "$stage"' EXIT INT TERM
 cflags="-fsanitize=fuzzer,address,undefined -g -O1 -std=c11 -D_POSIX_C_SOURCE=200809L"
 cflags="$cflags -Wall -Wextra -I$top/src -I$config_dir"
 objs=
-for src in "$top"/src/*.c; do
+for src in $sources; do
     base=$(basename "$src" .c)
-    case $base in
-    main | cmd_*) continue ;;
-    esac
-    # shellcheck disable=SC2086 # word splitting of the flag lists is intended
-    "$cc" $cflags $(pkg-config --cflags lept libtiff-4 libpng libcjson) \
-        -c "$src" -o "$stage/$base.o" || {
-        echo "run.sh: cannot compile src/$base.c" >&2
+    # shellcheck disable=SC2086
+    "$cc" $cflags $deps_cflags -c "$top/$src" -o "$stage/$base.o" || {
+        echo "run.sh: cannot compile $src" >&2
         exit 2
     }
     objs="$objs $stage/$base.o"
 done
 for h in $harnesses; do
     # shellcheck disable=SC2086
-    "$cc" $cflags "$here/fuzz_$h.c" $objs $deps -lm -o "$stage/fuzz_$h" || {
+    "$cc" $cflags $deps_cflags "$here/fuzz_$h.c" $objs $deps_libs -lm -pthread \
+        -o "$stage/fuzz_$h" || {
         echo "run.sh: cannot build fuzz/fuzz_$h.c" >&2
         exit 2
     }

@@ -104,7 +104,7 @@ static int add_folder(lt_inputs *in, const char *dir, const char *rel, int depth
         n++;
     }
     closedir(d);
-    qsort(names, n, sizeof *names, cmp_str);
+    if (n) qsort(names, n, sizeof *names, cmp_str);
     for (size_t i = 0; i < n && rc == 0; i++) {
         size_t lp = strlen(dir) + strlen(names[i]) + 2, lr = strlen(rel) + strlen(names[i]) + 2;
         char *path = malloc(lp), *sub = malloc(lr);

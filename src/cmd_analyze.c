@@ -175,21 +175,19 @@ int lt_cmd_analyze(int argc, char **argv)
     struct stat st;
     if (output && strcmp(output, "-") != 0 && stat(output, &st) == 0 && !S_ISREG(st.st_mode)) {
         out = fopen(output, "wb"); /* a device or pipe: written in place, never replaced */
-        if (!out) {
-            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno));
-            return LT_EXIT_OUTPUT;
-        }
     } else if (output && strcmp(output, "-") != 0) {
         size_t n = strlen(output) + 32;
         tmp_path = malloc(n);
-        if (!tmp_path) return LT_EXIT_OUTPUT;
-        snprintf(tmp_path, n, "%s.tmp.%ld", output, (long)getpid());
-        out = fopen(tmp_path, "wb");
-        if (!out) {
-            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno));
-            free(tmp_path);
-            return LT_EXIT_OUTPUT;
+        if (tmp_path) {
+            snprintf(tmp_path, n, "%s.tmp.%ld", output, (long)getpid());
+            out = fopen(tmp_path, "wb");
         }
+    }
+    if (!out) {
+        fprintf(stderr, "lineate: %s: %s\n", output, strerror(tmp_path ? errno : ENOMEM));
+        free(tmp_path);
+        lt_inputs_free(&inputs);
+        return LT_EXIT_OUTPUT;
     }
     lt_batch_options opt = {&params, (long)max_pages, pretty, (int)jobs, out, out_dir, resume,
                             progress ? 1 : isatty(2) && inputs.count > 1 ? 2 : 0,
