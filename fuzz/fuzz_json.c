@@ -17,7 +17,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
     char *copy = malloc(size ? size : 1);
     if (!copy) return 0;
-    for (size_t i = 0; i < size; i++) copy[i] = (char)data[i];
+    if (size) memcpy(copy, data, size);
     lt_error err = {0};
     lt_scored_page *pages = NULL;
     int npages = 0;

@@ -55,15 +55,17 @@ config_dir=${LT_CONFIG_DIR:-$top}
 }
 modules="lept libtiff-4 libpng libjpeg libcjson"
 # shellcheck disable=SC2086 # word splitting of the module and flag lists is intended
-deps_cflags=$(pkg-config --cflags $modules) && deps_libs=$(pkg-config --libs $modules) || {
+if ! deps_cflags=$(pkg-config --cflags $modules) || ! deps_libs=$(pkg-config --libs $modules)
+then
     echo "run.sh: pkg-config cannot find one of: $modules" >&2
     exit 2
-}
+fi
 
 # The library's sources: liblineate_la_SOURCES of Makefile.am when it can be read, else every
 # src/*.c but the command-line tool's (main.c, cmd_*.c, batch.c).
-sources=$(sed -n '/^liblineate_la_SOURCES *=/,/[^\\]$/p' "$top/Makefile.am" 2>/dev/null |
-    tr ' \t\\' '\n\n\n' | sed -n 's/^\(src\/.*\.c\)$/\1/p')
+sources=$(awk '/^liblineate_la_SOURCES *=/ { on = 1 }
+    on { for (i = 1; i <= NF; i++) if ($i ~ /^src\/.*\.c$/) print $i; if ($0 !~ /\\$/) exit }' \
+    "$top/Makefile.am" 2>/dev/null)
 if [ -z "$sources" ]; then
     for src in "$top"/src/*.c; do
         case $(basename "$src") in
@@ -134,7 +136,8 @@ for h in $harnesses; do
     [ -n "$runs" ] || runs=$(sed -n 's/^#\([0-9]*\).*/\1/p' "$log" | tail -n 1)
     after=$(find "$findings" -type f | wc -l)
     new=$((after - before))
-    echo "fuzz_$h: ${runs:-?} executions, $new new finding(s), corpus $(ls "$corpus" | wc -l) files"
+    files=$(find "$corpus" -type f | wc -l)
+    echo "fuzz_$h: ${runs:-?} executions, $new new finding(s), corpus $files files"
     if [ "$new" -gt 0 ] || [ "$rc" -ne 0 ]; then
         status=1
         grep -m 1 -E '^==[0-9]+==ERROR|^SUMMARY|runtime error|ALARM|out-of-memory' "$log" || true
