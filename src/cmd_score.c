@@ -19,7 +19,8 @@
  *   page, truth (lines), pred (lines), F1@.50, F1@.75, splits, merges, tau, skew err (degrees),
  *   and a note (missing / failed / unreadable / skipped); "-" marks an undefined value. Then
  *   "summary: all pages" and, when the truth pages carry a variant, "summary: variant NAME"
- *   for each variant in byte order, each with the lines
+ *   for each variant in byte order, followed by "summary: variant NAME, C columns" for each
+ *   column count C the truth pages of that variant give ("columns"), each with the lines
  *   pages, truth lines, predicted lines, IoU >= 0.50, IoU >= 0.75 (precision, recall, F1 from
  *   match counts summed over the pages, and the match count), mean page F1 (mean of the
  *   pages' F1 at IoU >= 0.50), splits, merges (with cross-column merges), reading order
@@ -41,7 +42,8 @@
  *       "recall_75", "f1_75", "mean_page_f1_50", "splits", "merges", "cross_column_merges",
  *       "tau_pages", "tau_median", "tau_min", "skew_pages", "skew_error_median_deg",
  *       "skew_error_max_deg" }    (the tau and skew statistics are null over no pages),
- *   "variants": { NAME: {same fields as "summary"}, ... }   only when the truth has variants,
+ *   "variants": { NAME: {same fields as "summary", "by_columns": { "C": {same fields as
+ *       "summary"}, ... }}, ... }   only when the truth has variants,
  *   "missing", "failed", "unreadable", "skipped": arrays of page names.
  *   Fractions are rounded to 6 decimals.
  *
@@ -68,6 +70,7 @@ static const char *const status_names[] = {"scored", "missing", "failed", "unrea
 typedef struct result {
     char *name;
     char *variant; /* NULL when the truth page has none */
+    int columns;   /* of the truth page, 0 when it gives none */
     int status;
     lt_page_score s;
 } result;
@@ -175,6 +178,7 @@ static int score_pages(results *r, const char *name, const lt_scored_page *truth
         if (t->failed) status = ST_SKIPPED;
         result *e = add_result(r, name, numbered ? t->page : 0, t->variant, status);
         if (!e) return lt_error_set(err, LT_ENOMEM, "out of memory");
+        e->columns = t->columns;
         if (status == ST_SKIPPED) continue;
         if (pred && !p->failed && (p->width != t->width || p->height != t->height))
             fprintf(stderr, "lineate: warning: %s: predicted page is %dx%d, truth %dx%d\n", e->name,
@@ -199,16 +203,25 @@ static double median_sorted(const double *v, int n)
     return (n & 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
-/* Summary over the results whose variant equals `variant` (all results when NULL); skipped
- * pages are left out. `scratch` holds at least r->count doubles. */
-static void summarize(const results *r, const char *variant, double *scratch, summary *s)
+/* Whether result e belongs to the group of pages of `variant` (any when NULL) with `columns`
+ * columns (any when 0). Skipped pages belong to no group. */
+static int in_group(const result *e, const char *variant, int columns)
+{
+    if (e->status == ST_SKIPPED) return 0;
+    if (variant && (!e->variant || strcmp(e->variant, variant) != 0)) return 0;
+    return columns == 0 || e->columns == columns;
+}
+
+/* Summary over the results of a group (see in_group). `scratch` holds at least r->count
+ * doubles. */
+static void summarize(const results *r, const char *variant, int columns, double *scratch,
+                      summary *s)
 {
     memset(s, 0, sizeof *s);
     double f1_sum = 0;
     for (int i = 0; i < r->count; i++) {
         const result *e = &r->items[i];
-        if (e->status == ST_SKIPPED) continue;
-        if (variant && (!e->variant || strcmp(e->variant, variant) != 0)) continue;
+        if (!in_group(e, variant, columns)) continue;
         s->pages++;
         s->missing += e->status == ST_MISSING;
         s->failed += e->status == ST_FAILED;
@@ -231,8 +244,7 @@ static void summarize(const results *r, const char *variant, double *scratch, su
         int n = 0;
         for (int i = 0; i < r->count; i++) {
             const result *e = &r->items[i];
-            if (e->status == ST_SKIPPED) continue;
-            if (variant && (!e->variant || strcmp(e->variant, variant) != 0)) continue;
+            if (!in_group(e, variant, columns)) continue;
             if (pass == 0 && e->s.has_tau) scratch[n++] = e->s.tau;
             if (pass == 1 && e->s.has_skew_error) scratch[n++] = e->s.skew_error_deg;
         }
@@ -346,7 +358,7 @@ static int print_text(const results *r, int per_page, double *scratch)
         printf("\n");
     }
     summary s;
-    summarize(r, NULL, scratch, &s);
+    summarize(r, NULL, 0, scratch, &s);
     print_summary("all pages", &s);
     const char **variants;
     int nv = collect_variants(r, &variants);
@@ -354,8 +366,15 @@ static int print_text(const results *r, int per_page, double *scratch)
     for (int v = 0; v < nv; v++) {
         char title[160];
         snprintf(title, sizeof title, "variant %.140s", variants[v]);
-        summarize(r, variants[v], scratch, &s);
+        summarize(r, variants[v], 0, scratch, &s);
         print_summary(title, &s);
+        for (int c = 1; c <= LT_SCORE_MAX_COLUMNS; c++) {
+            summarize(r, variants[v], c, scratch, &s);
+            if (s.pages == 0) continue;
+            snprintf(title, sizeof title, "variant %.140s, %d column%s", variants[v], c,
+                     c == 1 ? "" : "s");
+            print_summary(title, &s);
+        }
     }
     free(variants);
     print_list(r, ST_MISSING, "missing predictions (scored as pages with no lines):");
@@ -474,7 +493,7 @@ static int print_json(const results *r, int per_page, const char *truth, const c
     }
     summary s;
     if (!bad) {
-        summarize(r, NULL, scratch, &s);
+        summarize(r, NULL, 0, scratch, &s);
         cJSON *so = summary_json(&s);
         bad |= !so;
         if (so) cJSON_AddItemToObject(doc, "summary", so);
@@ -485,10 +504,21 @@ static int print_json(const results *r, int per_page, const char *truth, const c
         cJSON *vo = cJSON_AddObjectToObject(doc, "variants");
         bad |= !vo;
         for (int v = 0; v < nv && !bad; v++) {
-            summarize(r, variants[v], scratch, &s);
+            summarize(r, variants[v], 0, scratch, &s);
             cJSON *so = summary_json(&s);
             bad |= !so;
             if (so) cJSON_AddItemToObject(vo, variants[v], so);
+            cJSON *by_columns = so ? cJSON_AddObjectToObject(so, "by_columns") : NULL;
+            bad |= !by_columns;
+            for (int c = 1; c <= LT_SCORE_MAX_COLUMNS && !bad; c++) {
+                summarize(r, variants[v], c, scratch, &s);
+                if (s.pages == 0) continue;
+                char key[8];
+                snprintf(key, sizeof key, "%d", c);
+                cJSON *co = summary_json(&s);
+                bad |= !co;
+                if (co) cJSON_AddItemToObject(by_columns, key, co);
+            }
         }
     }
     static const int lists[] = {ST_MISSING, ST_FAILED, ST_UNREADABLE, ST_SKIPPED};

@@ -261,6 +261,9 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
         rc = get_string(obj, "variant", &pg->variant);
         if (rc == LT_ENOMEM) FAIL(LT_ENOMEM, "%s: out of memory", name);
         if (rc == 1) FAIL(LT_EPARSE, "%s: page %d: \"variant\" is not a string", name, k);
+        if (get_int(obj, "columns", 1, LT_SCORE_MAX_COLUMNS, &pg->columns) < 0)
+            FAIL(LT_EPARSE, "%s: page %d: \"columns\" is not an integer 1..%d", name, k,
+                 LT_SCORE_MAX_COLUMNS);
         pg->page = 1;
     } else {
         rc = get_int(obj, "page", 1, INT32_MAX, &pg->page);

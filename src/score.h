@@ -17,6 +17,7 @@ extern "C" {
 #define LT_SCORE_MAX_FILE_BYTES (256L * 1024 * 1024) /* one layout or ground-truth file */
 #define LT_SCORE_MAX_LINES 1000000                   /* lines of one page */
 #define LT_SCORE_MAX_COORD 16777216                  /* |coordinate| and page side, pixels */
+#define LT_SCORE_MAX_COLUMNS 9                      /* "columns" of a truth page */
 #define LT_SCORE_MAX_SKEW_DEG 180.0                  /* |skew_deg| accepted by the reader */
 /* Work bound of one page: box pairs examined by the matching and split / merge sweeps.
  * Ordinary pages need a few per line; only degenerate input (thousands of boxes piled on
@@ -39,6 +40,7 @@ typedef struct lt_scored_page {
     double skew_deg;       /* 0 when has_skew is 0 */
     int has_skew;          /* the object has a numeric "skew_deg" */
     char *variant;         /* "clean" / "degraded" from ground truth, NULL otherwise */
+    int columns;           /* "columns" of ground truth (1..LT_SCORE_MAX_COLUMNS), else 0 */
     int format;            /* LT_SCORED_LAYOUT or LT_SCORED_TRUTH */
     int failed;            /* an error record: the page could not be analysed; no lines */
     char *error;           /* its "error" text when failed, else NULL */
