@@ -15,59 +15,65 @@ static int auto_window(double dpi)
     return w | 1;
 }
 
-/* Fills layout->lines and ->blocks: text blocks in reading order, then one block per rule
- * or picture component. */
-static int assemble(lt_layout *out, const lt_raw_lines *raw, const int *order, const int *block_of,
-                    int ntext_blocks, const lt_components *comps, const lt_frame *frame)
+/* Fills layout->lines and ->blocks: text blocks in reading order, then the tables, then one
+ * block per rule or picture component (a frame found to be a table is reported as the table
+ * only). */
+static int assemble(lt_layout *out, const lt_raw_lines *raw, const lt_arrangement *arr,
+                    const lt_components *comps, const lt_frame *frame)
 {
-    int nontext = 0;
+    const lt_tables *tables = &arr->tables;
+    int nontext = tables->count;
     for (int i = 0; i < comps->count; i++) {
         int kind = comps->items[i].kind;
         nontext += kind == LT_COMP_RULE || kind == LT_COMP_PICTURE;
     }
     out->lines = calloc((size_t)raw->count + 1, sizeof *out->lines);
-    out->blocks = calloc((size_t)ntext_blocks + nontext + 1, sizeof *out->blocks);
-    if (!out->lines || !out->blocks) return LT_ENOMEM;
+    out->blocks = calloc((size_t)arr->nblocks + nontext + 1, sizeof *out->blocks);
+    uint8_t *is_table = calloc((size_t)comps->count + 1, 1);
+    if (!out->lines || !out->blocks || !is_table) {
+        free(is_table);
+        return LT_ENOMEM;
+    }
     const int w = out->width, h = out->height;
-    lt_box *block_box = calloc((size_t)ntext_blocks + 1, sizeof *block_box);
-    if (!block_box) return LT_ENOMEM;
-    for (int i = 0; i < raw->count; i++) {
-        const lt_raw_line *r = &raw->items[order[i]];
+    for (int i = 0; i < arr->nlines; i++) {
+        const lt_raw_line *r = &raw->items[arr->order[i]];
         lt_line *l = &out->lines[i];
         lt_frame_map_box(frame, r->box, w, h, l->quad, &l->box);
         l->baseline[0] = lt_frame_to_original(frame, r->box.left, r->baseline_y);
         l->baseline[1] = lt_frame_to_original(frame, r->box.right, r->baseline_y);
         l->xheight_px = r->xheight_px;
         l->components = r->ncomponents;
-        l->block = block_of[i];
-        lt_block *b = &out->blocks[block_of[i]];
-        if (b->nlines == 0) {
-            b->first_line = i;
-            block_box[block_of[i]] = r->box;
-        } else {
-            lt_box *u = &block_box[block_of[i]];
-            if (r->box.left < u->left) u->left = r->box.left;
-            if (r->box.top < u->top) u->top = r->box.top;
-            if (r->box.right > u->right) u->right = r->box.right;
-            if (r->box.bottom > u->bottom) u->bottom = r->box.bottom;
-        }
-        b->nlines++;
+        l->block = arr->block_of[i];
+        lt_block *b = &out->blocks[arr->block_of[i]];
+        if (b->nlines++ == 0) b->first_line = i;
     }
-    for (int k = 0; k < ntext_blocks; k++) {
-        out->blocks[k].kind = LT_BLOCK_TEXT;
-        lt_frame_map_box(frame, block_box[k], w, h, out->blocks[k].quad, &out->blocks[k].box);
+    int nb = arr->nblocks;
+    for (int k = 0; k < arr->nblocks; k++) {
+        lt_block *b = &out->blocks[k];
+        b->kind = LT_BLOCK_TEXT;
+        b->role = arr->blocks[k].role;
+        b->table = arr->blocks[k].table >= 0 ? nb + arr->blocks[k].table : -1;
+        lt_frame_map_box(frame, arr->blocks[k].box, w, h, b->quad, &b->box);
     }
-    free(block_box);
-    int nb = ntext_blocks;
+    for (int t = 0; t < tables->count; t++) {
+        lt_block *b = &out->blocks[nb++];
+        b->kind = LT_BLOCK_TABLE;
+        b->table = -1;
+        lt_frame_map_box(frame, tables->boxes[t], w, h, b->quad, &b->box);
+        if (tables->from_component[t] >= 0) is_table[tables->from_component[t]] = 1;
+    }
     for (int i = 0; i < comps->count; i++) {
         const lt_component *c = &comps->items[i];
-        if (c->kind != LT_COMP_RULE && c->kind != LT_COMP_PICTURE) continue;
+        if ((c->kind != LT_COMP_RULE && c->kind != LT_COMP_PICTURE) || is_table[i]) continue;
         lt_block *b = &out->blocks[nb++];
         b->kind = c->kind == LT_COMP_RULE ? LT_BLOCK_RULE : LT_BLOCK_PICTURE;
+        b->table = -1;
         lt_frame_map_box(frame, c->box, w, h, b->quad, &b->box);
     }
-    out->nlines = raw->count;
+    free(is_table);
+    out->nlines = arr->nlines;
     out->nblocks = nb;
+    out->order_doubts = arr->order_doubts;
     return 0;
 }
 
@@ -95,7 +101,7 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     lt_components *comps = NULL;
     lt_raw_lines *raw = NULL;
     lt_cut_node *tree = NULL;
-    int *order = NULL, *block_of = NULL;
+    lt_arrangement *arr = NULL;
     int rc = 0;
 
     /* 1. Binarize (1-bit input is used as it is). */
@@ -130,23 +136,15 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     res->ncomponents = comps->count;
     res->text_height_px = lt_text_height(comps, res->dpi);
     lt_classify_components(comps, res->text_height_px, params);
-    /* 4. Lines, 5. blocks, 6. reading order. */
+    /* 4. Lines, 5. blocks, 6. tables, roles and reading order. */
     rc = lt_build_lines(comps, res->text_height_px, params, &raw, err);
     if (rc) goto done;
-    rc = lt_xy_cut(raw, res->text_height_px, params, &tree, err);
+    rc = lt_xy_cut(raw, comps, res->text_height_px, params, &tree, err);
     if (rc) goto done;
-    order = malloc(((size_t)raw->count + 1) * sizeof *order);
-    block_of = malloc(((size_t)raw->count + 1) * sizeof *block_of);
-    if (!order || !block_of) {
-        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
-        goto done;
-    }
-    int nblocks = lt_reading_order(tree, raw->count, order, block_of);
-    if (nblocks < 0) {
-        rc = lt_error_set(err, LT_EINVAL, "reading order lost lines (internal error)");
-        goto done;
-    }
-    if (assemble(res, raw, order, block_of, nblocks, comps, &frame))
+    rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->width, page->height, &arr,
+                    err);
+    if (rc) goto done;
+    if (assemble(res, raw, arr, comps, &frame))
         rc = lt_error_set(err, LT_ENOMEM, "out of memory");
 done:
     lt_image_free(ink_own);
@@ -154,8 +152,7 @@ done:
     lt_components_free(comps);
     lt_raw_lines_free(raw);
     lt_cut_node_free(tree);
-    free(order);
-    free(block_of);
+    lt_arrangement_free(arr);
     if (rc) {
         lt_layout_free(res);
         return rc;

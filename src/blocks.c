@@ -39,23 +39,35 @@ typedef struct leaf_item {
     int line;
 } leaf_item;
 
-/* Rows first (by vertical centre), then left to right within a row. */
-static int cmp_leaf(const void *pa, const void *pb)
+/* Rows first (by vertical centre), then left to right within a row (right to left for
+ * cmp_leaf_rtl). */
+static int cmp_leaf_dir(const void *pa, const void *pb, int rtl)
 {
     const lt_box *a = &((const leaf_item *)pa)->box, *b = &((const leaf_item *)pb)->box;
     int top = a->top > b->top ? a->top : b->top;
     int bottom = a->bottom < b->bottom ? a->bottom : b->bottom;
     int ha = a->bottom - a->top, hb = b->bottom - b->top;
     int hmin = ha < hb ? ha : hb;
-    if (2 * (bottom - top) >= hmin && a->left != b->left)
-        return (a->left > b->left) - (a->left < b->left);
+    const int side = rtl ? (b->right > a->right) - (b->right < a->right)
+                         : (a->left > b->left) - (a->left < b->left);
+    if (2 * (bottom - top) >= hmin && side != 0) return side;
     int ca = a->top + a->bottom, cb = b->top + b->bottom;
     if (ca != cb) return (ca > cb) - (ca < cb);
-    return (a->left > b->left) - (a->left < b->left);
+    return side;
+}
+
+static int cmp_leaf(const void *pa, const void *pb)
+{
+    return cmp_leaf_dir(pa, pb, 0);
+}
+
+static int cmp_leaf_rtl(const void *pa, const void *pb)
+{
+    return cmp_leaf_dir(pa, pb, 1);
 }
 
 /* A leaf's lines in reading order. */
-static int leaf_lines(lt_cut_node *node, const lt_raw_line *lines, const int *idx, int n)
+static int leaf_lines(lt_cut_node *node, const lt_raw_line *lines, const int *idx, int n, int rtl)
 {
     leaf_item *items = malloc((size_t)n * sizeof *items);
     node->lines = malloc((size_t)n * sizeof *node->lines);
@@ -65,7 +77,7 @@ static int leaf_lines(lt_cut_node *node, const lt_raw_line *lines, const int *id
     }
     for (int i = 0; i < n; i++)
         items[i] = (leaf_item){lines[idx[i]].box, idx[i]};
-    qsort(items, (size_t)n, sizeof *items, cmp_leaf);
+    qsort(items, (size_t)n, sizeof *items, rtl ? cmp_leaf_rtl : cmp_leaf);
     for (int i = 0; i < n; i++)
         node->lines[i] = items[i].line;
     node->nlines = n;
@@ -88,10 +100,52 @@ static lt_cut_node *node_new(const lt_raw_line *lines, const int *idx, int n)
     return node;
 }
 
-/* Builds the subtree of lines idx[0..n), n >= 1. `spans` is scratch room for n spans. */
-static lt_cut_node *cut(const lt_raw_line *lines, int *idx, int n, double col_gap, double row_gap,
-                        span *spans)
+typedef struct cut_context {
+    const lt_raw_line *lines;
+    double col_gap, row_gap; /* px */
+    const lt_box *rules;     /* separators: vertical and horizontal rules */
+    int nrules;
+    int rtl;
+    span *spans; /* scratch room for all lines */
+} cut_context;
+
+/* A rule that separates the lines idx[0..n) of a node with box `nb`: it runs along at least
+ * 60 % of the node's height (vertical) or width (horizontal), lies inside the node, has lines
+ * on both sides and crosses none. Returns 1 with the cut coordinate (lines starting at or
+ * after it lie beyond). */
+static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *nb, int across,
+                    int *cut_at)
 {
+    for (int r = 0; r < x->nrules; r++) {
+        const lt_box *rb = &x->rules[r];
+        const int vertical = rb->bottom - rb->top > rb->right - rb->left;
+        if (vertical != across) continue;
+        const int lo = across ? nb->top : nb->left, hi = across ? nb->bottom : nb->right;
+        const int r0 = across ? rb->top : rb->left, r1 = across ? rb->bottom : rb->right;
+        const int run = (r1 < hi ? r1 : hi) - (r0 > lo ? r0 : lo);
+        if (10 * run < 6 * (hi - lo)) continue;
+        const int at = across ? (rb->left + rb->right) / 2 : (rb->top + rb->bottom) / 2;
+        int before = 0, beyond = 0, crossed = 0;
+        for (int i = 0; i < n && !crossed; i++) {
+            const lt_box *b = &x->lines[idx[i]].box;
+            const int b0 = across ? b->left : b->top, b1 = across ? b->right : b->bottom;
+            if (b1 <= at) before++;
+            else if (b0 >= at) beyond++;
+            else crossed = 1;
+        }
+        if (!crossed && before && beyond) {
+            *cut_at = at;
+            return 1;
+        }
+    }
+    return 0;
+}
+
+/* Builds the subtree of lines idx[0..n), n >= 1. */
+static lt_cut_node *cut(const cut_context *x, int *idx, int n)
+{
+    const lt_raw_line *lines = x->lines;
+    span *spans = x->spans;
     lt_cut_node *node = node_new(lines, idx, n);
     if (!node) return NULL;
     int x_cut = 0, y_cut = 0, gx = 0, gy = 0;
@@ -103,9 +157,12 @@ static lt_cut_node *cut(const lt_raw_line *lines, int *idx, int n, double col_ga
             spans[i] = (span){lines[idx[i]].box.top, lines[idx[i]].box.bottom, idx[i]};
         gy = widest_gap(spans, n, &y_cut);
     }
-    double sx = gx / col_gap, sy = gy / row_gap;
+    double sx = gx / x->col_gap, sy = gy / x->row_gap;
+    /* A separating rule counts as a gap twice the narrowest one. */
+    if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
+    if (n > 1 && sy < 2 && rule_cut(x, idx, n, &node->box, 0, &y_cut)) sy = 2;
     if (sx < 1 && sy < 1) {
-        if (leaf_lines(node, lines, idx, n)) {
+        if (leaf_lines(node, lines, idx, n, x->rtl)) {
             lt_cut_node_free(node);
             return NULL;
         }
@@ -133,8 +190,9 @@ static lt_cut_node *cut(const lt_raw_line *lines, int *idx, int n, double col_ga
     memcpy(idx, tmp, (size_t)n * sizeof *idx);
     free(tmp);
     node->nchildren = 2;
-    node->children[0] = cut(lines, idx, nfirst, col_gap, row_gap, spans);
-    node->children[1] = cut(lines, idx + nfirst, n - nfirst, col_gap, row_gap, spans);
+    const int swap = across && x->rtl; /* right-to-left: the right part is read first */
+    node->children[swap] = cut(x, idx, nfirst);
+    node->children[!swap] = cut(x, idx + nfirst, n - nfirst);
     if (!node->children[0] || !node->children[1]) {
         lt_cut_node_free(node);
         return NULL;
@@ -142,25 +200,35 @@ static lt_cut_node *cut(const lt_raw_line *lines, int *idx, int n, double col_ga
     return node;
 }
 
-int lt_xy_cut(const lt_raw_lines *lines, double text_height_px, const lt_params *p,
-              lt_cut_node **root, lt_error *err)
+int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_height_px,
+              const lt_params *p, lt_cut_node **root, lt_error *err)
 {
     *root = NULL;
     if (lines->count == 0) return 0;
     const double th = text_height_px > 0 ? text_height_px : 20;
+    int nrules = 0;
+    for (int i = 0; c && i < c->count; i++)
+        nrules += c->items[i].kind == LT_COMP_RULE;
     int *idx = malloc((size_t)lines->count * sizeof *idx);
     span *spans = malloc((size_t)lines->count * sizeof *spans);
-    if (!idx || !spans) {
+    lt_box *rules = malloc(((size_t)nrules + 1) * sizeof *rules);
+    if (!idx || !spans || !rules) {
         free(idx);
         free(spans);
+        free(rules);
         return lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
     }
+    nrules = 0;
+    for (int i = 0; c && i < c->count; i++)
+        if (c->items[i].kind == LT_COMP_RULE) rules[nrules++] = c->items[i].box;
     for (int i = 0; i < lines->count; i++)
         idx[i] = i;
-    *root =
-        cut(lines->items, idx, lines->count, p->column_min_gap * th, p->block_min_gap * th, spans);
+    const cut_context x = {lines->items,      p->column_min_gap * th, p->block_min_gap * th, rules,
+                           nrules,            p->right_to_left,       spans};
+    *root = cut(&x, idx, lines->count);
     free(idx);
     free(spans);
+    free(rules);
     return *root ? 0 : lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
 }
 

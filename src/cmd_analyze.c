@@ -33,6 +33,7 @@ static const char usage_text[] =
     "      --window N        Sauvola window in pixels, odd (default: 0.17 inch)\n"
     "      --k K             Sauvola k (default 0.34)\n"
     "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n"
+    "      --rtl             columns and the pieces of a row read right to left\n"
     "      --max-pixels N    refuse pages larger than N pixels (default 200000000)\n"
     "      --max-pages N     refuse files with more than N pages (default 10000)\n"
     "      --max-components N  refuse pages with more than N ink components (default 2000000)\n"
@@ -55,7 +56,8 @@ enum {
     OPT_OUT_DIR,
     OPT_RESUME,
     OPT_FROM,
-    OPT_PROGRESS
+    OPT_PROGRESS,
+    OPT_RTL
 };
 
 static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
@@ -89,6 +91,7 @@ int lt_cmd_analyze(int argc, char **argv)
         {"from", required_argument, NULL, OPT_FROM},
         {"jobs", required_argument, NULL, 'j'},
         {"progress", no_argument, NULL, OPT_PROGRESS},
+        {"rtl", no_argument, NULL, OPT_RTL},
         {"help", no_argument, NULL, 'h'},
         {"version", no_argument, NULL, 'V'},
         {NULL, 0, NULL, 0}};
@@ -114,6 +117,7 @@ int lt_cmd_analyze(int argc, char **argv)
             if (parse_number("--dpi", optarg, 10, 100000, &params.dpi)) return LT_EXIT_USAGE;
             break;
         case OPT_FORCE_DPI: params.force_dpi = 1; break;
+        case OPT_RTL: params.right_to_left = 1; break;
         case OPT_WINDOW:
             if (parse_number("--window", optarg, 3, 10001, &v)) return LT_EXIT_USAGE;
             params.sauvola_window_px = (int)v | 1;

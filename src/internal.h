@@ -57,6 +57,8 @@ typedef struct lt_raw_line {
     double baseline_y; /* deskewed frame */
     double xheight_px;
     int ncomponents;
+    lt_box lead;     /* leftmost component of the line (a bullet, a label, a first letter) */
+    int lead_gap_px; /* white between `lead` and the rest of the line (0 when alone) */
 } lt_raw_line;
 
 typedef struct lt_raw_lines {
@@ -82,12 +84,61 @@ typedef struct lt_cut_node {
     int nchildren;
 } lt_cut_node;
 
-int lt_xy_cut(const lt_raw_lines *lines, double text_height_px, const lt_params *p,
-              lt_cut_node **root, lt_error *err);
+/* `c` (may be NULL) supplies the rules that separate columns and blocks. */
+int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_height_px,
+              const lt_params *p, lt_cut_node **root, lt_error *err);
 void lt_cut_node_free(lt_cut_node *n);
 
-/* Reading order: fills order[0..nlines) with raw line indices and block_of[i] with the block
- * (leaf) number of order position i; returns the number of blocks, or a negative code. */
-int lt_reading_order(const lt_cut_node *root, int nlines, int *order, int *block_of);
+/* ---- regions, roles and reading order (regions.c, roles.c, order.c) -------------------- */
+/* A text block in the deskewed frame: a leaf of the cut tree. */
+typedef struct lt_raw_block {
+    lt_box box;
+    int *lines; /* raw line indices in reading order (owned) */
+    int nlines;
+    int role;          /* LT_ROLE_* */
+    int table;         /* index into lt_arrangement.tables, or -1 */
+    double xheight_px; /* median x-height of its lines */
+} lt_raw_block;
+
+/* Table regions of a page (deskewed frame): frames holding a grid of text, or horizontal
+ * rules that enclose rows of cells. `from_component[k]` is the picture or rule component a
+ * framed table was found from (it is then reported as the table, not as a picture), or -1. */
+typedef struct lt_tables {
+    lt_box *boxes;
+    int *from_component;
+    int count;
+} lt_tables;
+
+int lt_find_tables(const lt_components *c, const lt_raw_lines *lines, double th,
+                   lt_tables *out);
+void lt_tables_free(lt_tables *t);
+
+/* Sets the role of every block (see LT_ROLE_*) from its place on the page, its size and
+ * type size, and the pictures, tables and rules around it (`c` and `tables` may be NULL). */
+void lt_assign_roles(lt_raw_block *blocks, int nblocks, const lt_raw_lines *lines,
+                     const lt_components *c, const lt_tables *tables, double th, int page_w,
+                     int page_h);
+
+/* The text of a page arranged: blocks in reading order and the lines in reading order. */
+typedef struct lt_arrangement {
+    lt_raw_block *blocks; /* in reading order */
+    int nblocks;
+    int *order;    /* raw line indices in reading order */
+    int *block_of; /* block of each reading position */
+    int nlines;
+    lt_tables tables;
+    int order_doubts; /* LT_DOUBT_* bits */
+} lt_arrangement;
+
+/* Blocks from the leaves of the cut tree, tables, roles, and the reading order: page heads
+ * first and page feet last; the other blocks by a partial order (Breuel 2003: a block
+ * precedes another it overlaps horizontally and stands above; it precedes a block to its
+ * right unless a block between them vertically overlaps both) and a topological sort, ties
+ * going to the block the cut tree reads first. Cells of a table are read row by row, as one
+ * unit. `c` may be NULL (no tables, no pictures, no rules). */
+int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_components *c,
+               double th, const lt_params *p, int page_w, int page_h, lt_arrangement **out,
+               lt_error *err);
+void lt_arrangement_free(lt_arrangement *a);
 
 #endif

@@ -40,6 +40,7 @@ static const char *block_kind_name(int kind)
     switch (kind) {
     case LT_BLOCK_RULE: return "rule";
     case LT_BLOCK_PICTURE: return "picture";
+    case LT_BLOCK_TABLE: return "table";
     default: return "text";
     }
 }
@@ -60,6 +61,14 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
     cJSON_AddNumberToObject(o, "skew_confidence", round2(l->skew_confidence));
     cJSON_AddNumberToObject(o, "text_height_px", round2(l->text_height_px));
     cJSON_AddNumberToObject(o, "components", l->ncomponents);
+    cJSON *review = cJSON_AddObjectToObject(o, "order_review");
+    if (review) {
+        cJSON_AddBoolToObject(review, "needed", l->order_doubts != 0);
+        cJSON *reasons = cJSON_AddArrayToObject(review, "reasons");
+        for (int bit = 1; reasons && bit <= LT_DOUBT_NARROW_GAP; bit <<= 1)
+            if (l->order_doubts & bit)
+                cJSON_AddItemToArray(reasons, cJSON_CreateString(lt_doubt_text(bit)));
+    }
     cJSON *lines = cJSON_AddArrayToObject(o, "lines");
     for (int i = 0; lines && i < l->nlines; i++) {
         const lt_line *ln = &l->lines[i];
@@ -78,6 +87,10 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
         cJSON *j = cJSON_CreateObject();
         if (!j) break;
         cJSON_AddStringToObject(j, "kind", block_kind_name(b->kind));
+        if (b->kind == LT_BLOCK_TEXT) {
+            cJSON_AddStringToObject(j, "role", lt_role_name(b->role));
+            if (b->table >= 0) cJSON_AddNumberToObject(j, "table", b->table);
+        }
         cJSON_AddItemToObject(j, "box", box_json(&b->box));
         cJSON_AddItemToObject(j, "quad", points_json(b->quad, 4));
         cJSON *members = cJSON_AddArrayToObject(j, "lines");

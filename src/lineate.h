@@ -106,6 +106,7 @@ typedef struct lt_params {
                                    in a gutter (default 3.5: stretched spaces, leaders) */
     double column_min_gap;      /* text units: narrowest gutter the XY-cut splits at (1.5) */
     double block_min_gap;       /* text units: narrowest vertical gap between blocks (1.2) */
+    int right_to_left;          /* nonzero: columns, and pieces of a row, read right to left */
     long max_pixels;            /* LT_DEFAULT_MAX_PIXELS */
     long max_components;        /* LT_DEFAULT_MAX_COMPONENTS */
 } lt_params;
@@ -123,8 +124,28 @@ typedef struct lt_point {
 
 /* ---- results -------------------------------------------------------------------------- */
 enum { LT_COMP_TEXT = 0, LT_COMP_SPECKLE, LT_COMP_RULE, LT_COMP_PICTURE };
-/* Kinds of block: text blocks hold lines; the others are non-text regions. */
-enum { LT_BLOCK_TEXT = 0, LT_BLOCK_RULE, LT_BLOCK_PICTURE };
+/* Kinds of block: text blocks hold lines; the others are non-text regions. A table block is
+ * the region of a table (a frame, or a grid of rules around cells of text); the text of its
+ * cells stays in text blocks that name it. */
+enum { LT_BLOCK_TEXT = 0, LT_BLOCK_RULE, LT_BLOCK_PICTURE, LT_BLOCK_TABLE };
+
+/* Roles of text blocks, from geometry and type size alone (non-text blocks have
+ * LT_ROLE_NONE). */
+enum {
+    LT_ROLE_NONE = 0,
+    LT_ROLE_BODY,        /* running text */
+    LT_ROLE_HEADING,     /* larger type, or a short line set apart above a body block */
+    LT_ROLE_PAGE_HEADER, /* running head above the text area */
+    LT_ROLE_PAGE_FOOTER, /* running foot below the text area */
+    LT_ROLE_PAGE_NUMBER, /* a short head or foot: the folio */
+    LT_ROLE_LIST_ITEM,   /* hanging indent or a bullet-like first mark */
+    LT_ROLE_CAPTION,     /* short block beside a picture or table */
+    LT_ROLE_FOOTNOTE,    /* smaller type at the foot of a column */
+    LT_ROLE_MARGIN_NOTE, /* narrow block outside the text columns */
+    LT_ROLE_COUNT
+};
+/* Name of a role as written in JSON ("body", "heading", "page-header", ...). */
+const char *lt_role_name(int role);
 
 typedef struct lt_line {
     lt_box box;           /* axis-aligned hull of `quad`, original image pixels */
@@ -142,7 +163,19 @@ typedef struct lt_block {
     lt_point quad[4]; /* as for lines */
     int first_line;   /* lines of a text block are lines[first_line .. first_line+nlines) */
     int nlines;       /* 0 for non-text blocks */
+    int role;         /* LT_ROLE_* */
+    int table;        /* text block in a table: index of the table block; -1 otherwise */
 } lt_block;
+
+/* Reasons why a page's reading order deserves a look (bits of lt_layout.order_doubts). */
+enum {
+    LT_DOUBT_CYCLE = 1,       /* the precedence between blocks contradicts itself */
+    LT_DOUBT_UNORDERED = 2,   /* blocks of body text side by side with no rule between them */
+    LT_DOUBT_DISAGREE = 4,    /* the cut tree and the precedence give different orders */
+    LT_DOUBT_NARROW_GAP = 8   /* rows of similar text aligned across a narrow gutter */
+};
+/* Short English text of one LT_DOUBT_* bit; NULL for an unknown bit. */
+const char *lt_doubt_text(int bit);
 
 typedef struct lt_layout {
     int width, height;      /* of the analysed image */
@@ -156,6 +189,7 @@ typedef struct lt_layout {
     int nlines;
     lt_block *blocks; /* text blocks in reading order, then non-text blocks */
     int nblocks;
+    int order_doubts; /* LT_DOUBT_* bits, 0 when nothing calls the reading order in doubt */
 } lt_layout;
 
 /* Analyses one page. `params` may be NULL for the defaults. On success *out holds a layout

@@ -508,13 +508,34 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         b->left = b->top = 1 << 30;
         b->right = b->bottom = -1;
     }
+    int *lead = malloc(((size_t)nl + 1) * sizeof *lead);
+    if (!lead) goto nomem;
+    for (int l = 0; l < nl; l++)
+        lead[l] = -1;
     for (int i = 0; i < n; i++) {
         if (!body[i] && !(mark[i] && lt_uf_find(parent, i) != i)) continue;
         int l = line_of[i] = line_of[lt_uf_find(parent, i)];
         lt_raw_line *r = &res->items[l];
         grow(&r->box, &c->items[i].box);
         r->ncomponents++;
+        if (lead[l] < 0 || c->items[i].box.left < c->items[lead[l]].box.left) lead[l] = i;
     }
+    /* The leftmost component, and the white between it and the next one to its right. */
+    for (int l = 0; l < nl; l++) {
+        res->items[l].lead = c->items[lead[l]].box;
+        res->items[l].lead_gap_px = 1 << 30;
+    }
+    for (int i = 0; i < n; i++) {
+        if (line_of[i] < 0 || (!body[i] && !mark[i])) continue;
+        lt_raw_line *r = &res->items[line_of[i]];
+        if (i == lead[line_of[i]]) continue;
+        int gap = c->items[i].box.left - r->lead.right;
+        if (gap < 0) gap = 0;
+        if (gap < r->lead_gap_px) r->lead_gap_px = gap;
+    }
+    for (int l = 0; l < nl; l++)
+        if (res->items[l].lead_gap_px == 1 << 30) res->items[l].lead_gap_px = 0;
+    free(lead);
     /* Baseline: median bottom of the line's bodies (descenders are the minority); x-height:
      * median height above it of the bodies that stand on it and are not tall. */
     double *vals = malloc(((size_t)n + 1) * sizeof *vals);

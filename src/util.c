@@ -63,8 +63,28 @@ void lt_params_default(lt_params *p)
     p->link_max_gap = 3.5;
     p->column_min_gap = 1.5;
     p->block_min_gap = 1.2;
+    p->right_to_left = 0;
     p->max_pixels = LT_DEFAULT_MAX_PIXELS;
     p->max_components = LT_DEFAULT_MAX_COMPONENTS;
+}
+
+const char *lt_role_name(int role)
+{
+    static const char *const names[LT_ROLE_COUNT] = {
+        "none",      "body",    "heading",  "page-header", "page-footer",
+        "page-number", "list-item", "caption", "footnote",    "margin-note"};
+    return role >= 0 && role < LT_ROLE_COUNT ? names[role] : "none";
+}
+
+const char *lt_doubt_text(int bit)
+{
+    switch (bit) {
+    case LT_DOUBT_CYCLE: return "the precedence between blocks contradicts itself";
+    case LT_DOUBT_UNORDERED: return "blocks of text side by side with nothing to order them";
+    case LT_DOUBT_DISAGREE: return "the cut tree and the precedence give different orders";
+    case LT_DOUBT_NARROW_GAP: return "rows of similar text line up across a narrow gutter";
+    default: return NULL;
+    }
 }
 
 int lt_mul_overflows(size_t a, size_t b, size_t *out)

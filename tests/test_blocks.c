@@ -1,4 +1,4 @@
-/* test_blocks.c — checks lt_xy_cut (recursive XY-cut, Nagy & Seth 1984) and lt_reading_order
+/* test_blocks.c — checks lt_xy_cut (recursive XY-cut, Nagy & Seth 1984) and lt_arrange
  * on text lines built here: one column, two columns under a spanning title, a page header
  * and footer, three columns, and columns followed by a full-width paragraph. The expected
  * orders are the ones a reader of such a page follows (title, each column top to bottom, left
@@ -67,29 +67,35 @@ static void check_page(const page *p, uint64_t seed, const char *what)
     lt_params_default(&prm);
     lt_error err = {0};
     lt_cut_node *root = NULL;
-    if (lt_xy_cut(&raw, TH, &prm, &root, &err)) {
+    if (lt_xy_cut(&raw, NULL, TH, &prm, &root, &err)) {
         tu_fail("%s: lt_xy_cut: %s", what, err.message);
         free(raw.items);
         return;
     }
-    int order[MAX_LINES + 1], block_of[MAX_LINES + 1];
-    int nb = lt_reading_order(root, p->n, order, block_of);
-    CHECK_INT(nb, p->nblocks, "%s: number of blocks", what);
-    if (nb >= 0) {
-        int wrong = 0;
-        char got[1024] = "", *g = got;
-        for (int i = 0; i < p->n; i++) {
-            int line = perm[order[i]]; /* page line shown at reading position i */
-            if (g < got + sizeof got - 8)
-                g += snprintf(g, (size_t)(got + sizeof got - g), " %d", line);
-            wrong += line != i;
-            CHECK_INT(block_of[i], p->block[i], "%s: block of reading position %d", what, i);
-        }
-        CHECK(wrong == 0, "%s: %d lines out of reading order; got order%s", what, wrong, got);
+    int page_w = 0, page_h = 0; /* the page: the lines' hull and a margin of 150 px */
+    for (int i = 0; i < p->n; i++) {
+        if (p->lines[i].box.right + 150 > page_w) page_w = p->lines[i].box.right + 150;
+        if (p->lines[i].box.bottom + 150 > page_h) page_h = p->lines[i].box.bottom + 150;
     }
-    /* A wrong line count is an error. */
-    CHECK_INT(lt_reading_order(root, p->n + 1, order, block_of), LT_EINVAL,
-              "%s: reading order with a wrong line count", what);
+    lt_arrangement *arr = NULL;
+    if (lt_arrange(root, &raw, NULL, TH, &prm, page_w, page_h, &arr, &err)) {
+        tu_fail("%s: lt_arrange: %s", what, err.message);
+        lt_cut_node_free(root);
+        free(raw.items);
+        return;
+    }
+    CHECK_INT(arr->nblocks, p->nblocks, "%s: number of blocks", what);
+    CHECK_INT(arr->nlines, p->n, "%s: number of lines in the order", what);
+    int wrong = 0;
+    char got[1024] = "", *g = got;
+    for (int i = 0; i < p->n && i < arr->nlines; i++) {
+        int line = perm[arr->order[i]]; /* page line shown at reading position i */
+        if (g < got + sizeof got - 8) g += snprintf(g, (size_t)(got + sizeof got - g), " %d", line);
+        wrong += line != i;
+        CHECK_INT(arr->block_of[i], p->block[i], "%s: block of reading position %d", what, i);
+    }
+    CHECK(wrong == 0, "%s: %d lines out of reading order; got order%s", what, wrong, got);
+    lt_arrangement_free(arr);
     lt_cut_node_free(root);
     free(raw.items);
 }
@@ -209,10 +215,13 @@ static void test_empty(void)
     lt_params_default(&prm);
     lt_error err = {0};
     lt_cut_node *root = (lt_cut_node *)&err;
-    CHECK_INT(lt_xy_cut(&raw, TH, &prm, &root, &err), 0, "empty page: lt_xy_cut");
+    CHECK_INT(lt_xy_cut(&raw, NULL, TH, &prm, &root, &err), 0, "empty page: lt_xy_cut");
     CHECK(root == NULL, "empty page: tree not NULL");
-    int order[1], block_of[1];
-    CHECK_INT(lt_reading_order(NULL, 0, order, block_of), 0, "empty page: blocks");
+    lt_arrangement *arr = NULL;
+    CHECK_INT(lt_arrange(NULL, &raw, NULL, TH, &prm, 1000, 1000, &arr, &err), 0,
+              "empty page: lt_arrange");
+    CHECK(arr && arr->nblocks == 0 && arr->nlines == 0, "empty page: blocks or lines");
+    lt_arrangement_free(arr);
 }
 
 int main(void)
