@@ -65,7 +65,7 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
     if (review) {
         cJSON_AddBoolToObject(review, "needed", l->order_doubts != 0);
         cJSON *reasons = cJSON_AddArrayToObject(review, "reasons");
-        for (int bit = 1; reasons && bit <= LT_DOUBT_NARROW_GAP; bit <<= 1)
+        for (int bit = 1; reasons && bit <= LT_DOUBT_BRIDGED; bit <<= 1)
             if (l->order_doubts & bit)
                 cJSON_AddItemToArray(reasons, cJSON_CreateString(lt_doubt_text(bit)));
     }

@@ -139,7 +139,9 @@ static int nearest_beside(const lt_components *c, const index_grid *g, int i, in
 typedef struct occupancy {
     int cols, rows;
     double cell_px;
-    int32_t *sum; /* (cols+1) x (rows+1) summed-area table */
+    int32_t *sum;         /* (cols+1) x (rows+1) summed-area table */
+    const lt_box *vrules; /* vertical rules: hard boundaries no line crosses */
+    int nvrules;
 } occupancy;
 
 static int occupancy_build(const lt_components *c, const uint8_t *body, double cell_px,
@@ -186,6 +188,19 @@ static int occupancy_count(const occupancy *o, double x0, double y0, double x1, 
     const size_t stride = (size_t)o->cols + 1;
     return o->sum[(size_t)cy1 * stride + cx1] - o->sum[(size_t)cy0 * stride + cx1] -
            o->sum[(size_t)cy1 * stride + cx0] + o->sum[(size_t)cy0 * stride + cx0];
+}
+
+/* Whether a vertical rule stands in the gap of link l (between x0 and x1, overlapping the
+ * pair's vertical extent). */
+static int rule_between(const occupancy *o, const link *l)
+{
+    for (int r = 0; r < o->nvrules; r++) {
+        const lt_box *b = &o->vrules[r];
+        if (b->left >= l->x0 - 1 && b->right <= l->x1 + 1 && b->top < l->bottom &&
+            b->bottom > l->top)
+            return 1;
+    }
+    return 0;
 }
 
 /* A wide gap lies in a gutter when a white strip at least half a text height wide runs
@@ -420,6 +435,7 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                       bb->left,
                       ba->top < bb->top ? ba->top : bb->top,
                       ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
+            if (rule_between(occ, &l)) continue;
             if (bb->left - ba->right < 1.5 * th || !in_gutter(occ, &l, th))
                 lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
@@ -441,6 +457,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     link *links = malloc(((size_t)2 * n + 1) * sizeof *links);
     index_grid g = {0};
     occupancy occ = {0};
+    lt_box *vrules = NULL;
     lt_raw_lines *res = calloc(1, sizeof *res);
     int rc = 0;
     if (!body || !mark || !parent || !line_of || !links || !res) goto nomem;
@@ -483,10 +500,23 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
                                                                         : c->items[b].box.bottom;
         }
     }
-    /* Links across a gutter are not joined. */
+    /* Links across a gutter or a vertical rule are not joined. */
     if (occupancy_build(c, body, fmax(1.0, 0.25 * th), &occ)) goto nomem;
+    int nvrules = 0;
+    for (int i = 0; i < n; i++) {
+        const lt_box *b = &c->items[i].box;
+        if (c->items[i].kind == LT_COMP_RULE && box_h(b) > box_w(b)) nvrules++;
+    }
+    vrules = malloc(((size_t)nvrules + 1) * sizeof *vrules);
+    if (!vrules) goto nomem;
+    for (int i = 0; i < n; i++) {
+        const lt_box *b = &c->items[i].box;
+        if (c->items[i].kind == LT_COMP_RULE && box_h(b) > box_w(b)) vrules[occ.nvrules++] = *b;
+    }
+    occ.vrules = vrules;
     for (int i = 0; i < nlinks; i++)
-        if (links[i].x1 - links[i].x0 < wide_gap || !in_gutter(&occ, &links[i], th))
+        if (!rule_between(&occ, &links[i]) &&
+            (links[i].x1 - links[i].x0 < wide_gap || !in_gutter(&occ, &links[i], th)))
             lt_uf_unite(parent, links[i].a, links[i].b);
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
@@ -585,6 +615,7 @@ done:
     free(line_of);
     free(links);
     free(occ.sum);
+    free(vrules);
     *out = res;
     return rc;
 }

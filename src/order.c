@@ -77,6 +77,7 @@ typedef struct unit {
     int nmembers;
     int tree_rank; /* smallest tree position of its blocks */
     int body;      /* holds body text (for the doubt tests) */
+    int nlines;
 } unit;
 
 enum { NOT_BEFORE = 0, ABOVE = 1, EARLIER_COLUMN = 2 };
@@ -152,6 +153,24 @@ static int topological(const unit *u, int n, const uint8_t *rel, int kinds, int 
     return cycle;
 }
 
+/* Whether two orders of the units put two paragraphs (units of three lines or more) in
+ * different relative order. */
+static int disagree(const unit *u, int n, const int *x, const int *y)
+{
+    int *rank = malloc(((size_t)n + 1) * sizeof *rank);
+    if (!rank) return 0;
+    for (int k = 0; k < n; k++)
+        rank[y[k]] = k;
+    int last = -1, out_of_order = 0;
+    for (int k = 0; k < n && !out_of_order; k++) {
+        if (u[x[k]].nlines < 3) continue;
+        out_of_order = rank[x[k]] < last;
+        last = rank[x[k]];
+    }
+    free(rank);
+    return out_of_order;
+}
+
 /* Orders the units into seq[0..n): the cut tree's order, repaired where it reads a unit
  * before one standing above it in the same column (the ABOVE relation is kept, the tree
  * decides the rest: it knows rows of a definition list from columns, which the column rule
@@ -181,8 +200,9 @@ static int sort_units(const unit *u, int n, int rtl, double tol, int *seq, int *
         return LT_ENOMEM;
     }
     if (rc_full) *doubts |= LT_DOUBT_CYCLE;
-    for (int k = 0; k < n; k++)
-        if (seq[k] != full[k]) *doubts |= LT_DOUBT_DISAGREE;
+    /* Disagreement about paragraphs (units of three lines or more) only: short label and
+     * description rows are what the column rule gets wrong. */
+    if (disagree(u, n, seq, full)) *doubts |= LT_DOUBT_DISAGREE;
     for (int a = 0; a < n; a++)
         for (int b = a + 1; b < n; b++)
             if (u[a].body && u[b].body && !rel[(size_t)a * n + b] && !rel[(size_t)b * n + a] &&
@@ -213,6 +233,33 @@ static int narrow_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *
                     pairs += fabs(lines->items[A->lines[i]].baseline_y -
                                   lines->items[B->lines[j]].baseline_y) < 0.3 * th;
             if (pairs >= 3) return 1;
+        }
+    }
+    return 0;
+}
+
+/* A block that looks like columns bridged by a few lines: some x between a fifth and four
+ * fifths of its width is crossed by at least one and at most a sixth of its lines, while at
+ * least a quarter of them lie wholly on each side. Such lines usually join two columns whose
+ * gutter is narrow. */
+static int bridged_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *lines,
+                          double th)
+{
+    for (int k = 0; k < n; k++) {
+        const lt_raw_block *b = &blocks[k];
+        if (b->nlines < 6 || b->table >= 0) continue;
+        const int w = b->box.right - b->box.left, step = th > 2 ? (int)(th / 2) : 1;
+        for (int x = b->box.left + w / 5; x <= b->box.right - w / 5; x += step) {
+            int across = 0, left = 0, right = 0;
+            for (int j = 0; j < b->nlines; j++) {
+                const lt_box *l = &lines->items[b->lines[j]].box;
+                if (l->right <= x) left++;
+                else if (l->left >= x) right++;
+                else across++;
+            }
+            if (across >= 1 && 6 * across <= b->nlines && 4 * left >= b->nlines &&
+                4 * right >= b->nlines)
+                return 1;
         }
     }
     return 0;
@@ -272,6 +319,7 @@ static int order_blocks(const lt_raw_block *blocks, int n, const lt_tables *tabl
         }
         box_grow(&u[k].box, &b->box);
         u[k].nmembers++;
+        u[k].nlines += b->nlines;
         u[k].body |= b->role == LT_ROLE_BODY && b->table < 0;
         unit_of[i] = k;
     }
@@ -359,6 +407,7 @@ int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_comp
                      &a->order_doubts))
         goto fail;
     if (narrow_gutter(tree_blocks, n, lines, th)) a->order_doubts |= LT_DOUBT_NARROW_GAP;
+    if (bridged_gutter(tree_blocks, n, lines, th)) a->order_doubts |= LT_DOUBT_BRIDGED;
     int pos = 0;
     for (int i = 0; i < n; i++) {
         a->blocks[i] = tree_blocks[seq[i]];

@@ -83,6 +83,7 @@ const char *lt_doubt_text(int bit)
     case LT_DOUBT_UNORDERED: return "blocks of text side by side with nothing to order them";
     case LT_DOUBT_DISAGREE: return "the cut tree and the precedence give different orders";
     case LT_DOUBT_NARROW_GAP: return "rows of similar text line up across a narrow gutter";
+    case LT_DOUBT_BRIDGED: return "a few lines run across what looks like a gutter";
     default: return NULL;
     }
 }
