@@ -227,7 +227,12 @@ static int in_gutter(const occupancy *o, const link *l, double th)
                      occupancy_count(o, x1, y0, x1 + side, l->top) > 0;
     int both_below = occupancy_count(o, x0 - side, l->bottom, x0, y1) > 0 &&
                      occupancy_count(o, x1, l->bottom, x1 + side, y1) > 0;
-    return both_above || both_below;
+    /* A line with no other row within reach (a title standing alone) shows no gutter: the
+     * text seen beside the strip would be its own ascenders and descenders. */
+    const double clear = 0.5 * (l->bottom - l->top);
+    int other_rows = occupancy_count(o, x0 - side, y0, x1 + side, l->top - clear) > 0 ||
+                     occupancy_count(o, x0 - side, l->bottom + clear, x1 + side, y1) > 0;
+    return other_rows && (both_above || both_below);
 }
 
 /* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
