@@ -66,32 +66,42 @@ static int cmp_leaf_rtl(const void *pa, const void *pb)
     return cmp_leaf_dir(pa, pb, 1);
 }
 
-/* A leaf's lines in reading order. */
-static int leaf_lines(lt_cut_node *node, const lt_raw_line *lines, const int *idx, int n, int rtl)
+/* A leaf's lines in reading order; obstacles (indices >= nreal) are dropped, and the node's
+ * box becomes the hull of its lines (a leaf of obstacles alone has no lines). */
+static int leaf_lines(lt_cut_node *node, const lt_box *boxes, int nreal, const int *idx, int n,
+                      int rtl)
 {
-    leaf_item *items = malloc((size_t)n * sizeof *items);
-    node->lines = malloc((size_t)n * sizeof *node->lines);
+    leaf_item *items = malloc(((size_t)n + 1) * sizeof *items);
+    node->lines = malloc(((size_t)n + 1) * sizeof *node->lines);
     if (!items || !node->lines) {
         free(items);
         return LT_ENOMEM;
     }
+    int m = 0;
     for (int i = 0; i < n; i++)
-        items[i] = (leaf_item){lines[idx[i]].box, idx[i]};
-    qsort(items, (size_t)n, sizeof *items, rtl ? cmp_leaf_rtl : cmp_leaf);
-    for (int i = 0; i < n; i++)
+        if (idx[i] < nreal) items[m++] = (leaf_item){boxes[idx[i]], idx[i]};
+    qsort(items, (size_t)m, sizeof *items, rtl ? cmp_leaf_rtl : cmp_leaf);
+    for (int i = 0; i < m; i++) {
         node->lines[i] = items[i].line;
-    node->nlines = n;
+        const lt_box *b = &items[i].box;
+        if (i == 0) node->box = *b;
+        if (b->left < node->box.left) node->box.left = b->left;
+        if (b->top < node->box.top) node->box.top = b->top;
+        if (b->right > node->box.right) node->box.right = b->right;
+        if (b->bottom > node->box.bottom) node->box.bottom = b->bottom;
+    }
+    node->nlines = m;
     free(items);
     return 0;
 }
 
-static lt_cut_node *node_new(const lt_raw_line *lines, const int *idx, int n)
+static lt_cut_node *node_new(const lt_box *boxes, const int *idx, int n)
 {
     lt_cut_node *node = calloc(1, sizeof *node);
     if (!node) return NULL;
-    node->box = lines[idx[0]].box;
+    node->box = boxes[idx[0]];
     for (int i = 1; i < n; i++) {
-        const lt_box *b = &lines[idx[i]].box;
+        const lt_box *b = &boxes[idx[i]];
         if (b->left < node->box.left) node->box.left = b->left;
         if (b->top < node->box.top) node->box.top = b->top;
         if (b->right > node->box.right) node->box.right = b->right;
@@ -101,7 +111,8 @@ static lt_cut_node *node_new(const lt_raw_line *lines, const int *idx, int n)
 }
 
 typedef struct cut_context {
-    const lt_raw_line *lines;
+    const lt_box *boxes;     /* the lines' boxes, then the obstacles' (pictures) */
+    int nreal;               /* number of lines */
     double col_gap, row_gap; /* px */
     const lt_box *rules;     /* separators: vertical and horizontal rules */
     int nrules;
@@ -127,7 +138,7 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
         const int at = across ? (rb->left + rb->right) / 2 : (rb->top + rb->bottom) / 2;
         int before = 0, beyond = 0, crossed = 0;
         for (int i = 0; i < n && !crossed; i++) {
-            const lt_box *b = &x->lines[idx[i]].box;
+            const lt_box *b = &x->boxes[idx[i]];
             const int b0 = across ? b->left : b->top, b1 = across ? b->right : b->bottom;
             if (b1 <= at) before++;
             else if (b0 >= at) beyond++;
@@ -144,17 +155,17 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
 /* Builds the subtree of lines idx[0..n), n >= 1. */
 static lt_cut_node *cut(const cut_context *x, int *idx, int n)
 {
-    const lt_raw_line *lines = x->lines;
+    const lt_box *boxes = x->boxes;
     span *spans = x->spans;
-    lt_cut_node *node = node_new(lines, idx, n);
+    lt_cut_node *node = node_new(boxes, idx, n);
     if (!node) return NULL;
     int x_cut = 0, y_cut = 0, gx = 0, gy = 0;
     if (n > 1) {
         for (int i = 0; i < n; i++)
-            spans[i] = (span){lines[idx[i]].box.left, lines[idx[i]].box.right, idx[i]};
+            spans[i] = (span){boxes[idx[i]].left, boxes[idx[i]].right, idx[i]};
         gx = widest_gap(spans, n, &x_cut);
         for (int i = 0; i < n; i++)
-            spans[i] = (span){lines[idx[i]].box.top, lines[idx[i]].box.bottom, idx[i]};
+            spans[i] = (span){boxes[idx[i]].top, boxes[idx[i]].bottom, idx[i]};
         gy = widest_gap(spans, n, &y_cut);
     }
     double sx = gx / x->col_gap, sy = gy / x->row_gap;
@@ -162,7 +173,7 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
     if (n > 1 && sy < 2 && rule_cut(x, idx, n, &node->box, 0, &y_cut)) sy = 2;
     if (sx < 1 && sy < 1) {
-        if (leaf_lines(node, lines, idx, n, x->rtl)) {
+        if (leaf_lines(node, boxes, x->nreal, idx, n, x->rtl)) {
             lt_cut_node_free(node);
             return NULL;
         }
@@ -179,12 +190,12 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     }
     int k = 0;
     for (int i = 0; i < n; i++) {
-        const lt_box *b = &lines[idx[i]].box;
+        const lt_box *b = &boxes[idx[i]];
         if ((across ? b->left : b->top) < (across ? x_cut : y_cut)) tmp[k++] = idx[i];
     }
     int nfirst = k;
     for (int i = 0; i < n; i++) {
-        const lt_box *b = &lines[idx[i]].box;
+        const lt_box *b = &boxes[idx[i]];
         if ((across ? b->left : b->top) >= (across ? x_cut : y_cut)) tmp[k++] = idx[i];
     }
     memcpy(idx, tmp, (size_t)n * sizeof *idx);
@@ -206,28 +217,41 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     *root = NULL;
     if (lines->count == 0) return 0;
     const double th = text_height_px > 0 ? text_height_px : 20;
-    int nrules = 0;
-    for (int i = 0; c && i < c->count; i++)
+    int nrules = 0, npictures = 0;
+    for (int i = 0; c && i < c->count; i++) {
         nrules += c->items[i].kind == LT_COMP_RULE;
-    int *idx = malloc((size_t)lines->count * sizeof *idx);
-    span *spans = malloc((size_t)lines->count * sizeof *spans);
+        npictures += c->items[i].kind == LT_COMP_PICTURE;
+    }
+    const int n = lines->count + npictures;
+    int *idx = malloc((size_t)n * sizeof *idx);
+    span *spans = malloc((size_t)n * sizeof *spans);
+    lt_box *boxes = malloc((size_t)n * sizeof *boxes);
     lt_box *rules = malloc(((size_t)nrules + 1) * sizeof *rules);
-    if (!idx || !spans || !rules) {
+    if (!idx || !spans || !boxes || !rules) {
         free(idx);
         free(spans);
+        free(boxes);
         free(rules);
         return lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
     }
-    nrules = 0;
-    for (int i = 0; c && i < c->count; i++)
-        if (c->items[i].kind == LT_COMP_RULE) rules[nrules++] = c->items[i].box;
+    /* Pictures take part in the cuts as obstacles, so that a figure breaking a column does
+     * not leave a white band for a cut across the page; leaves keep only lines. */
+    int k = 0;
     for (int i = 0; i < lines->count; i++)
+        boxes[k++] = lines->items[i].box;
+    nrules = 0;
+    for (int i = 0; c && i < c->count; i++) {
+        if (c->items[i].kind == LT_COMP_RULE) rules[nrules++] = c->items[i].box;
+        if (c->items[i].kind == LT_COMP_PICTURE) boxes[k++] = c->items[i].box;
+    }
+    for (int i = 0; i < n; i++)
         idx[i] = i;
-    const cut_context x = {lines->items,      p->column_min_gap * th, p->block_min_gap * th, rules,
-                           nrules,            p->right_to_left,       spans};
-    *root = cut(&x, idx, lines->count);
+    const cut_context x = {boxes, lines->count, p->column_min_gap * th, p->block_min_gap * th,
+                           rules, nrules,       p->right_to_left,       spans};
+    *root = cut(&x, idx, n);
     free(idx);
     free(spans);
+    free(boxes);
     free(rules);
     return *root ? 0 : lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
 }

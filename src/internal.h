@@ -57,8 +57,10 @@ typedef struct lt_raw_line {
     double baseline_y; /* deskewed frame */
     double xheight_px;
     int ncomponents;
-    lt_box lead;     /* leftmost component of the line (a bullet, a label, a first letter) */
-    int lead_gap_px; /* white between `lead` and the rest of the line (0 when alone) */
+    lt_box lead;      /* leftmost component of the line (a bullet, a label, a first letter) */
+    int lead_gap_px;  /* white between `lead` and the rest of the line (0 when alone) */
+    lt_box trail;     /* rightmost component (the first of a right-to-left line) */
+    int trail_gap_px; /* white between the rest of the line and `trail` */
 } lt_raw_line;
 
 typedef struct lt_raw_lines {
@@ -74,8 +76,9 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 void lt_raw_lines_free(lt_raw_lines *l);
 
 /* ---- blocks and order (blocks.c, order.c) --------------------------------------------- */
-/* Node of the XY-cut tree. Leaves are blocks; children are in reading order (top to bottom
- * for a horizontal cut, left to right for a vertical one). */
+/* Node of the XY-cut tree. Leaves holding lines are blocks (pictures take part in the cuts
+ * as obstacles, so a leaf may hold none); children are in reading order (top to bottom for a
+ * horizontal cut, left to right for a vertical one, right to left with right_to_left). */
 typedef struct lt_cut_node {
     lt_box box;
     int *lines; /* leaf: indices into the raw lines, top to bottom */
@@ -117,7 +120,7 @@ void lt_tables_free(lt_tables *t);
  * type size, and the pictures, tables and rules around it (`c` and `tables` may be NULL). */
 void lt_assign_roles(lt_raw_block *blocks, int nblocks, const lt_raw_lines *lines,
                      const lt_components *c, const lt_tables *tables, double th, int page_w,
-                     int page_h);
+                     int page_h, int rtl);
 
 /* The text of a page arranged: blocks in reading order and the lines in reading order. */
 typedef struct lt_arrangement {

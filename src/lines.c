@@ -544,9 +544,14 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         b->right = b->bottom = -1;
     }
     int *lead = malloc(((size_t)nl + 1) * sizeof *lead);
-    if (!lead) goto nomem;
+    int *trail = malloc(((size_t)nl + 1) * sizeof *trail);
+    if (!lead || !trail) {
+        free(lead);
+        free(trail);
+        goto nomem;
+    }
     for (int l = 0; l < nl; l++)
-        lead[l] = -1;
+        lead[l] = trail[l] = -1;
     for (int i = 0; i < n; i++) {
         if (!body[i] && !(mark[i] && lt_uf_find(parent, i) != i)) continue;
         int l = line_of[i] = line_of[lt_uf_find(parent, i)];
@@ -554,23 +559,32 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         grow(&r->box, &c->items[i].box);
         r->ncomponents++;
         if (lead[l] < 0 || c->items[i].box.left < c->items[lead[l]].box.left) lead[l] = i;
+        if (trail[l] < 0 || c->items[i].box.right > c->items[trail[l]].box.right) trail[l] = i;
     }
-    /* The leftmost component, and the white between it and the next one to its right. */
+    /* The outermost components, and the white between each and the rest of the line. */
     for (int l = 0; l < nl; l++) {
         res->items[l].lead = c->items[lead[l]].box;
-        res->items[l].lead_gap_px = 1 << 30;
+        res->items[l].trail = c->items[trail[l]].box;
+        res->items[l].lead_gap_px = res->items[l].trail_gap_px = 1 << 30;
     }
     for (int i = 0; i < n; i++) {
         if (line_of[i] < 0 || (!body[i] && !mark[i])) continue;
         lt_raw_line *r = &res->items[line_of[i]];
-        if (i == lead[line_of[i]]) continue;
-        int gap = c->items[i].box.left - r->lead.right;
-        if (gap < 0) gap = 0;
-        if (gap < r->lead_gap_px) r->lead_gap_px = gap;
+        if (i != lead[line_of[i]]) {
+            int gap = c->items[i].box.left - r->lead.right;
+            if (gap < r->lead_gap_px) r->lead_gap_px = gap < 0 ? 0 : gap;
+        }
+        if (i != trail[line_of[i]]) {
+            int gap = r->trail.left - c->items[i].box.right;
+            if (gap < r->trail_gap_px) r->trail_gap_px = gap < 0 ? 0 : gap;
+        }
     }
-    for (int l = 0; l < nl; l++)
+    for (int l = 0; l < nl; l++) {
         if (res->items[l].lead_gap_px == 1 << 30) res->items[l].lead_gap_px = 0;
+        if (res->items[l].trail_gap_px == 1 << 30) res->items[l].trail_gap_px = 0;
+    }
     free(lead);
+    free(trail);
     /* Baseline: median bottom of the line's bodies (descenders are the minority); x-height:
      * median height above it of the bodies that stand on it and are not tall. */
     double *vals = malloc(((size_t)n + 1) * sizeof *vals);
@@ -594,14 +608,29 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         for (int k = first[l]; k < first[l + 1]; k++)
             vals[m++] = c->items[order[k]].box.bottom;
         double base = lt_median(vals, m);
-        m = 0;
+        /* Letters standing on the baseline; of those not taller than 1.25 text heights, the
+         * median, unless they are under a third of them (type larger than the page's text):
+         * then the 30th percentile of all, the ascenders and capitals being the minority. */
+        int standing = 0, low = 0;
         for (int k = first[l]; k < first[l + 1]; k++) {
             const lt_box *b = &c->items[order[k]].box;
-            double h = base - b->top;
-            if (fabs(b->bottom - base) <= 0.15 * th + 1 && h <= 1.25 * th) vals[m++] = h;
+            if (fabs(b->bottom - base) > 0.15 * th + 1) continue;
+            vals[standing++] = base - b->top;
         }
+        for (int k = 0; k < standing; k++)
+            if (vals[k] <= 1.25 * th) low++;
         r->baseline_y = base;
-        r->xheight_px = m ? lt_median(vals, m) : th;
+        if (standing == 0) {
+            r->xheight_px = th;
+        } else if (3 * low >= standing) {
+            m = 0;
+            for (int k = 0; k < standing; k++)
+                if (vals[k] <= 1.25 * th) vals[m++] = vals[k];
+            r->xheight_px = lt_median(vals, m);
+        } else {
+            qsort(vals, (size_t)standing, sizeof *vals, lt_cmp_double);
+            r->xheight_px = vals[(int)(0.3 * (standing - 1))];
+        }
     }
     free(vals);
     free(order);

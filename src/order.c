@@ -19,10 +19,11 @@
  * (pages of thousands of separate blocks are tables of numbers or noise). */
 #define MAX_ORDERED_UNITS 400
 
+/* Leaves holding lines (a leaf of pictures alone holds none). */
 static void count_leaves(const lt_cut_node *n, int *count)
 {
     if (n->nchildren == 0) {
-        (*count)++;
+        *count += n->nlines > 0;
         return;
     }
     for (int i = 0; i < n->nchildren; i++)
@@ -34,6 +35,7 @@ static int copy_leaves(const lt_cut_node *n, const lt_raw_lines *lines, lt_raw_b
                        int *k)
 {
     if (n->nchildren == 0) {
+        if (n->nlines == 0) return 0;
         lt_raw_block *b = &blocks[(*k)++];
         b->box = n->box;
         b->table = -1;
@@ -153,8 +155,8 @@ static int topological(const unit *u, int n, const uint8_t *rel, int kinds, int 
     return cycle;
 }
 
-/* Whether two orders of the units put two paragraphs (units of three lines or more) in
- * different relative order. */
+/* Whether two orders of the units put two paragraphs (units of body text of three lines or
+ * more) in different relative order. */
 static int disagree(const unit *u, int n, const int *x, const int *y)
 {
     int *rank = malloc(((size_t)n + 1) * sizeof *rank);
@@ -163,7 +165,7 @@ static int disagree(const unit *u, int n, const int *x, const int *y)
         rank[y[k]] = k;
     int last = -1, out_of_order = 0;
     for (int k = 0; k < n && !out_of_order; k++) {
-        if (u[x[k]].nlines < 3) continue;
+        if (u[x[k]].nlines < 3 || !u[x[k]].body) continue;
         out_of_order = rank[x[k]] < last;
         last = rank[x[k]];
     }
@@ -200,8 +202,8 @@ static int sort_units(const unit *u, int n, int rtl, double tol, int *seq, int *
         return LT_ENOMEM;
     }
     if (rc_full) *doubts |= LT_DOUBT_CYCLE;
-    /* Disagreement about paragraphs (units of three lines or more) only: short label and
-     * description rows are what the column rule gets wrong. */
+    /* Disagreement about paragraphs only: short label and description rows, and margin notes,
+     * are what the column rule gets wrong. */
     if (disagree(u, n, seq, full)) *doubts |= LT_DOUBT_DISAGREE;
     for (int a = 0; a < n; a++)
         for (int b = a + 1; b < n; b++)
@@ -402,7 +404,7 @@ int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_comp
             if (cx >= tb->left && cx < tb->right && cy >= tb->top && cy < tb->bottom) b->table = t;
         }
     }
-    lt_assign_roles(tree_blocks, n, lines, c, &a->tables, th, page_w, page_h);
+    lt_assign_roles(tree_blocks, n, lines, c, &a->tables, th, page_w, page_h, p->right_to_left);
     if (order_blocks(tree_blocks, n, &a->tables, page_h, p->right_to_left, th, seq,
                      &a->order_doubts))
         goto fail;

@@ -1,7 +1,7 @@
 /* roles.c — roles of text blocks from geometry and type size alone (no recognition): page
  * header and footer (short blocks outside the text area, at the top or the foot of the
  * page), page number (a very short one), margin note (narrow, beside the text columns),
- * caption (short, next to a picture or table), footnote (smaller type at the foot of a column
+ * caption (short, under a picture or table, or in smaller type over one), footnote (smaller type at the foot of a column
  * or under a short rule), heading (larger type, or one short line set apart above a block),
  * list item (hanging indent or a bullet-like first mark) and body text. The thresholds are
  * common practice of book and journal typography, in text heights (x-heights). */
@@ -79,25 +79,25 @@ static int head_or_foot(const lt_raw_block *b, int n, int i, int head, int page_
     return nearest >= 2 * th;
 }
 
-/* Whether box f lies within `reach` px above or below block box x, overlapping it
- * horizontally by half the width of the narrower of the two. */
-static int just_above_or_below(const lt_box *x, const lt_box *f, double reach)
+/* Whether box f lies within `reach` px above (when `above`) or below block box x,
+ * overlapping it horizontally by half the width of the narrower of the two. */
+static int next_to(const lt_box *x, const lt_box *f, double reach, int above)
 {
     int ov = overlap(x->left, x->right, f->left, f->right);
     if (2 * ov < width(x) && 2 * ov < width(f)) return 0;
-    return (f->bottom <= x->top && x->top - f->bottom <= reach) ||
-           (f->top >= x->bottom && f->top - x->bottom <= reach);
+    return above ? f->bottom <= x->top && x->top - f->bottom <= reach
+                 : f->top >= x->bottom && f->top - x->bottom <= reach;
 }
 
-/* A picture or a table just above or below the block. */
+/* A picture or a table just above the block (when `above`) or just below it. */
 static int next_to_figure(const lt_components *c, const lt_tables *tables, const lt_box *x,
-                          double reach)
+                          double reach, int above)
 {
     for (int i = 0; c && i < c->count; i++)
-        if (c->items[i].kind == LT_COMP_PICTURE && just_above_or_below(x, &c->items[i].box, reach))
+        if (c->items[i].kind == LT_COMP_PICTURE && next_to(x, &c->items[i].box, reach, above))
             return 1;
     for (int t = 0; tables && t < tables->count; t++)
-        if (just_above_or_below(x, &tables->boxes[t], reach)) return 1;
+        if (next_to(x, &tables->boxes[t], reach, above)) return 1;
     return 0;
 }
 
@@ -116,23 +116,27 @@ static int under_short_rule(const lt_components *c, const lt_box *x, int area_w,
 
 /* A bullet-like first mark (small, about as wide as high, set apart from the rest of a
  * long line), or a hanging indent: every line after the first starts a text height or more
- * to the right of it. */
-static int list_like(const lt_raw_block *b, const lt_raw_lines *lines, double th)
+ * inside its start. The start is the left end, the right end for right-to-left text. */
+static int list_like(const lt_raw_block *b, const lt_raw_lines *lines, double th, int rtl)
 {
     const lt_raw_line *first = &lines->items[b->lines[0]];
-    const lt_box *lead = &first->lead;
-    int lw = lead->right - lead->left, lh = lead->bottom - lead->top;
-    if (lw > 0 && lw <= 1.2 * th && lh <= 1.2 * th && lh >= 0.2 * th && lw <= 2 * lh &&
-        lh <= 2 * lw && first->lead_gap_px >= 0.5 * th && first->box.right - lead->right > 4 * th)
+    const lt_box *mark = rtl ? &first->trail : &first->lead;
+    const int gap = rtl ? first->trail_gap_px : first->lead_gap_px;
+    const int rest = rtl ? mark->left - first->box.left : first->box.right - mark->right;
+    int mw = mark->right - mark->left, mh = mark->bottom - mark->top;
+    if (mw > 0 && mw <= 1.2 * th && mh <= 1.2 * th && mh >= 0.2 * th && mw <= 2 * mh &&
+        mh <= 2 * mw && gap >= 0.5 * th && rest > 4 * th)
         return 1;
     if (b->nlines < 2) return 0;
-    for (int j = 1; j < b->nlines; j++)
-        if (lines->items[b->lines[j]].box.left < first->box.left + th) return 0;
+    for (int j = 1; j < b->nlines; j++) {
+        const lt_box *l = &lines->items[b->lines[j]].box;
+        if (rtl ? l->right > first->box.right - th : l->left < first->box.left + th) return 0;
+    }
     return 1;
 }
 
 void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt_components *c,
-                     const lt_tables *tables, double th, int page_w, int page_h)
+                     const lt_tables *tables, double th, int page_w, int page_h, int rtl)
 {
     (void)page_w;
     if (n == 0) return;
@@ -169,7 +173,10 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
                 continue;
             }
         }
-        if (x->nlines <= 6 && next_to_figure(c, tables, bx, 3 * th)) {
+        /* Captions: a short block under a figure, or one in smaller type over it. */
+        if (x->nlines <= 6 && (next_to_figure(c, tables, bx, 3 * th, 1) ||
+                               (x->xheight_px <= 0.92 * body_x &&
+                                next_to_figure(c, tables, bx, 3 * th, 0)))) {
             x->role = LT_ROLE_CAPTION;
             continue;
         }
@@ -194,7 +201,7 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
             x->role = LT_ROLE_FOOTNOTE;
             continue;
         }
-        if (list_like(x, lines, th)) {
+        if (list_like(x, lines, th, rtl)) {
             x->role = LT_ROLE_LIST_ITEM;
             continue;
         }
