@@ -14,5 +14,6 @@ enum {
 
 int lt_cmd_analyze(int argc, char **argv);
 int lt_cmd_score(int argc, char **argv);
+int lt_cmd_draw(int argc, char **argv);
 
 #endif

@@ -9,5 +9,6 @@ int main(int argc, char **argv)
     /* A closed pipe is a write error reported as such (exit 3), not a silent death. */
     signal(SIGPIPE, SIG_IGN);
     if (argc >= 2 && strcmp(argv[1], "score") == 0) return lt_cmd_score(argc - 1, argv + 1);
+    if (argc >= 2 && strcmp(argv[1], "draw") == 0) return lt_cmd_draw(argc - 1, argv + 1);
     return lt_cmd_analyze(argc, argv);
 }
