@@ -15,6 +15,21 @@ static int auto_window(double dpi)
     return w | 1;
 }
 
+/* A box frame: a large component with little ink for its box (under 15 %) around text lines.
+ * It is made of rules and reported as one, not as a picture. */
+static int is_frame(const lt_component *c, const lt_raw_lines *raw)
+{
+    const double w = c->box.right - c->box.left, h = c->box.bottom - c->box.top;
+    if ((double)c->pixels >= 0.15 * w * h) return 0;
+    for (int i = 0; i < raw->count; i++) {
+        const lt_box *b = &raw->items[i].box;
+        const int cx = (b->left + b->right) / 2, cy = (b->top + b->bottom) / 2;
+        if (cx > c->box.left && cx < c->box.right && cy > c->box.top && cy < c->box.bottom)
+            return 1;
+    }
+    return 0;
+}
+
 /* Fills layout->lines and ->blocks: text blocks in reading order, then the tables, then one
  * block per rule or picture component (a frame found to be a table is reported as the table
  * only). */
@@ -66,7 +81,7 @@ static int assemble(lt_layout *out, const lt_raw_lines *raw, const lt_arrangemen
         const lt_component *c = &comps->items[i];
         if ((c->kind != LT_COMP_RULE && c->kind != LT_COMP_PICTURE) || is_table[i]) continue;
         lt_block *b = &out->blocks[nb++];
-        b->kind = c->kind == LT_COMP_RULE ? LT_BLOCK_RULE : LT_BLOCK_PICTURE;
+        b->kind = c->kind == LT_COMP_RULE || is_frame(c, raw) ? LT_BLOCK_RULE : LT_BLOCK_PICTURE;
         b->table = -1;
         lt_frame_map_box(frame, c->box, w, h, b->quad, &b->box);
     }
