@@ -135,6 +135,12 @@ static int list_like(const lt_raw_block *b, const lt_raw_lines *lines, double th
     return 1;
 }
 
+static int is_head_or_foot_role(int role)
+{
+    return role == LT_ROLE_PAGE_HEADER || role == LT_ROLE_PAGE_FOOTER ||
+           role == LT_ROLE_PAGE_NUMBER;
+}
+
 void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt_components *c,
                      const lt_tables *tables, double th, int page_w, int page_h, int rtl)
 {
@@ -143,18 +149,23 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
     const lt_box area = text_area(b, n);
     const double body_x = body_xheight(b, n, lines, th);
     const int area_w = width(&area);
+    /* Heads and feet first: the tests below look past them. */
     for (int i = 0; i < n; i++) {
         lt_raw_block *x = &b[i];
         const lt_box *bx = &x->box;
-        const lt_raw_line *first = &lines->items[x->lines[0]];
         x->role = LT_ROLE_BODY;
         if (x->table >= 0) continue; /* cells are body text of their table */
         if (head_or_foot(b, n, i, 1, page_h, th) || head_or_foot(b, n, i, 0, page_h, th)) {
             int head = bx->bottom <= page_h / 8;
-            int folio = x->nlines == 1 && width(bx) <= 5 * th && first->ncomponents <= 6;
+            int folio = x->nlines == 1 && width(bx) <= 5 * th &&
+                        lines->items[x->lines[0]].ncomponents <= 6;
             x->role = folio ? LT_ROLE_PAGE_NUMBER : head ? LT_ROLE_PAGE_HEADER : LT_ROLE_PAGE_FOOTER;
-            continue;
         }
+    }
+    for (int i = 0; i < n; i++) {
+        lt_raw_block *x = &b[i];
+        const lt_box *bx = &x->box;
+        if (x->table >= 0 || x->role != LT_ROLE_BODY) continue;
         /* Outside the columns of the text area, and narrow. */
         int outside = 1;
         for (int j = 0; j < n && outside; j++)
@@ -186,9 +197,9 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
         }
         int low = bx->top >= page_h / 2;
         if (low && x->xheight_px <= 0.88 * body_x && x->nlines <= 12) {
-            int body_below = 0;
+            int body_below = 0; /* text of body size below it in its column: not a foot */
             for (int j = 0; j < n; j++)
-                if (j != i && b[j].box.top >= bx->bottom && b[j].nlines >= 3 &&
+                if (j != i && b[j].box.top >= bx->bottom && !is_head_or_foot_role(b[j].role) &&
                     b[j].xheight_px > 0.92 * body_x &&
                     overlap(bx->left, bx->right, b[j].box.left, b[j].box.right) > 0)
                     body_below = 1;
