@@ -203,15 +203,15 @@ static int rule_between(const occupancy *o, const link *l)
     return 0;
 }
 
-/* A wide gap lies in a gutter when a white strip at least half a text height wide runs
- * through it and up and down through the neighbouring rows, while those rows have text on
- * both sides of the strip: word gaps of a paragraph do not line up, and a hanging list label
- * has no text under it, but a column gutter or a table column has both. The strip may be
- * narrower than the gap, as the ragged edges of the columns leave it. */
-static int in_gutter(const occupancy *o, const link *l, double th)
+/* Whether the pair of link l sits in a gutter seen through `reach` px above and below it: a
+ * white strip at least a text height wide runs through the gap and those rows, and the rows
+ * (not the pair's own, one occupancy cell clear of it) have text on both sides of the strip
+ * within `side` px. */
+static int gutter_within(const occupancy *o, const link *l, double th, double reach, double side)
 {
-    const double reach = 2.5 * th, side = 4 * th, cell = o->cell_px;
+    const double cell = o->cell_px;
     const double y0 = l->top - reach, y1 = l->bottom + reach;
+    const double top = l->top - cell, bottom = l->bottom + cell;
     const int min_cells = (int)ceil(1.0 * th / cell);
     int best_lo = 0, best_len = 0, run = 0;
     for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
@@ -223,16 +223,22 @@ static int in_gutter(const occupancy *o, const link *l, double th)
     }
     if (best_len < min_cells) return 0;
     const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
-    int both_above = occupancy_count(o, x0 - side, y0, x0, l->top) > 0 &&
-                     occupancy_count(o, x1, y0, x1 + side, l->top) > 0;
-    int both_below = occupancy_count(o, x0 - side, l->bottom, x0, y1) > 0 &&
-                     occupancy_count(o, x1, l->bottom, x1 + side, y1) > 0;
-    /* A line with no other row within reach (a title standing alone) shows no gutter: the
-     * text seen beside the strip would be its own ascenders and descenders. */
-    const double clear = 0.5 * (l->bottom - l->top);
-    int other_rows = occupancy_count(o, x0 - side, y0, x1 + side, l->top - clear) > 0 ||
-                     occupancy_count(o, x0 - side, l->bottom + clear, x1 + side, y1) > 0;
-    return other_rows && (both_above || both_below);
+    int both_above = occupancy_count(o, x0 - side, y0, x0, top) > 0 &&
+                     occupancy_count(o, x1, y0, x1 + side, top) > 0;
+    int both_below = occupancy_count(o, x0 - side, bottom, x0, y1) > 0 &&
+                     occupancy_count(o, x1, bottom, x1 + side, y1) > 0;
+    return both_above || both_below;
+}
+
+/* A wide gap lies in a gutter when a white strip runs through it and up and down through the
+ * neighbouring rows, while those rows have text on both sides of the strip: word gaps of a
+ * paragraph do not line up, and a hanging list label has no text under it, but a column
+ * gutter or a table column has both. Seen close (2.5 text heights up and down, text within 4
+ * on each side), or, for the ragged columns of an index, farther (5 up and down, 8 aside).
+ * The strip may be narrower than the gap, as the ragged edges of the columns leave it. */
+static int in_gutter(const occupancy *o, const link *l, double th)
+{
+    return gutter_within(o, l, th, 2.5 * th, 4 * th) || gutter_within(o, l, th, 5 * th, 8 * th);
 }
 
 /* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
