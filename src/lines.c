@@ -203,10 +203,28 @@ static int rule_between(const occupancy *o, const link *l)
     return 0;
 }
 
+/* The far edge of the window beside a strip edge at x, going `dir` (-1 left, +1 right) at
+ * most `side` px over the rows [y0, y1): it stops at the next white strip a text height wide
+ * met after some text (another gutter), so that the window stays in one column. */
+static double side_edge(const occupancy *o, double x, int dir, double side, double y0, double y1,
+                        double th)
+{
+    const double cell = o->cell_px;
+    const int min_cells = (int)ceil(1.0 * th / cell);
+    double edge = x;
+    for (int k = 0, white = 0; k * cell < side; k++) {
+        double c0 = dir < 0 ? x - (k + 1) * cell : x + k * cell;
+        white = occupancy_count(o, c0, y0, c0 + cell, y1) == 0 ? white + 1 : 0;
+        if (white >= min_cells && k + 1 > white) break;
+        edge = dir < 0 ? c0 : c0 + cell;
+    }
+    return edge;
+}
+
 /* Whether the pair of link l sits in a gutter seen through `reach` px above and below it: a
  * white strip at least a text height wide runs through the gap and those rows, and the rows
  * (not the pair's own, one occupancy cell clear of it) have text on both sides of the strip
- * within `side` px. */
+ * within `side` px (and within the column beside it). */
 static int gutter_within(const occupancy *o, const link *l, double th, double reach, double side)
 {
     const double cell = o->cell_px;
@@ -223,22 +241,44 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     }
     if (best_len < min_cells) return 0;
     const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
-    int both_above = occupancy_count(o, x0 - side, y0, x0, top) > 0 &&
-                     occupancy_count(o, x1, y0, x1 + side, top) > 0;
-    int both_below = occupancy_count(o, x0 - side, bottom, x0, y1) > 0 &&
-                     occupancy_count(o, x1, bottom, x1 + side, y1) > 0;
+    const double left = side_edge(o, x0, -1, side, y0, y1, th);
+    const double right = side_edge(o, x1, +1, side, y0, y1, th);
+    int both_above = occupancy_count(o, left, y0, x0, top) > 0 &&
+                     occupancy_count(o, x1, y0, right, top) > 0;
+    int both_below = occupancy_count(o, left, bottom, x0, y1) > 0 &&
+                     occupancy_count(o, x1, bottom, right, y1) > 0;
     return both_above || both_below;
+}
+
+/* Share of the occupancy cell rows of [y0, y1) that hold text in [x0, x1). */
+static double rows_with_text(const occupancy *o, double x0, double x1, double y0, double y1)
+{
+    const double cell = o->cell_px;
+    int rows = 0, full = 0;
+    for (double y = floor(y0 / cell) * cell; y < y1; y += cell) {
+        rows++;
+        full += occupancy_count(o, x0, y, x1, y + cell) > 0;
+    }
+    return rows ? (double)full / rows : 0;
 }
 
 /* A wide gap lies in a gutter when a white strip runs through it and up and down through the
  * neighbouring rows, while those rows have text on both sides of the strip: word gaps of a
  * paragraph do not line up, and a hanging list label has no text under it, but a column
  * gutter or a table column has both. Seen close (2.5 text heights up and down, text within 4
- * on each side), or, for the ragged columns of an index, farther (5 up and down, 8 aside).
- * The strip may be narrower than the gap, as the ragged edges of the columns leave it. */
+ * on each side), or, for the ragged columns of an index, farther (5 up and down, 8 aside)
+ * where both sides are columns of text: text fills at least 30 % of the rows beside the strip
+ * (lines take about 60 % of them; a column of list labels far fewer). The strip may be
+ * narrower than the gap, as the ragged edges of the columns leave it. */
 static int in_gutter(const occupancy *o, const link *l, double th)
 {
-    return gutter_within(o, l, th, 2.5 * th, 4 * th) || gutter_within(o, l, th, 5 * th, 8 * th);
+    if (gutter_within(o, l, th, 2.5 * th, 4 * th)) return 1;
+    if (!gutter_within(o, l, th, 5 * th, 8 * th)) return 0;
+    const double y0 = l->top - 5 * th, y1 = l->bottom + 5 * th;
+    const double left = side_edge(o, l->x0, -1, 8 * th, y0, y1, th);
+    const double right = side_edge(o, l->x1, +1, 8 * th, y0, y1, th);
+    return rows_with_text(o, left, l->x0, y0, y1) >= 0.3 &&
+           rows_with_text(o, l->x1, right, y0, y1) >= 0.3;
 }
 
 /* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
