@@ -15,5 +15,6 @@ enum {
 int lt_cmd_analyze(int argc, char **argv);
 int lt_cmd_score(int argc, char **argv);
 int lt_cmd_draw(int argc, char **argv);
+int lt_cmd_crop(int argc, char **argv);
 
 #endif

@@ -17,6 +17,7 @@ static const char usage_text[] =
     "Usage: lineate [OPTIONS] IMAGE|FOLDER...\n"
     "       lineate score [OPTIONS] TRUTH PRED\n"
     "       lineate draw [OPTIONS] IMAGE [LAYOUT] -o OUT.png\n"
+    "       lineate crop [OPTIONS] IMAGE|FOLDER... --out-dir DIR\n"
     "Find the skew, text lines, blocks and reading order of page images (PNG, TIFF, JPEG,\n"
     "PNM; '-' reads standard input; folders are searched for images at any depth) and write\n"
     "one JSON object per page: its layout, or an error record when the page failed.\n"

@@ -10,5 +10,6 @@ int main(int argc, char **argv)
     signal(SIGPIPE, SIG_IGN);
     if (argc >= 2 && strcmp(argv[1], "score") == 0) return lt_cmd_score(argc - 1, argv + 1);
     if (argc >= 2 && strcmp(argv[1], "draw") == 0) return lt_cmd_draw(argc - 1, argv + 1);
+    if (argc >= 2 && strcmp(argv[1], "crop") == 0) return lt_cmd_crop(argc - 1, argv + 1);
     return lt_cmd_analyze(argc, argv);
 }
