@@ -204,17 +204,21 @@ static int rule_between(const occupancy *o, const link *l)
 }
 
 /* The far edge of the window beside a strip edge at x, going `dir` (-1 left, +1 right) at
- * most `side` px over the rows [y0, y1): it stops at the next white strip a text height wide
- * met after some text (another gutter), so that the window stays in one column. */
-static double side_edge(const occupancy *o, double x, int dir, double side, double y0, double y1,
-                        double th)
+ * most `side` px over the rows [y0, y1) other than the pair's own: it stops at the next white
+ * strip a text height wide met after some text (another gutter), so that the window stays in
+ * one column. */
+static double side_edge(const occupancy *o, const link *l, double x, int dir, double side,
+                        double y0, double y1, double th)
 {
     const double cell = o->cell_px;
+    const double top = l->top - cell, bottom = l->bottom + cell; /* the pair's own rows out */
     const int min_cells = (int)ceil(1.0 * th / cell);
     double edge = x;
     for (int k = 0, white = 0; k * cell < side; k++) {
         double c0 = dir < 0 ? x - (k + 1) * cell : x + k * cell;
-        white = occupancy_count(o, c0, y0, c0 + cell, y1) == 0 ? white + 1 : 0;
+        int empty = occupancy_count(o, c0, y0, c0 + cell, top) == 0 &&
+                    occupancy_count(o, c0, bottom, c0 + cell, y1) == 0;
+        white = empty ? white + 1 : 0;
         if (white >= min_cells && k + 1 > white) break;
         edge = dir < 0 ? c0 : c0 + cell;
     }
@@ -241,8 +245,8 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     }
     if (best_len < min_cells) return 0;
     const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
-    const double left = side_edge(o, x0, -1, side, y0, y1, th);
-    const double right = side_edge(o, x1, +1, side, y0, y1, th);
+    const double left = side_edge(o, l, x0, -1, side, y0, y1, th);
+    const double right = side_edge(o, l, x1, +1, side, y0, y1, th);
     int both_above = occupancy_count(o, left, y0, x0, top) > 0 &&
                      occupancy_count(o, x1, y0, right, top) > 0;
     int both_below = occupancy_count(o, left, bottom, x0, y1) > 0 &&
@@ -275,8 +279,8 @@ static int in_gutter(const occupancy *o, const link *l, double th)
     if (gutter_within(o, l, th, 2.5 * th, 4 * th)) return 1;
     if (!gutter_within(o, l, th, 5 * th, 8 * th)) return 0;
     const double y0 = l->top - 5 * th, y1 = l->bottom + 5 * th;
-    const double left = side_edge(o, l->x0, -1, 8 * th, y0, y1, th);
-    const double right = side_edge(o, l->x1, +1, 8 * th, y0, y1, th);
+    const double left = side_edge(o, l, l->x0, -1, 8 * th, y0, y1, th);
+    const double right = side_edge(o, l, l->x1, +1, 8 * th, y0, y1, th);
     return rows_with_text(o, left, l->x0, y0, y1) >= 0.3 &&
            rows_with_text(o, l->x1, right, y0, y1) >= 0.3;
 }
@@ -487,7 +491,11 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                       ba->top < bb->top ? ba->top : bb->top,
                       ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
             if (rule_between(occ, &l)) continue;
-            if (bb->left - ba->right < 1.5 * th || !in_gutter(occ, &l, th))
+            /* A lone mark-sized group (a bullet, a dash) close by belongs to the line. */
+            const int lone = (box_w(ba) <= 1.2 * th && box_h(ba) <= 1.2 * th) ||
+                             (box_w(bb) <= 1.2 * th && box_h(bb) <= 1.2 * th);
+            const int gap = bb->left - ba->right;
+            if (gap < 1.5 * th || (lone && gap <= 2.5 * th) || !in_gutter(occ, &l, th))
                 lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
     }
