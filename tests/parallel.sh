@@ -1,0 +1,135 @@
+#!/bin/sh
+# parallel.sh: the many-machine recipe of DEVELOPERS.md ("Many machines with GNU parallel"),
+# run on the local host only (parallel -S :): the input list cut into slices, each slice one
+# `lineate --out-dir OUT --resume --from -` job, the page files merged in input order. Checks
+# that the merge equals, byte for byte, one `lineate -j 1` over the same list, and that a
+# rerun of the recipe skips every page. Exit status: 0 pass, 1 fail, 77 skip (no GNU parallel
+# or no PIL).
+#
+# Outside references: GNU parallel (Debian package parallel) cuts the list and runs the jobs;
+# PIL (python3-pil) cuts the test pages and writes the multi-page TIFF. The expected output is
+# lineate's own single-process run, so the check is that spreading the work changes nothing.
+set -u
+top_srcdir=${top_srcdir:-.}
+top_builddir=${top_builddir:-.}
+PYTHON3=${PYTHON3:-/usr/bin/python3}
+bin=$(cd "$top_builddir" && pwd)/lineate
+[ -x "$bin" ] || { echo "FAIL: no lineate binary"; exit 1; }
+command -v parallel >/dev/null 2>&1 ||
+    { echo "SKIP: GNU parallel missing (package parallel)"; exit 77; }
+parallel --version 2>/dev/null | grep -q 'GNU parallel' ||
+    { echo "SKIP: 'parallel' is not GNU parallel"; exit 77; }
+"$PYTHON3" -c 'import PIL' 2>/dev/null || { echo "SKIP: python3 PIL missing"; exit 77; }
+tmp=$(mktemp -d) || exit 1
+trap 'rm -rf "$tmp"' EXIT
+trap 'exit 1' INT TERM HUP
+# GNU parallel keeps its state in $PARALLEL_HOME (default ~/.parallel): here, in the test folder.
+PARALLEL_HOME=$tmp/parallel-home
+export PARALLEL_HOME
+failed=0
+check() { # check DESCRIPTION COMMAND...
+    what=$1
+    shift
+    if "$@"; then echo "ok   $what"; else echo "FAIL $what"; failed=$((failed + 1)); fi
+}
+
+# An archive: 14 bands of the three test pages in two folders (unique base names, which the
+# recipe needs), a 1-bit page, and an 11-page TIFF (page 10 must merge after page 9, not
+# after page 1).
+"$PYTHON3" - "$top_srcdir/testdata" "$tmp/archive" <<'PY' || exit 1
+import os, sys
+from PIL import Image
+src, dst = sys.argv[1], sys.argv[2]
+pages = [Image.open("%s/%s.png" % (src, n)).convert("L")
+         for n in ("minutes", "newsletter", "bulletin")]
+for k in range(14):
+    folder = os.path.join(dst, "shelf%d" % (k % 2))
+    os.makedirs(folder, exist_ok=True)
+    y = 250 + 230 * (k % 12)
+    band = pages[k % 3].crop((0, y, 2550, y + 400))
+    band.save(os.path.join(folder, "leaf%02d.png" % k), dpi=(300, 300))
+band = pages[1].crop((0, 900, 2550, 1300)).point(lambda v: 255 if v >= 128 else 0).convert("1")
+band.save(os.path.join(dst, "shelf0", "leaf-bilevel.tif"), compression="group4", dpi=(300, 300))
+bands = [pages[i % 3].crop((0, 300 + 250 * i, 2550, 650 + 250 * i)) for i in range(11)]
+bands[0].save(os.path.join(dst, "shelf1", "ledger.tif"), save_all=True,
+              append_images=bands[1:], compression="tiff_lzw", dpi=(300, 300))
+PY
+find "$tmp/archive" -type f | sort >"$tmp/pages.list"
+n_pages=$((14 + 1 + 11))
+
+# The reference: one process, one thread, the same list in the same order.
+"$bin" -j 1 --from "$tmp/pages.list" >"$tmp/single.jsonl" 2>"$tmp/single.err"
+check "the single run analyses every page (exit 0)" test $? -eq 0
+check "the single run gives $n_pages records" test "$(wc -l <"$tmp/single.jsonl")" -eq "$n_pages"
+
+# ---- the recipe (as in DEVELOPERS.md, with -S : for the host list) ---------------------------
+# merge_pages LIST DIR: the page files of DIR for the inputs of LIST, in list order, a file's
+# pages in page order (NAME.json, or NAME.p1.json .. NAME.pN.json, N read from page 1).
+merge_pages() {
+    while IFS= read -r path; do
+        name=${path##*/}
+        case "$name" in *.*) name=${name%.*} ;; esac
+        if [ -f "$2/$name.json" ]; then
+            cat "$2/$name.json"
+        elif [ -f "$2/$name.p1.json" ]; then
+            pages=$(grep -o '"pages":[0-9]*' "$2/$name.p1.json" | head -n 1 | cut -d: -f2)
+            i=1
+            while [ "$i" -le "${pages:-0}" ]; do
+                cat "$2/$name.p$i.json" || return 1
+                i=$((i + 1))
+            done
+        else
+            echo "merge: $path: no page file in $2" >&2
+            return 1
+        fi
+    done <"$1"
+}
+list=$tmp/pages.list
+out=$tmp/layouts
+dups=$(sed 's|.*/||; s|\.[^.]*$||' "$list" | sort | uniq -d)
+check "base names in the list are unique" test -z "$dups"
+parallel --will-cite --pipe -N 4 -S 2/: \
+    "'$bin' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$tmp/run1.err"
+check "the spread run: every job succeeded" test $? -eq 0
+check "the spread run: one file per page" \
+    test "$(find "$out" -name '*.json' | wc -l)" -eq "$n_pages"
+n_inputs=$(wc -l <"$list")
+check "the list of $n_inputs files was cut into jobs of at most 4 inputs" \
+    test "$(grep -c 'pages done' "$tmp/run1.err")" -eq $(((n_inputs + 3) / 4))
+merge_pages "$list" "$out" >"$tmp/merged.jsonl"
+check "the merge found every page file" test $? -eq 0
+check "merged output equals the single lineate -j 1 run, byte for byte" \
+    cmp "$tmp/single.jsonl" "$tmp/merged.jsonl"
+check "the 11-page TIFF merged in page order" test "$(grep -o '"page":[0-9]*,"pages":11' \
+    "$tmp/merged.jsonl" | cut -d: -f2 | cut -d, -f1 | tr '\n' ' ')" = "1 2 3 4 5 6 7 8 9 10 11 "
+
+# A rerun of the same recipe: every page is complete, so every job skips all of its pages.
+find "$out" -name '*.json' -exec cksum {} + | sort >"$tmp/before"
+parallel --will-cite --pipe -N 4 -S 2/: \
+    "'$bin' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$tmp/run2.err"
+check "the rerun: every job succeeded" test $? -eq 0
+skipped=$(sed -n 's/.* \([0-9]*\) skipped,.*/\1/p' "$tmp/run2.err" |
+    awk '{ s += $1 } END { print s + 0 }')
+done_pages=$(sed -n 's/^lineate: \([0-9]*\) pages done.*/\1/p' "$tmp/run2.err" |
+    awk '{ s += $1 } END { print s + 0 }')
+check "the rerun skips every page ($skipped of $n_pages skipped, $done_pages analysed)" \
+    test "$skipped" -eq "$n_pages" -a "$done_pages" -eq 0
+find "$out" -name '*.json' -exec cksum {} + | sort >"$tmp/after"
+check "the rerun left every page file as it was" cmp -s "$tmp/before" "$tmp/after"
+
+# A slice lost (its page files deleted, as when a host died): the rerun redoes only those.
+rm -f "$out"/leaf03.json "$out"/ledger.p1*.json "$out"/ledger.p7.json
+parallel --will-cite --pipe -N 4 -S 2/: \
+    "'$bin' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$tmp/run3.err"
+done_pages=$(sed -n 's/^lineate: \([0-9]*\) pages done.*/\1/p' "$tmp/run3.err" |
+    awk '{ s += $1 } END { print s + 0 }')
+check "after losing 5 page files the rerun analyses exactly those ($done_pages)" \
+    test "$done_pages" -eq 5
+merge_pages "$list" "$out" >"$tmp/merged2.jsonl"
+check "and the merge again equals the single run" cmp "$tmp/single.jsonl" "$tmp/merged2.jsonl"
+rm -f "$out"/leaf05.json
+merge_pages "$list" "$out" >/dev/null 2>"$tmp/merge.err"
+check "a missing page file makes the merge fail, naming the input" \
+    test $? -ne 0 -a -n "$(grep 'leaf05.png: no page file' "$tmp/merge.err")"
+echo "parallel: $failed failed"
+[ "$failed" -eq 0 ]
