@@ -12,6 +12,9 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
+#ifdef __GLIBC__
+#include <malloc.h>
+#endif
 
 static lt_image *load(const char *path)
 {
@@ -215,6 +218,11 @@ static int write_pgm(const lt_image *ink, const char *path)
 
 int main(int argc, char **argv)
 {
+#ifdef __GLIBC__
+    /* The memory settings of the lineate command (src/main.c), so that the times are its. */
+    mallopt(M_MMAP_THRESHOLD, 64 * 1024 * 1024);
+    mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
+#endif
     lt_error err = {0};
     if (argc >= 7 && strcmp(argv[1], "binarize") == 0) {
         lt_image *img = load(argv[2]), *ink = NULL;
