@@ -351,8 +351,7 @@ static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in
     r->failed++;
 }
 
-/* Prefixes "FILE: page N: " unless the message names the file already. */
-static void page_message(char *buf, size_t n, const char *name, int page, const char *msg)
+void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg)
 {
     if (strncmp(msg, name, strlen(name)) == 0)
         snprintf(buf, n, "%s", msg);
@@ -385,7 +384,7 @@ static void process_input(const lt_input *in, const lt_batch_options *opt, resul
         if (lt_source_read_page(src, i, opt->params->max_pixels, &img, &perr) ||
             lt_analyze(img, opt->params, &layout, &perr)) {
             char msg[512];
-            page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
+            lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
             fail_page(r, opt, in, i + 1, pages, msg);
             lt_image_free(img);
             continue;
@@ -395,7 +394,7 @@ static void process_input(const lt_input *in, const lt_batch_options *opt, resul
         lt_layout_free(layout);
         if (!json) {
             char msg[512];
-            page_message(msg, sizeof msg, lt_source_name(src), i + 1, "out of memory");
+            lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, "out of memory");
             fail_page(r, opt, in, i + 1, pages, msg);
             continue;
         }

@@ -26,6 +26,9 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg);
 int lt_inputs_add_list(lt_inputs *in, const char *list_path);
 void lt_inputs_free(lt_inputs *in);
 
+/* A page's message: "FILE: page N: reason", or the reason alone when it names the file. */
+void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg);
+
 typedef struct lt_batch_options {
     const lt_params *params;
     long max_pages;

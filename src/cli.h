@@ -12,6 +12,11 @@ enum {
     LT_EXIT_OUTPUT = 3  /* the output could not be written */
 };
 
+/* Parses `text` as a number in [lo, hi] into *out; otherwise prints "PREFIXOPT: 'TEXT' is not
+ * a number in [LO, HI]" on stderr and returns -1. */
+int lt_cli_number(const char *prefix, const char *opt, const char *text, double lo, double hi,
+                  double *out);
+
 int lt_cmd_analyze(int argc, char **argv);
 int lt_cmd_score(int argc, char **argv);
 int lt_cmd_draw(int argc, char **argv);

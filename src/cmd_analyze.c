@@ -62,13 +62,14 @@ enum {
     OPT_RTL
 };
 
-static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
+int lt_cli_number(const char *prefix, const char *opt, const char *text, double lo, double hi,
+                  double *out)
 {
     char *end = NULL;
     errno = 0;
     double v = strtod(text, &end);
     if (errno || end == text || *end || !(v >= lo && v <= hi)) {
-        fprintf(stderr, "lineate: %s: '%s' is not a number in [%g, %g]\n", opt, text, lo, hi);
+        fprintf(stderr, "%s%s: '%s' is not a number in [%g, %g]\n", prefix, opt, text, lo, hi);
         return -1;
     }
     *out = v;
@@ -112,34 +113,34 @@ int lt_cmd_analyze(int argc, char **argv)
         case OPT_FROM: from = optarg; break;
         case OPT_PROGRESS: progress = 1; break;
         case 'j':
-            if (parse_number("--jobs", optarg, 1, 256, &jobs)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--jobs", optarg, 1, 256, &jobs)) return LT_EXIT_USAGE;
             break;
         case OPT_PRETTY: pretty = 1; break;
         case OPT_DPI:
-            if (parse_number("--dpi", optarg, 10, 100000, &params.dpi)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &params.dpi)) return LT_EXIT_USAGE;
             break;
         case OPT_FORCE_DPI: params.force_dpi = 1; break;
         case OPT_RTL: params.right_to_left = 1; break;
         case OPT_WINDOW:
-            if (parse_number("--window", optarg, 3, 10001, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--window", optarg, 3, 10001, &v)) return LT_EXIT_USAGE;
             params.sauvola_window_px = (int)v | 1;
             break;
         case OPT_K:
-            if (parse_number("--k", optarg, 0, 1, &params.sauvola_k)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--k", optarg, 0, 1, &params.sauvola_k)) return LT_EXIT_USAGE;
             break;
         case OPT_MAX_SKEW:
-            if (parse_number("--max-skew", optarg, 0, 45, &params.skew_range_deg))
+            if (lt_cli_number("lineate: ", "--max-skew", optarg, 0, 45, &params.skew_range_deg))
                 return LT_EXIT_USAGE;
             break;
         case OPT_MAX_PIXELS:
-            if (parse_number("--max-pixels", optarg, 1, 4e12, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--max-pixels", optarg, 1, 4e12, &v)) return LT_EXIT_USAGE;
             params.max_pixels = (long)v;
             break;
         case OPT_MAX_PAGES:
-            if (parse_number("--max-pages", optarg, 1, 1e9, &max_pages)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--max-pages", optarg, 1, 1e9, &max_pages)) return LT_EXIT_USAGE;
             break;
         case OPT_MAX_COMPONENTS:
-            if (parse_number("--max-components", optarg, 1, 1e9, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--max-components", optarg, 1, 1e9, &v)) return LT_EXIT_USAGE;
             params.max_components = (long)v;
             break;
         case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;

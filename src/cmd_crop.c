@@ -56,18 +56,6 @@ typedef struct crop_run {
     int write_failed; /* a crop or the manifest could not be written: stop */
 } crop_run;
 
-static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
-{
-    char *end = NULL;
-    errno = 0;
-    double v = strtod(text, &end);
-    if (errno || end == text || *end || !(v >= lo && v <= hi)) {
-        fprintf(stderr, "lineate: %s: '%s' is not a number in [%g, %g]\n", opt, text, lo, hi);
-        return -1;
-    }
-    *out = v;
-    return 0;
-}
 
 /* ---- output names ---------------------------------------------------------------------- */
 
@@ -314,14 +302,6 @@ static void fail(crop_run *run, const char *source, int page, int pages, int lin
     run->failed++;
 }
 
-/* "FILE: page N: reason" unless the reason names the file already. */
-static void page_message(char *buf, size_t n, const char *name, int page, const char *msg)
-{
-    if (strncmp(msg, name, strlen(name)) == 0)
-        snprintf(buf, n, "%s", msg);
-    else
-        snprintf(buf, n, "%s: page %d: %s", name, page, msg);
-}
 
 /* ---- one page ---------------------------------------------------------------------------- */
 
@@ -461,7 +441,7 @@ static void crop_input(crop_run *run, const char *path, const char *name)
             lt_analyze(img, &opt->params, &layout, &perr) ||
             crop_source(opt, img, layout->dpi, &own, &perr)) {
             char msg[512];
-            page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
+            lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
             fail(run, path, i + 1, pages, 0, msg);
         } else {
             crop_page(run, path, lt_source_name(src), name, i + 1, pages, layout, own ? own : img);
@@ -520,7 +500,7 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
         case OPT_RECTIFY: opt->rectify = 1; break;
         case OPT_BINARY: opt->binary = 1; break;
         case OPT_MARGIN:
-            if (parse_number("--margin", optarg, 0, MAX_MARGIN_PX, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--margin", optarg, 0, MAX_MARGIN_PX, &v)) return LT_EXIT_USAGE;
             if (v != floor(v)) {
                 fprintf(stderr, "lineate: --margin: '%s' is not a whole number of pixels\n",
                         optarg);
@@ -529,7 +509,7 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
             opt->margin_px = (int)v;
             break;
         case OPT_DPI:
-            if (parse_number("--dpi", optarg, 10, 100000, &opt->params.dpi)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &opt->params.dpi)) return LT_EXIT_USAGE;
             break;
         case 'h': fputs(usage_text, stdout); return -1;
         case ':':

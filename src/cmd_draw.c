@@ -41,18 +41,6 @@ static const char usage_text[] =
 
 enum { OPT_PAGE = 256, OPT_SCALE, OPT_NO_ORDER };
 
-static int parse_number(const char *opt, const char *text, double lo, double hi, double *out)
-{
-    char *end = NULL;
-    errno = 0;
-    double v = strtod(text, &end);
-    if (errno || end == text || *end || !(v >= lo && v <= hi)) {
-        fprintf(stderr, PREFIX "%s: '%s' is not a number in [%g, %g]\n", opt, text, lo, hi);
-        return -1;
-    }
-    *out = v;
-    return 0;
-}
 
 /* ---- layout JSON -> lt_draw_layout ------------------------------------------------------- */
 
@@ -223,30 +211,6 @@ static void line_col(const char *data, size_t pos, long *line, long *col)
     }
 }
 
-/* 1 when the text data[0..n) ends inside a string or an unclosed array or object: a file
- * cut short rather than one with a syntax error. */
-static int ends_inside_value(const char *data, size_t n)
-{
-    long depth = 0;
-    int in_string = 0;
-    for (size_t i = 0; i < n; i++) {
-        char c = data[i];
-        if (in_string) {
-            if (c == '\\')
-                i++;
-            else if (c == '"')
-                in_string = 0;
-        } else if (c == '"') {
-            in_string = 1;
-        } else if (c == '{' || c == '[') {
-            depth++;
-        } else if ((c == '}' || c == ']') && depth > 0) {
-            depth--;
-        }
-    }
-    return in_string || depth > 0;
-}
-
 /* Reads `path` ("-": standard input) holding one or more JSON page objects (one document,
  * JSON Lines, or objects one after another) and converts the object whose "page" is `page`
  * (an object without "page" counts as its position in the file, from 1). The object must not
@@ -272,7 +236,7 @@ static int read_layout(const char *path, int page, int image_pages, lt_draw_layo
         if (!obj) {
             long line, col;
             size_t at = end && end >= data + pos && end <= data + size ? (size_t)(end - data) : pos;
-            if (ends_inside_value(data + pos, size - pos))
+            if (lt_json_cut_short(data + pos, size - pos))
                 rc = lt_error_set(err, LT_EPARSE,
                                   "%s: truncated JSON (the file ends inside "
                                   "object %d)",
@@ -518,7 +482,7 @@ int lt_cmd_draw(int argc, char **argv)
         switch (c) {
         case 'o': output = optarg; break;
         case OPT_PAGE:
-            if (parse_number("--page", optarg, 1, LT_DEFAULT_MAX_PAGES, &page_d) ||
+            if (lt_cli_number(PREFIX, "--page", optarg, 1, LT_DEFAULT_MAX_PAGES, &page_d) ||
                 page_d != floor(page_d)) {
                 if (page_d != floor(page_d))
                     fprintf(stderr, PREFIX "--page: '%s' is not a whole number\n", optarg);
@@ -526,7 +490,7 @@ int lt_cmd_draw(int argc, char **argv)
             }
             break;
         case OPT_SCALE:
-            if (parse_number("--scale", optarg, 0.1, 1, &scale)) return LT_EXIT_USAGE;
+            if (lt_cli_number(PREFIX, "--scale", optarg, 0.1, 1, &scale)) return LT_EXIT_USAGE;
             break;
         case OPT_NO_ORDER: show_order = 0; break;
         case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;

@@ -103,9 +103,7 @@ static int is_json_space(char c)
     return c == ' ' || c == '\t' || c == '\n' || c == '\r';
 }
 
-/* 1 when the text data[0..n) ends inside a string or an unclosed array / object, i.e. the
- * file was cut short; 0 otherwise (a plain syntax error). */
-static int ends_inside_value(const char *data, size_t n)
+int lt_json_cut_short(const char *data, size_t n)
 {
     long depth = 0;
     int in_string = 0;
@@ -143,7 +141,7 @@ static int syntax_error(const char *name, int k, const char *data, size_t size, 
             col++;
         }
     }
-    if (ends_inside_value(data + start, size - start))
+    if (lt_json_cut_short(data + start, size - start))
         return lt_error_set(err, LT_EPARSE, "%s: truncated JSON: the file ends inside page %d",
                             name, k);
     return lt_error_set(err, LT_EPARSE, "%s: line %ld, column %ld: not valid JSON", name, line,

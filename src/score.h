@@ -64,6 +64,10 @@ int lt_read_whole_file(const char *path, size_t max_bytes, char **data, size_t *
 int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_scored_page **pages,
                           int *npages, lt_error *err);
 
+/* 1 when the text data[0..n) ends inside a string or an unclosed array or object, i.e. a
+ * JSON file cut short; 0 otherwise (a plain syntax error). */
+int lt_json_cut_short(const char *data, size_t n);
+
 /* lt_read_whole_file (capped at LT_SCORE_MAX_FILE_BYTES) followed by lt_scored_pages_parse;
  * messages name `path` ("stdin" for "-"). */
 int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages, lt_error *err);
