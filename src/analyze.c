@@ -159,8 +159,7 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->width, page->height, &arr,
                     err);
     if (rc) goto done;
-    if (assemble(res, raw, arr, comps, &frame))
-        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+    if (assemble(res, raw, arr, comps, &frame)) rc = lt_error_set(err, LT_ENOMEM, "out of memory");
 done:
     lt_image_free(ink_own);
     lt_image_free(deskewed_own);

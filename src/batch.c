@@ -19,9 +19,9 @@
 
 /* ---- inputs --------------------------------------------------------------------------- */
 
-static const char *const image_extensions[] = {".png", ".tif", ".tiff", ".jpg", ".jpeg", ".jpe",
-                                               ".pnm", ".pbm", ".pgm", ".ppm", ".bmp", ".gif",
-                                               ".webp", ".jp2"};
+static const char *const image_extensions[] = {".png", ".tif", ".tiff", ".jpg", ".jpeg",
+                                               ".jpe", ".pnm", ".pbm",  ".pgm", ".ppm",
+                                               ".bmp", ".gif", ".webp", ".jp2"};
 
 static int is_image_name(const char *name)
 {
@@ -122,7 +122,8 @@ static int add_folder(lt_inputs *in, const char *dir, const char *rel, int depth
         free(path);
         free(sub);
     }
-    for (size_t i = 0; i < n; i++) free(names[i]);
+    for (size_t i = 0; i < n; i++)
+        free(names[i]);
     free(names);
     if (rc) fprintf(stderr, "lineate: %s: out of memory\n", dir);
     return rc;
@@ -135,7 +136,8 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg)
         size_t n = strlen(arg);
         char *dir = strdup(arg);
         if (!dir) return -1;
-        while (n > 1 && dir[n - 1] == '/') dir[--n] = 0;
+        while (n > 1 && dir[n - 1] == '/')
+            dir[--n] = 0;
         const int before = in->count;
         int rc = add_folder(in, dir, "", 0);
         if (rc == 0 && in->count == before) {
@@ -166,7 +168,8 @@ int lt_inputs_add_list(lt_inputs *in, const char *list_path)
     ssize_t len;
     int rc = 0;
     while (rc == 0 && (len = getline(&line, &cap, fp)) >= 0) {
-        while (len > 0 && (line[len - 1] == '\n' || line[len - 1] == '\r')) line[--len] = 0;
+        while (len > 0 && (line[len - 1] == '\n' || line[len - 1] == '\r'))
+            line[--len] = 0;
         if (len > 0) rc = lt_inputs_add_arg(in, line);
     }
     if (rc == 0 && ferror(fp)) {
@@ -202,7 +205,8 @@ static void text_add(text *t, const char *s, size_t n)
     if (t->failed) return;
     if (t->len + n + 1 > t->cap) {
         size_t cap = t->cap ? t->cap : 4096;
-        while (cap < t->len + n + 1) cap *= 2;
+        while (cap < t->len + n + 1)
+            cap *= 2;
         char *bigger = realloc(t->data, cap);
         if (!bigger) {
             t->failed = 1;
@@ -310,7 +314,8 @@ static int page_file_complete(const char *path)
     text t = {0};
     char buf[65536];
     size_t got;
-    while ((got = fread(buf, 1, sizeof buf, fp)) > 0) text_add(&t, buf, got);
+    while ((got = fread(buf, 1, sizeof buf, fp)) > 0)
+        text_add(&t, buf, got);
     fclose(fp);
     int ok = 0;
     if (!t.failed && t.data) {
@@ -324,8 +329,8 @@ static int page_file_complete(const char *path)
 }
 
 /* Hands one page's record to the stream or the output folder. */
-static void emit(result *r, const lt_batch_options *opt, const lt_input *in, int page,
-                 int pages, char *json)
+static void emit(result *r, const lt_batch_options *opt, const lt_input *in, int page, int pages,
+                 char *json)
 {
     if (!opt->out_dir) {
         text_add(&r->records, json, strlen(json));
@@ -453,8 +458,8 @@ static void report_progress(const lt_batch_options *opt, const lt_batch_totals *
         const int width = 30, filled = inputs ? (int)((long)width * inputs_done / inputs) : width;
         double eta = inputs_done > 0 ? elapsed_s * (inputs - inputs_done) / inputs_done : 0;
         fprintf(stderr, "\r[%.*s%*s] %d/%d files, %ld pages, %.1f pages/s, ETA %.0f s ", filled,
-                "##############################", width - filled, "", inputs_done, inputs,
-                pages, rate, eta);
+                "##############################", width - filled, "", inputs_done, inputs, pages,
+                rate, eta);
         if (inputs_done == inputs) fputc('\n', stderr);
     } else if (opt->progress == 1 && (pages / 50 > *last_line / 50 || inputs_done == inputs)) {
         fprintf(stderr, "lineate: progress: %d/%d files, %ld pages, %.1f pages/s\n", inputs_done,
@@ -466,8 +471,14 @@ static void report_progress(const lt_batch_options *opt, const lt_batch_totals *
 int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals)
 {
     memset(totals, 0, sizeof *totals);
-    pool p = {in, opt, calloc((size_t)in->count + 1, sizeof(result)), 0, 0, 2 * opt->jobs,
-              PTHREAD_MUTEX_INITIALIZER, PTHREAD_COND_INITIALIZER};
+    pool p = {in,
+              opt,
+              calloc((size_t)in->count + 1, sizeof(result)),
+              0,
+              0,
+              2 * opt->jobs,
+              PTHREAD_MUTEX_INITIALIZER,
+              PTHREAD_COND_INITIALIZER};
     pthread_t *threads = calloc((size_t)opt->jobs, sizeof *threads);
     if (!p.results || !threads) {
         free(p.results);
@@ -479,15 +490,18 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     for (; started < opt->jobs; started++)
         if (pthread_create(&threads[started], NULL, worker, &p)) break;
     if (started == 0) { /* no thread could start: work in this one */
-        for (int k = 0; k < in->count; k++) process_input(&in->items[k], opt, &p.results[k]);
-        for (int k = 0; k < in->count; k++) p.results[k].finished = 1;
+        for (int k = 0; k < in->count; k++)
+            process_input(&in->items[k], opt, &p.results[k]);
+        for (int k = 0; k < in->count; k++)
+            p.results[k].finished = 1;
         p.window = in->count + 1;
     }
     const double t0 = now_s();
     long last_line = 0;
     for (int k = 0; k < in->count; k++) {
         pthread_mutex_lock(&p.lock);
-        while (!p.results[k].finished) pthread_cond_wait(&p.changed, &p.lock);
+        while (!p.results[k].finished)
+            pthread_cond_wait(&p.changed, &p.lock);
         pthread_mutex_unlock(&p.lock);
         result *r = &p.results[k];
         if (r->records.len && !totals->write_failed &&
@@ -514,7 +528,8 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
         if (opt->progress) report_progress(opt, totals, k + 1, in->count, now_s() - t0, &last_line);
         if (stop) break;
     }
-    for (int i = 0; i < started; i++) pthread_join(threads[i], NULL);
+    for (int i = 0; i < started; i++)
+        pthread_join(threads[i], NULL);
     for (int k = 0; k < in->count; k++) { /* inputs left unwritten after a write failure */
         free(p.results[k].records.data);
         free(p.results[k].messages.data);

@@ -140,9 +140,12 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
         for (int i = 0; i < n && !crossed; i++) {
             const lt_box *b = &x->boxes[idx[i]];
             const int b0 = across ? b->left : b->top, b1 = across ? b->right : b->bottom;
-            if (b1 <= at) before++;
-            else if (b0 >= at) beyond++;
-            else crossed = 1;
+            if (b1 <= at)
+                before++;
+            else if (b0 >= at)
+                beyond++;
+            else
+                crossed = 1;
         }
         if (!crossed && before && beyond) {
             *cut_at = at;

@@ -117,7 +117,8 @@ int lt_cmd_analyze(int argc, char **argv)
             break;
         case OPT_PRETTY: pretty = 1; break;
         case OPT_DPI:
-            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &params.dpi)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &params.dpi))
+                return LT_EXIT_USAGE;
             break;
         case OPT_FORCE_DPI: params.force_dpi = 1; break;
         case OPT_RTL: params.right_to_left = 1; break;
@@ -126,21 +127,25 @@ int lt_cmd_analyze(int argc, char **argv)
             params.sauvola_window_px = (int)v | 1;
             break;
         case OPT_K:
-            if (lt_cli_number("lineate: ", "--k", optarg, 0, 1, &params.sauvola_k)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--k", optarg, 0, 1, &params.sauvola_k))
+                return LT_EXIT_USAGE;
             break;
         case OPT_MAX_SKEW:
             if (lt_cli_number("lineate: ", "--max-skew", optarg, 0, 45, &params.skew_range_deg))
                 return LT_EXIT_USAGE;
             break;
         case OPT_MAX_PIXELS:
-            if (lt_cli_number("lineate: ", "--max-pixels", optarg, 1, 4e12, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--max-pixels", optarg, 1, 4e12, &v))
+                return LT_EXIT_USAGE;
             params.max_pixels = (long)v;
             break;
         case OPT_MAX_PAGES:
-            if (lt_cli_number("lineate: ", "--max-pages", optarg, 1, 1e9, &max_pages)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--max-pages", optarg, 1, 1e9, &max_pages))
+                return LT_EXIT_USAGE;
             break;
         case OPT_MAX_COMPONENTS:
-            if (lt_cli_number("lineate: ", "--max-components", optarg, 1, 1e9, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--max-components", optarg, 1, 1e9, &v))
+                return LT_EXIT_USAGE;
             params.max_components = (long)v;
             break;
         case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;
@@ -196,8 +201,16 @@ int lt_cmd_analyze(int argc, char **argv)
         lt_inputs_free(&inputs);
         return LT_EXIT_OUTPUT;
     }
-    lt_batch_options opt = {&params, (long)max_pages, pretty, (int)jobs, out, out_dir, resume,
-                            progress ? 1 : isatty(2) && inputs.count > 1 ? 2 : 0,
+    lt_batch_options opt = {&params,
+                            (long)max_pages,
+                            pretty,
+                            (int)jobs,
+                            out,
+                            out_dir,
+                            resume,
+                            progress                        ? 1
+                            : isatty(2) && inputs.count > 1 ? 2
+                                                            : 0,
                             out_dir != NULL || progress || (isatty(2) && inputs.count > 1)};
     lt_batch_totals totals;
     int write_failed = lt_batch_run(&inputs, &opt, &totals) != 0 || totals.write_failed;

@@ -56,7 +56,6 @@ typedef struct crop_run {
     int write_failed; /* a crop or the manifest could not be written: stop */
 } crop_run;
 
-
 /* ---- output names ---------------------------------------------------------------------- */
 
 /* Base name of an input without folder and extension ("stdin" for "-"); a new string. */
@@ -302,7 +301,6 @@ static void fail(crop_run *run, const char *source, int page, int pages, int lin
     run->failed++;
 }
 
-
 /* ---- one page ---------------------------------------------------------------------------- */
 
 /* What a crop was cut from, for the manifest. */
@@ -500,7 +498,8 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
         case OPT_RECTIFY: opt->rectify = 1; break;
         case OPT_BINARY: opt->binary = 1; break;
         case OPT_MARGIN:
-            if (lt_cli_number("lineate: ", "--margin", optarg, 0, MAX_MARGIN_PX, &v)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--margin", optarg, 0, MAX_MARGIN_PX, &v))
+                return LT_EXIT_USAGE;
             if (v != floor(v)) {
                 fprintf(stderr, "lineate: --margin: '%s' is not a whole number of pixels\n",
                         optarg);
@@ -509,7 +508,8 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
             opt->margin_px = (int)v;
             break;
         case OPT_DPI:
-            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &opt->params.dpi)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &opt->params.dpi))
+                return LT_EXIT_USAGE;
             break;
         case 'h': fputs(usage_text, stdout); return -1;
         case ':':

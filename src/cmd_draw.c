@@ -41,7 +41,6 @@ static const char usage_text[] =
 
 enum { OPT_PAGE = 256, OPT_SCALE, OPT_NO_ORDER };
 
-
 /* ---- layout JSON -> lt_draw_layout ------------------------------------------------------- */
 
 /* Reads an integral JSON number in [lo, hi]; -1 when `item` is not one. */

@@ -112,9 +112,15 @@ typedef struct lt_tables {
     int count;
 } lt_tables;
 
-int lt_find_tables(const lt_components *c, const lt_raw_lines *lines, double th,
-                   lt_tables *out);
+int lt_find_tables(const lt_components *c, const lt_raw_lines *lines, double th, lt_tables *out);
 void lt_tables_free(lt_tables *t);
+
+/* Page heads and feet: running heads, running feet and page numbers. */
+static inline int lt_role_is_head_or_foot(int role)
+{
+    return role == LT_ROLE_PAGE_HEADER || role == LT_ROLE_PAGE_FOOTER ||
+           role == LT_ROLE_PAGE_NUMBER;
+}
 
 /* Sets the role of every block (see LT_ROLE_*) from its place on the page, its size and
  * type size, and the pictures, tables and rules around it (`c` and `tables` may be NULL). */

@@ -169,11 +169,11 @@ typedef struct lt_block {
 
 /* Reasons why a page's reading order deserves a look (bits of lt_layout.order_doubts). */
 enum {
-    LT_DOUBT_CYCLE = 1,       /* the precedence between blocks contradicts itself */
-    LT_DOUBT_UNORDERED = 2,   /* blocks of body text side by side with no rule between them */
-    LT_DOUBT_DISAGREE = 4,    /* the cut tree and the precedence give different orders */
-    LT_DOUBT_NARROW_GAP = 8,  /* rows of similar text aligned across a narrow gutter */
-    LT_DOUBT_BRIDGED = 16     /* a few lines of a block run across what looks like a gutter */
+    LT_DOUBT_CYCLE = 1,      /* the precedence between blocks contradicts itself */
+    LT_DOUBT_UNORDERED = 2,  /* blocks of body text side by side with no rule between them */
+    LT_DOUBT_DISAGREE = 4,   /* the cut tree and the precedence give different orders */
+    LT_DOUBT_NARROW_GAP = 8, /* rows of similar text aligned across a narrow gutter */
+    LT_DOUBT_BRIDGED = 16    /* a few lines of a block run across what looks like a gutter */
 };
 /* Short English text of one LT_DOUBT_* bit; NULL for an unknown bit. */
 const char *lt_doubt_text(int bit);

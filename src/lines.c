@@ -247,8 +247,8 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
     const double left = side_edge(o, l, x0, -1, side, y0, y1, th);
     const double right = side_edge(o, l, x1, +1, side, y0, y1, th);
-    int both_above = occupancy_count(o, left, y0, x0, top) > 0 &&
-                     occupancy_count(o, x1, y0, right, top) > 0;
+    int both_above =
+        occupancy_count(o, left, y0, x0, top) > 0 && occupancy_count(o, x1, y0, right, top) > 0;
     int both_below = occupancy_count(o, left, bottom, x0, y1) > 0 &&
                      occupancy_count(o, x1, bottom, right, y1) > 0;
     return both_above || both_below;

@@ -244,8 +244,7 @@ static int narrow_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *
  * fifths of its width is crossed by at least one and at most a sixth of its lines, while at
  * least a quarter of them lie wholly on each side. Such lines usually join two columns whose
  * gutter is narrow. */
-static int bridged_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *lines,
-                          double th)
+static int bridged_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *lines, double th)
 {
     for (int k = 0; k < n; k++) {
         const lt_raw_block *b = &blocks[k];
@@ -255,9 +254,12 @@ static int bridged_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines 
             int across = 0, left = 0, right = 0;
             for (int j = 0; j < b->nlines; j++) {
                 const lt_box *l = &lines->items[b->lines[j]].box;
-                if (l->right <= x) left++;
-                else if (l->left >= x) right++;
-                else across++;
+                if (l->right <= x)
+                    left++;
+                else if (l->left >= x)
+                    right++;
+                else
+                    across++;
             }
             if (across >= 1 && 6 * across <= b->nlines && 4 * left >= b->nlines &&
                 4 * right >= b->nlines)
@@ -287,12 +289,6 @@ static void sort_table_members(const lt_raw_block *blocks, int *m, int n, int rt
     }
 }
 
-static int is_head_or_foot(const lt_raw_block *b)
-{
-    return b->role == LT_ROLE_PAGE_HEADER || b->role == LT_ROLE_PAGE_FOOTER ||
-           b->role == LT_ROLE_PAGE_NUMBER;
-}
-
 /* Puts the blocks in reading order: seq[0..n) receives block indices. */
 static int order_blocks(const lt_raw_block *blocks, int n, const lt_tables *tables, int page_h,
                         int rtl, double th, int *seq, int *doubts)
@@ -311,7 +307,7 @@ static int order_blocks(const lt_raw_block *blocks, int n, const lt_tables *tabl
     for (int i = 0; i < n; i++) {
         const lt_raw_block *b = &blocks[i];
         unit_of[i] = -1;
-        if (is_head_or_foot(b)) continue;
+        if (lt_role_is_head_or_foot(b->role)) continue;
         int k = b->table >= 0 ? unit_of_table[b->table] : -1;
         if (k < 0) {
             k = nu++;
@@ -350,7 +346,8 @@ static int order_blocks(const lt_raw_block *blocks, int n, const lt_tables *tabl
         int first = k;
         for (int i = 0; i < n; i++) {
             const lt_raw_block *b = &blocks[i];
-            if (!is_head_or_foot(b) || (b->box.top + b->box.bottom < page_h) != (pass == 0))
+            if (!lt_role_is_head_or_foot(b->role) ||
+                (b->box.top + b->box.bottom < page_h) != (pass == 0))
                 continue;
             int j = k++;
             while (j > first) {
@@ -398,7 +395,8 @@ int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_comp
     if (c && lt_find_tables(c, lines, th, &a->tables)) goto fail;
     for (int i = 0; i < n; i++) {
         lt_raw_block *b = &tree_blocks[i];
-        const double cx = 0.5 * (b->box.left + b->box.right), cy = 0.5 * (b->box.top + b->box.bottom);
+        const double cx = 0.5 * (b->box.left + b->box.right),
+                     cy = 0.5 * (b->box.top + b->box.bottom);
         for (int t = 0; t < a->tables.count && b->table < 0; t++) {
             const lt_box *tb = &a->tables.boxes[t];
             if (cx >= tb->left && cx < tb->right && cy >= tb->top && cy < tb->bottom) b->table = t;

@@ -115,10 +115,9 @@ int lt_find_tables(const lt_components *c, const lt_raw_lines *lines, double th,
         if (last < 0 || region.bottom - region.top < 2 * th) continue;
         int inside_frame = 0;
         for (int t = 0; t < out->count && !inside_frame; t++)
-            inside_frame = overlap(out->boxes[t].top, out->boxes[t].bottom, region.top,
-                                   region.bottom) > 0 &&
-                           overlap(out->boxes[t].left, out->boxes[t].right, region.left,
-                                   region.right) > 0;
+            inside_frame =
+                overlap(out->boxes[t].top, out->boxes[t].bottom, region.top, region.bottom) > 0 &&
+                overlap(out->boxes[t].left, out->boxes[t].right, region.left, region.right) > 0;
         if (inside_frame || !holds_grid(lines, &region, scratch)) continue;
         for (int b = a; b <= last; b++) {
             const lt_box *r = &c->items[rules[b].index].box;

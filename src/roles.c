@@ -1,10 +1,10 @@
 /* roles.c — roles of text blocks from geometry and type size alone (no recognition): page
  * header and footer (short blocks outside the text area, at the top or the foot of the
  * page), page number (a very short one), margin note (narrow, beside the text columns),
- * caption (short, under a picture or table, or in smaller type over one), footnote (smaller type at the foot of a column
- * or under a short rule), heading (larger type, or one short line set apart above a block),
- * list item (hanging indent or a bullet-like first mark) and body text. The thresholds are
- * common practice of book and journal typography, in text heights (x-heights). */
+ * caption (short, under a picture or table, or in smaller type over one), footnote (smaller type at
+ * the foot of a column or under a short rule), heading (larger type, or one short line set apart
+ * above a block), list item (hanging indent or a bullet-like first mark) and body text. The
+ * thresholds are common practice of book and journal typography, in text heights (x-heights). */
 #include "internal.h"
 
 #include <math.h>
@@ -64,7 +64,8 @@ static int head_or_foot(const lt_raw_block *b, int n, int i, int head, int page_
     int nearest = 1 << 30, outermost = head ? 1 << 30 : -1;
     for (int j = 0; j < n; j++) {
         const lt_box *y = &b[j].box;
-        if (head ? y->top < outermost : y->bottom > outermost) outermost = head ? y->top : y->bottom;
+        if (head ? y->top < outermost : y->bottom > outermost)
+            outermost = head ? y->top : y->bottom;
         if (j == i) continue;
         int beyond = head ? y->bottom <= x->top : y->top >= x->bottom;
         int ov = overlap(x->left, x->right, y->left, y->right);
@@ -135,12 +136,6 @@ static int list_like(const lt_raw_block *b, const lt_raw_lines *lines, double th
     return 1;
 }
 
-static int is_head_or_foot_role(int role)
-{
-    return role == LT_ROLE_PAGE_HEADER || role == LT_ROLE_PAGE_FOOTER ||
-           role == LT_ROLE_PAGE_NUMBER;
-}
-
 void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt_components *c,
                      const lt_tables *tables, double th, int page_w, int page_h, int rtl)
 {
@@ -157,9 +152,11 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
         if (x->table >= 0) continue; /* cells are body text of their table */
         if (head_or_foot(b, n, i, 1, page_h, th) || head_or_foot(b, n, i, 0, page_h, th)) {
             int head = bx->bottom <= page_h / 8;
-            int folio = x->nlines == 1 && width(bx) <= 5 * th &&
-                        lines->items[x->lines[0]].ncomponents <= 6;
-            x->role = folio ? LT_ROLE_PAGE_NUMBER : head ? LT_ROLE_PAGE_HEADER : LT_ROLE_PAGE_FOOTER;
+            int folio =
+                x->nlines == 1 && width(bx) <= 5 * th && lines->items[x->lines[0]].ncomponents <= 6;
+            x->role = folio  ? LT_ROLE_PAGE_NUMBER
+                      : head ? LT_ROLE_PAGE_HEADER
+                             : LT_ROLE_PAGE_FOOTER;
         }
     }
     for (int i = 0; i < n; i++) {
@@ -185,9 +182,9 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
             }
         }
         /* Captions: a short block under a figure, or one in smaller type over it. */
-        if (x->nlines <= 6 && (next_to_figure(c, tables, bx, 3 * th, 1) ||
-                               (x->xheight_px <= 0.92 * body_x &&
-                                next_to_figure(c, tables, bx, 3 * th, 0)))) {
+        if (x->nlines <= 6 &&
+            (next_to_figure(c, tables, bx, 3 * th, 1) ||
+             (x->xheight_px <= 0.92 * body_x && next_to_figure(c, tables, bx, 3 * th, 0)))) {
             x->role = LT_ROLE_CAPTION;
             continue;
         }
@@ -199,7 +196,7 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
         if (low && x->xheight_px <= 0.88 * body_x && x->nlines <= 12) {
             int body_below = 0; /* text of body size below it in its column: not a foot */
             for (int j = 0; j < n; j++)
-                if (j != i && b[j].box.top >= bx->bottom && !is_head_or_foot_role(b[j].role) &&
+                if (j != i && b[j].box.top >= bx->bottom && !lt_role_is_head_or_foot(b[j].role) &&
                     b[j].xheight_px > 0.92 * body_x &&
                     overlap(bx->left, bx->right, b[j].box.left, b[j].box.right) > 0)
                     body_below = 1;

@@ -71,7 +71,7 @@ void lt_params_default(lt_params *p)
 const char *lt_role_name(int role)
 {
     static const char *const names[LT_ROLE_COUNT] = {
-        "none",      "body",    "heading",  "page-header", "page-footer",
+        "none",        "body",      "heading", "page-header", "page-footer",
         "page-number", "list-item", "caption", "footnote",    "margin-note"};
     return role >= 0 && role < LT_ROLE_COUNT ? names[role] : "none";
 }
