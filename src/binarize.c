@@ -68,7 +68,7 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
         const int rows = (add < h ? add : h - 1) - (drop + 1 > 0 ? drop + 1 : 0) + 1;
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
-        uint64_t sum = 0, sumsq = 0;
+        int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
         for (int x = 0; x < half && x < w; x++) {
             sum += colsum[x];
             sumsq += colsq[x];

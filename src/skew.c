@@ -194,7 +194,7 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     const struct {
         const cells *c;
         double bin_px, span_deg, step_deg;
-    } stages[] = {{&c4, 4, 0.30, 0.05}, {&c2, 2, 0.06, 0.01}};
+    } stages[] = {{&c4, 4, 0.30, 0.05}, {&c2, 2, 0.06, 0.02}};
     double prev = 0, next = 0, step = coarse_step;
     for (size_t s = 0; s < sizeof stages / sizeof stages[0]; s++) {
         double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;
