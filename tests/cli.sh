@@ -12,52 +12,13 @@
 # (Kendall 1938, from the definition). jsonschema (python3-jsonschema) validates the output
 # against the schema, where installed.
 
-srcdir=$(cd "${top_srcdir:-.}" && pwd) || exit 1
-builddir=$(cd "${top_builddir:-.}" && pwd) || exit 1
-python=${PYTHON3:-/usr/bin/python3}
-lineate="$builddir/lineate"
-man="$srcdir/man/lineate.1"
-schema="$srcdir/schema/lineate-layout.schema.json"
-testdata="$srcdir/testdata"
-
-if [ ! -x "$lineate" ]; then
-    echo "FAIL: $lineate not found or not executable (build it with make)"
-    exit 1
-fi
-if ! command -v "$python" >/dev/null 2>&1; then
-    echo "SKIP: python3 not found ($python)"
-    exit 77
-fi
-if ! "$python" -c 'import PIL.Image' >/dev/null 2>&1; then
-    echo "SKIP: $python lacks PIL (Debian: python3-pil)"
-    exit 77
-fi
-
-work=$(mktemp -d "${TMPDIR:-/tmp}/cli.XXXXXX") || exit 1
-trap 'rm -rf "$work"' EXIT
-trap 'exit 1' INT TERM HUP
-cd "$work" || exit 1
-
-# A hang is a failure too: every run of lineate is bounded when coreutils' timeout exists.
-limit=""
-if command -v timeout >/dev/null 2>&1; then limit="timeout 60"; fi
-
-passed=0
-failed=0
-pass() { passed=$((passed + 1)); echo "ok: $1"; }
-fail() { failed=$((failed + 1)); echo "FAIL: $1"; }
-# check WHAT COMMAND...: passes when COMMAND succeeds.
-check() {
-    what=$1
-    shift
-    if "$@"; then pass "$what"; else fail "$what"; fi
-}
+test_name=cli test_modules=PIL.Image test_timeout=60
+. "$(cd "${top_srcdir:-.}" && pwd)/tests/harness.sh"
 # run ARGS...: runs lineate, stdout to out, stderr to err, status in $rc.
 run() {
     $limit "$lineate" "$@" >out 2>err
     rc=$?
 }
-nlines() { wc -l <"$1" | tr -d ' '; }
 
 # ---- JSON parsing and comparisons, in Python ------------------------------------------
 cat >check.py <<'EOF'

@@ -14,44 +14,14 @@
 # picture (200, 60, 200), table (40, 100, 170); tint opacity 70/255; the page's gray g is
 # shown as 150 + round(105 g / 255).
 
-srcdir=$(cd "${top_srcdir:-.}" && pwd) || exit 1
-builddir=$(cd "${top_builddir:-.}" && pwd) || exit 1
-python=${PYTHON3:-/usr/bin/python3}
-lineate="$builddir/lineate"
-page="$srcdir/testdata/newsletter.png" # 2550 x 3300 pixels, 300 dpi, two columns
-
-if [ ! -x "$lineate" ]; then
-    echo "FAIL: $lineate not found or not executable (build it with make)"
-    exit 1
-fi
-if ! "$python" -c 'import PIL.Image, numpy' >/dev/null 2>&1; then
-    echo "SKIP: $python lacks PIL or numpy (Debian: python3-pil, python3-numpy)"
-    exit 77
-fi
-
-work=$(mktemp -d "${TMPDIR:-/tmp}/draw.XXXXXX") || exit 1
-trap 'rm -rf "$work"' EXIT
-trap 'exit 1' INT TERM HUP
-cd "$work" || exit 1
-
-limit=""
-if command -v timeout >/dev/null 2>&1; then limit="timeout 120"; fi
-
-passed=0
-failed=0
-pass() { passed=$((passed + 1)); echo "ok: $1"; }
-fail() { failed=$((failed + 1)); echo "FAIL: $1"; }
-check() {
-    what=$1
-    shift
-    if "$@"; then pass "$what"; else fail "$what"; fi
-}
+test_name=draw test_modules="PIL.Image, numpy" test_timeout=120
+. "$(cd "${top_srcdir:-.}" && pwd)/tests/harness.sh"
+page="$testdata/newsletter.png" # 2550 x 3300 pixels, 300 dpi, two columns
 # draw ARGS...: runs lineate draw, stdout to out, stderr to err, status in $rc.
 draw() {
     $limit "$lineate" draw "$@" >out 2>err
     rc=$?
 }
-nlines() { wc -l <"$1" | tr -d ' '; }
 
 cat >check.py <<'EOF'
 import json, sys
