@@ -371,7 +371,7 @@ static int print_text(const results *r, int per_page, double *scratch)
         for (int c = 1; c <= LT_SCORE_MAX_COLUMNS; c++) {
             summarize(r, variants[v], c, scratch, &s);
             if (s.pages == 0) continue;
-            snprintf(title, sizeof title, "variant %.140s, %d column%s", variants[v], c,
+            snprintf(title, sizeof title, "variant %.120s, %d column%s", variants[v], c,
                      c == 1 ? "" : "s");
             print_summary(title, &s);
         }
@@ -513,7 +513,7 @@ static int print_json(const results *r, int per_page, const char *truth, const c
             for (int c = 1; c <= LT_SCORE_MAX_COLUMNS && !bad; c++) {
                 summarize(r, variants[v], c, scratch, &s);
                 if (s.pages == 0) continue;
-                char key[8];
+                char key[16];
                 snprintf(key, sizeof key, "%d", c);
                 cJSON *co = summary_json(&s);
                 bad |= !co;

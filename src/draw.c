@@ -579,7 +579,8 @@ static int draw_legend(const ctx *x, const lt_draw_layout *lay, int show_order)
             wrap_rows(rows, &n, LEGEND_MAX_ROWS, lay->reasons[i], LEGEND_INNER_CHARS - 2, 0);
             for (int k = before; k < n; k++) { /* "- " before the first line, "  " after */
                 char tmp[LEGEND_INNER_CHARS + 1];
-                snprintf(tmp, sizeof tmp, "%s%s", k == before ? "- " : "  ", rows[k].text);
+                snprintf(tmp, sizeof tmp, "%s%.*s", k == before ? "- " : "  ",
+                         LEGEND_INNER_CHARS - 2, rows[k].text);
                 memcpy(rows[k].text, tmp, sizeof tmp);
             }
         }
