@@ -156,8 +156,7 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     if (rc) goto done;
     rc = lt_xy_cut(raw, comps, res->text_height_px, params, &tree, err);
     if (rc) goto done;
-    rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->width, page->height, &arr,
-                    err);
+    rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->height, &arr, err);
     if (rc) goto done;
     if (assemble(res, raw, arr, comps, &frame)) rc = lt_error_set(err, LT_ENOMEM, "out of memory");
 done:

@@ -125,8 +125,8 @@ static inline int lt_role_is_head_or_foot(int role)
 /* Sets the role of every block (see LT_ROLE_*) from its place on the page, its size and
  * type size, and the pictures, tables and rules around it (`c` and `tables` may be NULL). */
 void lt_assign_roles(lt_raw_block *blocks, int nblocks, const lt_raw_lines *lines,
-                     const lt_components *c, const lt_tables *tables, double th, int page_w,
-                     int page_h, int rtl);
+                     const lt_components *c, const lt_tables *tables, double th, int page_h,
+                     int rtl);
 
 /* The text of a page arranged: blocks in reading order and the lines in reading order. */
 typedef struct lt_arrangement {
@@ -146,8 +146,7 @@ typedef struct lt_arrangement {
  * going to the block the cut tree reads first. Cells of a table are read row by row, as one
  * unit. `c` may be NULL (no tables, no pictures, no rules). */
 int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_components *c,
-               double th, const lt_params *p, int page_w, int page_h, lt_arrangement **out,
-               lt_error *err);
+               double th, const lt_params *p, int page_h, lt_arrangement **out, lt_error *err);
 void lt_arrangement_free(lt_arrangement *a);
 
 #endif

@@ -376,8 +376,7 @@ done:
 }
 
 int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_components *c,
-               double th, const lt_params *p, int page_w, int page_h, lt_arrangement **out,
-               lt_error *err)
+               double th, const lt_params *p, int page_h, lt_arrangement **out, lt_error *err)
 {
     *out = NULL;
     lt_arrangement *a = calloc(1, sizeof *a);
@@ -402,7 +401,7 @@ int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_comp
             if (cx >= tb->left && cx < tb->right && cy >= tb->top && cy < tb->bottom) b->table = t;
         }
     }
-    lt_assign_roles(tree_blocks, n, lines, c, &a->tables, th, page_w, page_h, p->right_to_left);
+    lt_assign_roles(tree_blocks, n, lines, c, &a->tables, th, page_h, p->right_to_left);
     if (order_blocks(tree_blocks, n, &a->tables, page_h, p->right_to_left, th, seq,
                      &a->order_doubts))
         goto fail;

@@ -137,9 +137,8 @@ static int list_like(const lt_raw_block *b, const lt_raw_lines *lines, double th
 }
 
 void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt_components *c,
-                     const lt_tables *tables, double th, int page_w, int page_h, int rtl)
+                     const lt_tables *tables, double th, int page_h, int rtl)
 {
-    (void)page_w;
     if (n == 0) return;
     const lt_box area = text_area(b, n);
     const double body_x = body_xheight(b, n, lines, th);

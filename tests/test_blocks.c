@@ -72,13 +72,12 @@ static void check_page(const page *p, uint64_t seed, const char *what)
         free(raw.items);
         return;
     }
-    int page_w = 0, page_h = 0; /* the page: the lines' hull and a margin of 150 px */
+    int page_h = 0; /* the page: the lines' hull and a margin of 150 px */
     for (int i = 0; i < p->n; i++) {
-        if (p->lines[i].box.right + 150 > page_w) page_w = p->lines[i].box.right + 150;
         if (p->lines[i].box.bottom + 150 > page_h) page_h = p->lines[i].box.bottom + 150;
     }
     lt_arrangement *arr = NULL;
-    if (lt_arrange(root, &raw, NULL, TH, &prm, page_w, page_h, &arr, &err)) {
+    if (lt_arrange(root, &raw, NULL, TH, &prm, page_h, &arr, &err)) {
         tu_fail("%s: lt_arrange: %s", what, err.message);
         lt_cut_node_free(root);
         free(raw.items);
@@ -218,7 +217,7 @@ static void test_empty(void)
     CHECK_INT(lt_xy_cut(&raw, NULL, TH, &prm, &root, &err), 0, "empty page: lt_xy_cut");
     CHECK(root == NULL, "empty page: tree not NULL");
     lt_arrangement *arr = NULL;
-    CHECK_INT(lt_arrange(NULL, &raw, NULL, TH, &prm, 1000, 1000, &arr, &err), 0,
+    CHECK_INT(lt_arrange(NULL, &raw, NULL, TH, &prm, 1000, &arr, &err), 0,
               "empty page: lt_arrange");
     CHECK(arr && arr->nblocks == 0 && arr->nlines == 0, "empty page: blocks or lines");
     lt_arrangement_free(arr);

@@ -117,9 +117,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     stage_ms[ST_LINES] += t_next - t;
     t = t_next;
     if ((rc = lt_xy_cut(raw, comps, text_height_px, p, &tree, err))) goto done;
-    if ((rc =
-             lt_arrange(tree, raw, comps, text_height_px, p, page->width, page->height, &arr, err)))
-        goto done;
+    if ((rc = lt_arrange(tree, raw, comps, text_height_px, p, page->height, &arr, err))) goto done;
     *nblocks = arr->nblocks;
     *nlines = raw->count;
     stage_ms[ST_BLOCKS] += now_ms() - t;
