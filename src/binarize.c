@@ -12,9 +12,10 @@
 /* Ink decision without a square root: g < m(1-k) + (m k / R) s holds when the left part
  * a = g - m(1-k) is negative, or else when a^2 < (m k / R)^2 * variance. */
 static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
-                             double k_over_r)
+                             double k_over_r, int paper_above_mean)
 {
     double m = sum * inv_n;
+    if (paper_above_mean && g > m) return 0; /* T <= m when s <= R: most of a page */
     double a = g - m * (1.0 - k);
     if (a <= 0) return 1;
     double var = sumsq * inv_n - m * m;
@@ -27,12 +28,13 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
                 lt_error *err)
 {
     *ink = NULL;
-    if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || r <= 0 || k < 0)
+    if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || window_px > LT_MAX_WINDOW_PX ||
+        r <= 0 || k < 0)
         return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
     const int w = gray->width, h = gray->height, half = window_px / 2;
     lt_image *out = lt_image_new(w, h, LT_IMAGE_INK);
     uint32_t *colsum = calloc((size_t)w, sizeof *colsum);
-    uint64_t *colsq = calloc((size_t)w, sizeof *colsq);
+    uint32_t *colsq = calloc((size_t)w, sizeof *colsq); /* <= 65535 rows x 255^2 < 2^32 */
     if (!out || !colsum || !colsq) {
         lt_image_free(out);
         free(colsum);
@@ -41,6 +43,9 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
     }
     out->dpi = gray->dpi;
     const double k_over_r = k / r;
+    /* The deviation of 8-bit values is at most 127.5, so with R >= 127.5 the threshold never
+     * exceeds the mean, and a pixel above the mean is paper. */
+    const int paper_above_mean = r >= 127.5;
     /* Column sums hold rows [y - half, y + half] clipped; start with rows [0, half). */
     for (int y = 0; y < half && y < h; y++) {
         const uint8_t *row = gray->pixels + (size_t)y * w;
@@ -85,7 +90,8 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
             }
             int cols = (right < w ? right : w - 1) - (left + 1 > 0 ? left + 1 : 0) + 1;
             double inv_n = 1.0 / ((double)rows * cols);
-            dst[x] = is_ink(src[x], (double)sum, (double)sumsq, inv_n, k, k_over_r);
+            dst[x] =
+                is_ink(src[x], (double)sum, (double)sumsq, inv_n, k, k_over_r, paper_above_mean);
         }
     }
     free(colsum);

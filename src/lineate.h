@@ -211,7 +211,9 @@ char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, i
 /* Sauvola & Pietikäinen (2000) with running window sums: ink where
  * gray <= m * (1 + k * (s / R - 1)), m and s the mean and standard deviation of the
  * neighbourhood of pixels at most window_px / 2 away (an even window acts as window_px + 1),
- * clipped to the image. A flat black area is ink. O(pixels), any window. */
+ * clipped to the image. A flat black area is ink. O(pixels) for any window up to
+ * LT_MAX_WINDOW_PX. */
+#define LT_MAX_WINDOW_PX 65535
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                 lt_error *err);
 
