@@ -241,10 +241,14 @@ static void test_bad_arguments(void)
         double k, r;
         const char *what;
     } cases[] = {
-        {NULL, 15, 0.34, 128, "NULL image"}, {inkimg, 15, 0.34, 128, "ink image as input"},
-        {g, 0, 0.34, 128, "window 0"},       {g, -3, 0.34, 128, "negative window"},
-        {g, 15, 0.34, 0, "R = 0"},           {g, 15, 0.34, -128, "negative R"},
+        {NULL, 15, 0.34, 128, "NULL image"},
+        {inkimg, 15, 0.34, 128, "ink image as input"},
+        {g, 0, 0.34, 128, "window 0"},
+        {g, -3, 0.34, 128, "negative window"},
+        {g, 15, 0.34, 0, "R = 0"},
+        {g, 15, 0.34, -128, "negative R"},
         {g, 15, -0.1, 128, "negative k"},
+        {g, LT_MAX_WINDOW_PX + 1, 0.34, 128, "window too large"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
         lt_error err = {0};
