@@ -6,15 +6,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Sauvola window of about 0.17 inch: a few text lines high, wide enough to see paper around
- * the strokes (common practice: 15..60 px at 200..400 dpi). Odd. */
-static int auto_window(double dpi)
-{
-    int w = (int)lround(0.17 * dpi);
-    if (w < 15) w = 15;
-    return w | 1;
-}
-
 /* A box frame: a large component with little ink for its box (under 15 %) around text lines.
  * It is made of rules and reported as one, not as a picture. */
 static int is_frame(const lt_component *c, const lt_raw_lines *raw)
@@ -122,8 +113,7 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     /* 1. Binarize (1-bit input is used as it is). */
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
-        int window =
-            params->sauvola_window_px > 0 ? params->sauvola_window_px : auto_window(res->dpi);
+        int window = lt_sauvola_window_px(params, res->dpi);
         rc = lt_binarize(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
         if (rc) goto done;
         ink = ink_own;

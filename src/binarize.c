@@ -6,6 +6,7 @@
  * proportional to the width only. */
 #include "internal.h"
 
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -22,6 +23,14 @@ static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, d
     if (var <= 0) return 0;
     double b = m * k_over_r;
     return a * a < b * b * var;
+}
+
+int lt_sauvola_window_px(const lt_params *p, double dpi)
+{
+    if (p && p->sauvola_window_px > 0) return p->sauvola_window_px;
+    int w = (int)lround(0.17 * dpi);
+    if (w < 15) w = 15;
+    return w | 1;
 }
 
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,

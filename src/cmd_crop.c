@@ -406,14 +406,8 @@ static int crop_source(const crop_options *opt, const lt_image *img, double dpi,
 {
     *out = NULL;
     if (img->kind == LT_IMAGE_INK) return lt_ink_to_gray(img, out, err); /* 1-bit: used as is */
-    if (!opt->binary) return 0; /* the decoded page itself */
-    /* The analyser's window: 0.17 inch at the page's resolution, odd, at least 15 px. */
-    int window = opt->params.sauvola_window_px;
-    if (window <= 0) {
-        window = (int)lround(0.17 * dpi);
-        if (window < 15) window = 15;
-        window |= 1;
-    }
+    if (!opt->binary) return 0;                           /* the decoded page itself */
+    int window = lt_sauvola_window_px(&opt->params, dpi); /* the analyser's window */
     lt_image *ink = NULL;
     int rc = lt_binarize(img, window, opt->params.sauvola_k, opt->params.sauvola_r, &ink, err);
     if (rc == 0) rc = lt_ink_to_gray(ink, out, err);

@@ -214,6 +214,11 @@ char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, i
  * clipped to the image. A flat black area is ink. O(pixels) for any window up to
  * LT_MAX_WINDOW_PX. */
 #define LT_MAX_WINDOW_PX 65535
+
+/* The Sauvola window lt_analyze uses for a page of `dpi`: p->sauvola_window_px when set, else
+ * about 0.17 inch (a few text lines high, wide enough to see paper around the strokes; common
+ * practice: 15..60 px at 200..400 dpi), at least 15 px, odd. */
+int lt_sauvola_window_px(const lt_params *p, double dpi);
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                 lt_error *err);
 

@@ -36,7 +36,7 @@ static lt_image *to_ink(lt_image *img)
     if (img->kind == LT_IMAGE_INK) return img;
     lt_error err = {0};
     lt_image *ink = NULL;
-    int window = (int)(0.17 * (img->dpi > 0 ? img->dpi : 300)) | 1;
+    int window = lt_sauvola_window_px(NULL, img->dpi > 0 ? img->dpi : 300);
     if (lt_binarize(img, window, 0.34, 128, &ink, &err)) {
         fprintf(stderr, "tool_stage: %s\n", err.message);
         exit(1);
@@ -57,14 +57,6 @@ enum { ST_DECODE, ST_BINARIZE, ST_SKEW, ST_ROTATE, ST_COMPONENTS, ST_LINES, ST_B
 static const char *const stage_names[ST_COUNT] = {"decode",     "binarize", "skew",  "rotate",
                                                   "components", "lines",    "blocks"};
 
-/* Same rule as auto_window in src/analyze.c: 0.17 inch, at least 15 px, odd. */
-static int window_for(double dpi)
-{
-    int w = (int)lround(0.17 * dpi);
-    if (w < 15) w = 15;
-    return w | 1;
-}
-
 /* One pass of the pipeline of lt_analyze (src/analyze.c), stage by stage with the same
  * parameters, adding each stage's time in ms to stage_ms[] (the decode is not timed here).
  * "components" includes the text height and the classification; "blocks" is the XY-cut and
@@ -83,7 +75,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     double t = now_ms(), t_next;
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
-        int window = p->sauvola_window_px > 0 ? p->sauvola_window_px : window_for(dpi);
+        int window = lt_sauvola_window_px(p, dpi);
         if ((rc = lt_binarize(img, window, p->sauvola_k, p->sauvola_r, &ink_own, err))) goto done;
         ink = ink_own;
     }
