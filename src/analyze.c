@@ -114,7 +114,7 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(params, res->dpi);
-        rc = lt_binarize(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
+        rc = lt_binarize_sampled(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
         if (rc) goto done;
         ink = ink_own;
     }

@@ -11,50 +11,42 @@
 #include <string.h>
 
 /* Ink decision without a square root: g < m(1-k) + (m k / R) s holds when the left part
- * a = g - m(1-k) is negative, or else when a^2 < (m k / R)^2 * variance. */
+ * a = g - m(1-k) is negative, or else when a^2 < (m k / R)^2 * variance. Written without
+ * branches (the answer for paper just above or below the mean is a coin toss, which a branch
+ * predictor cannot learn); a pixel above the mean fails both tests, as T <= m when s <= R. */
 static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
-                             double k_over_r, int paper_above_mean)
+                             double k_over_r)
 {
     double m = sum * inv_n;
-    if (paper_above_mean && g > m) return 0; /* T <= m when s <= R: most of a page */
     double a = g - m * (1.0 - k);
-    if (a <= 0) return 1;
     double var = sumsq * inv_n - m * m;
-    if (var <= 0) return 0;
     double b = m * k_over_r;
-    return a * a < b * b * var;
+    return (uint8_t)((a <= 0) | (a * a < b * b * var));
 }
 
 int lt_sauvola_window_px(const lt_params *p, double dpi)
 {
     if (p && p->sauvola_window_px > 0) return p->sauvola_window_px;
-    int w = (int)lround(0.17 * dpi);
-    if (w < 15) w = 15;
-    return w | 1;
+    int thirds = (int)lround(0.17 * dpi / 3.0) | 1; /* odd */
+    return thirds < 5 ? 15 : 3 * thirds;
 }
 
-int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
-                lt_error *err)
+/* Sauvola's threshold at every pixel, from running column sums and running sums along the
+ * row. */
+static int binarize_exact(const lt_image *gray, int window_px, double k, double r, lt_image *out)
 {
-    *ink = NULL;
-    if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || window_px > LT_MAX_WINDOW_PX ||
-        r <= 0 || k < 0)
-        return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
     const int w = gray->width, h = gray->height, half = window_px / 2;
-    lt_image *out = lt_image_new(w, h, LT_IMAGE_INK);
     uint32_t *colsum = calloc((size_t)w, sizeof *colsum);
     uint32_t *colsq = calloc((size_t)w, sizeof *colsq); /* <= 65535 rows x 255^2 < 2^32 */
-    if (!out || !colsum || !colsq) {
-        lt_image_free(out);
-        free(colsum);
-        free(colsq);
-        return lt_error_set(err, LT_ENOMEM, "binarize: out of memory");
-    }
-    out->dpi = gray->dpi;
+    double *winsum = malloc((size_t)w * sizeof *winsum), *winsq = malloc((size_t)w * sizeof *winsq);
+    double *inv_cols = malloc((size_t)w * sizeof *inv_cols);
+    int rc = LT_ENOMEM;
+    if (!colsum || !colsq || !winsum || !winsq || !inv_cols) goto done;
     const double k_over_r = k / r;
-    /* The deviation of 8-bit values is at most 127.5, so with R >= 127.5 the threshold never
-     * exceeds the mean, and a pixel above the mean is paper. */
-    const int paper_above_mean = r >= 127.5;
+    for (int x = 0; x < w; x++) {
+        int right = x + half < w ? x + half : w - 1, left = x - half > 0 ? x - half : 0;
+        inv_cols[x] = 1.0 / (right - left + 1);
+    }
     /* Column sums hold rows [y - half, y + half] clipped; start with rows [0, half). */
     for (int y = 0; y < half && y < h; y++) {
         const uint8_t *row = gray->pixels + (size_t)y * w;
@@ -80,8 +72,8 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
             }
         }
         const int rows = (add < h ? add : h - 1) - (drop + 1 > 0 ? drop + 1 : 0) + 1;
-        const uint8_t *src = gray->pixels + (size_t)y * w;
-        uint8_t *dst = out->pixels + (size_t)y * w;
+        const double inv_rows = 1.0 / rows;
+        /* Window sums along the row (a serial chain), then the decisions (independent). */
         int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
         for (int x = 0; x < half && x < w; x++) {
             sum += colsum[x];
@@ -97,14 +89,175 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
                 sum -= colsum[left];
                 sumsq -= colsq[left];
             }
-            int cols = (right < w ? right : w - 1) - (left + 1 > 0 ? left + 1 : 0) + 1;
-            double inv_n = 1.0 / ((double)rows * cols);
-            dst[x] =
-                is_ink(src[x], (double)sum, (double)sumsq, inv_n, k, k_over_r, paper_above_mean);
+            winsum[x] = (double)sum;
+            winsq[x] = (double)sumsq;
         }
+        const uint8_t *src = gray->pixels + (size_t)y * w;
+        uint8_t *dst = out->pixels + (size_t)y * w;
+        for (int x = 0; x < w; x++)
+            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, k_over_r);
     }
+    rc = 0;
+done:
     free(colsum);
     free(colsq);
+    free(winsum);
+    free(winsq);
+    free(inv_cols);
+    return rc;
+}
+
+/* Side of the tiles of binarize_sampled (odd, so that a tile has a centre pixel). */
+#define TILE 3
+
+/* Sauvola's threshold computed exactly at the centre pixel of every TILE x TILE tile, where a
+ * window that is an odd number of tiles wide is a whole number of tiles, from tile sums; for
+ * the pixels in between it is interpolated bilinearly from the four nearest tile centres. The
+ * threshold is a statistic of a wide window and varies slowly across the page, so the
+ * interpolation moves it by a small fraction of a gray level while the window sums and square
+ * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold. */
+static int binarize_sampled(const lt_image *gray, int window_px, double k, double r,
+                            lt_image *out)
+{
+    const int w = gray->width, h = gray->height, centre = TILE / 2;
+    const int gw = (w + TILE - 1) / TILE, gh = (h + TILE - 1) / TILE;
+    const int reach = window_px / TILE / 2; /* tiles on each side of the centre tile */
+    const size_t tiles = (size_t)gw * gh;
+    uint32_t *tsum = calloc(tiles, sizeof *tsum), *tsq = calloc(tiles, sizeof *tsq);
+    int32_t *thr = malloc(tiles * sizeof *thr), *row_thr = malloc((size_t)gw * sizeof *row_thr);
+    uint64_t *colsum = calloc((size_t)gw, sizeof *colsum), *colsq = calloc((size_t)gw, sizeof *colsq);
+    double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
+    int rc = LT_ENOMEM;
+    if (!tsum || !tsq || !thr || !row_thr || !colsum || !colsq || !inv_cols) goto done;
+    const double k_over_r = k / r;
+    for (int tx = 0; tx < gw; tx++) {
+        const int left = (tx - reach) * TILE, right = (tx + reach + 1) * TILE;
+        inv_cols[tx] = 1.0 / ((right < w ? right : w) - (left > 0 ? left : 0));
+    }
+
+    /* 1. Tile sums of the gray values and of their squares. */
+    for (int y = 0; y < h; y++) {
+        const uint8_t *src = gray->pixels + (size_t)y * w;
+        uint32_t *ts = tsum + (size_t)(y / TILE) * gw, *tq = tsq + (size_t)(y / TILE) * gw;
+        int x = 0, t = 0;
+        for (; x + TILE <= w; x += TILE, t++) {
+            const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
+            ts[t] += a + b + c;
+            tq[t] += a * a + b * b + c * c;
+        }
+        for (; x < w; x++) {
+            ts[t] += src[x];
+            tq[t] += (uint32_t)src[x] * src[x];
+        }
+    }
+    /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
+     * the image, from column sums that slide down the tile rows. */
+    for (int ty = 0; ty < reach && ty < gh; ty++)
+        for (int t = 0; t < gw; t++) {
+            colsum[t] += tsum[(size_t)ty * gw + t];
+            colsq[t] += tsq[(size_t)ty * gw + t];
+        }
+    for (int ty = 0; ty < gh; ty++) {
+        const int add = ty + reach, drop = ty - reach - 1;
+        if (add < gh)
+            for (int t = 0; t < gw; t++) {
+                colsum[t] += tsum[(size_t)add * gw + t];
+                colsq[t] += tsq[(size_t)add * gw + t];
+            }
+        if (drop >= 0)
+            for (int t = 0; t < gw; t++) {
+                colsum[t] -= tsum[(size_t)drop * gw + t];
+                colsq[t] -= tsq[(size_t)drop * gw + t];
+            }
+        const int top = (ty - reach) * TILE, bottom = (ty + reach + 1) * TILE;
+        const double inv_rows = 1.0 / ((bottom < h ? bottom : h) - (top > 0 ? top : 0));
+        uint64_t sum = 0, sumsq = 0;
+        for (int t = 0; t < reach && t < gw; t++) {
+            sum += colsum[t];
+            sumsq += colsq[t];
+        }
+        for (int tx = 0; tx < gw; tx++) {
+            if (tx + reach < gw) {
+                sum += colsum[tx + reach];
+                sumsq += colsq[tx + reach];
+            }
+            if (tx - reach - 1 >= 0) {
+                sum -= colsum[tx - reach - 1];
+                sumsq -= colsq[tx - reach - 1];
+            }
+            const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
+            const double var = (double)sumsq * inv_n - m * m;
+            double t = m * (1.0 - k + k_over_r * (var > 0 ? sqrt(var) : 0));
+            t = t < -1 ? -1 : t > 256 ? 256 : t; /* beyond every gray value either way */
+            thr[(size_t)ty * gw + tx] = (int32_t)(t * 65536.0 + 65536.0) - 65536; /* floor */
+        }
+    }
+    /* 3. Every pixel against the threshold interpolated from the tile centres around it (held
+     * constant beyond the outermost centres). */
+    for (int y = 0; y < h; y++) {
+        int ty = y < centre ? 0 : (y - centre) / TILE, j = y < centre ? 0 : (y - centre) % TILE;
+        if (ty >= gh - 1) ty = gh - 1, j = 0;
+        const int32_t *above = thr + (size_t)ty * gw, *below = j ? above + gw : above;
+        for (int t = 0; t < gw; t++) /* thresholds x TILE */
+            row_thr[t] = above[t] * (TILE - j) + below[t] * j;
+        const uint8_t *src = gray->pixels + (size_t)y * w;
+        uint8_t *dst = out->pixels + (size_t)y * w;
+        /* Gray values and thresholds both x TILE^2, in 16.16 fixed point (< 2^31). */
+        const int32_t unit = TILE * TILE << 16;
+        int x = 0;
+        for (; x < centre && x < w; x++)
+            dst[x] = src[x] * unit <= row_thr[0] * TILE;
+        for (int t = 0; t + 1 < gw && x + TILE <= w; t++, x += TILE) {
+            const int32_t t0 = row_thr[t], t1 = row_thr[t + 1];
+            dst[x] = src[x] * unit <= t0 * TILE;
+            dst[x + 1] = src[x + 1] * unit <= 2 * t0 + t1;
+            dst[x + 2] = src[x + 2] * unit <= t0 + 2 * t1;
+        }
+        for (; x < w; x++) /* beyond the last centre, or the last tiles' partial pixels */
+            dst[x] = src[x] * unit <= row_thr[x / TILE < gw ? x / TILE : gw - 1] * TILE;
+    }
+    rc = 0;
+done:
+    free(tsum);
+    free(tsq);
+    free(thr);
+    free(row_thr);
+    free(colsum);
+    free(colsq);
+    free(inv_cols);
+    return rc;
+}
+
+static int binarize(const lt_image *gray, int window_px, double k, double r, int sampled,
+                    lt_image **ink, lt_error *err)
+{
+    *ink = NULL;
+    if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || window_px > LT_MAX_WINDOW_PX ||
+        r <= 0 || k < 0)
+        return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
+    lt_image *out = lt_image_new(gray->width, gray->height, LT_IMAGE_INK);
+    if (!out) return lt_error_set(err, LT_ENOMEM, "binarize: out of memory");
+    out->dpi = gray->dpi;
+    /* Sampling needs a window of whole tiles, odd, and wide against a tile (9 tiles at least). */
+    sampled = sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE;
+    int rc = sampled ? binarize_sampled(gray, window_px, k, r, out)
+                     : binarize_exact(gray, window_px, k, r, out);
+    if (rc) {
+        lt_image_free(out);
+        return lt_error_set(err, rc, "binarize: out of memory");
+    }
     *ink = out;
     return 0;
+}
+
+int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
+                lt_error *err)
+{
+    return binarize(gray, window_px, k, r, 0, ink, err);
+}
+
+int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
+                        lt_error *err)
+{
+    return binarize(gray, window_px, k, r, 1, ink, err);
 }

@@ -5,10 +5,26 @@
 #include "internal.h"
 
 #include <stdlib.h>
+#include <string.h>
 
 typedef struct run {
     int x0, x1, y; /* pixels [x0, x1) of row y */
 } run;
+
+/* The first index from x on in row[0, w) whose byte is not `value` (0 or 1), or w. Eight bytes
+ * at a time while they all are `value`: most of a page is long stretches of paper. */
+static inline int skip_bytes(const uint8_t *row, int x, int w, uint8_t value)
+{
+    const uint64_t all = value ? 0x0101010101010101u : 0;
+    for (; x + 8 <= w; x += 8) {
+        uint64_t v;
+        memcpy(&v, row + x, 8);
+        if (v != all) break;
+    }
+    while (x < w && row[x] == value)
+        x++;
+    return x;
+}
 
 /* Appends the runs of every row; row_start[y] is the index of row y's first run. */
 static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *row_start)
@@ -22,12 +38,10 @@ static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *ro
         const uint8_t *row = ink->pixels + (size_t)y * w;
         int x = 0;
         while (x < w) {
-            while (x < w && !row[x])
-                x++;
+            x = skip_bytes(row, x, w, 0);
             if (x == w) break;
             int x0 = x;
-            while (x < w && row[x])
-                x++;
+            x = skip_bytes(row, x, w, 1);
             if (n == cap) {
                 if (cap > (size_t)1 << 30) {
                     free(runs);

@@ -11,7 +11,7 @@
 
 typedef struct cell {
     float x, y; /* centre relative to the grid centre, full-resolution pixels */
-    float weight;
+    int32_t weight;
 } cell;
 
 typedef struct cells {
@@ -25,21 +25,34 @@ typedef struct grid {
     uint16_t *count;
 } grid;
 
-/* Grid of 2x2 tile counts of the ink image. */
+/* Grid of 2x2 tile counts of the ink image (whose pixels are 0 or 1): the two rows of a tile
+ * are added a machine word at a time (each byte then at most 2), and the two bytes of a tile
+ * are summed by one multiplication. */
 static int grid_from_ink(const lt_image *ink, grid *g)
 {
+    const int w = ink->width, h = ink->height;
     g->factor = 2;
-    g->width = (ink->width + 1) / 2;
-    g->height = (ink->height + 1) / 2;
+    g->width = (w + 1) / 2;
+    g->height = (h + 1) / 2;
     g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
     if (!g->count) return LT_ENOMEM;
-    for (int y = 0; y < ink->height; y++) {
-        const uint8_t *row = ink->pixels + (size_t)y * ink->width;
+    const int pairs = w / 2; /* tiles with two columns */
+    for (int y = 0; y < h; y++) {
+        const uint8_t *row = ink->pixels + (size_t)y * w;
         uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
-        int x = 0;
-        for (; x + 1 < ink->width; x += 2)
-            dst[x / 2] += row[x] + row[x + 1];
-        if (x < ink->width) dst[x / 2] += row[x];
+        int t = 0;
+        for (; t + 4 <= pairs; t += 4) { /* four tiles from one 64-bit word */
+            uint64_t v;
+            memcpy(&v, row + 2 * t, 8);
+            v = (v + (v >> 8)) & 0x00ff00ff00ff00ffu; /* byte pairs summed, in 16-bit lanes */
+            dst[t] += (uint16_t)(v & 0xffff);
+            dst[t + 1] += (uint16_t)((v >> 16) & 0xffff);
+            dst[t + 2] += (uint16_t)((v >> 32) & 0xffff);
+            dst[t + 3] += (uint16_t)(v >> 48);
+        }
+        for (; t < pairs; t++)
+            dst[t] += (uint16_t)(row[2 * t] + row[2 * t + 1]);
+        if (w % 2) dst[pairs] += row[w - 1];
     }
     return 0;
 }
@@ -47,16 +60,21 @@ static int grid_from_ink(const lt_image *ink, grid *g)
 /* Grid halved in both directions (tile sums). */
 static int grid_halve(const grid *src, grid *g)
 {
+    const int w = src->width, h = src->height;
     g->factor = src->factor * 2;
-    g->width = (src->width + 1) / 2;
-    g->height = (src->height + 1) / 2;
-    g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
+    g->width = (w + 1) / 2;
+    g->height = (h + 1) / 2;
+    g->count = malloc((size_t)g->width * g->height * sizeof *g->count);
     if (!g->count) return LT_ENOMEM;
-    for (int y = 0; y < src->height; y++) {
-        const uint16_t *row = src->count + (size_t)y * src->width;
-        uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
-        for (int x = 0; x < src->width; x++)
-            dst[x / 2] += row[x];
+    for (int gy = 0; gy < g->height; gy++) {
+        const uint16_t *r0 = src->count + (size_t)(2 * gy) * w;
+        const uint16_t *r1 = 2 * gy + 1 < h ? r0 + w : NULL;
+        uint16_t *dst = g->count + (size_t)gy * g->width;
+        for (int x = 0; x < w; x += 2) {
+            unsigned v = r0[x] + (x + 1 < w ? r0[x + 1] : 0u);
+            if (r1) v += r1[x] + (x + 1 < w ? r1[x + 1] : 0u);
+            dst[x / 2] = (uint16_t)v;
+        }
     }
     return 0;
 }
@@ -89,27 +107,40 @@ static int cells_from_grid(const grid *g, cells *out)
 }
 
 /* Sharpness of the projection at angle_deg: sum of squared differences of adjacent bins of height
- * bin_px of the ink rotated by -angle_deg. `profile` has room for nbins bins. */
+ * bin_px of the ink rotated by -angle_deg. `profile` (nbins bins) is left holding the
+ * projection, in units of 1/256 of an ink pixel. */
 static double sharpness(const cells *c, double angle_deg, double bin_px, int interpolate,
-                        float *profile, int nbins)
+                        int32_t *profile, int nbins)
 {
     const double a = angle_deg * LT_PI / 180.0;
-    const float s = (float)(sin(a) / bin_px), co = (float)(cos(a) / bin_px);
-    const float offset = (float)(nbins / 2);
+    /* Positions in bins, in 24.8 fixed point. */
+    const float s = (float)(256.0 * sin(a) / bin_px), co = (float)(256.0 * cos(a) / bin_px);
+    const float offset = (float)(256 * (nbins / 2));
+    const int32_t frac_mask = interpolate ? 255 : 0;
     memset(profile, 0, (size_t)nbins * sizeof *profile);
     /* With `interpolate`, each cell is shared linearly between its two nearest bins, so that
-     * the criterion varies smoothly with the angle instead of in steps of one bin. */
+     * the criterion varies smoothly with the angle instead of in steps of one bin. The cells
+     * come row by row, and along a row the bin changes only every few cells: the shares are
+     * summed in registers while it stays, and added to the profile when it moves on. */
+    int32_t bin = 0, low = 0, high = 0;
     for (int i = 0; i < c->count; i++) {
         const cell *p = &c->items[i];
-        float pos = p->x * s + p->y * co + offset;
-        int b = (int)pos;
-        float frac = interpolate ? pos - (float)b : 0.0f;
-        profile[b] += p->weight * (1.0f - frac);
-        profile[b + 1] += p->weight * frac;
+        const int32_t pos = (int32_t)(p->x * s + p->y * co + offset);
+        const int32_t b = pos >> 8, frac = pos & frac_mask;
+        if (b != bin) {
+            profile[bin] += low;
+            profile[bin + 1] += high;
+            bin = b;
+            low = high = 0;
+        }
+        low += p->weight * (256 - frac);
+        high += p->weight * frac;
     }
+    profile[bin] += low;
+    profile[bin + 1] += high;
     double sum = 0;
     for (int b = 0; b + 1 < nbins; b++) {
-        double d = (double)profile[b + 1] - profile[b];
+        double d = (double)(profile[b + 1] - profile[b]);
         sum += d * d;
     }
     return sum;
@@ -119,7 +150,7 @@ static double sharpness(const cells *c, double angle_deg, double bin_px, int int
  * (under 15% of the mean bin): the white between text lines. Structureless ink (noise,
  * halftone) has none, whatever its projection's sharpness. `profile` holds the last profile
  * computed by sharpness(). */
-static double gap_fraction(const float *profile, int nbins)
+static double gap_fraction(const int32_t *profile, int nbins)
 {
     double total = 0;
     for (int b = 0; b < nbins; b++)
@@ -147,7 +178,7 @@ static double gap_fraction(const float *profile, int nbins)
 /* Best angle in [lo, hi] at `step` (index of the maximum in *best), the criterion of every
  * angle in crit[] (room for the number of steps). */
 static int sweep(const cells *c, double lo, double hi, double step, double bin_px, int interpolate,
-                 float *profile, int nbins, double *crit)
+                 int32_t *profile, int nbins, double *crit)
 {
     int n = (int)floor((hi - lo) / step + 0.5) + 1, best = 0;
     for (int i = 0; i < n; i++) {
@@ -167,9 +198,9 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     if (ink->width < 16 || ink->height < 16) return 0;
     const double diag = hypot(ink->width, ink->height);
     const int nbins = (int)(diag / 2.0) + 8; /* bins of >= 2 px span the diagonal */
-    const double coarse_step = 0.25;
+    const double coarse_step = 0.5;
     const int coarse_n = (int)floor(2 * range_deg / coarse_step + 0.5) + 1;
-    float *profile = malloc((size_t)nbins * sizeof *profile);
+    int32_t *profile = malloc((size_t)nbins * sizeof *profile);
     double *crit = malloc((size_t)(coarse_n + 64) * sizeof *crit);
     double *sorted = malloc((size_t)(coarse_n + 64) * sizeof *sorted);
     grid g2 = {0}, g4 = {0}, g8 = {0};
@@ -194,7 +225,7 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     const struct {
         const cells *c;
         double bin_px, span_deg, step_deg;
-    } stages[] = {{&c4, 4, 0.30, 0.05}, {&c2, 2, 0.06, 0.02}};
+    } stages[] = {{&c4, 4, 0.35, 0.05}, {&c2, 2, 0.06, 0.02}};
     double prev = 0, next = 0, step = coarse_step;
     for (size_t s = 0; s < sizeof stages / sizeof stages[0]; s++) {
         double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;

@@ -1,5 +1,7 @@
 /* tool_stage.c — runs one pipeline stage on an image, for reference tests and benchmarks.
- *   tool_stage binarize IN W K R OUT.pgm   Sauvola ink as PGM (0 = ink, 255 = paper)
+ *   tool_stage binarize IN W K R OUT.pgm [sampled]
+ *                                          Sauvola ink as PGM (0 = ink, 255 = paper), from
+ *                                          lt_binarize, or lt_binarize_sampled with "sampled"
  *   tool_stage skew IN                     prints "angle_deg confidence"
  *   tool_stage components IN              prints "count", then "left top right bottom pixels"
  *   tool_stage time IN [REPEAT]            best-of-REPEAT times in ms of decoding, of each stage
@@ -76,7 +78,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(p, dpi);
-        if ((rc = lt_binarize(img, window, p->sauvola_k, p->sauvola_r, &ink_own, err))) goto done;
+        if ((rc = lt_binarize_sampled(img, window, p->sauvola_k, p->sauvola_r, &ink_own, err))) goto done;
         ink = ink_own;
     }
     t_next = now_ms();
@@ -217,7 +219,9 @@ int main(int argc, char **argv)
     if (argc >= 7 && strcmp(argv[1], "binarize") == 0) {
         lt_image *img = load(argv[2]), *ink = NULL;
         if (img->kind != LT_IMAGE_GRAY) return fprintf(stderr, "tool_stage: not gray\n"), 1;
-        if (lt_binarize(img, atoi(argv[3]), atof(argv[4]), atof(argv[5]), &ink, &err))
+        const int sampled = argc >= 8 && strcmp(argv[7], "sampled") == 0;
+        if ((sampled ? lt_binarize_sampled : lt_binarize)(img, atoi(argv[3]), atof(argv[4]),
+                                                          atof(argv[5]), &ink, &err))
             return fprintf(stderr, "tool_stage: %s\n", err.message), 1;
         int bad = write_pgm(ink, argv[6]);
         lt_image_free(img);
