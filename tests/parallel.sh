@@ -3,8 +3,11 @@
 # run on the local host only (parallel -S :): the input list cut into slices, each slice one
 # `lineate --out-dir OUT --resume --from -` job, the page files merged in input order. Checks
 # that the merge equals, byte for byte, one `lineate -j 1` over the same list, and that a
-# rerun of the recipe skips every page. Exit status: 0 pass, 1 fail, 77 skip (no GNU parallel
-# or no PIL).
+# rerun of the recipe skips every page. Then the variant for hosts without a shared file
+# system (--transferfile / --return / --cleanup, one job per input, resumed from parallel's
+# job log), with two stand-in hosts: a stand-in for ssh that runs each command in a folder of
+# its own per host, so that the inputs and the results really travel through rsync (skipped
+# without rsync). Exit status: 0 pass, 1 fail, 77 skip (no GNU parallel or no PIL).
 #
 # Outside references: GNU parallel (Debian package parallel) cuts the list and runs the jobs;
 # PIL (python3-pil) cuts the test pages and writes the multi-page TIFF. The expected output is
@@ -131,5 +134,67 @@ rm -f "$out"/leaf05.json
 merge_pages "$list" "$out" >/dev/null 2>"$tmp/merge.err"
 check "a missing page file makes the merge fail, naming the input" \
     test $? -ne 0 -a -n "$(grep 'leaf05.png: no page file' "$tmp/merge.err")"
+# ---- the variant without a shared file system (DEVELOPERS.md) -------------------------------
+# Stand-in hosts: "ssh HOST COMMAND" runs COMMAND in $tmp/hosts/HOST, which holds only what
+# parallel copied there with rsync (which it also runs through this ssh).
+if command -v rsync >/dev/null 2>&1; then
+    cat >"$tmp/stand-in-ssh" <<EOF
+#!/bin/sh
+while [ \$# -gt 0 ]; do
+    case "\$1" in -[oplicSOFJ]) shift 2 ;; -*) shift ;; *) break ;; esac
+done
+host=\$1
+shift
+[ "\${1:-}" = "--" ] && shift
+echo "\$host \$*" >>"$tmp/ssh.log"
+mkdir -p "$tmp/hosts/\$host" && cd "$tmp/hosts/\$host" && HOME=\$PWD exec sh -c "\$*"
+EOF
+    chmod +x "$tmp/stand-in-ssh"
+    job=$tmp/job
+    mkdir -p "$job" && ln -s "$tmp/archive" "$job/archive"
+    (cd "$job" && find archive/ -type f | LC_ALL=C sort >list &&
+        "$bin" -j 1 --from list >"$tmp/single-relative.jsonl" 2>/dev/null)
+    n_inputs=$(wc -l <"$job/list")
+    spread() { # the recipe's step, with the stand-in hosts
+        (cd "$job" && parallel --will-cite --ssh "$tmp/stand-in-ssh" -S 2/hostA,2/hostB \
+            --transferfile {} --return {#}.jsonl --cleanup --joblog jobs.log "$@" \
+            "'$bin' -j 1 {} > {#}.jsonl" <list) 2>"$tmp/transfer.err"
+    }
+    merge_numbered() { # the returned files 1.jsonl .. N.jsonl in order
+        i=1
+        while [ "$i" -le "$n_inputs" ]; do
+            cat "$job/$i.jsonl" || return 1
+            i=$((i + 1))
+        done
+    }
+    spread
+    check "transfer: every job succeeded" test $? -eq 0
+    check "transfer: one returned file per input ($n_inputs)" \
+        test "$(find "$job" -name '[0-9]*.jsonl' | wc -l)" -eq "$n_inputs"
+    check "transfer: both stand-in hosts received inputs through rsync" \
+        test "$(grep -c '^hostA rsync --server' "$tmp/ssh.log")" -gt 0 -a \
+        "$(grep -c '^hostB rsync --server' "$tmp/ssh.log")" -gt 0
+    check "transfer: --cleanup left no file on the hosts" \
+        test -d "$tmp/hosts/hostA" -a -z "$(find "$tmp/hosts" -type f)"
+    merge_numbered >"$tmp/merged-transfer.jsonl"
+    check "transfer: merged output equals the single lineate -j 1 run, byte for byte" \
+        cmp "$tmp/single-relative.jsonl" "$tmp/merged-transfer.jsonl"
+    log_lines=$(wc -l <"$tmp/ssh.log")
+    spread --resume
+    check "transfer: a rerun with --resume runs no job" \
+        test $? -eq 0 -a "$(wc -l <"$tmp/ssh.log")" -eq "$log_lines"
+    # A job lost with its host: its result and its job-log line are gone; --resume redoes it.
+    rm -f "$job/3.jsonl"
+    awk -F '\t' '$1 != 3' "$job/jobs.log" >"$job/jobs.log.new" &&
+        mv "$job/jobs.log.new" "$job/jobs.log"
+    spread --resume
+    check "transfer: the rerun after a lost job redoes exactly that job" \
+        test "$(grep -c '^host[AB] exec perl' "$tmp/ssh.log")" -eq $((n_inputs + 1))
+    merge_numbered >"$tmp/merged-transfer2.jsonl"
+    check "transfer: and the merge again equals the single run" \
+        cmp "$tmp/single-relative.jsonl" "$tmp/merged-transfer2.jsonl"
+else
+    echo "skip the transfer variant: rsync missing (package rsync)"
+fi
 echo "parallel: $failed failed"
 [ "$failed" -eq 0 ]
