@@ -1,7 +1,7 @@
 /* batch.c — the analyse command over many inputs: folders are searched for image files, pages
- * are analysed by a pool of worker threads, and the writer emits each input's records in input
- * order, so the output does not depend on the number of threads. At most 2 x jobs inputs are
- * in flight, which bounds memory. With an output folder every page is its own file, written
+ * (of every input, the pages of a multi-page TIFF too) are analysed by a pool of worker threads,
+ * and the writer emits the records in input and page order, so the output does not depend on
+ * the number of threads. At most 2 x jobs pages are in flight, which bounds memory. With an output folder every page is its own file, written
  * under a temporary name and renamed into place; --resume skips pages already complete. */
 #include "batch.h"
 
@@ -364,78 +364,138 @@ void lt_page_message(char *buf, size_t n, const char *name, int page, const char
         snprintf(buf, n, "%s: page %d: %s", name, page, msg);
 }
 
-static void process_input(const lt_input *in, const lt_batch_options *opt, result *r)
+/* One page of an opened input: its record (layout or error) and messages into *r. The source
+ * is shared by the workers on the input's pages; `read_lock` serialises the decoding. */
+static void process_page(const lt_input *in, const lt_batch_options *opt, lt_source *src,
+                         pthread_mutex_t *read_lock, int i, int pages, result *r)
 {
-    lt_error err = {0};
-    lt_source *src = NULL;
-    if (lt_source_open(in->path, opt->max_pages, &src, &err)) {
-        fail_page(r, opt, in, 0, 0, err.message);
+    if (opt->out_dir && opt->resume) {
+        char *path = page_file(opt->out_dir, in->out_name, i + 1, pages);
+        int complete = path && page_file_complete(path);
+        free(path);
+        if (complete) {
+            r->skipped++;
+            return;
+        }
+    }
+    lt_error perr = {0};
+    lt_image *img = NULL;
+    lt_layout *layout = NULL;
+    pthread_mutex_lock(read_lock);
+    int rc = lt_source_read_page(src, i, opt->params->max_pixels, &img, &perr);
+    pthread_mutex_unlock(read_lock);
+    char msg[512];
+    if (rc || lt_analyze(img, opt->params, &layout, &perr)) {
+        lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
+        fail_page(r, opt, in, i + 1, pages, msg);
+        lt_image_free(img);
         return;
     }
-    const int pages = lt_source_pages(src);
-    for (int i = 0; i < pages; i++) {
-        if (opt->out_dir && opt->resume) {
-            char *path = page_file(opt->out_dir, in->out_name, i + 1, pages);
-            int complete = path && page_file_complete(path);
-            free(path);
-            if (complete) {
-                r->skipped++;
-                continue;
-            }
-        }
-        lt_error perr = {0};
-        lt_image *img = NULL;
-        lt_layout *layout = NULL;
-        if (lt_source_read_page(src, i, opt->params->max_pixels, &img, &perr) ||
-            lt_analyze(img, opt->params, &layout, &perr)) {
-            char msg[512];
-            lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
-            fail_page(r, opt, in, i + 1, pages, msg);
-            lt_image_free(img);
-            continue;
-        }
-        lt_image_free(img);
-        char *json = lt_layout_to_json(layout, in->path, i + 1, pages, opt->pretty);
-        lt_layout_free(layout);
-        if (!json) {
-            char msg[512];
-            lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, "out of memory");
-            fail_page(r, opt, in, i + 1, pages, msg);
-            continue;
-        }
-        emit(r, opt, in, i + 1, pages, json);
-        free(json);
-        r->done++;
+    lt_image_free(img);
+    char *json = lt_layout_to_json(layout, in->path, i + 1, pages, opt->pretty);
+    lt_layout_free(layout);
+    if (!json) {
+        lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, "out of memory");
+        fail_page(r, opt, in, i + 1, pages, msg);
+        return;
     }
-    lt_source_free(src);
+    emit(r, opt, in, i + 1, pages, json);
+    free(json);
+    r->done++;
 }
 
 /* ---- the pool ------------------------------------------------------------------------- */
 
+/* An input's state in the pool. Its pages are handed out one by one, in order, to whichever
+ * worker is free, so the pages of a multi-page TIFF are analysed in parallel too. */
+enum { PAGES_UNKNOWN = -2, PAGES_OPENING = -1 };
+typedef struct input_state {
+    int pages;       /* PAGES_UNKNOWN, PAGES_OPENING, or the count (0: it did not open) */
+    int unfinished;  /* pages handed out or not, whose record is not ready yet */
+    lt_source *src;  /* while pages remain to be read */
+    pthread_mutex_t read_lock;
+    result *results; /* one per page (one for an input that did not open) */
+} input_state;
+
 typedef struct pool {
     const lt_inputs *in;
     const lt_batch_options *opt;
-    result *results;
-    int next;    /* next input to take */
-    int written; /* inputs handed to the writer so far */
-    int window;  /* inputs allowed in flight beyond `written` */
+    input_state *inputs;
+    int current;   /* the input whose pages are being handed out */
+    int next_page; /* its next page */
+    int in_flight; /* pages handed out and not yet written */
+    int window;    /* bound on in_flight: the pages held in memory at once */
     pthread_mutex_t lock;
     pthread_cond_t changed;
 } pool;
+
+/* Opens input k (the caller has marked it PAGES_OPENING; called without the lock). */
+static void open_input(pool *p, int k)
+{
+    input_state *st = &p->inputs[k];
+    lt_error err = {0};
+    lt_source *src = NULL;
+    int pages = 0;
+    if (lt_source_open(p->in->items[k].path, p->opt->max_pages, &src, &err) == 0)
+        pages = lt_source_pages(src);
+    result *results = calloc((size_t)(pages > 0 ? pages : 1), sizeof *results);
+    if (results && pages == 0) { /* did not open, or no page: one error record */
+        fail_page(&results[0], p->opt, &p->in->items[k], 0, 0,
+                  src ? "no page in the file" : err.message);
+        results[0].finished = 1;
+    }
+    if (!results) pages = 0; /* out of memory: the writer reports the input */
+    if (pages == 0) {
+        lt_source_free(src);
+        src = NULL;
+    }
+    pthread_mutex_lock(&p->lock);
+    st->src = src;
+    st->results = results;
+    st->unfinished = pages;
+    st->pages = pages;
+    pthread_mutex_init(&st->read_lock, NULL);
+    pthread_cond_broadcast(&p->changed);
+    pthread_mutex_unlock(&p->lock);
+}
 
 static void *worker(void *arg)
 {
     pool *p = arg;
     pthread_mutex_lock(&p->lock);
     for (;;) {
-        while (p->next < p->in->count && p->next >= p->written + p->window)
+        if (p->current >= p->in->count) break;
+        input_state *st = &p->inputs[p->current];
+        if (st->pages == PAGES_OPENING || p->in_flight >= p->window) {
             pthread_cond_wait(&p->changed, &p->lock);
-        if (p->next >= p->in->count) break;
-        int k = p->next++;
+            continue;
+        }
+        if (st->pages == PAGES_UNKNOWN) {
+            st->pages = PAGES_OPENING;
+            const int k = p->current;
+            pthread_mutex_unlock(&p->lock);
+            open_input(p, k);
+            pthread_mutex_lock(&p->lock);
+            continue;
+        }
+        if (st->pages == 0) { /* it did not open: its one error record is ready */
+            p->in_flight++;
+            p->current++;
+            pthread_cond_broadcast(&p->changed);
+            continue;
+        }
+        const int k = p->current, i = p->next_page++;
+        if (p->next_page == st->pages) p->current++, p->next_page = 0;
+        p->in_flight++;
         pthread_mutex_unlock(&p->lock);
-        process_input(&p->in->items[k], p->opt, &p->results[k]);
+        process_page(&p->in->items[k], p->opt, st->src, &st->read_lock, i, st->pages,
+                     &st->results[i]);
         pthread_mutex_lock(&p->lock);
-        p->results[k].finished = 1;
+        st->results[i].finished = 1;
+        if (--st->unfinished == 0) { /* the input's last page: nobody reads it any more */
+            lt_source_free(st->src);
+            st->src = NULL;
+        }
         pthread_cond_broadcast(&p->changed);
     }
     pthread_mutex_unlock(&p->lock);
@@ -473,66 +533,89 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     memset(totals, 0, sizeof *totals);
     pool p = {in,
               opt,
-              calloc((size_t)in->count + 1, sizeof(result)),
+              calloc((size_t)in->count + 1, sizeof(input_state)),
+              0,
               0,
               0,
               2 * opt->jobs,
               PTHREAD_MUTEX_INITIALIZER,
               PTHREAD_COND_INITIALIZER};
     pthread_t *threads = calloc((size_t)opt->jobs, sizeof *threads);
-    if (!p.results || !threads) {
-        free(p.results);
+    if (!p.inputs || !threads) {
+        free(p.inputs);
         free(threads);
         fprintf(stderr, "lineate: out of memory\n");
         return -1;
     }
+    for (int k = 0; k < in->count; k++)
+        p.inputs[k].pages = PAGES_UNKNOWN;
     int started = 0;
     for (; started < opt->jobs; started++)
         if (pthread_create(&threads[started], NULL, worker, &p)) break;
-    if (started == 0) { /* no thread could start: work in this one */
-        for (int k = 0; k < in->count; k++)
-            process_input(&in->items[k], opt, &p.results[k]);
-        for (int k = 0; k < in->count; k++)
-            p.results[k].finished = 1;
-        p.window = in->count + 1;
+    if (started == 0) { /* no thread could start: work in this one, everything in memory */
+        p.window = INT32_MAX;
+        worker(&p);
     }
     const double t0 = now_s();
     long last_line = 0;
-    for (int k = 0; k < in->count; k++) {
+    int stop = 0;
+    for (int k = 0; k < in->count && !stop; k++) {
+        input_state *st = &p.inputs[k];
         pthread_mutex_lock(&p.lock);
-        while (!p.results[k].finished)
+        while (st->pages < 0)
             pthread_cond_wait(&p.changed, &p.lock);
         pthread_mutex_unlock(&p.lock);
-        result *r = &p.results[k];
-        if (r->records.len && !totals->write_failed &&
-            fwrite(r->records.data, 1, r->records.len, opt->out) != r->records.len)
-            totals->write_failed = 1;
-        if (r->records.failed || r->messages.failed) {
+        if (!st->results) { /* out of memory when it was opened */
             fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
-            r->failed++;
+            totals->failed++;
+            pthread_mutex_lock(&p.lock);
+            p.in_flight--;
+            pthread_cond_broadcast(&p.changed);
+            pthread_mutex_unlock(&p.lock);
         }
-        if (r->messages.len) fputs(r->messages.data, stderr);
-        totals->done += r->done;
-        totals->failed += r->failed;
-        totals->skipped += r->skipped;
-        totals->write_failed |= r->write_failed;
-        free(r->records.data);
-        free(r->messages.data);
-        r->records.data = r->messages.data = NULL;
-        const int stop = totals->write_failed && !opt->out_dir; /* nowhere to write to */
-        pthread_mutex_lock(&p.lock);
-        p.written = k + 1;
-        if (stop) p.next = in->count;
-        pthread_cond_broadcast(&p.changed);
-        pthread_mutex_unlock(&p.lock);
+        const int slots = st->results ? (st->pages > 0 ? st->pages : 1) : 0;
+        for (int i = 0; i < slots && !stop; i++) {
+            result *r = &st->results[i];
+            pthread_mutex_lock(&p.lock);
+            while (!r->finished)
+                pthread_cond_wait(&p.changed, &p.lock);
+            pthread_mutex_unlock(&p.lock);
+            if (r->records.len && !totals->write_failed &&
+                fwrite(r->records.data, 1, r->records.len, opt->out) != r->records.len)
+                totals->write_failed = 1;
+            if (r->records.failed || r->messages.failed) {
+                fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
+                r->failed++;
+            }
+            if (r->messages.len) fputs(r->messages.data, stderr);
+            totals->done += r->done;
+            totals->failed += r->failed;
+            totals->skipped += r->skipped;
+            totals->write_failed |= r->write_failed;
+            free(r->records.data);
+            free(r->messages.data);
+            r->records.data = r->messages.data = NULL;
+            stop = totals->write_failed && !opt->out_dir; /* nowhere to write to */
+            pthread_mutex_lock(&p.lock);
+            p.in_flight--;
+            if (stop) p.current = in->count;
+            pthread_cond_broadcast(&p.changed);
+            pthread_mutex_unlock(&p.lock);
+        }
         if (opt->progress) report_progress(opt, totals, k + 1, in->count, now_s() - t0, &last_line);
-        if (stop) break;
     }
     for (int i = 0; i < started; i++)
         pthread_join(threads[i], NULL);
-    for (int k = 0; k < in->count; k++) { /* inputs left unwritten after a write failure */
-        free(p.results[k].records.data);
-        free(p.results[k].messages.data);
+    for (int k = 0; k < in->count; k++) { /* what is left after a write failure */
+        input_state *st = &p.inputs[k];
+        if (st->pages < 0) continue;
+        for (int i = 0; st->results && i < (st->pages > 0 ? st->pages : 1); i++) {
+            free(st->results[i].records.data);
+            free(st->results[i].messages.data);
+        }
+        free(st->results);
+        lt_source_free(st->src);
+        pthread_mutex_destroy(&st->read_lock);
     }
     const double elapsed = now_s() - t0;
     if (opt->summary)
@@ -540,6 +623,6 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
                 totals->done, totals->failed, totals->skipped,
                 elapsed > 0 ? (totals->done + totals->failed) / elapsed : 0.0);
     free(threads);
-    free(p.results);
+    free(p.inputs);
     return 0;
 }

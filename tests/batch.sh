@@ -1,7 +1,8 @@
 #!/bin/sh
 # Batch runs: folders searched recursively, --from lists, --jobs giving byte-identical output,
 # one record per page (error records for bad ones), --out-dir with --resume after a run that
-# was killed halfway ending identical to an uninterrupted run.
+# was killed halfway ending identical to an uninterrupted run; the pages of one multi-page TIFF
+# shared among the threads.
 set -u
 top_srcdir=${top_srcdir:-.}
 top_builddir=${top_builddir:-.}
@@ -77,5 +78,38 @@ check "resumed output equals the uninterrupted run" diff -r "$tmp/full" "$tmp/pa
 "$bin" --out-dir "$tmp/part" --resume "$tmp/archive" 2>"$tmp/again.err"
 check "a second resume redoes only the failed page" \
     grep -q "0 pages done, 1 failed, $((n_images - 1)) skipped" "$tmp/again.err"
+
+# One multi-page TIFF: its pages are shared out among the threads, and still come out in page
+# order, identical whatever the number of threads; from standard input too.
+"$PYTHON3" - "$top_srcdir/testdata" "$tmp/ledger.tif" <<'PY' || exit 1
+import sys
+from PIL import Image
+src, dst = sys.argv[1], sys.argv[2]
+pages = [Image.open("%s/%s.png" % (src, n)).convert("L") for n in ("minutes", "newsletter", "bulletin")]
+bands = [pages[i % 3].crop((0, 300 + 280 * i, 2550, 800 + 280 * i)) for i in range(7)]
+bands[0].save(dst, save_all=True, append_images=bands[1:], compression="tiff_lzw", dpi=(300, 300))
+PY
+for j in 1 2 3; do
+    "$bin" -j $j "$tmp/ledger.tif" >"$tmp/ledger-j$j.jsonl" 2>/dev/null
+done
+check "a 7-page TIFF: 7 records, pages 1 to 7 in order" test "$(grep -o '"page":[0-9]*' \
+    "$tmp/ledger-j1.jsonl" | cut -d: -f2 | tr '\n' ' ')" = "1 2 3 4 5 6 7 "
+check "a 7-page TIFF: --jobs 2 and 3 give the bytes of --jobs 1" \
+    cmp -s "$tmp/ledger-j1.jsonl" "$tmp/ledger-j2.jsonl"
+check "a 7-page TIFF: --jobs 3 too" cmp -s "$tmp/ledger-j1.jsonl" "$tmp/ledger-j3.jsonl"
+"$bin" -j 1 - <"$tmp/ledger.tif" >"$tmp/ledger-stdin1.jsonl" 2>/dev/null
+"$bin" -j 2 - <"$tmp/ledger.tif" >"$tmp/ledger-stdin2.jsonl" 2>/dev/null
+check "a 7-page TIFF on standard input: 7 records" \
+    test "$(grep -c '"lines"' "$tmp/ledger-stdin2.jsonl")" -eq 7
+check "a 7-page TIFF on standard input: --jobs 2 gives the bytes of --jobs 1" \
+    cmp -s "$tmp/ledger-stdin1.jsonl" "$tmp/ledger-stdin2.jsonl"
+"$bin" -j 2 --out-dir "$tmp/ledger" "$tmp/ledger.tif" 2>/dev/null
+rm -f "$tmp/ledger/ledger.p3.json" "$tmp/ledger/ledger.p6.json"
+"$bin" -j 2 --out-dir "$tmp/ledger" --resume "$tmp/ledger.tif" 2>"$tmp/ledger-resume.err"
+check "a 7-page TIFF resumed with 2 threads redoes the 2 missing pages" \
+    grep -q "2 pages done, 0 failed, 5 skipped" "$tmp/ledger-resume.err"
+for i in 1 2 3 4 5 6 7; do cat "$tmp/ledger/ledger.p$i.json"; done >"$tmp/ledger-merged.jsonl"
+check "a 7-page TIFF: its page files equal the stream" \
+    cmp -s "$tmp/ledger-j1.jsonl" "$tmp/ledger-merged.jsonl"
 echo "batch: $failed failed"
 [ "$failed" -eq 0 ]
