@@ -32,7 +32,7 @@ static const char usage_text[] =
     "      --pretty          indent the JSON for reading (one object spans many lines)\n"
     "      --dpi N           resolution to assume when a file gives none (default 300)\n"
     "      --force-dpi       use --dpi even when the file gives a resolution\n"
-    "      --window N        Sauvola window in pixels, odd (default: 0.17 inch)\n"
+    "      --window N        Sauvola window in pixels, odd (default: about 0.17 inch)\n"
     "      --k K             Sauvola k (default 0.34)\n"
     "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n"
     "      --rtl             columns and the pieces of a row read right to left\n"
