@@ -271,7 +271,7 @@ static double rows_with_text(const occupancy *o, double x0, double x1, double y0
  * paragraph do not line up, and a hanging list label has no text under it, but a column
  * gutter or a table column has both. Seen close (2.5 text heights up and down, text within 4
  * on each side), or, for the ragged columns of an index, farther (5 up and down, 8 aside)
- * where both sides are columns of text: text fills at least 30 % of the rows beside the strip
+ * where both sides are columns of text: text fills at least 25 % of the rows beside the strip
  * (lines take about 60 % of them; a column of list labels far fewer). The strip may be
  * narrower than the gap, as the ragged edges of the columns leave it. */
 static int in_gutter(const occupancy *o, const link *l, double th)
@@ -281,8 +281,8 @@ static int in_gutter(const occupancy *o, const link *l, double th)
     const double y0 = l->top - 5 * th, y1 = l->bottom + 5 * th;
     const double left = side_edge(o, l, l->x0, -1, 8 * th, y0, y1, th);
     const double right = side_edge(o, l, l->x1, +1, 8 * th, y0, y1, th);
-    return rows_with_text(o, left, l->x0, y0, y1) >= 0.3 &&
-           rows_with_text(o, l->x1, right, y0, y1) >= 0.3;
+    return rows_with_text(o, left, l->x0, y0, y1) >= 0.25 &&
+           rows_with_text(o, l->x1, right, y0, y1) >= 0.25;
 }
 
 /* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
