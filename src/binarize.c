@@ -125,7 +125,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     const size_t tiles = (size_t)gw * gh;
     uint32_t *tsum = calloc(tiles, sizeof *tsum), *tsq = calloc(tiles, sizeof *tsq);
     int32_t *thr = malloc(tiles * sizeof *thr), *row_thr = malloc((size_t)gw * sizeof *row_thr);
-    uint64_t *colsum = calloc((size_t)gw, sizeof *colsum), *colsq = calloc((size_t)gw, sizeof *colsq);
+    int64_t *colsum = calloc((size_t)gw, sizeof *colsum), *colsq = calloc((size_t)gw, sizeof *colsq);
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
     int rc = LT_ENOMEM;
     if (!tsum || !tsq || !thr || !row_thr || !colsum || !colsq || !inv_cols) goto done;
@@ -171,7 +171,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             }
         const int top = (ty - reach) * TILE, bottom = (ty + reach + 1) * TILE;
         const double inv_rows = 1.0 / ((bottom < h ? bottom : h) - (top > 0 ? top : 0));
-        uint64_t sum = 0, sumsq = 0;
+        int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
         for (int t = 0; t < reach && t < gw; t++) {
             sum += colsum[t];
             sumsq += colsq[t];
