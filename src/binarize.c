@@ -117,14 +117,16 @@ done:
  * interpolation moves it by a small fraction of a gray level while the window sums and square
  * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold. */
 static int binarize_sampled(const lt_image *gray, int window_px, double k, double r,
-                            lt_image *out)
+                            lt_image **ink)
 {
     const int w = gray->width, h = gray->height, centre = TILE / 2;
     const int gw = (w + TILE - 1) / TILE, gh = (h + TILE - 1) / TILE;
     const int reach = window_px / TILE / 2; /* tiles on each side of the centre tile */
     const size_t tiles = (size_t)gw * gh;
-    uint32_t *tsum = calloc(tiles, sizeof *tsum), *tsq = calloc(tiles, sizeof *tsq);
+    uint16_t *tsum = calloc(tiles, sizeof *tsum); /* <= 9 x 255 */
+    uint32_t *tsq = calloc(tiles, sizeof *tsq);
     int32_t *thr = malloc(tiles * sizeof *thr), *row_thr = malloc((size_t)gw * sizeof *row_thr);
+    lt_image *out = NULL;
     int64_t *colsum = calloc((size_t)gw, sizeof *colsum), *colsq = calloc((size_t)gw, sizeof *colsq);
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
     int rc = LT_ENOMEM;
@@ -138,11 +140,12 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     /* 1. Tile sums of the gray values and of their squares. */
     for (int y = 0; y < h; y++) {
         const uint8_t *src = gray->pixels + (size_t)y * w;
-        uint32_t *ts = tsum + (size_t)(y / TILE) * gw, *tq = tsq + (size_t)(y / TILE) * gw;
+        uint16_t *ts = tsum + (size_t)(y / TILE) * gw;
+        uint32_t *tq = tsq + (size_t)(y / TILE) * gw;
         int x = 0, t = 0;
         for (; x + TILE <= w; x += TILE, t++) {
             const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
-            ts[t] += a + b + c;
+            ts[t] += (uint16_t)(a + b + c);
             tq[t] += a * a + b * b + c * c;
         }
         for (; x < w; x++) {
@@ -193,7 +196,14 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
         }
     }
     /* 3. Every pixel against the threshold interpolated from the tile centres around it (held
-     * constant beyond the outermost centres). */
+     * constant beyond the outermost centres), into an image allocated only now that the tile
+     * sums are gone, which lowers the peak memory of the stage. */
+    free(tsum);
+    free(tsq);
+    tsum = NULL;
+    tsq = NULL;
+    if (!(out = lt_image_new(w, h, LT_IMAGE_INK))) goto done;
+    out->dpi = gray->dpi;
     for (int y = 0; y < h; y++) {
         int ty = y < centre ? 0 : (y - centre) / TILE, j = y < centre ? 0 : (y - centre) % TILE;
         if (ty >= gh - 1) ty = gh - 1, j = 0;
@@ -216,8 +226,11 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
         for (; x < w; x++) /* beyond the last centre, or the last tiles' partial pixels */
             dst[x] = src[x] * unit <= row_thr[x / TILE < gw ? x / TILE : gw - 1] * TILE;
     }
+    *ink = out;
+    out = NULL;
     rc = 0;
 done:
+    lt_image_free(out);
     free(tsum);
     free(tsq);
     free(thr);
@@ -235,17 +248,17 @@ static int binarize(const lt_image *gray, int window_px, double k, double r, int
     if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || window_px > LT_MAX_WINDOW_PX ||
         r <= 0 || k < 0)
         return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
-    lt_image *out = lt_image_new(gray->width, gray->height, LT_IMAGE_INK);
-    if (!out) return lt_error_set(err, LT_ENOMEM, "binarize: out of memory");
-    out->dpi = gray->dpi;
     /* Sampling needs a window of whole tiles, odd, and wide against a tile (9 tiles at least). */
-    sampled = sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE;
-    int rc = sampled ? binarize_sampled(gray, window_px, k, r, out)
-                     : binarize_exact(gray, window_px, k, r, out);
-    if (rc) {
+    if (sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE)
+        return binarize_sampled(gray, window_px, k, r, ink)
+                   ? lt_error_set(err, LT_ENOMEM, "binarize: out of memory")
+                   : 0;
+    lt_image *out = lt_image_new(gray->width, gray->height, LT_IMAGE_INK);
+    if (!out || binarize_exact(gray, window_px, k, r, out)) {
         lt_image_free(out);
-        return lt_error_set(err, rc, "binarize: out of memory");
+        return lt_error_set(err, LT_ENOMEM, "binarize: out of memory");
     }
+    out->dpi = gray->dpi;
     *ink = out;
     return 0;
 }
