@@ -215,7 +215,7 @@ static void test_against_naive(void)
  * are ink. */
 /* lt_binarize_sampled against the naive reference on built pages: a paper gradient with
  * text-like strokes and noise, and the random patch pages of test_against_naive, in sizes that
- * are and are not multiples of the 3 px tile. At the pixels where it samples the threshold
+ * are and are not multiples of the 3 px tile, down to one pixel. At the pixels where it samples the threshold
  * (the centres of the 3 x 3 tiles: x % 3 == 1, y % 3 == 1) it must agree exactly, ties apart;
  * elsewhere the interpolated threshold may flip pixels within a fraction of a gray level of
  * it, which the floor below bounds (measured when this test was written: at most 0.07% of the
@@ -225,7 +225,7 @@ static void test_sampled(void)
 {
     const int windows[] = {27, 33, 51, 99};
     const double ks[] = {0.2, 0.34, 0.5};
-    const int sizes[][2] = {{61, 47}, {100, 71}, {150, 99}};
+    const int sizes[][2] = {{61, 47}, {100, 71}, {150, 99}, {1, 1}, {2, 5}, {7, 4}};
     double worst = 0;
     for (int kind = 0; kind < 2; kind++)
         for (size_t sz = 0; sz < sizeof sizes / sizeof sizes[0]; sz++) {
