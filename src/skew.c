@@ -25,9 +25,8 @@ typedef struct grid {
     uint16_t *count;
 } grid;
 
-/* Grid of 2x2 tile counts of the ink image (whose pixels are 0 or 1): the two rows of a tile
- * are added a machine word at a time (each byte then at most 2), and the two bytes of a tile
- * are summed by one multiplication. */
+/* Grid of 2x2 tile counts of the ink image (whose pixels are 0 or 1), in one pass over its
+ * rows. */
 static int grid_from_ink(const lt_image *ink, grid *g)
 {
     const int w = ink->width, h = ink->height;
@@ -40,17 +39,7 @@ static int grid_from_ink(const lt_image *ink, grid *g)
     for (int y = 0; y < h; y++) {
         const uint8_t *row = ink->pixels + (size_t)y * w;
         uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
-        int t = 0;
-        for (; t + 4 <= pairs; t += 4) { /* four tiles from one 64-bit word */
-            uint64_t v;
-            memcpy(&v, row + 2 * t, 8);
-            v = (v + (v >> 8)) & 0x00ff00ff00ff00ffu; /* byte pairs summed, in 16-bit lanes */
-            dst[t] += (uint16_t)(v & 0xffff);
-            dst[t + 1] += (uint16_t)((v >> 16) & 0xffff);
-            dst[t + 2] += (uint16_t)((v >> 32) & 0xffff);
-            dst[t + 3] += (uint16_t)(v >> 48);
-        }
-        for (; t < pairs; t++)
+        for (int t = 0; t < pairs; t++)
             dst[t] += (uint16_t)(row[2 * t] + row[2 * t + 1]);
         if (w % 2) dst[pairs] += row[w - 1];
     }
