@@ -1,8 +1,9 @@
 /* batch.c — the analyse command over many inputs: folders are searched for image files, pages
  * (of every input, the pages of a multi-page TIFF too) are analysed by a pool of worker threads,
  * and the writer emits the records in input and page order, so the output does not depend on
- * the number of threads. At most 2 x jobs pages are in flight, which bounds memory. With an output folder every page is its own file, written
- * under a temporary name and renamed into place; --resume skips pages already complete. */
+ * the number of threads. At most 2 x jobs pages are in flight, which bounds memory. With an output
+ * folder every page is its own file, written under a temporary name and renamed into place;
+ * --resume skips pages already complete. */
 #include "batch.h"
 
 #include <cjson/cJSON.h>
@@ -410,9 +411,9 @@ static void process_page(const lt_input *in, const lt_batch_options *opt, lt_sou
  * worker is free, so the pages of a multi-page TIFF are analysed in parallel too. */
 enum { PAGES_UNKNOWN = -2, PAGES_OPENING = -1 };
 typedef struct input_state {
-    int pages;       /* PAGES_UNKNOWN, PAGES_OPENING, or the count (0: it did not open) */
-    int unfinished;  /* pages handed out or not, whose record is not ready yet */
-    lt_source *src;  /* while pages remain to be read */
+    int pages;      /* PAGES_UNKNOWN, PAGES_OPENING, or the count (0: it did not open) */
+    int unfinished; /* pages handed out or not, whose record is not ready yet */
+    lt_source *src; /* while pages remain to be read */
     pthread_mutex_t read_lock;
     result *results; /* one per page (one for an input that did not open) */
 } input_state;

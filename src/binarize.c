@@ -1,9 +1,11 @@
 /* binarize.c — Sauvola & Pietikäinen (2000) adaptive thresholding,
  *   T(x,y) = m(x,y) * (1 + k * (s(x,y) / R - 1)),
  * m and s the mean and standard deviation over a window x window neighbourhood (clipped at
- * the image border). Running column and row sums give O(pixels) time for any window, the
- * same complexity as the integral images of Shafait, Keysers & Breuel (2008) with memory
- * proportional to the width only. */
+ * the image border). Exact at every pixel (lt_binarize): running column and row sums give
+ * O(pixels) time for any window, the same complexity as the integral images of Shafait,
+ * Keysers & Breuel (2008) with memory proportional to the width only. Sampled
+ * (lt_binarize_sampled, which the analysis uses): T exact at the centre of every 3 x 3 tile,
+ * from tile sums, and interpolated in between. */
 #include "internal.h"
 
 #include <math.h>
@@ -12,8 +14,8 @@
 
 /* Ink decision without a square root: g < m(1-k) + (m k / R) s holds when the left part
  * a = g - m(1-k) is negative, or else when a^2 < (m k / R)^2 * variance. Written without
- * branches (the answer for paper just above or below the mean is a coin toss, which a branch
- * predictor cannot learn); a pixel above the mean fails both tests, as T <= m when s <= R. */
+ * branches: for paper just above or below the mean the answer is a coin toss, which a branch
+ * predictor cannot learn. */
 static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
                              double k_over_r)
 {
@@ -116,8 +118,7 @@ done:
  * threshold is a statistic of a wide window and varies slowly across the page, so the
  * interpolation moves it by a small fraction of a gray level while the window sums and square
  * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold. */
-static int binarize_sampled(const lt_image *gray, int window_px, double k, double r,
-                            lt_image **ink)
+static int binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink)
 {
     const int w = gray->width, h = gray->height, centre = TILE / 2;
     const int gw = (w + TILE - 1) / TILE, gh = (h + TILE - 1) / TILE;
@@ -127,7 +128,8 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     uint32_t *tsq = calloc(tiles, sizeof *tsq);
     int32_t *thr = malloc(tiles * sizeof *thr), *row_thr = malloc((size_t)gw * sizeof *row_thr);
     lt_image *out = NULL;
-    int64_t *colsum = calloc((size_t)gw, sizeof *colsum), *colsq = calloc((size_t)gw, sizeof *colsq);
+    int64_t *colsum = calloc((size_t)gw, sizeof *colsum),
+            *colsq = calloc((size_t)gw, sizeof *colsq);
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
     int rc = LT_ENOMEM;
     if (!tsum || !tsq || !thr || !row_thr || !colsum || !colsq || !inv_cols) goto done;

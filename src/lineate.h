@@ -227,8 +227,8 @@ int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_imag
  * at least 27 (else exactly as lt_binarize). The threshold varies slowly, so the ink differs
  * from lt_binarize's on at most a few pixels in ten thousand, in under half the time. This is
  * what lt_analyze uses. */
-int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r,
-                        lt_image **ink, lt_error *err);
+int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
+                        lt_error *err);
 
 typedef struct lt_skew {
     double angle_deg;  /* 0 when confidence is 0 */

@@ -215,9 +215,9 @@ static void test_against_naive(void)
  * are ink. */
 /* lt_binarize_sampled against the naive reference on built pages: a paper gradient with
  * text-like strokes and noise, and the random patch pages of test_against_naive, in sizes that
- * are and are not multiples of the 3 px tile, down to one pixel. At the pixels where it samples the threshold
- * (the centres of the 3 x 3 tiles: x % 3 == 1, y % 3 == 1) it must agree exactly, ties apart;
- * elsewhere the interpolated threshold may flip pixels within a fraction of a gray level of
+ * are and are not multiples of the 3 px tile, down to one pixel. At the pixels where it samples the
+ * threshold (the centres of the 3 x 3 tiles: x % 3 == 1, y % 3 == 1) it must agree exactly, ties
+ * apart; elsewhere the interpolated threshold may flip pixels within a fraction of a gray level of
  * it, which the floor below bounds (measured when this test was written: at most 0.07% of the
  * pixels here; up to 0.06% on real pages, see tests/ref_sauvola.py). A window that
  * it does not sample (not an odd multiple of 3, or under 27 px) gives lt_binarize's result. */
@@ -234,7 +234,8 @@ static void test_sampled(void)
             lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, 0);
             for (int y = 0; y < h; y++)
                 for (int x = 0; x < w; x++)
-                    g->pixels[(size_t)y * w + x] = (uint8_t)(kind ? 230 : 220 - 90 * x / w - 40 * y / h);
+                    g->pixels[(size_t)y * w + x] =
+                        (uint8_t)(kind ? 230 : 220 - 90 * x / w - 40 * y / h);
             for (int b = 0; b < w * h / 150; b++) {
                 int x0 = tu_range(&rng, -3, w - 1), y0 = tu_range(&rng, -3, h - 1);
                 int v = kind && b % 4 == 0 ? 0 : tu_range(&rng, 20, 130);

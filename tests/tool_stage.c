@@ -78,7 +78,8 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(p, dpi);
-        if ((rc = lt_binarize_sampled(img, window, p->sauvola_k, p->sauvola_r, &ink_own, err))) goto done;
+        if ((rc = lt_binarize_sampled(img, window, p->sauvola_k, p->sauvola_r, &ink_own, err)))
+            goto done;
         ink = ink_own;
     }
     t_next = now_ms();
