@@ -4,7 +4,7 @@
 # `lineate --out-dir OUT --resume --from -` job, the page files merged in input order. Checks
 # that the merge equals, byte for byte, one `lineate -j 1` over the same list, and that a
 # rerun of the recipe skips every page. Then the variant for hosts without a shared file
-# system (--transferfile / --return / --cleanup, one job per input, resumed from parallel's
+# system (--transferfile / --return / --cleanup, a few inputs a job, resumed from parallel's
 # job log), with two stand-in hosts: a stand-in for ssh that runs each command in a folder of
 # its own per host, so that the inputs and the results really travel through rsync (skipped
 # without rsync). Exit status: 0 pass, 1 fail, 77 skip (no GNU parallel or no PIL).
@@ -155,22 +155,23 @@ EOF
     (cd "$job" && find archive/ -type f | LC_ALL=C sort >list &&
         "$bin" -j 1 --from list >"$tmp/single-relative.jsonl" 2>/dev/null)
     n_inputs=$(wc -l <"$job/list")
-    spread() { # the recipe's step, with the stand-in hosts
-        (cd "$job" && parallel --will-cite --ssh "$tmp/stand-in-ssh" -S 2/hostA,2/hostB \
-            --transferfile {} --return {#}.jsonl --cleanup --joblog jobs.log "$@" \
-            "'$bin' -j 1 {} > {#}.jsonl" <list) 2>"$tmp/transfer.err"
+    n_jobs=$(((n_inputs + 2) / 3))
+    spread() { # the recipe's step, with the stand-in hosts and 3 inputs a job
+        (cd "$job" && parallel --will-cite --ssh "$tmp/stand-in-ssh" -S 1/hostA,1/hostB -N 3 \
+            --workdir ... --transferfile {} --return {#}.jsonl --cleanup --joblog jobs.log "$@" \
+            "'$bin' -j 2 {} > {#}.jsonl" <list) 2>"$tmp/transfer.err"
     }
     merge_numbered() { # the returned files 1.jsonl .. N.jsonl in order
         i=1
-        while [ "$i" -le "$n_inputs" ]; do
+        while [ "$i" -le "$n_jobs" ]; do
             cat "$job/$i.jsonl" || return 1
             i=$((i + 1))
         done
     }
     spread
     check "transfer: every job succeeded" test $? -eq 0
-    check "transfer: one returned file per input ($n_inputs)" \
-        test "$(find "$job" -name '[0-9]*.jsonl' | wc -l)" -eq "$n_inputs"
+    check "transfer: one returned file per job of 3 inputs ($n_jobs)" \
+        test "$(find "$job" -name '[0-9]*.jsonl' | wc -l)" -eq "$n_jobs"
     check "transfer: both stand-in hosts received inputs through rsync" \
         test "$(grep -c '^hostA rsync --server' "$tmp/ssh.log")" -gt 0 -a \
         "$(grep -c '^hostB rsync --server' "$tmp/ssh.log")" -gt 0
@@ -189,7 +190,7 @@ EOF
         mv "$job/jobs.log.new" "$job/jobs.log"
     spread --resume
     check "transfer: the rerun after a lost job redoes exactly that job" \
-        test "$(grep -c '^host[AB] exec perl' "$tmp/ssh.log")" -eq $((n_inputs + 1))
+        test "$(grep -c '^host[AB] exec perl' "$tmp/ssh.log")" -eq $((n_jobs + 1))
     merge_numbered >"$tmp/merged-transfer2.jsonl"
     check "transfer: and the merge again equals the single run" \
         cmp "$tmp/single-relative.jsonl" "$tmp/merged-transfer2.jsonl"
