@@ -4,20 +4,14 @@
 # was killed halfway ending identical to an uninterrupted run; the pages of one multi-page TIFF
 # shared among the threads.
 set -u
-top_srcdir=${top_srcdir:-.}
-top_builddir=${top_builddir:-.}
-PYTHON3=${PYTHON3:-/usr/bin/python3}
-bin=$top_builddir/lineate
-[ -x "$bin" ] || { echo "no lineate binary"; exit 77; }
-"$PYTHON3" -c 'import PIL' 2>/dev/null || { echo "python3 PIL missing"; exit 77; }
-tmp=$(mktemp -d) || exit 1
-trap 'rm -rf "$tmp"' EXIT
-failed=0
-check() { # check DESCRIPTION COMMAND...
-    what=$1
-    shift
-    if "$@"; then echo "ok   $what"; else echo "FAIL $what"; failed=$((failed + 1)); fi
-}
+test_name=batch
+test_modules=PIL.Image
+test_timeout=600
+. "${top_srcdir:-.}/tests/harness.sh"
+tmp=$work
+bin=$lineate
+PYTHON3=$python
+top_srcdir=$srcdir
 
 # An archive of small pages (bands of the test pages) in nested folders, with a bad file.
 "$PYTHON3" - "$top_srcdir/testdata" "$tmp/archive" <<'PY' || exit 1

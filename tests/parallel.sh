@@ -13,28 +13,21 @@
 # PIL (python3-pil) cuts the test pages and writes the multi-page TIFF. The expected output is
 # lineate's own single-process run, so the check is that spreading the work changes nothing.
 set -u
-top_srcdir=${top_srcdir:-.}
-top_builddir=${top_builddir:-.}
-PYTHON3=${PYTHON3:-/usr/bin/python3}
-bin=$(cd "$top_builddir" && pwd)/lineate
-[ -x "$bin" ] || { echo "FAIL: no lineate binary"; exit 1; }
+test_name=parallel
+test_modules=PIL.Image
+test_timeout=600
+. "${top_srcdir:-.}/tests/harness.sh"
+tmp=$work
+bin=$lineate
+PYTHON3=$python
+top_srcdir=$srcdir
 command -v parallel >/dev/null 2>&1 ||
     { echo "SKIP: GNU parallel missing (package parallel)"; exit 77; }
 parallel --version 2>/dev/null | grep -q 'GNU parallel' ||
     { echo "SKIP: 'parallel' is not GNU parallel"; exit 77; }
-"$PYTHON3" -c 'import PIL' 2>/dev/null || { echo "SKIP: python3 PIL missing"; exit 77; }
-tmp=$(mktemp -d) || exit 1
-trap 'rm -rf "$tmp"' EXIT
-trap 'exit 1' INT TERM HUP
 # GNU parallel keeps its state in $PARALLEL_HOME (default ~/.parallel): here, in the test folder.
 PARALLEL_HOME=$tmp/parallel-home
 export PARALLEL_HOME
-failed=0
-check() { # check DESCRIPTION COMMAND...
-    what=$1
-    shift
-    if "$@"; then echo "ok   $what"; else echo "FAIL $what"; failed=$((failed + 1)); fi
-}
 
 # An archive: 14 bands of the three test pages in two folders (unique base names, which the
 # recipe needs), a 1-bit page, and an 11-page TIFF (page 10 must merge after page 9, not
