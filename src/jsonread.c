@@ -161,6 +161,27 @@ static int get_int(const cJSON *obj, const char *key, long lo, long hi, int *out
     return 1;
 }
 
+/* Reads quad [[x, y] x 4] from a JSON array: finite numbers within +-LT_SCORE_MAX_COORD.
+ * Returns NULL, or what is wrong with it. */
+static const char *parse_quad(const cJSON *arr, lt_point quad[4])
+{
+    if (!cJSON_IsArray(arr) || cJSON_GetArraySize(arr) != 4)
+        return "\"quad\" is not an array of 4 points";
+    int n = 0;
+    for (const cJSON *pt = arr->child; pt; pt = pt->next, n++) {
+        if (!cJSON_IsArray(pt) || cJSON_GetArraySize(pt) != 2 || !cJSON_IsNumber(pt->child) ||
+            !cJSON_IsNumber(pt->child->next))
+            return "\"quad\" holds a point that is not 2 numbers";
+        const double x = pt->child->valuedouble, y = pt->child->next->valuedouble;
+        if (!isfinite(x) || !isfinite(y) || fabs(x) > LT_SCORE_MAX_COORD ||
+            fabs(y) > LT_SCORE_MAX_COORD)
+            return "\"quad\" coordinate is out of range";
+        quad[n].x = x;
+        quad[n].y = y;
+    }
+    return NULL;
+}
+
 /* Reads box [l, t, r, b] from a JSON array: 4 whole numbers within +-LT_SCORE_MAX_COORD,
  * left <= right, top <= bottom. Returns NULL on success or a static reason. */
 static const char *parse_box(const cJSON *arr, lt_box *box)
@@ -306,6 +327,10 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
         if (!box) FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: missing \"box\"", name, k, i);
         const char *why = parse_box(box, &pg->lines[i].box);
         if (why) FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: %s", name, k, i, why);
+        const cJSON *quad = cJSON_GetObjectItemCaseSensitive(it, "quad");
+        pg->lines[i].has_quad = quad != NULL;
+        if (quad && (why = parse_quad(quad, pg->lines[i].quad)))
+            FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: %s", name, k, i, why);
         pg->lines[i].in_order = 1;
         const cJSON *io = cJSON_GetObjectItemCaseSensitive(it, "in_order");
         if (io) {

@@ -404,6 +404,35 @@ done:
 
 /* ---- one page --------------------------------------------------------------------------- */
 
+/* Copies of lines with boxes in the frame of a page turned level: the quad's corners (the
+ * box's when the line has no quad) rotated by skew_deg about (cx, cy), clockwise as displayed
+ * for a positive skew (lines rising to the right), and boxed. NULL when out of memory. */
+static lt_scored_line *level_lines(const lt_scored_line *lines, int n, double skew_deg, double cx,
+                                   double cy)
+{
+    lt_scored_line *out = malloc((size_t)(n > 0 ? n : 1) * sizeof *out);
+    if (!out) return NULL;
+    const double a = skew_deg * 3.14159265358979323846 / 180.0, c = cos(a), s = sin(a);
+    for (int i = 0; i < n; i++) {
+        const lt_box *b = &lines[i].box;
+        const lt_point corners[4] = {
+            {b->left, b->top}, {b->right, b->top}, {b->right, b->bottom}, {b->left, b->bottom}};
+        const lt_point *q = lines[i].has_quad ? lines[i].quad : corners;
+        double x0 = INFINITY, y0 = INFINITY, x1 = -INFINITY, y1 = -INFINITY;
+        for (int k = 0; k < 4; k++) {
+            const double dx = q[k].x - cx, dy = q[k].y - cy;
+            const double x = cx + dx * c - dy * s, y = cy + dx * s + dy * c;
+            x0 = fmin(x0, x);
+            y0 = fmin(y0, y);
+            x1 = fmax(x1, x);
+            y1 = fmax(y1, y);
+        }
+        out[i] = lines[i];
+        out[i].box = (lt_box){(int)floor(x0), (int)floor(y0), (int)ceil(x1), (int)ceil(y1)};
+    }
+    return out;
+}
+
 typedef struct order_pair {
     int truth, pred;
 } order_pair;
@@ -426,8 +455,22 @@ int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_pa
     lt_prf(out->matched_50, nt, np, &out->precision_50, &out->recall_50, &out->f1_50);
     lt_prf(out->matched_75, nt, np, &out->precision_75, &out->recall_75, &out->f1_75);
 
-    rc = lt_count_splits_merges(truth->lines, nt, pred->lines, np, m, nm, &out->splits,
-                                &out->merges, &out->cross_merges, err);
+    /* Splits and merges are judged on the page turned level by its true skew: the boxes of
+     * the lines of a tilted page, taken as they are, overlap their neighbours above and below
+     * and would pass for lines side by side. */
+    const lt_scored_line *tl = truth->lines, *pl = pred->lines;
+    lt_scored_line *tl_level = NULL, *pl_level = NULL;
+    if (truth->has_skew && fabs(truth->skew_deg) >= 0.01) {
+        const double cx = 0.5 * truth->width, cy = 0.5 * truth->height;
+        tl = tl_level = level_lines(truth->lines, nt, truth->skew_deg, cx, cy);
+        pl = pl_level = level_lines(pred->lines, np, truth->skew_deg, cx, cy);
+        if (!tl_level || !pl_level) rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
+    }
+    if (!rc)
+        rc = lt_count_splits_merges(tl, nt, pl, np, m, nm, &out->splits, &out->merges,
+                                    &out->cross_merges, err);
+    free(tl_level);
+    free(pl_level);
     if (rc) {
         free(m);
         return rc;

@@ -30,7 +30,9 @@ enum { LT_SCORED_LAYOUT = 0, LT_SCORED_TRUTH = 1 }; /* "lineate-layout-1", "line
 
 typedef struct lt_scored_line {
     lt_box box;
-    int in_order; /* 0 when the line's place in the reading order is not meaningful */
+    int in_order;     /* 0 when the line's place in the reading order is not meaningful */
+    lt_point quad[4]; /* the line's "quad" when has_quad (corners in any order) */
+    int has_quad;
 } lt_scored_line;
 
 typedef struct lt_scored_page {
@@ -139,8 +141,10 @@ typedef struct lt_page_score {
 } lt_page_score;
 
 /* Scores one predicted page against its truth page (all of the above; splits and merges
- * refined by the page's matches). A failed page is
- * scored as a page with no lines and no skew. Fails with LT_ENOMEM or LT_ELIMIT. */
+ * refined by the page's matches, and judged on the page turned level by the truth's skew: the
+ * corners of each line's quad, or of its box, rotated about the page centre, then boxed). A
+ * failed page is scored as a page with no lines and no skew. Fails with LT_ENOMEM or
+ * LT_ELIMIT. */
 int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_page_score *out,
                   lt_error *err);
 
