@@ -83,7 +83,10 @@ static int assemble(lt_layout *out, const lt_raw_lines *raw, const lt_arrangemen
     return 0;
 }
 
-int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err)
+/* The analysis of img; when `consumed` is not NULL, it points to img, which is freed (and
+ * *consumed set to NULL) as soon as it is no longer needed, and in any case before return. */
+static int analyze(const lt_image *img, lt_image **consumed, const lt_params *params,
+                   lt_layout **out, lt_error *err)
 {
     *out = NULL;
     lt_params defaults;
@@ -117,6 +120,11 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
         rc = lt_binarize_sampled(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
         if (rc) goto done;
         ink = ink_own;
+        if (consumed) { /* the gray page is done with: its memory goes before the next stages */
+            lt_image_free(*consumed);
+            *consumed = NULL;
+            img = NULL;
+        }
     }
     /* 2. Skew, and the deskewed page the rest works on. */
     lt_skew skew;
@@ -134,7 +142,7 @@ int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt
         ink_own = NULL;
     }
     lt_frame frame;
-    lt_frame_init(&frame, img->width, img->height, rotate_deg);
+    lt_frame_init(&frame, res->width, res->height, rotate_deg);
     /* 3. Components and their classes. */
     rc = lt_find_components(page, params->max_components, &comps, err);
     if (rc) goto done;
@@ -162,6 +170,19 @@ done:
     }
     *out = res;
     return 0;
+}
+
+int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err)
+{
+    return analyze(img, NULL, params, out, err);
+}
+
+int lt_analyze_consume(lt_image **img, const lt_params *params, lt_layout **out, lt_error *err)
+{
+    int rc = analyze(*img, img, params, out, err);
+    lt_image_free(*img);
+    *img = NULL;
+    return rc;
 }
 
 void lt_layout_free(lt_layout *layout)

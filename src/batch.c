@@ -386,7 +386,7 @@ static void process_page(const lt_input *in, const lt_batch_options *opt, lt_sou
     int rc = lt_source_read_page(src, i, opt->params->max_pixels, &img, &perr);
     pthread_mutex_unlock(read_lock);
     char msg[512];
-    if (rc || lt_analyze(img, opt->params, &layout, &perr)) {
+    if (rc || lt_analyze_consume(&img, opt->params, &layout, &perr)) {
         lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
         fail_page(r, opt, in, i + 1, pages, msg);
         lt_image_free(img);

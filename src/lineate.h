@@ -196,6 +196,10 @@ typedef struct lt_layout {
 /* Analyses one page. `params` may be NULL for the defaults. On success *out holds a layout
  * the caller frees with lt_layout_free. */
 int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err);
+/* As lt_analyze, taking ownership of *img: it is freed as soon as the analysis no longer needs
+ * it (a gray page right after binarization, which lowers the peak memory of the analysis by
+ * the size of the page), and in any case before return; *img is then NULL. */
+int lt_analyze_consume(lt_image **img, const lt_params *params, lt_layout **out, lt_error *err);
 void lt_layout_free(lt_layout *layout);
 
 /* ---- output --------------------------------------------------------------------------- */

@@ -398,6 +398,28 @@ static void test_analyze(void)
             CHECK_BOX(lay->lines[i].box, p->line_box[i], "analyze: line %d in reading order", i);
         CHECK_INT(lay->nblocks >= 4, 1, "analyze: at least 4 blocks (got %d)", lay->nblocks);
     }
+    /* lt_analyze_consume gives the same layout from a copy of the page, and frees the copy;
+     * the 1-bit page too; and a missing page is refused. */
+    const lt_image *sources[2] = {gray, p->img};
+    for (int k = 0; k < 2 && lay; k++) {
+        lt_image *copy = tu_image(1600, 1300, sources[k]->kind, 0);
+        memcpy(copy->pixels, sources[k]->pixels, (size_t)1600 * 1300);
+        lt_layout *lay2 = NULL;
+        if (lt_analyze_consume(&copy, &prm, &lay2, &err)) {
+            tu_fail("analyze_consume (%s): %s", k ? "1-bit" : "gray", err.message);
+        } else {
+            CHECK(copy == NULL, "analyze_consume: the image pointer is cleared");
+            CHECK_INT(lay2->nlines, lay->nlines, "analyze_consume (%s): lines",
+                      k ? "1-bit" : "gray");
+            for (int i = 0; i < lay2->nlines && i < lay->nlines; i++)
+                CHECK_BOX(lay2->lines[i].box, lay->lines[i].box, "analyze_consume: line %d", i);
+        }
+        lt_image_free(copy);
+        lt_layout_free(lay2);
+    }
+    lt_image *none = NULL;
+    lt_layout *lay3 = NULL;
+    CHECK_INT(lt_analyze_consume(&none, &prm, &lay3, &err), LT_EINVAL, "analyze_consume: no image");
     lt_layout_free(lay);
     lt_image_free(gray);
     page_free(p);
