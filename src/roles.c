@@ -103,12 +103,15 @@ static int next_to_figure(const lt_components *c, const lt_tables *tables, const
 }
 
 /* A short horizontal rule just above the block (within 2.5 text heights), shorter than half
- * the text area: the rule that opens the footnotes. */
+ * the text area and than 70 % of the block: the rule that opens the footnotes (a rule as wide
+ * as the column, under a heading, is not one). */
 static int under_short_rule(const lt_components *c, const lt_box *x, int area_w, double th)
 {
     for (int i = 0; c && i < c->count; i++) {
         const lt_component *k = &c->items[i];
-        if (k->kind != LT_COMP_RULE || width(&k->box) > area_w / 2) continue;
+        if (k->kind != LT_COMP_RULE || width(&k->box) > area_w / 2 ||
+            width(&k->box) > 0.7 * width(x))
+            continue;
         if (k->box.bottom > x->top || x->top - k->box.bottom > 2.5 * th) continue;
         if (k->box.left >= x->left - th && k->box.left <= x->left + 2 * th) return 1;
     }
