@@ -207,6 +207,55 @@ static void test_row_pieces(void)
 }
 
 /* No lines: no tree, no blocks. */
+/* The rule that opens footnotes is short against the block under it: two columns, the left
+ * one ending in two lines under a 200 px rule (footnotes), the right one in four lines under
+ * a rule as wide as the column (a section rule: not footnotes), both in the lower half, and a
+ * page number at the foot. */
+static void test_footnote_rule(void)
+{
+    page p = {0};
+    tu_rng r = {91};
+    add_block(&p, &r, 100, 700, 200, 10);
+    const int footnote = p.n;
+    add_block(&p, &r, 100, 700, 1160, 2);
+    add_block(&p, &r, 800, 1400, 200, 10);
+    const int section = p.n;
+    add_block(&p, &r, 800, 1400, 820, 4);
+    add_line(&p, 740, 760, 1320); /* the page number, below everything */
+    p.nblocks++;
+    lt_component rules[2];
+    memset(rules, 0, sizeof rules);
+    rules[0].box = tu_box(100, 1100, 300, 1104);
+    rules[1].box = tu_box(800, 760, 1400, 764);
+    for (int k = 0; k < 2; k++) {
+        rules[k].kind = LT_COMP_RULE;
+        rules[k].pixels = (long)(rules[k].box.right - rules[k].box.left) * 4;
+    }
+    lt_components comps = {rules, 2};
+    lt_raw_lines raw = {p.lines, p.n};
+    lt_params prm;
+    lt_params_default(&prm);
+    lt_error err = {0};
+    lt_cut_node *root = NULL;
+    lt_arrangement *arr = NULL;
+    if (lt_xy_cut(&raw, &comps, TH, &prm, &root, &err) ||
+        lt_arrange(root, &raw, &comps, TH, &prm, p.lines[p.n - 1].box.bottom + 150, &arr, &err)) {
+        tu_fail("footnote rule: %s", err.message);
+    } else {
+        int role_of_footnote = -1, role_of_section = -1;
+        for (int i = 0; i < arr->nlines; i++) {
+            if (arr->order[i] == footnote) role_of_footnote = arr->blocks[arr->block_of[i]].role;
+            if (arr->order[i] == section) role_of_section = arr->blocks[arr->block_of[i]].role;
+        }
+        CHECK_INT(role_of_footnote, LT_ROLE_FOOTNOTE,
+                  "footnote rule: the lines under the short rule");
+        CHECK(role_of_section != LT_ROLE_FOOTNOTE,
+              "footnote rule: the lines under the column-wide rule are not footnotes");
+    }
+    lt_arrangement_free(arr);
+    lt_cut_node_free(root);
+}
+
 static void test_empty(void)
 {
     lt_raw_lines raw = {NULL, 0};
@@ -232,6 +281,7 @@ int main(void)
     test_three_columns();
     test_columns_then_paragraph();
     test_row_pieces();
+    test_footnote_rule();
     test_empty();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_blocks");
