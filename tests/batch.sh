@@ -8,13 +8,9 @@ test_name=batch
 test_modules=PIL.Image
 test_timeout=600
 . "${top_srcdir:-.}/tests/harness.sh"
-tmp=$work
-bin=$lineate
-PYTHON3=$python
-top_srcdir=$srcdir
 
 # An archive of small pages (bands of the test pages) in nested folders, with a bad file.
-"$PYTHON3" - "$top_srcdir/testdata" "$tmp/archive" <<'PY' || exit 1
+"$python" - "$srcdir/testdata" "$work/archive" <<'PY' || exit 1
 import os, sys
 from PIL import Image
 src, dst = sys.argv[1], sys.argv[2]
@@ -30,52 +26,52 @@ for box in range(6):
 open(os.path.join(dst, "box0", "broken.png"), "wb").write(b"\x89PNG\r\n\x1a\n broken")
 open(os.path.join(dst, "box0", "notes.txt"), "w").write("not an image, and not taken")
 PY
-n_images=$(find "$tmp/archive" -name '*.png' | wc -l)
+n_images=$(find "$work/archive" -name '*.png' | wc -l)
 
-"$bin" -j 1 "$tmp/archive" >"$tmp/j1.jsonl" 2>"$tmp/j1.err"
+"$lineate" -j 1 "$work/archive" >"$work/j1.jsonl" 2>"$work/j1.err"
 rc1=$?
-"$bin" -j 2 "$tmp/archive" >"$tmp/j2.jsonl" 2>"$tmp/j2.err"
+"$lineate" -j 2 "$work/archive" >"$work/j2.jsonl" 2>"$work/j2.err"
 rc2=$?
 check "a folder: exit 1 (one bad file), the same with 1 and 2 threads" test "$rc1" -eq 1 -a "$rc2" -eq 1
-check "--jobs 1 and --jobs 2 give byte-identical output" cmp -s "$tmp/j1.jsonl" "$tmp/j2.jsonl"
-check "--jobs 1 and --jobs 2 give the same messages" cmp -s "$tmp/j1.err" "$tmp/j2.err"
-check "one record per image file ($n_images)" test "$(wc -l <"$tmp/j1.jsonl")" -eq "$n_images"
-check "the bad file has an error record" test "$(grep -c '"error"' "$tmp/j1.jsonl")" -eq 1
-find "$tmp/archive" -name '*.png' | sort >"$tmp/list"
-"$bin" -j 2 --from "$tmp/list" >"$tmp/from.jsonl" 2>/dev/null
-check "--from lists the same files: the same records" cmp -s "$tmp/j1.jsonl" "$tmp/from.jsonl"
-"$bin" -j 2 --from - <"$tmp/list" >"$tmp/from-stdin.jsonl" 2>/dev/null
-check "--from - reads the list from standard input" cmp -s "$tmp/j1.jsonl" "$tmp/from-stdin.jsonl"
+check "--jobs 1 and --jobs 2 give byte-identical output" cmp -s "$work/j1.jsonl" "$work/j2.jsonl"
+check "--jobs 1 and --jobs 2 give the same messages" cmp -s "$work/j1.err" "$work/j2.err"
+check "one record per image file ($n_images)" test "$(wc -l <"$work/j1.jsonl")" -eq "$n_images"
+check "the bad file has an error record" test "$(grep -c '"error"' "$work/j1.jsonl")" -eq 1
+find "$work/archive" -name '*.png' | sort >"$work/list"
+"$lineate" -j 2 --from "$work/list" >"$work/from.jsonl" 2>/dev/null
+check "--from lists the same files: the same records" cmp -s "$work/j1.jsonl" "$work/from.jsonl"
+"$lineate" -j 2 --from - <"$work/list" >"$work/from-stdin.jsonl" 2>/dev/null
+check "--from - reads the list from standard input" cmp -s "$work/j1.jsonl" "$work/from-stdin.jsonl"
 
 # --out-dir: a complete run, then a run killed halfway and resumed.
-"$bin" -j 2 --out-dir "$tmp/full" "$tmp/archive" 2>"$tmp/full.err"
-check "--out-dir: one file per page" test "$(find "$tmp/full" -name '*.json' | wc -l)" -eq "$n_images"
-check "--out-dir: a summary line" grep -q "pages done, 1 failed, 0 skipped" "$tmp/full.err"
-"$bin" -j 1 --out-dir "$tmp/part" "$tmp/archive" 2>/dev/null &
+"$lineate" -j 2 --out-dir "$work/full" "$work/archive" 2>"$work/full.err"
+check "--out-dir: one file per page" test "$(find "$work/full" -name '*.json' | wc -l)" -eq "$n_images"
+check "--out-dir: a summary line" grep -q "pages done, 1 failed, 0 skipped" "$work/full.err"
+"$lineate" -j 1 --out-dir "$work/part" "$work/archive" 2>/dev/null &
 pid=$!
 i=0
-while [ "$(find "$tmp/part" -name '*.json' 2>/dev/null | wc -l)" -lt 5 ] && [ $i -lt 600 ]; do
+while [ "$(find "$work/part" -name '*.json' 2>/dev/null | wc -l)" -lt 5 ] && [ $i -lt 600 ]; do
     sleep 0.05
     i=$((i + 1))
 done
 kill -9 $pid 2>/dev/null
 wait $pid 2>/dev/null
-partial=$(find "$tmp/part" -name '*.json' | wc -l)
+partial=$(find "$work/part" -name '*.json' | wc -l)
 check "the killed run left some pages ($partial), not all" test "$partial" -lt "$n_images"
-check "every page file the killed run left is complete JSON" "$PYTHON3" -c '
+check "every page file the killed run left is complete JSON" "$python" -c '
 import json, pathlib, sys
 for p in pathlib.Path(sys.argv[1]).rglob("*.json"):
-    json.loads(p.read_text())' "$tmp/part"
-"$bin" -j 2 --out-dir "$tmp/part" --resume "$tmp/archive" 2>"$tmp/resume.err"
-check "--resume skips the pages already done" grep -q "[1-9][0-9]* skipped" "$tmp/resume.err"
-check "resumed output equals the uninterrupted run" diff -r "$tmp/full" "$tmp/part"
-"$bin" --out-dir "$tmp/part" --resume "$tmp/archive" 2>"$tmp/again.err"
+    json.loads(p.read_text())' "$work/part"
+"$lineate" -j 2 --out-dir "$work/part" --resume "$work/archive" 2>"$work/resume.err"
+check "--resume skips the pages already done" grep -q "[1-9][0-9]* skipped" "$work/resume.err"
+check "resumed output equals the uninterrupted run" diff -r "$work/full" "$work/part"
+"$lineate" --out-dir "$work/part" --resume "$work/archive" 2>"$work/again.err"
 check "a second resume redoes only the failed page" \
-    grep -q "0 pages done, 1 failed, $((n_images - 1)) skipped" "$tmp/again.err"
+    grep -q "0 pages done, 1 failed, $((n_images - 1)) skipped" "$work/again.err"
 
 # One multi-page TIFF: its pages are shared out among the threads, and still come out in page
 # order, identical whatever the number of threads; from standard input too.
-"$PYTHON3" - "$top_srcdir/testdata" "$tmp/ledger.tif" <<'PY' || exit 1
+"$python" - "$srcdir/testdata" "$work/ledger.tif" <<'PY' || exit 1
 import sys
 from PIL import Image
 src, dst = sys.argv[1], sys.argv[2]
@@ -84,26 +80,26 @@ bands = [pages[i % 3].crop((0, 300 + 280 * i, 2550, 800 + 280 * i)) for i in ran
 bands[0].save(dst, save_all=True, append_images=bands[1:], compression="tiff_lzw", dpi=(300, 300))
 PY
 for j in 1 2 3; do
-    "$bin" -j $j "$tmp/ledger.tif" >"$tmp/ledger-j$j.jsonl" 2>/dev/null
+    "$lineate" -j $j "$work/ledger.tif" >"$work/ledger-j$j.jsonl" 2>/dev/null
 done
 check "a 7-page TIFF: 7 records, pages 1 to 7 in order" test "$(grep -o '"page":[0-9]*' \
-    "$tmp/ledger-j1.jsonl" | cut -d: -f2 | tr '\n' ' ')" = "1 2 3 4 5 6 7 "
+    "$work/ledger-j1.jsonl" | cut -d: -f2 | tr '\n' ' ')" = "1 2 3 4 5 6 7 "
 check "a 7-page TIFF: --jobs 2 and 3 give the bytes of --jobs 1" \
-    cmp -s "$tmp/ledger-j1.jsonl" "$tmp/ledger-j2.jsonl"
-check "a 7-page TIFF: --jobs 3 too" cmp -s "$tmp/ledger-j1.jsonl" "$tmp/ledger-j3.jsonl"
-"$bin" -j 1 - <"$tmp/ledger.tif" >"$tmp/ledger-stdin1.jsonl" 2>/dev/null
-"$bin" -j 2 - <"$tmp/ledger.tif" >"$tmp/ledger-stdin2.jsonl" 2>/dev/null
+    cmp -s "$work/ledger-j1.jsonl" "$work/ledger-j2.jsonl"
+check "a 7-page TIFF: --jobs 3 too" cmp -s "$work/ledger-j1.jsonl" "$work/ledger-j3.jsonl"
+"$lineate" -j 1 - <"$work/ledger.tif" >"$work/ledger-stdin1.jsonl" 2>/dev/null
+"$lineate" -j 2 - <"$work/ledger.tif" >"$work/ledger-stdin2.jsonl" 2>/dev/null
 check "a 7-page TIFF on standard input: 7 records" \
-    test "$(grep -c '"lines"' "$tmp/ledger-stdin2.jsonl")" -eq 7
+    test "$(grep -c '"lines"' "$work/ledger-stdin2.jsonl")" -eq 7
 check "a 7-page TIFF on standard input: --jobs 2 gives the bytes of --jobs 1" \
-    cmp -s "$tmp/ledger-stdin1.jsonl" "$tmp/ledger-stdin2.jsonl"
-"$bin" -j 2 --out-dir "$tmp/ledger" "$tmp/ledger.tif" 2>/dev/null
-rm -f "$tmp/ledger/ledger.p3.json" "$tmp/ledger/ledger.p6.json"
-"$bin" -j 2 --out-dir "$tmp/ledger" --resume "$tmp/ledger.tif" 2>"$tmp/ledger-resume.err"
+    cmp -s "$work/ledger-stdin1.jsonl" "$work/ledger-stdin2.jsonl"
+"$lineate" -j 2 --out-dir "$work/ledger" "$work/ledger.tif" 2>/dev/null
+rm -f "$work/ledger/ledger.p3.json" "$work/ledger/ledger.p6.json"
+"$lineate" -j 2 --out-dir "$work/ledger" --resume "$work/ledger.tif" 2>"$work/ledger-resume.err"
 check "a 7-page TIFF resumed with 2 threads redoes the 2 missing pages" \
-    grep -q "2 pages done, 0 failed, 5 skipped" "$tmp/ledger-resume.err"
-for i in 1 2 3 4 5 6 7; do cat "$tmp/ledger/ledger.p$i.json"; done >"$tmp/ledger-merged.jsonl"
+    grep -q "2 pages done, 0 failed, 5 skipped" "$work/ledger-resume.err"
+for i in 1 2 3 4 5 6 7; do cat "$work/ledger/ledger.p$i.json"; done >"$work/ledger-merged.jsonl"
 check "a 7-page TIFF: its page files equal the stream" \
-    cmp -s "$tmp/ledger-j1.jsonl" "$tmp/ledger-merged.jsonl"
+    cmp -s "$work/ledger-j1.jsonl" "$work/ledger-merged.jsonl"
 echo "batch: $failed failed"
 [ "$failed" -eq 0 ]

@@ -17,22 +17,18 @@ test_name=parallel
 test_modules=PIL.Image
 test_timeout=600
 . "${top_srcdir:-.}/tests/harness.sh"
-tmp=$work
-bin=$lineate
-PYTHON3=$python
-top_srcdir=$srcdir
 command -v parallel >/dev/null 2>&1 ||
     { echo "SKIP: GNU parallel missing (package parallel)"; exit 77; }
 parallel --version 2>/dev/null | grep -q 'GNU parallel' ||
     { echo "SKIP: 'parallel' is not GNU parallel"; exit 77; }
 # GNU parallel keeps its state in $PARALLEL_HOME (default ~/.parallel): here, in the test folder.
-PARALLEL_HOME=$tmp/parallel-home
+PARALLEL_HOME=$work/parallel-home
 export PARALLEL_HOME
 
 # An archive: 14 bands of the three test pages in two folders (unique base names, which the
 # recipe needs), a 1-bit page, and an 11-page TIFF (page 10 must merge after page 9, not
 # after page 1).
-"$PYTHON3" - "$top_srcdir/testdata" "$tmp/archive" <<'PY' || exit 1
+"$python" - "$srcdir/testdata" "$work/archive" <<'PY' || exit 1
 import os, sys
 from PIL import Image
 src, dst = sys.argv[1], sys.argv[2]
@@ -50,13 +46,13 @@ bands = [pages[i % 3].crop((0, 300 + 250 * i, 2550, 650 + 250 * i)) for i in ran
 bands[0].save(os.path.join(dst, "shelf1", "ledger.tif"), save_all=True,
               append_images=bands[1:], compression="tiff_lzw", dpi=(300, 300))
 PY
-find "$tmp/archive" -type f | sort >"$tmp/pages.list"
+find "$work/archive" -type f | sort >"$work/pages.list"
 n_pages=$((14 + 1 + 11))
 
 # The reference: one process, one thread, the same list in the same order.
-"$bin" -j 1 --from "$tmp/pages.list" >"$tmp/single.jsonl" 2>"$tmp/single.err"
+"$lineate" -j 1 --from "$work/pages.list" >"$work/single.jsonl" 2>"$work/single.err"
 check "the single run analyses every page (exit 0)" test $? -eq 0
-check "the single run gives $n_pages records" test "$(wc -l <"$tmp/single.jsonl")" -eq "$n_pages"
+check "the single run gives $n_pages records" test "$(wc -l <"$work/single.jsonl")" -eq "$n_pages"
 
 # ---- the recipe (as in DEVELOPERS.md, with -S : for the host list) ---------------------------
 # merge_pages LIST DIR: the page files of DIR for the inputs of LIST, in list order, a file's
@@ -80,58 +76,58 @@ merge_pages() {
         fi
     done <"$1"
 }
-list=$tmp/pages.list
-out=$tmp/layouts
+list=$work/pages.list
+out=$work/layouts
 dups=$(sed 's|.*/||; s|\.[^.]*$||' "$list" | sort | uniq -d)
 check "base names in the list are unique" test -z "$dups"
 parallel --will-cite --pipe -N 4 -S 2/: \
-    "'$bin' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$tmp/run1.err"
+    "'$lineate' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$work/run1.err"
 check "the spread run: every job succeeded" test $? -eq 0
 check "the spread run: one file per page" \
     test "$(find "$out" -name '*.json' | wc -l)" -eq "$n_pages"
 n_inputs=$(wc -l <"$list")
 check "the list of $n_inputs files was cut into jobs of at most 4 inputs" \
-    test "$(grep -c 'pages done' "$tmp/run1.err")" -eq $(((n_inputs + 3) / 4))
-merge_pages "$list" "$out" >"$tmp/merged.jsonl"
+    test "$(grep -c 'pages done' "$work/run1.err")" -eq $(((n_inputs + 3) / 4))
+merge_pages "$list" "$out" >"$work/merged.jsonl"
 check "the merge found every page file" test $? -eq 0
 check "merged output equals the single lineate -j 1 run, byte for byte" \
-    cmp "$tmp/single.jsonl" "$tmp/merged.jsonl"
+    cmp "$work/single.jsonl" "$work/merged.jsonl"
 check "the 11-page TIFF merged in page order" test "$(grep -o '"page":[0-9]*,"pages":11' \
-    "$tmp/merged.jsonl" | cut -d: -f2 | cut -d, -f1 | tr '\n' ' ')" = "1 2 3 4 5 6 7 8 9 10 11 "
+    "$work/merged.jsonl" | cut -d: -f2 | cut -d, -f1 | tr '\n' ' ')" = "1 2 3 4 5 6 7 8 9 10 11 "
 
 # A rerun of the same recipe: every page is complete, so every job skips all of its pages.
-find "$out" -name '*.json' -exec cksum {} + | sort >"$tmp/before"
+find "$out" -name '*.json' -exec cksum {} + | sort >"$work/before"
 parallel --will-cite --pipe -N 4 -S 2/: \
-    "'$bin' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$tmp/run2.err"
+    "'$lineate' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$work/run2.err"
 check "the rerun: every job succeeded" test $? -eq 0
-skipped=$(sed -n 's/.* \([0-9]*\) skipped,.*/\1/p' "$tmp/run2.err" |
+skipped=$(sed -n 's/.* \([0-9]*\) skipped,.*/\1/p' "$work/run2.err" |
     awk '{ s += $1 } END { print s + 0 }')
-done_pages=$(sed -n 's/^lineate: \([0-9]*\) pages done.*/\1/p' "$tmp/run2.err" |
+done_pages=$(sed -n 's/^lineate: \([0-9]*\) pages done.*/\1/p' "$work/run2.err" |
     awk '{ s += $1 } END { print s + 0 }')
 check "the rerun skips every page ($skipped of $n_pages skipped, $done_pages analysed)" \
     test "$skipped" -eq "$n_pages" -a "$done_pages" -eq 0
-find "$out" -name '*.json' -exec cksum {} + | sort >"$tmp/after"
-check "the rerun left every page file as it was" cmp -s "$tmp/before" "$tmp/after"
+find "$out" -name '*.json' -exec cksum {} + | sort >"$work/after"
+check "the rerun left every page file as it was" cmp -s "$work/before" "$work/after"
 
 # A slice lost (its page files deleted, as when a host died): the rerun redoes only those.
 rm -f "$out"/leaf03.json "$out"/ledger.p1*.json "$out"/ledger.p7.json
 parallel --will-cite --pipe -N 4 -S 2/: \
-    "'$bin' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$tmp/run3.err"
-done_pages=$(sed -n 's/^lineate: \([0-9]*\) pages done.*/\1/p' "$tmp/run3.err" |
+    "'$lineate' -j 1 --out-dir '$out' --resume --from -" <"$list" 2>"$work/run3.err"
+done_pages=$(sed -n 's/^lineate: \([0-9]*\) pages done.*/\1/p' "$work/run3.err" |
     awk '{ s += $1 } END { print s + 0 }')
 check "after losing 5 page files the rerun analyses exactly those ($done_pages)" \
     test "$done_pages" -eq 5
-merge_pages "$list" "$out" >"$tmp/merged2.jsonl"
-check "and the merge again equals the single run" cmp "$tmp/single.jsonl" "$tmp/merged2.jsonl"
+merge_pages "$list" "$out" >"$work/merged2.jsonl"
+check "and the merge again equals the single run" cmp "$work/single.jsonl" "$work/merged2.jsonl"
 rm -f "$out"/leaf05.json
-merge_pages "$list" "$out" >/dev/null 2>"$tmp/merge.err"
+merge_pages "$list" "$out" >/dev/null 2>"$work/merge.err"
 check "a missing page file makes the merge fail, naming the input" \
-    test $? -ne 0 -a -n "$(grep 'leaf05.png: no page file' "$tmp/merge.err")"
+    test $? -ne 0 -a -n "$(grep 'leaf05.png: no page file' "$work/merge.err")"
 # ---- the variant without a shared file system (DEVELOPERS.md) -------------------------------
-# Stand-in hosts: "ssh HOST COMMAND" runs COMMAND in $tmp/hosts/HOST, which holds only what
+# Stand-in hosts: "ssh HOST COMMAND" runs COMMAND in $work/hosts/HOST, which holds only what
 # parallel copied there with rsync (which it also runs through this ssh).
 if command -v rsync >/dev/null 2>&1; then
-    cat >"$tmp/stand-in-ssh" <<EOF
+    cat >"$work/stand-in-ssh" <<EOF
 #!/bin/sh
 while [ \$# -gt 0 ]; do
     case "\$1" in -[oplicSOFJ]) shift 2 ;; -*) shift ;; *) break ;; esac
@@ -139,20 +135,20 @@ done
 host=\$1
 shift
 [ "\${1:-}" = "--" ] && shift
-echo "\$host \$*" >>"$tmp/ssh.log"
-mkdir -p "$tmp/hosts/\$host" && cd "$tmp/hosts/\$host" && HOME=\$PWD exec sh -c "\$*"
+echo "\$host \$*" >>"$work/ssh.log"
+mkdir -p "$work/hosts/\$host" && cd "$work/hosts/\$host" && HOME=\$PWD exec sh -c "\$*"
 EOF
-    chmod +x "$tmp/stand-in-ssh"
-    job=$tmp/job
-    mkdir -p "$job" && ln -s "$tmp/archive" "$job/archive"
+    chmod +x "$work/stand-in-ssh"
+    job=$work/job
+    mkdir -p "$job" && ln -s "$work/archive" "$job/archive"
     (cd "$job" && find archive/ -type f | LC_ALL=C sort >list &&
-        "$bin" -j 1 --from list >"$tmp/single-relative.jsonl" 2>/dev/null)
+        "$lineate" -j 1 --from list >"$work/single-relative.jsonl" 2>/dev/null)
     n_inputs=$(wc -l <"$job/list")
     n_jobs=$(((n_inputs + 2) / 3))
     spread() { # the recipe's step, with the stand-in hosts and 3 inputs a job
-        (cd "$job" && parallel --will-cite --ssh "$tmp/stand-in-ssh" -S 1/hostA,1/hostB -N 3 \
+        (cd "$job" && parallel --will-cite --ssh "$work/stand-in-ssh" -S 1/hostA,1/hostB -N 3 \
             --workdir ... --transferfile {} --return {#}.jsonl --cleanup --joblog jobs.log "$@" \
-            "'$bin' -j 2 {} > {#}.jsonl" <list) 2>"$tmp/transfer.err"
+            "'$lineate' -j 2 {} > {#}.jsonl" <list) 2>"$work/transfer.err"
     }
     merge_numbered() { # the returned files 1.jsonl .. N.jsonl in order
         i=1
@@ -166,27 +162,27 @@ EOF
     check "transfer: one returned file per job of 3 inputs ($n_jobs)" \
         test "$(find "$job" -name '[0-9]*.jsonl' | wc -l)" -eq "$n_jobs"
     check "transfer: both stand-in hosts received inputs through rsync" \
-        test "$(grep -c '^hostA rsync --server' "$tmp/ssh.log")" -gt 0 -a \
-        "$(grep -c '^hostB rsync --server' "$tmp/ssh.log")" -gt 0
+        test "$(grep -c '^hostA rsync --server' "$work/ssh.log")" -gt 0 -a \
+        "$(grep -c '^hostB rsync --server' "$work/ssh.log")" -gt 0
     check "transfer: --cleanup left no file on the hosts" \
-        test -d "$tmp/hosts/hostA" -a -z "$(find "$tmp/hosts" -type f)"
-    merge_numbered >"$tmp/merged-transfer.jsonl"
+        test -d "$work/hosts/hostA" -a -z "$(find "$work/hosts" -type f)"
+    merge_numbered >"$work/merged-transfer.jsonl"
     check "transfer: merged output equals the single lineate -j 1 run, byte for byte" \
-        cmp "$tmp/single-relative.jsonl" "$tmp/merged-transfer.jsonl"
-    log_lines=$(wc -l <"$tmp/ssh.log")
+        cmp "$work/single-relative.jsonl" "$work/merged-transfer.jsonl"
+    log_lines=$(wc -l <"$work/ssh.log")
     spread --resume
     check "transfer: a rerun with --resume runs no job" \
-        test $? -eq 0 -a "$(wc -l <"$tmp/ssh.log")" -eq "$log_lines"
+        test $? -eq 0 -a "$(wc -l <"$work/ssh.log")" -eq "$log_lines"
     # A job lost with its host: its result and its job-log line are gone; --resume redoes it.
     rm -f "$job/3.jsonl"
     awk -F '\t' '$1 != 3' "$job/jobs.log" >"$job/jobs.log.new" &&
         mv "$job/jobs.log.new" "$job/jobs.log"
     spread --resume
     check "transfer: the rerun after a lost job redoes exactly that job" \
-        test "$(grep -c '^host[AB] exec perl' "$tmp/ssh.log")" -eq $((n_jobs + 1))
-    merge_numbered >"$tmp/merged-transfer2.jsonl"
+        test "$(grep -c '^host[AB] exec perl' "$work/ssh.log")" -eq $((n_jobs + 1))
+    merge_numbered >"$work/merged-transfer2.jsonl"
     check "transfer: and the merge again equals the single run" \
-        cmp "$tmp/single-relative.jsonl" "$tmp/merged-transfer2.jsonl"
+        cmp "$work/single-relative.jsonl" "$work/merged-transfer2.jsonl"
 else
     echo "skip the transfer variant: rsync missing (package rsync)"
 fi
