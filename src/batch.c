@@ -440,9 +440,8 @@ static void open_input(pool *p, int k)
     if (lt_source_open(p->in->items[k].path, p->opt->max_pages, &src, &err) == 0)
         pages = lt_source_pages(src);
     result *results = calloc((size_t)(pages > 0 ? pages : 1), sizeof *results);
-    if (results && pages == 0) { /* did not open, or no page: one error record */
-        fail_page(&results[0], p->opt, &p->in->items[k], 0, 0,
-                  src ? "no page in the file" : err.message);
+    if (results && pages == 0) { /* did not open (an open source has a page): one error record */
+        fail_page(&results[0], p->opt, &p->in->items[k], 0, 0, err.message);
         results[0].finished = 1;
     }
     if (!results) pages = 0; /* out of memory: the writer reports the input */

@@ -34,16 +34,18 @@ int lt_sauvola_window_px(const lt_params *p, double dpi)
 }
 
 /* Sauvola's threshold at every pixel, from running column sums and running sums along the
- * row. */
-static int binarize_exact(const lt_image *gray, int window_px, double k, double r, lt_image *out)
+ * row. Sets *ink, or returns LT_ENOMEM. */
+static int binarize_exact(const lt_image *gray, int window_px, double k, double r, lt_image **ink)
 {
     const int w = gray->width, h = gray->height, half = window_px / 2;
+    lt_image *out = lt_image_new(w, h, LT_IMAGE_INK);
     uint32_t *colsum = calloc((size_t)w, sizeof *colsum);
     uint32_t *colsq = calloc((size_t)w, sizeof *colsq); /* <= 65535 rows x 255^2 < 2^32 */
     double *winsum = malloc((size_t)w * sizeof *winsum), *winsq = malloc((size_t)w * sizeof *winsq);
     double *inv_cols = malloc((size_t)w * sizeof *inv_cols);
     int rc = LT_ENOMEM;
-    if (!colsum || !colsq || !winsum || !winsq || !inv_cols) goto done;
+    if (!out || !colsum || !colsq || !winsum || !winsq || !inv_cols) goto done;
+    out->dpi = gray->dpi;
     const double k_over_r = k / r;
     for (int x = 0; x < w; x++) {
         int right = x + half < w ? x + half : w - 1, left = x - half > 0 ? x - half : 0;
@@ -99,8 +101,11 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, double 
         for (int x = 0; x < w; x++)
             dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, k_over_r);
     }
+    *ink = out;
+    out = NULL;
     rc = 0;
 done:
+    lt_image_free(out);
     free(colsum);
     free(colsq);
     free(winsum);
@@ -117,7 +122,8 @@ done:
  * the pixels in between it is interpolated bilinearly from the four nearest tile centres. The
  * threshold is a statistic of a wide window and varies slowly across the page, so the
  * interpolation moves it by a small fraction of a gray level while the window sums and square
- * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold. */
+ * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold.
+ * Sets *ink, or returns LT_ENOMEM. */
 static int binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink)
 {
     const int w = gray->width, h = gray->height, centre = TILE / 2;
@@ -206,6 +212,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     tsq = NULL;
     if (!(out = lt_image_new(w, h, LT_IMAGE_INK))) goto done;
     out->dpi = gray->dpi;
+    const int32_t unit = TILE * TILE << 16; /* gray values and thresholds both x TILE^2 (< 2^31) */
     for (int y = 0; y < h; y++) {
         int ty = y < centre ? 0 : (y - centre) / TILE, j = y < centre ? 0 : (y - centre) % TILE;
         if (ty >= gh - 1) ty = gh - 1, j = 0;
@@ -214,8 +221,6 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             row_thr[t] = above[t] * (TILE - j) + below[t] * j;
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
-        /* Gray values and thresholds both x TILE^2, in 16.16 fixed point (< 2^31). */
-        const int32_t unit = TILE * TILE << 16;
         int x = 0;
         for (; x < centre && x < w; x++)
             dst[x] = src[x] * unit <= row_thr[0] * TILE;
@@ -251,18 +256,10 @@ static int binarize(const lt_image *gray, int window_px, double k, double r, int
         r <= 0 || k < 0)
         return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
     /* Sampling needs a window of whole tiles, odd, and wide against a tile (9 tiles at least). */
-    if (sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE)
-        return binarize_sampled(gray, window_px, k, r, ink)
-                   ? lt_error_set(err, LT_ENOMEM, "binarize: out of memory")
-                   : 0;
-    lt_image *out = lt_image_new(gray->width, gray->height, LT_IMAGE_INK);
-    if (!out || binarize_exact(gray, window_px, k, r, out)) {
-        lt_image_free(out);
-        return lt_error_set(err, LT_ENOMEM, "binarize: out of memory");
-    }
-    out->dpi = gray->dpi;
-    *ink = out;
-    return 0;
+    sampled = sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE;
+    int rc = sampled ? binarize_sampled(gray, window_px, k, r, ink)
+                     : binarize_exact(gray, window_px, k, r, ink);
+    return rc ? lt_error_set(err, rc, "binarize: out of memory") : 0;
 }
 
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
