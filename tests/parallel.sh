@@ -125,7 +125,10 @@ check "a missing page file makes the merge fail, naming the input" \
     test $? -ne 0 -a -n "$(grep 'leaf05.png: no page file' "$work/merge.err")"
 # ---- the variant without a shared file system (DEVELOPERS.md) -------------------------------
 # Stand-in hosts: "ssh HOST COMMAND" runs COMMAND in $work/hosts/HOST, which holds only what
-# parallel copied there with rsync (which it also runs through this ssh).
+# parallel copied there with rsync (which it also runs through this ssh). It is run by sh, not
+# executed itself, as the work folder may be on a file system mounted noexec (a common /tmp).
+# Like sshd it gives the command a HOME and a SHELL: parallel's remote side runs the job with
+# $SHELL, which the caller's environment may lack.
 if command -v rsync >/dev/null 2>&1; then
     cat >"$work/stand-in-ssh" <<EOF
 #!/bin/sh
@@ -136,9 +139,8 @@ host=\$1
 shift
 [ "\${1:-}" = "--" ] && shift
 echo "\$host \$*" >>"$work/ssh.log"
-mkdir -p "$work/hosts/\$host" && cd "$work/hosts/\$host" && HOME=\$PWD exec sh -c "\$*"
+mkdir -p "$work/hosts/\$host" && cd "$work/hosts/\$host" && HOME=\$PWD SHELL=/bin/sh exec sh -c "\$*"
 EOF
-    chmod +x "$work/stand-in-ssh"
     job=$work/job
     mkdir -p "$job" && ln -s "$work/archive" "$job/archive"
     (cd "$job" && find archive/ -type f | LC_ALL=C sort >list &&
@@ -146,7 +148,7 @@ EOF
     n_inputs=$(wc -l <"$job/list")
     n_jobs=$(((n_inputs + 2) / 3))
     spread() { # the recipe's step, with the stand-in hosts and 3 inputs a job
-        (cd "$job" && parallel --will-cite --ssh "$work/stand-in-ssh" -S 1/hostA,1/hostB -N 3 \
+        (cd "$job" && parallel --will-cite --ssh "sh $work/stand-in-ssh" -S 1/hostA,1/hostB -N 3 \
             --workdir ... --transferfile {} --return {#}.jsonl --cleanup --joblog jobs.log "$@" \
             "'$lineate' -j 2 {} > {#}.jsonl" <list) 2>"$work/transfer.err"
     }
