@@ -23,7 +23,7 @@
  *   column count C the truth pages of that variant give ("columns"), each with the lines
  *   pages, truth lines, predicted lines, IoU >= 0.50, IoU >= 0.75 (precision, recall, F1 from
  *   match counts summed over the pages, and the match count), mean page F1 (mean of the
- *   pages' F1 at IoU >= 0.50), splits, merges (with cross-column merges), reading order
+ *   pages' F1 at IoU >= 0.50), splits, merges (with side-by-side and cross-column merges), reading order
  *   (median and minimum tau over the pages where tau is defined), skew error (median and
  *   maximum in degrees over the pages where both skews are known). Lists of missing, failed,
  *   unreadable and skipped pages follow.
@@ -34,13 +34,13 @@
  *       "name", "variant" (string or null), "status" ("scored", "missing", "failed",
  *       "unreadable", "skipped"), "truth_lines", "pred_lines", "matched_50", "matched_75",
  *       "precision_50", "recall_50", "f1_50", "precision_75", "recall_75", "f1_75",
- *       "splits", "merges", "cross_column_merges", "order_pairs" (matched in-order pairs
+ *       "splits", "merges", "side_by_side_merges", "cross_column_merges", "order_pairs" (matched in-order pairs
  *       tau is computed over), "tau" (number or null), "skew_error_deg" (number or null);
  *       a skipped page has only name, variant and status,
  *   "summary": { "pages", "missing", "failed", "unreadable", "truth_lines", "pred_lines",
  *       "matched_50", "matched_75", "precision_50", "recall_50", "f1_50", "precision_75",
- *       "recall_75", "f1_75", "mean_page_f1_50", "splits", "merges", "cross_column_merges",
- *       "tau_pages", "tau_median", "tau_min", "skew_pages", "skew_error_median_deg",
+ *       "recall_75", "f1_75", "mean_page_f1_50", "splits", "merges", "side_by_side_merges",
+ *       "cross_column_merges", "tau_pages", "tau_median", "tau_min", "skew_pages", "skew_error_median_deg",
  *       "skew_error_max_deg" }    (the tau and skew statistics are null over no pages),
  *   "variants": { NAME: {same fields as "summary", "by_columns": { "C": {same fields as
  *       "summary"}, ... }}, ... }   only when the truth has variants,
@@ -86,7 +86,7 @@ typedef struct summary {
     long truth_lines, pred_lines, matched_50, matched_75;
     double precision_50, recall_50, f1_50, precision_75, recall_75, f1_75;
     double mean_page_f1_50;
-    long splits, merges, cross_merges;
+    long splits, merges, side_merges, column_merges;
     int tau_pages, skew_pages;
     double tau_median, tau_min, skew_median_deg, skew_max_deg;
 } summary;
@@ -232,7 +232,8 @@ static void summarize(const results *r, const char *variant, int columns, double
         s->matched_75 += e->s.matched_75;
         s->splits += e->s.splits;
         s->merges += e->s.merges;
-        s->cross_merges += e->s.cross_merges;
+        s->side_merges += e->s.side_merges;
+        s->column_merges += e->s.column_merges;
         f1_sum += e->s.f1_50;
     }
     lt_prf(s->matched_50, s->truth_lines, s->pred_lines, &s->precision_50, &s->recall_50,
@@ -319,7 +320,8 @@ static void print_summary(const char *title, const summary *s)
            s->precision_75, s->recall_75, s->f1_75, s->matched_75);
     printf("  mean page F1      %.4f (IoU >= 0.50)\n", s->mean_page_f1_50);
     printf("  splits            %ld\n", s->splits);
-    printf("  merges            %ld (cross-column %ld)\n", s->merges, s->cross_merges);
+    printf("  merges            %ld (side by side %ld, across columns %ld)\n", s->merges,
+           s->side_merges, s->column_merges);
     if (s->tau_pages)
         printf("  reading order     tau median %.4f, min %.4f (%d page%s)\n", s->tau_median,
                s->tau_min, s->tau_pages, s->tau_pages == 1 ? "" : "s");
@@ -422,7 +424,8 @@ static cJSON *summary_json(const summary *s)
     bad |= add_num(o, "mean_page_f1_50", round6(s->mean_page_f1_50), 1);
     bad |= add_num(o, "splits", (double)s->splits, 1);
     bad |= add_num(o, "merges", (double)s->merges, 1);
-    bad |= add_num(o, "cross_column_merges", (double)s->cross_merges, 1);
+    bad |= add_num(o, "side_by_side_merges", (double)s->side_merges, 1);
+    bad |= add_num(o, "cross_column_merges", (double)s->column_merges, 1);
     bad |= add_num(o, "tau_pages", s->tau_pages, 1);
     bad |= add_num(o, "tau_median", round6(s->tau_median), s->tau_pages > 0);
     bad |= add_num(o, "tau_min", round6(s->tau_min), s->tau_pages > 0);
@@ -458,7 +461,8 @@ static cJSON *page_json(const result *e)
         bad |= add_num(o, "f1_75", round6(s->f1_75), 1);
         bad |= add_num(o, "splits", s->splits, 1);
         bad |= add_num(o, "merges", s->merges, 1);
-        bad |= add_num(o, "cross_column_merges", s->cross_merges, 1);
+        bad |= add_num(o, "side_by_side_merges", s->side_merges, 1);
+        bad |= add_num(o, "cross_column_merges", s->column_merges, 1);
         bad |= add_num(o, "order_pairs", s->order_pairs, 1);
         bad |= add_num(o, "tau", round6(s->tau), s->has_tau);
         bad |= add_num(o, "skew_error_deg", round6(s->skew_error_deg), s->has_skew_error);

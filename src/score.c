@@ -279,24 +279,50 @@ int lt_kendall_tau_a(const int *seq, int n, double *tau)
 
 /* ---- splits and merges ----------------------------------------------------------------- */
 
+/* Merge kinds of an outer box, bits of kinds[a]. */
+enum { SIDE_BY_SIDE = 1, ACROSS_COLUMNS = 2 };
+
+/* Whether inner boxes i and j lie side by side (they overlap vertically by at least half the
+ * smaller height) and, when they do, whether the inner boxes between them in inner's order
+ * (the truth's reading order) include one wholly above or below both: the reader leaves their
+ * row between them, down a column, so they stand in different columns. Returns the bits. */
+static int pair_kind(const lt_scored_line *inner, int i, int j, long *tests)
+{
+    const lt_box *bi = &inner[i].box, *bj = &inner[j].box;
+    const long top = bi->top > bj->top ? bi->top : bj->top;
+    const long bottom = bi->bottom < bj->bottom ? bi->bottom : bj->bottom;
+    const long hi = (long)bi->bottom - bi->top, hj = (long)bj->bottom - bj->top;
+    if (bottom <= top || 2 * (bottom - top) < (hi < hj ? hi : hj)) return 0;
+    const long row_top = bi->top < bj->top ? bi->top : bj->top;
+    const long row_bottom = bi->bottom > bj->bottom ? bi->bottom : bj->bottom;
+    const int lo = i < j ? i : j, up = i < j ? j : i;
+    for (int k = lo + 1; k < up; k++) {
+        ++*tests;
+        const lt_box *bk = &inner[k].box;
+        if (lt_box_area(bk) > 0 && (bk->bottom <= row_top || bk->top >= row_bottom))
+            return SIDE_BY_SIDE | ACROSS_COLUMNS;
+    }
+    return SIDE_BY_SIDE;
+}
+
 /* For every `outer` box, counts the `inner` boxes with at least half of their own area
  * inside it, sweeping the inner boxes sorted by top over the window of window_start.
- * counts[a] receives min(count, 2) for each outer a; when `crossed` is not NULL, crossed[a]
- * is set when two of its inner boxes overlap vertically by at least half the smaller
- * height. When `partner` is not NULL, inner box b with partner[b] >= 0 (matched one-to-one to
- * that outer box) is not counted inside any other outer box. *tests accumulates the pairs
- * examined (LT_ELIMIT past LT_SCORE_MAX_PAIR_TESTS). */
+ * counts[a] receives min(count, 2) for each outer a; when `kinds` is not NULL, kinds[a]
+ * receives the bits of pair_kind over the pairs of its inner boxes. When `partner` is not
+ * NULL, inner box b with partner[b] >= 0 (matched one-to-one to that outer box) is not counted
+ * inside any other outer box. *tests accumulates the pairs examined (LT_ELIMIT past
+ * LT_SCORE_MAX_PAIR_TESTS). */
 static int count_inside(const lt_scored_line *outer, int nouter, const lt_scored_line *inner,
                         int ninner, const int *partner, unsigned char *counts,
-                        unsigned char *crossed, long *tests, lt_error *err)
+                        unsigned char *kinds, long *tests, lt_error *err)
 {
     memset(counts, 0, (size_t)nouter);
-    if (crossed) memset(crossed, 0, (size_t)nouter);
+    if (kinds) memset(kinds, 0, (size_t)nouter);
     if (ninner == 0 || nouter == 0) return 0;
     sorted_ref *is = sort_by_top(inner, ninner);
-    int *inside = crossed ? malloc((size_t)ninner * sizeof *inside) : NULL;
+    int *inside = kinds ? malloc((size_t)ninner * sizeof *inside) : NULL;
     int rc = 0;
-    if (!is || (crossed && !inside)) {
+    if (!is || (kinds && !inside)) {
         rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
         goto done;
     }
@@ -305,11 +331,7 @@ static int count_inside(const lt_scored_line *outer, int nouter, const lt_scored
         if (lt_box_area(ab) == 0) continue;
         int found = 0;
         for (int k = window_start(is, ninner, ab); k < ninner && is[k].top < ab->bottom; k++) {
-            if (++*tests > LT_SCORE_MAX_PAIR_TESTS) {
-                rc = lt_error_set(err, LT_ELIMIT, "score: more than %ld overlapping box pairs",
-                                  LT_SCORE_MAX_PAIR_TESTS);
-                goto done;
-            }
+            if (++*tests > LT_SCORE_MAX_PAIR_TESTS) goto too_many;
             int b = is[k].index;
             if (partner && partner[b] >= 0 && partner[b] != a) continue;
             const lt_box *bb = &inner[b].box;
@@ -317,31 +339,24 @@ static int count_inside(const lt_scored_line *outer, int nouter, const lt_scored
             if (area_b == 0 || 2 * lt_box_intersection(ab, bb) < area_b) continue;
             if (inside) inside[found] = b;
             found++;
-            if (!crossed && found >= 2) break;
+            if (!kinds && found >= 2) break;
         }
         counts[a] = (unsigned char)(found >= 2 ? 2 : found);
-        if (!crossed || found < 2) continue;
+        if (!kinds || found < 2) continue;
         /* inside[] is in order of top; a pair overlaps vertically only while top_j < bottom_i */
-        for (int i = 0; i < found && !crossed[a]; i++) {
+        for (int i = 0; i < found && !(kinds[a] & ACROSS_COLUMNS); i++) {
             const lt_box *bi = &inner[inside[i]].box;
-            for (int j = i + 1; j < found; j++) {
-                const lt_box *bj = &inner[inside[j]].box;
-                if (bj->top >= bi->bottom) break;
-                if (++*tests > LT_SCORE_MAX_PAIR_TESTS) {
-                    rc = lt_error_set(err, LT_ELIMIT, "score: more than %ld overlapping box pairs",
-                                      LT_SCORE_MAX_PAIR_TESTS);
-                    goto done;
-                }
-                long hi = (long)bi->bottom - bi->top, hj = (long)bj->bottom - bj->top;
-                long ov = (bi->bottom < bj->bottom ? bi->bottom : bj->bottom) - (long)bj->top;
-                long hmin = hi < hj ? hi : hj;
-                if (ov > 0 && 2 * ov >= hmin) {
-                    crossed[a] = 1;
-                    break;
-                }
+            for (int j = i + 1; j < found && inner[inside[j]].box.top < bi->bottom; j++) {
+                kinds[a] |= (unsigned char)pair_kind(inner, inside[i], inside[j], tests);
+                if (++*tests > LT_SCORE_MAX_PAIR_TESTS) goto too_many;
+                if (kinds[a] & ACROSS_COLUMNS) break;
             }
         }
     }
+    goto done;
+too_many:
+    rc = lt_error_set(err, LT_ELIMIT, "score: more than %ld overlapping box pairs",
+                      LT_SCORE_MAX_PAIR_TESTS);
 done:
     free(is);
     free(inside);
@@ -350,14 +365,14 @@ done:
 
 int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
                            int npred, const lt_line_match *matches, int nmatches, int *splits,
-                           int *merges, int *cross_merges, lt_error *err)
+                           int *merges, int *side_merges, int *column_merges, lt_error *err)
 {
-    *splits = *merges = *cross_merges = 0;
+    *splits = *merges = *side_merges = *column_merges = 0;
     if (ntruth < 0 || npred < 0 || (ntruth > 0 && !truth) || (npred > 0 && !pred))
         return lt_error_set(err, LT_EINVAL, "score: bad line arrays");
     if (ntruth == 0 || npred == 0) return 0;
     unsigned char *tc = malloc((size_t)ntruth), *pc = malloc((size_t)npred);
-    unsigned char *cross = malloc((size_t)npred);
+    unsigned char *kind = malloc((size_t)npred);
     int *truth_partner = NULL, *pred_partner = NULL;
     long tests = 0;
     int rc = 0;
@@ -365,7 +380,7 @@ int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_sco
         truth_partner = malloc((size_t)ntruth * sizeof *truth_partner);
         pred_partner = malloc((size_t)npred * sizeof *pred_partner);
     }
-    if (!tc || !pc || !cross || (matches && (!truth_partner || !pred_partner))) {
+    if (!tc || !pc || !kind || (matches && (!truth_partner || !pred_partner))) {
         rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
         goto done;
     }
@@ -385,18 +400,19 @@ int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_sco
         }
     }
     rc = count_inside(truth, ntruth, pred, npred, pred_partner, tc, NULL, &tests, err);
-    if (!rc) rc = count_inside(pred, npred, truth, ntruth, truth_partner, pc, cross, &tests, err);
+    if (!rc) rc = count_inside(pred, npred, truth, ntruth, truth_partner, pc, kind, &tests, err);
     if (rc) goto done;
     for (int t = 0; t < ntruth; t++)
         *splits += tc[t] >= 2;
     for (int p = 0; p < npred; p++) {
         *merges += pc[p] >= 2;
-        *cross_merges += pc[p] >= 2 && cross[p];
+        *side_merges += pc[p] >= 2 && (kind[p] & SIDE_BY_SIDE);
+        *column_merges += pc[p] >= 2 && (kind[p] & ACROSS_COLUMNS);
     }
 done:
     free(tc);
     free(pc);
-    free(cross);
+    free(kind);
     free(truth_partner);
     free(pred_partner);
     return rc;
@@ -468,7 +484,7 @@ int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_pa
     }
     if (!rc)
         rc = lt_count_splits_merges(tl, nt, pl, np, m, nm, &out->splits, &out->merges,
-                                    &out->cross_merges, err);
+                                    &out->side_merges, &out->column_merges, err);
     free(tl_level);
     free(pl_level);
     if (rc) {

@@ -110,12 +110,16 @@ void lt_prf(long matched, long ntruth, long npred, double *precision, double *re
  * (tau undefined, *tau set to 0) when n < 2, or LT_ENOMEM. */
 int lt_kendall_tau_a(const int *seq, int n, double *tau);
 
-/* Splits, merges and cross-column merges. A predicted line lies inside a truth line when at
- * least half of its own area lies inside it; a truth line is split when two or more predicted
- * lines lie inside it. A truth line lies inside a predicted line when at least half of the
- * truth line's area lies inside it; a predicted line is a merge when two or more truth lines
- * lie inside it, and a cross-column merge when two of them overlap vertically by at least
- * half the smaller height. Zero-area boxes lie inside nothing.
+/* Splits and merges. A predicted line lies inside a truth line when at least half of its own
+ * area lies inside it; a truth line is split when two or more predicted lines lie inside it.
+ * A truth line lies inside a predicted line when at least half of the truth line's area lies
+ * inside it; a predicted line is a merge when two or more truth lines lie inside it; a
+ * side-by-side merge when two of them overlap vertically by at least half the smaller height;
+ * and a cross-column merge when two such lines side by side have, between them in the truth's
+ * reading order (the order of `truth`), a truth line wholly above or below both: the reader
+ * goes down a column between the two, as from the foot of one column's line to the next
+ * column, and not along one row (a leader and its page number, a section number and its
+ * heading, the cells of a table row). Zero-area boxes lie inside nothing.
  * `matches` (from lt_match_lines; NULL for the plain definition above) refines it: a line
  * matched one-to-one to a line of the other side lies inside no other line of that side. On
  * skewed pages the axis-aligned boxes of neighbouring lines overlap so much that a perfect
@@ -125,14 +129,14 @@ int lt_kendall_tau_a(const int *seq, int n, double *tau);
  * (LT_SCORE_MAX_PAIR_TESTS). */
 int lt_count_splits_merges(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
                            int npred, const lt_line_match *matches, int nmatches, int *splits,
-                           int *merges, int *cross_merges, lt_error *err);
+                           int *merges, int *side_merges, int *column_merges, lt_error *err);
 
 typedef struct lt_page_score {
     int truth_lines, pred_lines;
     int matched_50, matched_75; /* one-to-one matches with IoU >= 0.5, of them >= 0.75 */
     double precision_50, recall_50, f1_50;
     double precision_75, recall_75, f1_75;
-    int splits, merges, cross_merges;
+    int splits, merges, side_merges, column_merges;
     int order_pairs;       /* matches at 0.5 whose truth line is in_order */
     int has_tau;           /* 0 when order_pairs < 2 */
     double tau;            /* Kendall tau-a of the predicted order over those pairs */

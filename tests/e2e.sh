@@ -45,6 +45,7 @@ for page in score["pages"]:
 s = score["summary"]
 check(s["f1_50"] >= 0.95, "all pages: F1@0.5 %.3f >= 0.95" % s["f1_50"])
 check(s["cross_column_merges"] == 0, "no lines merged across columns (%d)" % s["cross_column_merges"])
+check(s["side_by_side_merges"] == 0, "no lines merged side by side (%d)" % s["side_by_side_merges"])
 check(s["tau_median"] >= 0.98, "reading order: median tau %.3f >= 0.98" % s["tau_median"])
 check(s["skew_error_max_deg"] <= 0.05, "skew: worst error %.3f deg <= 0.05" % s["skew_error_max_deg"])
 sys.exit(1 if failed else 0)

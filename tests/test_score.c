@@ -137,7 +137,7 @@ static void test_identical(void)
     CHECK_NEAR(s.f1_75, 1, 0, "identical: F1@0.75");
     CHECK(s.has_tau, "identical: tau undefined");
     CHECK_NEAR(s.tau, 1, 0, "identical: tau");
-    CHECK_INT(s.splits + s.merges + s.cross_merges, 0, "identical: splits+merges");
+    CHECK_INT(s.splits + s.merges + s.side_merges + s.column_merges, 0, "identical: splits+merges");
     CHECK(s.has_skew_error, "identical: no skew error");
     CHECK_NEAR(s.skew_error_deg, 0, 0, "identical: skew error");
 
@@ -188,8 +188,8 @@ static void test_split(void)
 static void test_merges(void)
 {
     lt_page_score s;
-    /* two stacked lines joined: each IoU 1000/2200 < 0.5, no match; a merge, not
-     * cross-column (no vertical overlap) */
+    /* two stacked lines joined: each IoU 1000/2200 < 0.5, no match; a merge, not side by
+     * side (no vertical overlap) */
     lt_scored_line t[2], p[1];
     const lt_box tb[2] = {B(0, 0, 100, 10), B(0, 12, 100, 22)};
     const lt_box pb[1] = {B(0, 0, 100, 22)};
@@ -199,18 +199,41 @@ static void test_merges(void)
     if (score(&tp, &pp, &s, "stacked merge")) return;
     CHECK_INT(s.matched_50, 0, "stacked merge: matched");
     CHECK_INT(s.merges, 1, "stacked merge: merges");
-    CHECK_INT(s.cross_merges, 0, "stacked merge: cross-column merges");
+    CHECK_INT(s.side_merges, 0, "stacked merge: side-by-side merges");
+    CHECK_INT(s.column_merges, 0, "stacked merge: cross-column merges");
     CHECK_INT(s.splits, 0, "stacked merge: splits");
     CHECK_NEAR(s.f1_50, 0, 0, "stacked merge: F1");
 
-    /* two columns' lines on one row joined across the gutter: a cross-column merge */
+    /* an entry and its page number (the next line in the reading order) on one row joined:
+     * side by side, but along the row, not across columns */
     const lt_box cb[2] = {B(0, 0, 100, 10), B(120, 1, 220, 11)};
     const lt_box qb[1] = {B(0, 0, 220, 11)};
     set_lines(t, cb, 2);
     set_lines(p, qb, 1);
+    if (score(&tp, &pp, &s, "entry and number")) return;
+    CHECK_INT(s.merges, 1, "entry and number: merges");
+    CHECK_INT(s.side_merges, 1, "entry and number: side by side");
+    CHECK_INT(s.column_merges, 0, "entry and number: not across columns");
+
+    /* two columns of two lines, read down the first, then the second; the top row joined
+     * across the gutter: the reader goes down the first column between the two pieces */
+    lt_scored_line t4[4];
+    const lt_box col[4] = {B(0, 0, 100, 10), B(0, 14, 100, 24), B(120, 1, 220, 11),
+                           B(120, 15, 220, 25)};
+    set_lines(t4, col, 4);
+    tp = make_page(t4, 4, 0);
     if (score(&tp, &pp, &s, "cross-column merge")) return;
     CHECK_INT(s.merges, 1, "cross-column merge: merges");
-    CHECK_INT(s.cross_merges, 1, "cross-column merge: cross-column merges");
+    CHECK_INT(s.side_merges, 1, "cross-column merge: side by side");
+    CHECK_INT(s.column_merges, 1, "cross-column merge: across columns");
+    /* the same boxes read row by row (a table): the pieces of a row are read one after the
+     * other, so joining them is no cross-column merge */
+    const lt_box rows[4] = {col[0], col[2], col[1], col[3]};
+    set_lines(t4, rows, 4);
+    if (score(&tp, &pp, &s, "table row merge")) return;
+    CHECK_INT(s.side_merges, 1, "table row merge: side by side");
+    CHECK_INT(s.column_merges, 0, "table row merge: not across columns");
+    tp = make_page(t, 2, 0);
 
     /* a tall prediction swallowing three lines (its top far above theirs) */
     lt_scored_line t3[3], p3[1];
@@ -222,7 +245,7 @@ static void test_merges(void)
     pp = make_page(p3, 1, 0);
     if (score(&tp, &pp, &s, "tall merge")) return;
     CHECK_INT(s.merges, 1, "tall merge: merges");
-    CHECK_INT(s.cross_merges, 0, "tall merge: cross-column merges");
+    CHECK_INT(s.side_merges, 0, "tall merge: side-by-side merges");
 
     /* a line half inside: exactly 50% of its area inside counts, 40% does not */
     const lt_box hb[2] = {B(0, 0, 100, 10), B(50, 0, 150, 10)}; /* second: 50% inside */
@@ -231,14 +254,14 @@ static void test_merges(void)
     set_lines(p, hp, 1);
     tp = make_page(t, 2, 0);
     pp = make_page(p, 1, 0);
-    int sp, me, cr;
+    int sp, me, cr, cc;
     lt_error err = {0};
-    lt_count_splits_merges(t, 2, p, 1, NULL, 0, &sp, &me, &cr, &err);
+    lt_count_splits_merges(t, 2, p, 1, NULL, 0, &sp, &me, &cr, &cc, &err);
     CHECK_INT(me, 1, "half-inside merge (plain definition)");
     CHECK_INT(cr, 1, "half-inside merge is side by side");
     const lt_box hb2[2] = {B(0, 0, 100, 10), B(60, 0, 160, 10)}; /* 40% inside */
     set_lines(t, hb2, 2);
-    lt_count_splits_merges(t, 2, p, 1, NULL, 0, &sp, &me, &cr, &err);
+    lt_count_splits_merges(t, 2, p, 1, NULL, 0, &sp, &me, &cr, &cc, &err);
     CHECK_INT(me, 0, "40%-inside is no merge");
 }
 
@@ -252,9 +275,9 @@ static void test_skewed_hulls(void)
     const lt_box hb[3] = {B(100, 100, 900, 240), B(100, 140, 900, 280), B(100, 180, 900, 320)};
     set_lines(t, hb, 3);
     set_lines(p, hb, 3);
-    int sp, me, cr;
+    int sp, me, cr, cc;
     lt_error err = {0};
-    lt_count_splits_merges(t, 3, p, 3, NULL, 0, &sp, &me, &cr, &err);
+    lt_count_splits_merges(t, 3, p, 3, NULL, 0, &sp, &me, &cr, &cc, &err);
     CHECK(sp == 3 && me == 3, "skewed hulls, plain definition: splits %d merges %d, want 3 3", sp,
           me);
     lt_scored_page tp = make_page(t, 3, 10), pp = make_page(p, 3, 10);
@@ -306,12 +329,12 @@ static void test_level_frame(void)
     if (score(&tp, &pp, &s, "tilted page")) return;
     CHECK_INT(s.matched_50, 1, "tilted page: matched");
     CHECK_INT(s.merges, 0, "tilted page: merges on the level page");
-    CHECK_INT(s.cross_merges, 0, "tilted page: side-by-side merges on the level page");
+    CHECK_INT(s.side_merges, 0, "tilted page: side-by-side merges on the level page");
     CHECK_INT(s.splits, 0, "tilted page: splits on the level page");
     tp.skew_deg = pp.skew_deg = 0;
     if (score(&tp, &pp, &s, "tilted page, skew 0")) return;
     CHECK_INT(s.merges, 1, "tilted page taken as level: the hulls make a merge");
-    CHECK_INT(s.cross_merges, 1, "tilted page taken as level: side by side");
+    CHECK_INT(s.side_merges, 1, "tilted page taken as level: side by side");
 }
 
 static void test_order(void)
@@ -503,7 +526,7 @@ static void test_against_brute_force(void)
             want75 += 4 * pairs[k].inter >= 3 * pairs[k].uni;
         }
         /* splits and merges by all pairs, plain definition */
-        int want_splits = 0, want_merges = 0, want_cross = 0;
+        int want_splits = 0, want_merges = 0, want_side = 0, want_column = 0;
         for (int i = 0; i < nt; i++) {
             int c = 0;
             for (int j = 0; j < np; j++) {
@@ -514,7 +537,7 @@ static void test_against_brute_force(void)
             want_splits += c >= 2;
         }
         for (int j = 0; j < np; j++) {
-            int c = 0, cross = 0;
+            int c = 0, side = 0, column = 0;
             for (int i = 0; i < nt; i++) {
                 int64_t at = lt_box_area(&t[i].box);
                 if (!(at > 0 && lt_box_area(&p[j].box) > 0 &&
@@ -528,17 +551,26 @@ static void test_against_brute_force(void)
                     int ov = (a->bottom < b->bottom ? a->bottom : b->bottom) -
                              (a->top > b->top ? a->top : b->top);
                     int ha = a->bottom - a->top, hb = b->bottom - b->top;
-                    if (ov > 0 && 2 * ov >= (ha < hb ? ha : hb)) cross = 1;
+                    if (!(ov > 0 && 2 * ov >= (ha < hb ? ha : hb))) continue;
+                    side = 1;
+                    /* across columns: a truth line between k and i wholly above or below */
+                    int top = a->top < b->top ? a->top : b->top;
+                    int bottom = a->bottom > b->bottom ? a->bottom : b->bottom;
+                    for (int q = k + 1; q < i; q++)
+                        if (lt_box_area(&t[q].box) > 0 &&
+                            (t[q].box.bottom <= top || t[q].box.top >= bottom))
+                            column = 1;
                 }
             }
             want_merges += c >= 2;
-            want_cross += c >= 2 && cross;
+            want_side += c >= 2 && side;
+            want_column += c >= 2 && column;
         }
         lt_line_match *m;
-        int nm, sp, me, cr;
+        int nm, sp, me, cr, cc;
         lt_error err = {0};
         if (lt_match_lines(t, nt, p, np, &m, &nm, &err) ||
-            lt_count_splits_merges(t, nt, p, np, NULL, 0, &sp, &me, &cr, &err)) {
+            lt_count_splits_merges(t, nt, p, np, NULL, 0, &sp, &me, &cr, &cc, &err)) {
             fail("brute force trial %d: %s", trial, err.message);
             return;
         }
@@ -550,9 +582,9 @@ static void test_against_brute_force(void)
         CHECK(same, "trial %d: sweep matching differs from brute force (%d vs %d)", trial, nm,
               want);
         CHECK_INT(got75, want75, "brute force: matches at 0.75");
-        CHECK(sp == want_splits && me == want_merges && cr == want_cross,
-              "trial %d: splits/merges/cross %d %d %d, brute force %d %d %d", trial, sp, me, cr,
-              want_splits, want_merges, want_cross);
+        CHECK(sp == want_splits && me == want_merges && cr == want_side && cc == want_column,
+              "trial %d: splits/merges/side/column %d %d %d %d, brute force %d %d %d %d", trial,
+              sp, me, cr, cc, want_splits, want_merges, want_side, want_column);
         free(m);
         free(want_pred);
         free(t);
