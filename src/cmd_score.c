@@ -23,8 +23,8 @@
  *   column count C the truth pages of that variant give ("columns"), each with the lines
  *   pages, truth lines, predicted lines, IoU >= 0.50, IoU >= 0.75 (precision, recall, F1 from
  *   match counts summed over the pages, and the match count), mean page F1 (mean of the
- *   pages' F1 at IoU >= 0.50), splits, merges (with side-by-side and cross-column merges), reading order
- *   (median and minimum tau over the pages where tau is defined), skew error (median and
+ *   pages' F1 at IoU >= 0.50), splits, merges (with side-by-side and cross-column merges), reading
+ * order (median and minimum tau over the pages where tau is defined), skew error (median and
  *   maximum in degrees over the pages where both skews are known). Lists of missing, failed,
  *   unreadable and skipped pages follow.
  *
@@ -34,15 +34,15 @@
  *       "name", "variant" (string or null), "status" ("scored", "missing", "failed",
  *       "unreadable", "skipped"), "truth_lines", "pred_lines", "matched_50", "matched_75",
  *       "precision_50", "recall_50", "f1_50", "precision_75", "recall_75", "f1_75",
- *       "splits", "merges", "side_by_side_merges", "cross_column_merges", "order_pairs" (matched in-order pairs
- *       tau is computed over), "tau" (number or null), "skew_error_deg" (number or null);
+ *       "splits", "merges", "side_by_side_merges", "cross_column_merges", "order_pairs" (matched
+ * in-order pairs tau is computed over), "tau" (number or null), "skew_error_deg" (number or null);
  *       a skipped page has only name, variant and status,
  *   "summary": { "pages", "missing", "failed", "unreadable", "truth_lines", "pred_lines",
  *       "matched_50", "matched_75", "precision_50", "recall_50", "f1_50", "precision_75",
  *       "recall_75", "f1_75", "mean_page_f1_50", "splits", "merges", "side_by_side_merges",
- *       "cross_column_merges", "tau_pages", "tau_median", "tau_min", "skew_pages", "skew_error_median_deg",
- *       "skew_error_max_deg" }    (the tau and skew statistics are null over no pages),
- *   "variants": { NAME: {same fields as "summary", "by_columns": { "C": {same fields as
+ *       "cross_column_merges", "tau_pages", "tau_median", "tau_min", "skew_pages",
+ * "skew_error_median_deg", "skew_error_max_deg" }    (the tau and skew statistics are null over no
+ * pages), "variants": { NAME: {same fields as "summary", "by_columns": { "C": {same fields as
  *       "summary"}, ... }}, ... }   only when the truth has variants,
  *   "missing", "failed", "unreadable", "skipped": arrays of page names.
  *   Fractions are rounded to 6 decimals.

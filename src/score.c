@@ -313,8 +313,8 @@ static int pair_kind(const lt_scored_line *inner, int i, int j, long *tests)
  * inside any other outer box. *tests accumulates the pairs examined (LT_ELIMIT past
  * LT_SCORE_MAX_PAIR_TESTS). */
 static int count_inside(const lt_scored_line *outer, int nouter, const lt_scored_line *inner,
-                        int ninner, const int *partner, unsigned char *counts,
-                        unsigned char *kinds, long *tests, lt_error *err)
+                        int ninner, const int *partner, unsigned char *counts, unsigned char *kinds,
+                        long *tests, lt_error *err)
 {
     memset(counts, 0, (size_t)nouter);
     if (kinds) memset(kinds, 0, (size_t)nouter);

@@ -299,6 +299,43 @@ static void test_two_columns(void)
         }
 }
 
+/* Two narrow columns of an index (a gutter of 2.2 text heights) that a few lines cross: every
+ * tenth row a line of the left column runs on 24 px into the gutter (the right column leaves
+ * that row blank), and every tenth row one of the right column starts 24 px early (beside the
+ * short last line of a left paragraph), so no strip a text height wide is white through all
+ * the rows around; the rows beside a crossing must still be kept apart at the gutter, which
+ * is white in nine rows of ten over 20 text heights up and down. */
+static void test_crossed_gutter(void)
+{
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "crossed gutter, seed %d", seed);
+        tu_rng r = {(uint64_t)(100 + seed)};
+        page *p = page_new(1700, 1750);
+        const int col = 620, x0 = 150, x1 = x0 + col, x2 = x1 + 44, rows = 32;
+        for (int i = 0; i < rows; i++) {
+            const int y = 150 + i * PITCH, end = i == rows - 1;
+            if (i % 10 == 3) {
+                draw_line(p, &r, x0, x1 + 24, y, 1, 0);
+            } else if (i % 10 == 7) {
+                draw_line(p, &r, x0, x0 + col / 2, y, 0, 1);
+                draw_line(p, &r, x2 - 24, x2 + col, y, 1, end);
+            } else {
+                draw_line(p, &r, x0, x1, y, 1, end);
+                draw_line(p, &r, x2, x2 + col, y, 1, end);
+            }
+        }
+        result res = run_stages(p, what);
+        compare_lines(p, &res, what);
+        int crossing = 0;
+        for (int i = 0; res.lines && i < res.lines->count; i++)
+            crossing += res.lines->items[i].box.left < x1 && res.lines->items[i].box.right > x2;
+        CHECK_INT(crossing, 0, "%s: lines across the gutter", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Rules and a picture: a horizontal rule in the white between two lines, a vertical rule in
  * a column gutter, and a picture block (a filled 300 x 300 box, 15 text heights) standing
  * between text on its left and on its right, one text height from each. None of them joins
@@ -430,6 +467,7 @@ int main(void)
     double t0 = tu_now_s();
     test_one_column();
     test_two_columns();
+    test_crossed_gutter();
     test_rules_and_picture();
     test_small_marks();
     test_analyze();

@@ -583,8 +583,8 @@ static void test_against_brute_force(void)
               want);
         CHECK_INT(got75, want75, "brute force: matches at 0.75");
         CHECK(sp == want_splits && me == want_merges && cr == want_side && cc == want_column,
-              "trial %d: splits/merges/side/column %d %d %d %d, brute force %d %d %d %d", trial,
-              sp, me, cr, cc, want_splits, want_merges, want_side, want_column);
+              "trial %d: splits/merges/side/column %d %d %d %d, brute force %d %d %d %d", trial, sp,
+              me, cr, cc, want_splits, want_merges, want_side, want_column);
         free(m);
         free(want_pred);
         free(t);
