@@ -254,58 +254,55 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     return both_above || both_below;
 }
 
-/* Adds to *rows the occupancy cell rows of [y0, y1) and to *full those that hold text in
- * [x0, x1). */
-static void count_text_rows(const occupancy *o, double x0, double x1, double y0, double y1,
-                            int *rows, int *full)
-{
-    const double cell = o->cell_px;
-    for (double y = floor(y0 / cell) * cell; y < y1; y += cell) {
-        ++*rows;
-        *full += occupancy_count(o, x0, y, x1, y + cell) > 0;
-    }
-}
-
 /* Share of the occupancy cell rows of [y0, y1) that hold text in [x0, x1). */
 static double rows_with_text(const occupancy *o, double x0, double x1, double y0, double y1)
 {
+    const double cell = o->cell_px;
     int rows = 0, full = 0;
-    count_text_rows(o, x0, x1, y0, y1, &rows, &full);
+    for (double y = floor(y0 / cell) * cell; y < y1; y += cell) {
+        rows++;
+        full += occupancy_count(o, x0, y, x1, y + cell) > 0;
+    }
     return rows ? (double)full / rows : 0;
 }
 
 /* A long gutter that a few lines cross: in an index set in narrow columns some entries run on
  * into the strip between the columns, so that no strip is white through all the rows near a
- * pair. Here a strip at least a text height wide in the gap is white in all but an eighth of
+ * pair. Here a strip at least a text height wide in the gap is white in all but a tenth of
  * the rows 20 text heights up and down (not the pair's own), and text fills at least 30 % of
  * the rows beside it on each side (within 8 text heights, in the column beside), as in two
  * columns of text. Only for pairs of body-size text (at most 2.2 text heights tall, where
  * ascenders and descenders make about 1.9): the wide word gaps of a title, with white margins
- * above and below, are no gutter. */
-static int in_long_gutter(const occupancy *o, const link *l, double th)
+ * above and below, are no gutter. Returns 1 with the strip in [*x0, *x1). */
+static int long_gutter_strip(const occupancy *o, const link *l, double th, double *x0, double *x1)
 {
     if (l->bottom - l->top > 2.2 * th) return 0;
     const double cell = o->cell_px;
     const double y0 = fmax(0.0, l->top - 20 * th), y1 = fmin(o->rows * cell, l->bottom + 20 * th);
     const double top = l->top - cell, bottom = l->bottom + cell; /* the pair's own rows out */
+    const int cy0 = (int)floor(y0 / cell), cy_top = (int)ceil(top / cell);
+    const int cy_bottom = (int)floor(bottom / cell), cy1 = (int)ceil(y1 / cell);
+    const int rows = (cy_top > cy0 ? cy_top - cy0 : 0) + (cy1 > cy_bottom ? cy1 - cy_bottom : 0);
+    if (rows == 0) return 0;
     const int min_cells = (int)ceil(1.0 * th / cell);
     int best_lo = 0, best_len = 0, run = 0;
     for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
-        int rows = 0, full = 0;
-        count_text_rows(o, cx * cell, (cx + 1) * cell, y0, top, &rows, &full);
-        count_text_rows(o, cx * cell, (cx + 1) * cell, bottom, y1, &rows, &full);
-        run = rows > 0 && 8 * full <= rows ? run + 1 : 0;
+        /* a strip one cell wide: its occupied cells are its rows with text */
+        const int full = occupancy_count(o, cx * cell, y0, (cx + 1) * cell, top) +
+                         occupancy_count(o, cx * cell, bottom, (cx + 1) * cell, y1);
+        run = 10 * full <= rows ? run + 1 : 0;
         if (run > best_len) {
             best_len = run;
             best_lo = cx - run + 1;
         }
     }
     if (best_len < min_cells) return 0;
-    const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
-    const double left = side_edge(o, l, x0, -1, 8 * th, y0, y1, th);
-    const double right = side_edge(o, l, x1, +1, 8 * th, y0, y1, th);
-    return rows_with_text(o, left, x0, y0, y1) >= 0.3 &&
-           rows_with_text(o, x1, right, y0, y1) >= 0.3;
+    *x0 = best_lo * cell;
+    *x1 = (best_lo + best_len) * cell;
+    const double left = side_edge(o, l, *x0, -1, 8 * th, y0, y1, th);
+    const double right = side_edge(o, l, *x1, +1, 8 * th, y0, y1, th);
+    return rows_with_text(o, left, *x0, y0, y1) >= 0.3 &&
+           rows_with_text(o, *x1, right, y0, y1) >= 0.3;
 }
 
 /* A wide gap lies in a gutter when a white strip runs through it and up and down through the
@@ -316,7 +313,7 @@ static int in_long_gutter(const occupancy *o, const link *l, double th)
  * where both sides are columns of text: text fills at least 25 % of the rows beside the strip
  * (lines take about 60 % of them; a column of list labels far fewer). The strip may be
  * narrower than the gap, as the ragged edges of the columns leave it. Or the gap lies in a
- * long gutter that a few lines cross (in_long_gutter). */
+ * long gutter that a few lines cross (long_gutter_strip). */
 static int in_gutter(const occupancy *o, const link *l, double th)
 {
     if (gutter_within(o, l, th, 2.5 * th, 4 * th)) return 1;
@@ -328,7 +325,8 @@ static int in_gutter(const occupancy *o, const link *l, double th)
             rows_with_text(o, l->x1, right, y0, y1) >= 0.25)
             return 1;
     }
-    return in_long_gutter(o, l, th);
+    double x0, x1;
+    return long_gutter_strip(o, l, th, &x0, &x1);
 }
 
 /* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
