@@ -175,11 +175,9 @@ static int occupancy_build(const lt_components *c, const uint8_t *body, double c
     return 0;
 }
 
-/* Occupied cells of the pixel rectangle [x0, x1) x [y0, y1), clipped to the page. */
-static int occupancy_count(const occupancy *o, double x0, double y0, double x1, double y1)
+/* Occupied cells of the cell rectangle [cx0, cx1) x [cy0, cy1), clipped to the grid. */
+static int occupancy_cells(const occupancy *o, int cx0, int cy0, int cx1, int cy1)
 {
-    int cx0 = (int)ceil(x0 / o->cell_px), cx1 = (int)floor(x1 / o->cell_px);
-    int cy0 = (int)floor(y0 / o->cell_px), cy1 = (int)ceil(y1 / o->cell_px);
     if (cx0 < 0) cx0 = 0;
     if (cy0 < 0) cy0 = 0;
     if (cx1 > o->cols) cx1 = o->cols;
@@ -188,6 +186,20 @@ static int occupancy_count(const occupancy *o, double x0, double y0, double x1, 
     const size_t stride = (size_t)o->cols + 1;
     return o->sum[(size_t)cy1 * stride + cx1] - o->sum[(size_t)cy0 * stride + cx1] -
            o->sum[(size_t)cy1 * stride + cx0] + o->sum[(size_t)cy0 * stride + cx0];
+}
+
+/* Occupied cells of the pixel rectangle [x0, x1) x [y0, y1): the cells wholly inside it
+ * across, all cells it touches down. */
+static int occupancy_count(const occupancy *o, double x0, double y0, double x1, double y1)
+{
+    return occupancy_cells(o, (int)ceil(x0 / o->cell_px), (int)floor(y0 / o->cell_px),
+                           (int)floor(x1 / o->cell_px), (int)ceil(y1 / o->cell_px));
+}
+
+/* Occupied cells of cell column cx over the pixel rows [y0, y1). */
+static int column_count(const occupancy *o, int cx, double y0, double y1)
+{
+    return occupancy_cells(o, cx, (int)floor(y0 / o->cell_px), cx + 1, (int)ceil(y1 / o->cell_px));
 }
 
 /* Whether a vertical rule stands in the gap of link l (between x0 and x1, overlapping the
@@ -237,7 +249,7 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     const int min_cells = (int)ceil(1.0 * th / cell);
     int best_lo = 0, best_len = 0, run = 0;
     for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
-        run = occupancy_count(o, cx * cell, y0, (cx + 1) * cell, y1) == 0 ? run + 1 : 0;
+        run = column_count(o, cx, y0, y1) == 0 ? run + 1 : 0;
         if (run > best_len) {
             best_len = run;
             best_lo = cx - run + 1;
@@ -268,7 +280,7 @@ static double rows_with_text(const occupancy *o, double x0, double x1, double y0
 
 /* A long gutter that a few lines cross: in an index set in narrow columns some entries run on
  * into the strip between the columns, so that no strip is white through all the rows near a
- * pair. Here a strip at least a text height wide in the gap is white in all but a tenth of
+ * pair. Here a strip at least a text height wide in the gap is white in all but an eighth of
  * the rows 20 text heights up and down (not the pair's own), and text fills at least 30 % of
  * the rows beside it on each side (within 8 text heights, in the column beside), as in two
  * columns of text. Only for pairs of body-size text (at most 2.2 text heights tall, where
@@ -288,9 +300,8 @@ static int long_gutter_strip(const occupancy *o, const link *l, double th, doubl
     int best_lo = 0, best_len = 0, run = 0;
     for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
         /* a strip one cell wide: its occupied cells are its rows with text */
-        const int full = occupancy_count(o, cx * cell, y0, (cx + 1) * cell, top) +
-                         occupancy_count(o, cx * cell, bottom, (cx + 1) * cell, y1);
-        run = 10 * full <= rows ? run + 1 : 0;
+        const int full = column_count(o, cx, y0, top) + column_count(o, cx, bottom, y1);
+        run = 8 * full <= rows ? run + 1 : 0;
         if (run > best_len) {
             best_len = run;
             best_lo = cx - run + 1;
