@@ -494,6 +494,116 @@ done:
     return rc;
 }
 
+typedef struct span {
+    int owner, left, right;
+} span;
+
+static int cmp_span(const void *pa, const void *pb)
+{
+    const span *a = pa, *b = pb;
+    if (a->owner != b->owner) return (a->owner > b->owner) - (a->owner < b->owner);
+    return (a->left > b->left) - (a->left < b->left);
+}
+
+/* Lines that bridge a column gutter: where a line of one column runs on until its ink
+ * touches the first word of the line beside it (an overfull line), the two are one group
+ * whatever the gap tests say. A group at least 8 text heights long is cut at a long gutter
+ * (see long_gutter_strip) at least 1.5 text heights wide that runs through it at least 4 text
+ * heights from either end, when
+ *  - its own ink fills the strip, leaving no white in it wider than 0.4 text heights
+ *    (narrower than a word space: a line with a gap there, as between an entry and the
+ *    leader to its page number, is left to the gap tests), and
+ *  - close above the group and close below it (within 2.5 text heights) the strip is white
+ *    while text comes within 4 text heights of it on both sides: the edges of two columns,
+ *    not a paragraph beside a table or a title over columns.
+ * Each member goes to the side of the strip's middle its centre lies on. */
+static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent, double th,
+                       const occupancy *occ)
+{
+    const int n = c->count;
+    lt_box *boxes;
+    keyed *roots;
+    int nr;
+    if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
+    int *cand_of = malloc(((size_t)n + 1) * sizeof *cand_of);
+    double *strip = malloc(2 * ((size_t)nr + 1) * sizeof *strip);
+    uint8_t *cut = calloc((size_t)nr + 1, 1);
+    int *root_of = malloc(((size_t)n + 1) * sizeof *root_of);
+    int *side_root = malloc(2 * ((size_t)nr + 1) * sizeof *side_root);
+    span *in = malloc(((size_t)n + 1) * sizeof *in);
+    int ncand = 0, rc = LT_ENOMEM;
+    if (!cand_of || !strip || !cut || !root_of || !side_root || !in) goto done;
+    for (int i = 0; i < n; i++)
+        cand_of[i] = -1;
+    for (int k = 0; k < nr; k++) {
+        const int r = roots[k].index;
+        const lt_box *b = &boxes[r];
+        if (box_w(b) < 8 * th) continue;
+        const link l = {r, r, b->left + 4 * th, b->right - 4 * th, b->top, b->bottom};
+        double x0, x1;
+        if (!long_gutter_strip(occ, &l, th, &x0, &x1) || x1 - x0 < 1.5 * th) continue;
+        const double reach = 2.5 * th, cell = occ->cell_px;
+        const double above = b->top - cell, below = b->bottom + cell;
+        if (occupancy_count(occ, x0 - 4 * th, above - reach, x0, above) > 0 &&
+            occupancy_count(occ, x1, above - reach, x1 + 4 * th, above) > 0 &&
+            occupancy_count(occ, x0 - 4 * th, below, x0, below + reach) > 0 &&
+            occupancy_count(occ, x1, below, x1 + 4 * th, below + reach) > 0 &&
+            occupancy_count(occ, x0, above - reach, x1, above) == 0 &&
+            occupancy_count(occ, x0, below, x1, below + reach) == 0) {
+            cand_of[r] = ncand;
+            strip[2 * ncand] = x0;
+            strip[2 * ncand + 1] = x1;
+            ncand++;
+        }
+    }
+    if (ncand > 0) {
+        /* The candidates' bodies in their strips, by candidate and left edge. */
+        int m = 0;
+        for (int i = 0; i < n; i++) {
+            const int r = root_of[i] = lt_uf_find(parent, i), k = cand_of[r];
+            const lt_box *b = &c->items[i].box;
+            if (body[i] && k >= 0 && b->right > strip[2 * k] && b->left < strip[2 * k + 1])
+                in[m++] = (span){k, b->left, b->right};
+        }
+        qsort(in, (size_t)m, sizeof *in, cmp_span);
+        for (int j = 0; j < m;) {
+            const int k = in[j].owner;
+            double reached = strip[2 * k], widest = 0;
+            for (; j < m && in[j].owner == k; j++) {
+                widest = fmax(widest, in[j].left - reached);
+                reached = fmax(reached, in[j].right);
+            }
+            widest = fmax(widest, strip[2 * k + 1] - reached);
+            cut[k] = widest < 0.4 * th;
+        }
+        for (int k = 0; k < ncand; k++)
+            side_root[2 * k] = side_root[2 * k + 1] = -1;
+        /* Bodies first, so that each side's new root is a body; then the marks (to the
+         * other side's root if theirs has no body). */
+        for (int pass = 0; pass < 2; pass++)
+            for (int i = 0; i < n; i++) {
+                const int r = root_of[i], k = cand_of[r];
+                if (k < 0 || !cut[k] || (pass == 0) != (body[i] != 0) || (!body[i] && r == i))
+                    continue;
+                const int right = c->items[i].cx >= 0.5 * (strip[2 * k] + strip[2 * k + 1]);
+                int *rep = &side_root[2 * k + right];
+                if (body[i] && *rep < 0) *rep = i;
+                parent[i] = *rep >= 0 ? *rep : side_root[2 * k + !right];
+            }
+    }
+    rc = 0;
+done:
+    free(boxes);
+    free(roots);
+    free(cand_of);
+    free(strip);
+    free(cut);
+    free(root_of);
+    free(side_root);
+    free(in);
+    return rc;
+}
+
 /* Groups lying inside a much taller group (the dots and accents of large type) are part of
  * it: a group joins the first group at least twice its height whose box holds its centre,
  * allowing half its own height above. */
@@ -635,7 +745,8 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
-        join_rows(c, body, parent, th, max_gap, &occ) || absorb_nested(c, body, parent))
+        join_rows(c, body, parent, th, max_gap, &occ) || cut_bridges(c, body, parent, th, &occ) ||
+        absorb_nested(c, body, parent))
         goto nomem;
 
     /* One raw line per group. */

@@ -336,6 +336,42 @@ static void test_crossed_gutter(void)
     }
 }
 
+/* Two columns with a gutter of 3 text heights, where one line of the left column runs on
+ * into the gutter until its last letters touch the first letter of the line beside it (an
+ * overfull line): one component runs across the gutter, yet the row must give one line in
+ * each column. The right line's first letter, fused with the left line's last ones, goes
+ * with the side its centre lies on, so the check is on which lines span the gutter, not on
+ * exact boxes. */
+static void test_bridged_gutter(void)
+{
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "bridged gutter, seed %d", seed);
+        tu_rng r = {(uint64_t)(200 + seed)};
+        page *p = page_new(1700, 1000);
+        const int col = 620, x0 = 150, x1 = x0 + col, x2 = x1 + 3 * XH, rows = 14, bridged = 6;
+        for (int i = 0; i < rows; i++) {
+            const int y = 150 + i * PITCH;
+            draw_line(p, &r, x0, x1, y, 1, 0);
+            draw_line(p, &r, x2, x2 + col, y, 1, 0);
+            if (i == bridged) /* letters without a gap from the left line to the right one */
+                tu_fill(p->img, x1 - 2, y - XH, x2 + 3, y, 1);
+        }
+        result res = run_stages(p, what);
+        int across = 0, on_row = 0;
+        for (int i = 0; res.lines && i < res.lines->count; i++) {
+            const lt_box *b = &res.lines->items[i].box;
+            across += b->left < x1 - 100 && b->right > x2 + 100;
+            on_row += b->top < 150 + bridged * PITCH && b->bottom > 150 + bridged * PITCH - XH;
+        }
+        CHECK_INT(across, 0, "%s: lines over both columns", what);
+        CHECK_INT(on_row, 2, "%s: lines on the bridged row", what);
+        CHECK_INT(res.lines ? res.lines->count : 0, 2 * rows, "%s: lines", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Rules and a picture: a horizontal rule in the white between two lines, a vertical rule in
  * a column gutter, and a picture block (a filled 300 x 300 box, 15 text heights) standing
  * between text on its left and on its right, one text height from each. None of them joins
@@ -468,6 +504,7 @@ int main(void)
     test_one_column();
     test_two_columns();
     test_crossed_gutter();
+    test_bridged_gutter();
     test_rules_and_picture();
     test_small_marks();
     test_analyze();
