@@ -225,14 +225,15 @@ static double side_edge(const occupancy *o, const link *l, double x, int dir, do
     const double cell = o->cell_px;
     const double top = l->top - cell, bottom = l->bottom + cell; /* the pair's own rows out */
     const int min_cells = (int)ceil(1.0 * th / cell);
+    /* the cell columns wholly beyond x, nearest first */
+    const int first = dir < 0 ? (int)floor(x / cell) - 1 : (int)ceil(x / cell);
     double edge = x;
     for (int k = 0, white = 0; k * cell < side; k++) {
-        double c0 = dir < 0 ? x - (k + 1) * cell : x + k * cell;
-        int empty = occupancy_count(o, c0, y0, c0 + cell, top) == 0 &&
-                    occupancy_count(o, c0, bottom, c0 + cell, y1) == 0;
+        const int cx = first + dir * k;
+        const int empty = column_count(o, cx, y0, top) == 0 && column_count(o, cx, bottom, y1) == 0;
         white = empty ? white + 1 : 0;
         if (white >= min_cells && k + 1 > white) break;
-        edge = dir < 0 ? c0 : c0 + cell;
+        edge = (dir < 0 ? cx : cx + 1) * cell;
     }
     return edge;
 }
@@ -269,19 +270,18 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
 /* Share of the occupancy cell rows of [y0, y1) that hold text in [x0, x1). */
 static double rows_with_text(const occupancy *o, double x0, double x1, double y0, double y1)
 {
-    const double cell = o->cell_px;
-    int rows = 0, full = 0;
-    for (double y = floor(y0 / cell) * cell; y < y1; y += cell) {
-        rows++;
-        full += occupancy_count(o, x0, y, x1, y + cell) > 0;
-    }
-    return rows ? (double)full / rows : 0;
+    const int cx0 = (int)ceil(x0 / o->cell_px), cx1 = (int)floor(x1 / o->cell_px);
+    const int cy0 = (int)floor(y0 / o->cell_px), cy1 = (int)ceil(y1 / o->cell_px);
+    int full = 0;
+    for (int cy = cy0; cy < cy1; cy++)
+        full += occupancy_cells(o, cx0, cy, cx1, cy + 1) > 0;
+    return cy1 > cy0 ? (double)full / (cy1 - cy0) : 0;
 }
 
 /* A long gutter that a few lines cross: in an index set in narrow columns some entries run on
  * into the strip between the columns, so that no strip is white through all the rows near a
  * pair. Here a strip at least a text height wide in the gap is white in all but an eighth of
- * the rows 20 text heights up and down (not the pair's own), and text fills at least 30 % of
+ * the rows 20 text heights up and down (not the pair's own), and text fills at least 25 % of
  * the rows beside it on each side (within 8 text heights, in the column beside), as in two
  * columns of text. Only for pairs of body-size text (at most 2.2 text heights tall, where
  * ascenders and descenders make about 1.9): the wide word gaps of a title, with white margins
@@ -312,8 +312,8 @@ static int long_gutter_strip(const occupancy *o, const link *l, double th, doubl
     *x1 = (best_lo + best_len) * cell;
     const double left = side_edge(o, l, *x0, -1, 8 * th, y0, y1, th);
     const double right = side_edge(o, l, *x1, +1, 8 * th, y0, y1, th);
-    return rows_with_text(o, left, *x0, y0, y1) >= 0.3 &&
-           rows_with_text(o, *x1, right, y0, y1) >= 0.3;
+    return rows_with_text(o, left, *x0, y0, y1) >= 0.25 &&
+           rows_with_text(o, *x1, right, y0, y1) >= 0.25;
 }
 
 /* A wide gap lies in a gutter when a white strip runs through it and up and down through the
@@ -321,7 +321,7 @@ static int long_gutter_strip(const occupancy *o, const link *l, double th, doubl
  * paragraph do not line up, and a hanging list label has no text under it, but a column
  * gutter or a table column has both. Seen close (2.5 text heights up and down, text within 4
  * on each side), or, for the ragged columns of an index, farther (5 up and down, 8 aside)
- * where both sides are columns of text: text fills at least 25 % of the rows beside the strip
+ * where both sides are columns of text: text fills at least 20 % of the rows beside the strip
  * (lines take about 60 % of them; a column of list labels far fewer). The strip may be
  * narrower than the gap, as the ragged edges of the columns leave it. Or the gap lies in a
  * long gutter that a few lines cross (long_gutter_strip). */
@@ -332,8 +332,8 @@ static int in_gutter(const occupancy *o, const link *l, double th)
         const double y0 = l->top - 5 * th, y1 = l->bottom + 5 * th;
         const double left = side_edge(o, l, l->x0, -1, 8 * th, y0, y1, th);
         const double right = side_edge(o, l, l->x1, +1, 8 * th, y0, y1, th);
-        if (rows_with_text(o, left, l->x0, y0, y1) >= 0.25 &&
-            rows_with_text(o, l->x1, right, y0, y1) >= 0.25)
+        if (rows_with_text(o, left, l->x0, y0, y1) >= 0.2 &&
+            rows_with_text(o, l->x1, right, y0, y1) >= 0.2)
             return 1;
     }
     double x0, x1;
