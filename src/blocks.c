@@ -117,7 +117,8 @@ typedef struct cut_context {
     const lt_box *rules;     /* separators: vertical and horizontal rules */
     int nrules;
     int rtl;
-    span *spans; /* scratch room for all lines */
+    const uint8_t *bridged; /* per line: cut from a line that ran across a gutter */
+    span *spans;            /* scratch room for all lines */
 } cut_context;
 
 /* A rule that separates the lines idx[0..n) of a node with box `nb`: it runs along at least
@@ -155,6 +156,22 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
     return 0;
 }
 
+/* Whether box i is a line cut from one that ran across a gutter. */
+static int is_piece(const cut_context *x, int i)
+{
+    return i < x->nreal && x->bridged[i];
+}
+
+/* Whether box i goes to the first child of a cut at `at` (lines starting at or beyond it go
+ * to the second; across, the pieces of a bridged line by their centre against the middle of
+ * the gap of width `gap` before `at`). */
+static int before_cut(const cut_context *x, int i, int across, int at, int gap)
+{
+    const lt_box *b = &x->boxes[i];
+    if (across && is_piece(x, i)) return b->left + b->right < 2 * at - gap;
+    return (across ? b->left : b->top) < at;
+}
+
 /* Builds the subtree of lines idx[0..n), n >= 1. */
 static lt_cut_node *cut(const cut_context *x, int *idx, int n)
 {
@@ -164,9 +181,17 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     if (!node) return NULL;
     int x_cut = 0, y_cut = 0, gx = 0, gy = 0;
     if (n > 1) {
+        /* Across: the pieces of a line cut at a gutter abut there and are left out of the
+         * gap search (unless nothing else is left), then go to the side of their centre. */
+        int m = 0;
         for (int i = 0; i < n; i++)
-            spans[i] = (span){boxes[idx[i]].left, boxes[idx[i]].right, idx[i]};
-        gx = widest_gap(spans, n, &x_cut);
+            if (!is_piece(x, idx[i])) spans[m++] = (span){boxes[idx[i]].left, boxes[idx[i]].right, idx[i]};
+        if (m < 2) {
+            m = 0;
+            for (int i = 0; i < n; i++)
+                spans[m++] = (span){boxes[idx[i]].left, boxes[idx[i]].right, idx[i]};
+        }
+        gx = widest_gap(spans, m, &x_cut);
         for (int i = 0; i < n; i++)
             spans[i] = (span){boxes[idx[i]].top, boxes[idx[i]].bottom, idx[i]};
         gy = widest_gap(spans, n, &y_cut);
@@ -192,15 +217,11 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
         return NULL;
     }
     int k = 0;
-    for (int i = 0; i < n; i++) {
-        const lt_box *b = &boxes[idx[i]];
-        if ((across ? b->left : b->top) < (across ? x_cut : y_cut)) tmp[k++] = idx[i];
-    }
+    for (int i = 0; i < n; i++)
+        if (before_cut(x, idx[i], across, across ? x_cut : y_cut, gx)) tmp[k++] = idx[i];
     int nfirst = k;
-    for (int i = 0; i < n; i++) {
-        const lt_box *b = &boxes[idx[i]];
-        if ((across ? b->left : b->top) >= (across ? x_cut : y_cut)) tmp[k++] = idx[i];
-    }
+    for (int i = 0; i < n; i++)
+        if (!before_cut(x, idx[i], across, across ? x_cut : y_cut, gx)) tmp[k++] = idx[i];
     memcpy(idx, tmp, (size_t)n * sizeof *idx);
     free(tmp);
     node->nchildren = 2;
@@ -230,18 +251,22 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     span *spans = malloc((size_t)n * sizeof *spans);
     lt_box *boxes = malloc((size_t)n * sizeof *boxes);
     lt_box *rules = malloc(((size_t)nrules + 1) * sizeof *rules);
-    if (!idx || !spans || !boxes || !rules) {
+    uint8_t *bridged = malloc((size_t)lines->count);
+    if (!idx || !spans || !boxes || !rules || !bridged) {
         free(idx);
         free(spans);
         free(boxes);
         free(rules);
+        free(bridged);
         return lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
     }
     /* Pictures take part in the cuts as obstacles, so that a figure breaking a column does
      * not leave a white band for a cut across the page; leaves keep only lines. */
     int k = 0;
-    for (int i = 0; i < lines->count; i++)
+    for (int i = 0; i < lines->count; i++) {
         boxes[k++] = lines->items[i].box;
+        bridged[i] = lines->items[i].bridged != 0;
+    }
     nrules = 0;
     for (int i = 0; c && i < c->count; i++) {
         if (c->items[i].kind == LT_COMP_RULE) rules[nrules++] = c->items[i].box;
@@ -250,12 +275,13 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     for (int i = 0; i < n; i++)
         idx[i] = i;
     const cut_context x = {boxes, lines->count, p->column_min_gap * th, p->block_min_gap * th,
-                           rules, nrules,       p->right_to_left,       spans};
+                           rules, nrules,       p->right_to_left,       bridged, spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);
     free(boxes);
     free(rules);
+    free(bridged);
     return *root ? 0 : lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
 }
 

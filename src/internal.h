@@ -61,6 +61,7 @@ typedef struct lt_raw_line {
     int lead_gap_px;  /* white between `lead` and the rest of the line (0 when alone) */
     lt_box trail;     /* rightmost component (the first of a right-to-left line) */
     int trail_gap_px; /* white between the rest of the line and `trail` */
+    int bridged;      /* cut from a line whose ink ran across a column gutter */
 } lt_raw_line;
 
 typedef struct lt_raw_lines {

@@ -516,9 +516,10 @@ static int cmp_span(const void *pa, const void *pb)
  *  - close above the group and close below it (within 2.5 text heights) the strip is white
  *    while text comes within 4 text heights of it on both sides: the edges of two columns,
  *    not a paragraph beside a table or a title over columns.
- * Each member goes to the side of the strip's middle its centre lies on. */
+ * Each member goes to the side of the strip's middle its centre lies on, and is marked in
+ * `piece`. */
 static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent, double th,
-                       const occupancy *occ)
+                       const occupancy *occ, uint8_t *piece)
 {
     const int n = c->count;
     lt_box *boxes;
@@ -589,6 +590,7 @@ static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent,
                 int *rep = &side_root[2 * k + right];
                 if (body[i] && *rep < 0) *rep = i;
                 parent[i] = *rep >= 0 ? *rep : side_root[2 * k + !right];
+                piece[i] = 1;
             }
     }
     rc = 0;
@@ -676,6 +678,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     const double th = text_height_px > 0 ? text_height_px : 20;
     const int n = c->count;
     uint8_t *body = calloc((size_t)n + 1, 1), *mark = calloc((size_t)n + 1, 1);
+    uint8_t *piece = calloc((size_t)n + 1, 1);
     int *parent = malloc(((size_t)n + 1) * sizeof *parent);
     int *line_of = malloc(((size_t)n + 1) * sizeof *line_of);
     link *links = malloc(((size_t)2 * n + 1) * sizeof *links);
@@ -684,7 +687,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
     lt_box *vrules = NULL;
     lt_raw_lines *res = calloc(1, sizeof *res);
     int rc = 0;
-    if (!body || !mark || !parent || !line_of || !links || !res) goto nomem;
+    if (!body || !mark || !piece || !parent || !line_of || !links || !res) goto nomem;
 
     /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
     const double mark_h = 0.5 * th; /* punctuation, dots, accents, dashes */
@@ -745,7 +748,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
-        join_rows(c, body, parent, th, max_gap, &occ) || cut_bridges(c, body, parent, th, &occ) ||
+        join_rows(c, body, parent, th, max_gap, &occ) || cut_bridges(c, body, parent, th, &occ, piece) ||
         absorb_nested(c, body, parent))
         goto nomem;
 
@@ -778,6 +781,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
         lt_raw_line *r = &res->items[l];
         grow(&r->box, &c->items[i].box);
         r->ncomponents++;
+        r->bridged |= piece[i];
         if (lead[l] < 0 || c->items[i].box.left < c->items[lead[l]].box.left) lead[l] = i;
         if (trail[l] < 0 || c->items[i].box.right > c->items[trail[l]].box.right) trail[l] = i;
     }
@@ -865,6 +869,7 @@ done:
     grid_free(&g);
     free(body);
     free(mark);
+    free(piece);
     free(parent);
     free(line_of);
     free(links);
