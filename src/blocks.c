@@ -172,6 +172,57 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
     return (across ? b->left : b->top) < at;
 }
 
+/* A column gutter that a few lines run across: some x between a fifth and four fifths of the
+ * node's width (in steps of `step` px) is crossed by at least one and at most a sixth of its
+ * lines, at least a quarter of them lie wholly on each side, and the lines that do not cross
+ * it leave a white gap at least `min_gap` wide around it, and the lines that cross stand
+ * between lines of both columns above and below them (not a paragraph over the columns, as
+ * above a table). Returns the gap's width, with the
+ * cut coordinate (lines starting at or beyond it lie beyond) in *cut_at; 0 when none. The
+ * lines that cross go with the column they start in. */
+static int bridged_cut(const cut_context *x, const int *idx, int n, const lt_box *nb, int step,
+                       double min_gap, int *cut_at)
+{
+    int nlines = 0;
+    for (int i = 0; i < n; i++)
+        nlines += idx[i] < x->nreal;
+    if (nlines < 6) return 0;
+    const int w = nb->right - nb->left;
+    int best = 0;
+    for (int at = nb->left + w / 5; at <= nb->right - w / 5; at += step) {
+        int across = 0, count[2] = {0, 0}, reach = nb->left, next = nb->right, picture = 0;
+        /* the rows each column spans (twice the centre), and those of the crossing lines */
+        int top[2] = {1 << 30, 1 << 30}, bottom[2] = {-1, -1}, cross_lo = 1 << 30, cross_hi = -1;
+        for (int i = 0; i < n && !picture; i++) {
+            const lt_box *b = &x->boxes[idx[i]];
+            const int side = b->right <= at ? 0 : b->left >= at ? 1 : -1, cy = b->top + b->bottom;
+            const int line = idx[i] < x->nreal;
+            if (side < 0) {
+                picture = !line; /* a picture spanning the columns */
+                across++;
+                if (cy < cross_lo) cross_lo = cy;
+                if (cy > cross_hi) cross_hi = cy;
+                continue;
+            }
+            if (side == 0 && b->right > reach) reach = b->right;
+            if (side == 1 && b->left < next) next = b->left;
+            if (!line) continue;
+            count[side]++;
+            if (cy < top[side]) top[side] = cy;
+            if (cy > bottom[side]) bottom[side] = cy;
+        }
+        /* the crossing lines stand inside both columns, not above or below them */
+        const int inside =
+            cross_lo > top[0] && cross_lo > top[1] && cross_hi < bottom[0] && cross_hi < bottom[1];
+        if (!picture && across >= 1 && 6 * across <= nlines && 4 * count[0] >= nlines &&
+            4 * count[1] >= nlines && inside && next - reach >= min_gap && next - reach > best) {
+            best = next - reach;
+            *cut_at = next;
+        }
+    }
+    return best;
+}
+
 /* Builds the subtree of lines idx[0..n), n >= 1. */
 static lt_cut_node *cut(const cut_context *x, int *idx, int n)
 {
@@ -185,7 +236,8 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
          * gap search (unless nothing else is left), then go to the side of their centre. */
         int m = 0;
         for (int i = 0; i < n; i++)
-            if (!is_piece(x, idx[i])) spans[m++] = (span){boxes[idx[i]].left, boxes[idx[i]].right, idx[i]};
+            if (!is_piece(x, idx[i]))
+                spans[m++] = (span){boxes[idx[i]].left, boxes[idx[i]].right, idx[i]};
         if (m < 2) {
             m = 0;
             for (int i = 0; i < n; i++)
@@ -200,6 +252,15 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     /* A separating rule counts as a gap twice the narrowest one. */
     if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
     if (n > 1 && sy < 2 && rule_cut(x, idx, n, &node->box, 0, &y_cut)) sy = 2;
+    /* No gap wide enough: columns that a few lines run across are still columns. */
+    if (n > 1 && sx < 1 && sy < 1) {
+        const int step = x->col_gap > 4 ? (int)(x->col_gap / 3) : 1;
+        const int g = bridged_cut(x, idx, n, &node->box, step, x->col_gap, &x_cut);
+        if (g > 0) {
+            sx = 1;
+            gx = g;
+        }
+    }
     if (sx < 1 && sy < 1) {
         if (leaf_lines(node, boxes, x->nreal, idx, n, x->rtl)) {
             lt_cut_node_free(node);
@@ -275,7 +336,8 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     for (int i = 0; i < n; i++)
         idx[i] = i;
     const cut_context x = {boxes, lines->count, p->column_min_gap * th, p->block_min_gap * th,
-                           rules, nrules,       p->right_to_left,       bridged, spans};
+                           rules, nrules,       p->right_to_left,       bridged,
+                           spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

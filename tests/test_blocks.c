@@ -192,6 +192,23 @@ static void test_columns_then_paragraph(void)
     check_page(&p, 51, "columns then a full-width paragraph");
 }
 
+/* Two columns with a gutter of 2 text heights that one line of the left column, in the middle
+ * of it, runs across (an index entry running on into the next column, whose line on that row
+ * starts later): no white gap runs down the page, yet the reader reads the left column with
+ * that line, then the right column. */
+static void test_bridged_columns(void)
+{
+    page p = {0};
+    tu_rng r = {7};
+    for (int i = 0; i < 12; i++)
+        add_line(&p, 150, i == 5 ? 900 : 760 - tu_range(&r, 0, 40), 200 + i * PITCH);
+    p.nblocks++;
+    for (int i = 0; i < 12; i++)
+        add_line(&p, i == 5 ? 940 : 800, 1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
+    p.nblocks++;
+    check_page(&p, 71, "columns bridged by one line");
+}
+
 /* Two pieces of one row closer than a gutter (a short gap, 1 text height) stay one block,
  * read left to right; the next row follows. */
 static void test_row_pieces(void)
@@ -281,6 +298,7 @@ int main(void)
     test_three_columns();
     test_columns_then_paragraph();
     test_row_pieces();
+    test_bridged_columns();
     test_footnote_rule();
     test_empty();
     printf("time %.2f s\n", tu_now_s() - t0);
