@@ -494,17 +494,6 @@ done:
     return rc;
 }
 
-typedef struct span {
-    int owner, left, right;
-} span;
-
-static int cmp_span(const void *pa, const void *pb)
-{
-    const span *a = pa, *b = pb;
-    if (a->owner != b->owner) return (a->owner > b->owner) - (a->owner < b->owner);
-    return (a->left > b->left) - (a->left < b->left);
-}
-
 /* Lines that bridge a column gutter: where a line of one column runs on until its ink
  * touches the first word of the line beside it (an overfull line), the two are one group
  * whatever the gap tests say. A group at least 8 text heights long is cut at a long gutter
@@ -531,9 +520,8 @@ static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent,
     uint8_t *cut = calloc((size_t)nr + 1, 1);
     int *root_of = malloc(((size_t)n + 1) * sizeof *root_of);
     int *side_root = malloc(2 * ((size_t)nr + 1) * sizeof *side_root);
-    span *in = malloc(((size_t)n + 1) * sizeof *in);
     int ncand = 0, rc = LT_ENOMEM;
-    if (!cand_of || !strip || !cut || !root_of || !side_root || !in) goto done;
+    if (!cand_of || !strip || !cut || !root_of || !side_root) goto done;
     for (int i = 0; i < n; i++)
         cand_of[i] = -1;
     for (int k = 0; k < nr; k++) {
@@ -558,25 +546,36 @@ static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent,
         }
     }
     if (ncand > 0) {
-        /* The candidates' bodies in their strips, by candidate and left edge. */
-        int m = 0;
+        /* The columns of each candidate's strip that its bodies cover (the strips laid end
+         * to end in `inked`), then the widest run left white. */
+        int *at = malloc(((size_t)ncand + 1) * sizeof *at);
+        if (!at) goto done;
+        at[0] = 0;
+        for (int k = 0; k < ncand; k++)
+            at[k + 1] = at[k] + (int)(strip[2 * k + 1] - strip[2 * k]) + 1;
+        uint8_t *inked = calloc((size_t)at[ncand] + 1, 1);
+        if (!inked) {
+            free(at);
+            goto done;
+        }
         for (int i = 0; i < n; i++) {
             const int r = root_of[i] = lt_uf_find(parent, i), k = cand_of[r];
-            const lt_box *b = &c->items[i].box;
-            if (body[i] && k >= 0 && b->right > strip[2 * k] && b->left < strip[2 * k + 1])
-                in[m++] = (span){k, b->left, b->right};
+            if (!body[i] || k < 0) continue;
+            const int x0 = (int)strip[2 * k], w = at[k + 1] - at[k];
+            const int from = c->items[i].box.left - x0, to = c->items[i].box.right - x0;
+            for (int x = from < 0 ? 0 : from; x < to && x < w; x++)
+                inked[at[k] + x] = 1;
         }
-        qsort(in, (size_t)m, sizeof *in, cmp_span);
-        for (int j = 0; j < m;) {
-            const int k = in[j].owner;
-            double reached = strip[2 * k], widest = 0;
-            for (; j < m && in[j].owner == k; j++) {
-                widest = fmax(widest, in[j].left - reached);
-                reached = fmax(reached, in[j].right);
+        for (int k = 0; k < ncand; k++) {
+            int widest = 0, run = 0;
+            for (int x = at[k]; x < at[k + 1]; x++) {
+                run = inked[x] ? 0 : run + 1;
+                if (run > widest) widest = run;
             }
-            widest = fmax(widest, strip[2 * k + 1] - reached);
             cut[k] = widest < 0.4 * th;
         }
+        free(inked);
+        free(at);
         for (int k = 0; k < ncand; k++)
             side_root[2 * k] = side_root[2 * k + 1] = -1;
         /* Bodies first, so that each side's new root is a body; then the marks (to the
@@ -602,7 +601,6 @@ done:
     free(cut);
     free(root_of);
     free(side_root);
-    free(in);
     return rc;
 }
 
@@ -748,8 +746,8 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, &occ) ||
-        join_rows(c, body, parent, th, max_gap, &occ) || cut_bridges(c, body, parent, th, &occ, piece) ||
-        absorb_nested(c, body, parent))
+        join_rows(c, body, parent, th, max_gap, &occ) ||
+        cut_bridges(c, body, parent, th, &occ, piece) || absorb_nested(c, body, parent))
         goto nomem;
 
     /* One raw line per group. */
