@@ -245,6 +245,15 @@ static void compare_lines(const page *p, const result *r, const char *what)
     free(have);
 }
 
+/* Lines of res that reach from left of x1 to right of x2. */
+static int lines_across(const result *res, int x1, int x2)
+{
+    int n = 0;
+    for (int i = 0; res->lines && i < res->lines->count; i++)
+        n += res->lines->items[i].box.left < x1 && res->lines->items[i].box.right > x2;
+    return n;
+}
+
 /* One column: three paragraphs of justified lines with a blank line between them. */
 static void test_one_column(void)
 {
@@ -290,10 +299,7 @@ static void test_two_columns(void)
             result res = run_stages(p, what);
             compare_lines(p, &res, what);
             /* No line may cross the gutter. */
-            int crossing = 0;
-            for (int i = 0; res.lines && i < res.lines->count; i++)
-                crossing += res.lines->items[i].box.left < x1 && res.lines->items[i].box.right > x2;
-            CHECK_INT(crossing, 0, "%s: lines crossing the gutter", what);
+            CHECK_INT(lines_across(&res, x1, x2), 0, "%s: lines crossing the gutter", what);
             result_free(&res);
             page_free(p);
         }
@@ -327,10 +333,7 @@ static void test_crossed_gutter(void)
         }
         result res = run_stages(p, what);
         compare_lines(p, &res, what);
-        int crossing = 0;
-        for (int i = 0; res.lines && i < res.lines->count; i++)
-            crossing += res.lines->items[i].box.left < x1 && res.lines->items[i].box.right > x2;
-        CHECK_INT(crossing, 0, "%s: lines across the gutter", what);
+        CHECK_INT(lines_across(&res, x1, x2), 0, "%s: lines across the gutter", what);
         result_free(&res);
         page_free(p);
     }
@@ -358,13 +361,12 @@ static void test_bridged_gutter(void)
                 tu_fill(p->img, x1 - 2, y - XH, x2 + 3, y, 1);
         }
         result res = run_stages(p, what);
-        int across = 0, on_row = 0;
+        int on_row = 0;
         for (int i = 0; res.lines && i < res.lines->count; i++) {
             const lt_box *b = &res.lines->items[i].box;
-            across += b->left < x1 - 100 && b->right > x2 + 100;
             on_row += b->top < 150 + bridged * PITCH && b->bottom > 150 + bridged * PITCH - XH;
         }
-        CHECK_INT(across, 0, "%s: lines over both columns", what);
+        CHECK_INT(lines_across(&res, x1 - 100, x2 + 100), 0, "%s: lines over both columns", what);
         CHECK_INT(on_row, 2, "%s: lines on the bridged row", what);
         CHECK_INT(res.lines ? res.lines->count : 0, 2 * rows, "%s: lines", what);
         result_free(&res);
