@@ -173,13 +173,14 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
 }
 
 /* A column gutter that a few lines run across: some x between a fifth and four fifths of the
- * node's width (in steps of `step` px) is crossed by at least one and at most a sixth of its
- * lines, at least a quarter of them lie wholly on each side, and the lines that do not cross
- * it leave a white gap at least `min_gap` wide around it, and the lines that cross stand
- * between lines of both columns above and below them (not a paragraph over the columns, as
- * above a table). Returns the gap's width, with the
- * cut coordinate (lines starting at or beyond it lie beyond) in *cut_at; 0 when none. The
- * lines that cross go with the column they start in. */
+ * node's width (in steps of `step` px) where
+ *  - at least one and at most a sixth of the node's lines cross x, and at least a quarter of
+ *    them lie wholly on each side;
+ *  - the lines that do not cross leave a white gap at least `min_gap` wide around x;
+ *  - the crossing lines stand between lines of both columns above and below them (not a
+ *    paragraph over the columns, as above a table), and no picture crosses x.
+ * Returns the widest such gap, with the cut coordinate (lines starting at or beyond it lie
+ * beyond) in *cut_at; 0 when none. The lines that cross go with the column they start in. */
 static int bridged_cut(const cut_context *x, const int *idx, int n, const lt_box *nb, int step,
                        double min_gap, int *cut_at)
 {
