@@ -323,9 +323,8 @@ static int long_gutter_strip(const occupancy *o, const link *l, double th, doubl
  * on each side), or, for the ragged columns of an index, farther (5 up and down, 8 aside)
  * where both sides are columns of text: text fills at least 20 % of the rows beside the strip
  * (lines take about 60 % of them; a column of list labels far fewer). The strip may be
- * narrower than the gap, as the ragged edges of the columns leave it. Or the gap lies in a
- * long gutter that a few lines cross (long_gutter_strip). */
-static int in_gutter(const occupancy *o, const link *l, double th)
+ * narrower than the gap, as the ragged edges of the columns leave it. */
+static int in_near_gutter(const occupancy *o, const link *l, double th)
 {
     if (gutter_within(o, l, th, 2.5 * th, 4 * th)) return 1;
     if (gutter_within(o, l, th, 5 * th, 8 * th)) {
@@ -336,13 +335,23 @@ static int in_gutter(const occupancy *o, const link *l, double th)
             rows_with_text(o, l->x1, right, y0, y1) >= 0.2)
             return 1;
     }
+    return 0;
+}
+
+/* A gutter seen near (in_near_gutter) or a long gutter that a few lines cross. */
+static int in_gutter(const occupancy *o, const link *l, double th)
+{
     double x0, x1;
-    return long_gutter_strip(o, l, th, &x0, &x1);
+    return in_near_gutter(o, l, th) || long_gutter_strip(o, l, th, &x0, &x1);
 }
 
 /* How well mark k fits line box b: a distance (smaller is better), or -1. Marks sit above
  * (accents, dots) or on the band of the line, horizontally within it or beyond its ends by
- * at most `reach_px` (final punctuation, leaders), not across a gutter. */
+ * at most `reach_px` (final punctuation, leaders), not across a gutter seen near (a long
+ * gutter is not asked for: the dots of a leader stand where the bodies leave a strip white
+ * down an index). The distance is the vertical one between their middles plus how far the
+ * mark lies beyond the box: an i's dot goes with the line of its stem, not with the end of
+ * the line before it. */
 static double mark_fit(const lt_component *k, const lt_box *b, double th, int speckle,
                        double reach_px, const occupancy *occ)
 {
@@ -357,9 +366,9 @@ static double mark_fit(const lt_component *k, const lt_box *b, double th, int sp
                   right ? k->box.left : b->left,
                   b->top < k->box.top ? b->top : k->box.top,
                   b->bottom > k->box.bottom ? b->bottom : k->box.bottom};
-        if (in_gutter(occ, &l, th)) return -1;
+        if (in_near_gutter(occ, &l, th)) return -1;
     }
-    return fabs(cy - 0.5 * (b->top + b->bottom));
+    return fabs(cy - 0.5 * (b->top + b->bottom)) + fmax(0.0, fmax(b->left - cx, cx - b->right));
 }
 
 static int cmp_line_pos(const void *pa, const void *pb)
