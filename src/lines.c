@@ -327,15 +327,12 @@ static int long_gutter_strip(const occupancy *o, const link *l, double th, doubl
 static int in_near_gutter(const occupancy *o, const link *l, double th)
 {
     if (gutter_within(o, l, th, 2.5 * th, 4 * th)) return 1;
-    if (gutter_within(o, l, th, 5 * th, 8 * th)) {
-        const double y0 = l->top - 5 * th, y1 = l->bottom + 5 * th;
-        const double left = side_edge(o, l, l->x0, -1, 8 * th, y0, y1, th);
-        const double right = side_edge(o, l, l->x1, +1, 8 * th, y0, y1, th);
-        if (rows_with_text(o, left, l->x0, y0, y1) >= 0.2 &&
-            rows_with_text(o, l->x1, right, y0, y1) >= 0.2)
-            return 1;
-    }
-    return 0;
+    if (!gutter_within(o, l, th, 5 * th, 8 * th)) return 0;
+    const double y0 = l->top - 5 * th, y1 = l->bottom + 5 * th;
+    const double left = side_edge(o, l, l->x0, -1, 8 * th, y0, y1, th);
+    const double right = side_edge(o, l, l->x1, +1, 8 * th, y0, y1, th);
+    return rows_with_text(o, left, l->x0, y0, y1) >= 0.2 &&
+           rows_with_text(o, l->x1, right, y0, y1) >= 0.2;
 }
 
 /* A gutter seen near (in_near_gutter) or a long gutter that a few lines cross. */
