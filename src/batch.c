@@ -418,6 +418,13 @@ typedef struct input_state {
     result *results; /* one per page (one for an input that did not open) */
 } input_state;
 
+/* The result slots of an opened input: one per page, one for an input that did not open,
+ * none when they could not be allocated. */
+static int result_slots(const input_state *st)
+{
+    return !st->results ? 0 : st->pages > 0 ? st->pages : 1;
+}
+
 typedef struct pool {
     const lt_inputs *in;
     const lt_batch_options *opt;
@@ -573,7 +580,7 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
             pthread_cond_broadcast(&p.changed);
             pthread_mutex_unlock(&p.lock);
         }
-        const int slots = st->results ? (st->pages > 0 ? st->pages : 1) : 0;
+        const int slots = result_slots(st);
         for (int i = 0; i < slots && !stop; i++) {
             result *r = &st->results[i];
             pthread_mutex_lock(&p.lock);
@@ -609,7 +616,7 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     for (int k = 0; k < in->count; k++) { /* what is left after a write failure */
         input_state *st = &p.inputs[k];
         if (st->pages < 0) continue;
-        for (int i = 0; st->results && i < (st->pages > 0 ? st->pages : 1); i++) {
+        for (int i = 0; i < result_slots(st); i++) {
             free(st->results[i].records.data);
             free(st->results[i].messages.data);
         }

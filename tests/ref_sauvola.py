@@ -164,37 +164,36 @@ def main(argv):
             failures += 1
             continue
         for mode, window_px, k, min_all, min_interior in runs:
-            if True:
-                threshold = threshold_sauvola(gray, window_size=window_px, k=k, r=R)
-                ref_ink = gray < threshold
-                ties = np.abs(gray.astype(np.float64) - threshold) <= TIE_EPS
-                out_path = os.path.join(work, "%s-%s-%d-%g.pgm" % (name, mode, window_px, k))
-                try:
-                    ink = lineate_ink(tool, path, window_px, k, out_path, mode)
-                except (RuntimeError, ValueError, OSError,
-                        subprocess.TimeoutExpired) as exc:
-                    print("FAIL %s W=%d k=%g: %s" % (name, window_px, k, exc))
-                    failures += 1
-                    continue
-                if ink.shape != gray.shape:
-                    print("FAIL %s W=%d k=%g: output is %dx%d, input %dx%d" %
-                          (name, window_px, k, ink.shape[1], ink.shape[0],
-                           gray.shape[1], gray.shape[0]))
-                    failures += 1
-                    continue
-                agree = (ink == ref_ink) | ties
-                half = window_px // 2
-                interior = agree[half:-half, half:-half]
-                agreement = agree.mean()
-                interior_agreement = interior.mean()
-                ok = agreement >= min_all and interior_agreement >= min_interior
-                print("%-13s %-7s %4d %5g %10.4f%% %10.4f%% %6d %9d %6.2f%% %s" %
-                      (name, mode, window_px, k, 100.0 * agreement, 100.0 * interior_agreement,
-                       int(ties.sum()), int((~agree).sum()), 100.0 * ink.mean(),
-                       "ok" if ok else "FAIL"))
-                if not ok:
-                    failures += 1
-                os.remove(out_path)
+            threshold = threshold_sauvola(gray, window_size=window_px, k=k, r=R)
+            ref_ink = gray < threshold
+            ties = np.abs(gray.astype(np.float64) - threshold) <= TIE_EPS
+            out_path = os.path.join(work, "%s-%s-%d-%g.pgm" % (name, mode, window_px, k))
+            try:
+                ink = lineate_ink(tool, path, window_px, k, out_path, mode)
+            except (RuntimeError, ValueError, OSError,
+                    subprocess.TimeoutExpired) as exc:
+                print("FAIL %s W=%d k=%g: %s" % (name, window_px, k, exc))
+                failures += 1
+                continue
+            if ink.shape != gray.shape:
+                print("FAIL %s W=%d k=%g: output is %dx%d, input %dx%d" %
+                      (name, window_px, k, ink.shape[1], ink.shape[0],
+                       gray.shape[1], gray.shape[0]))
+                failures += 1
+                continue
+            agree = (ink == ref_ink) | ties
+            half = window_px // 2
+            interior = agree[half:-half, half:-half]
+            agreement = agree.mean()
+            interior_agreement = interior.mean()
+            ok = agreement >= min_all and interior_agreement >= min_interior
+            print("%-13s %-7s %4d %5g %10.4f%% %10.4f%% %6d %9d %6.2f%% %s" %
+                  (name, mode, window_px, k, 100.0 * agreement, 100.0 * interior_agreement,
+                   int(ties.sum()), int((~agree).sum()), 100.0 * ink.mean(),
+                   "ok" if ok else "FAIL"))
+            if not ok:
+                failures += 1
+            os.remove(out_path)
     print("floors: agreement >= %.2f%% on all pixels, >= %.2f%% on the interior (exact); "
           ">= %.2f%% and >= %.2f%% (sampled)" %
           (100.0 * MIN_AGREEMENT, 100.0 * MIN_INTERIOR_AGREEMENT,

@@ -211,8 +211,6 @@ static void test_against_naive(void)
     CHECK(ties * 10000 < compared, "naive comparison: %ld near-ties of %ld", ties, compared);
 }
 
-/* Window 1: m = g and s = 0, so T = g (1 - k): only black pixels (g = 0 = T, at the threshold)
- * are ink. */
 /* lt_binarize_sampled against the naive reference on built pages: a paper gradient with
  * text-like strokes and noise, and the random patch pages of test_against_naive, in sizes that
  * are and are not multiples of the 3 px tile, down to one pixel. At the pixels where it samples the
@@ -299,6 +297,8 @@ static void test_sampled(void)
     printf("sampled: worst share of pixels off the naive reference %.3f%%\n", 100 * worst);
 }
 
+/* Window 1: m = g and s = 0, so T = g (1 - k): only black pixels (g = 0 = T, at the threshold)
+ * are ink. */
 static void test_window_one(void)
 {
     tu_rng rng = {77};
