@@ -180,13 +180,15 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
  *  - the crossing lines stand between lines of both columns above and below them (not a
  *    paragraph over the columns, as above a table), and no picture crosses x.
  * Returns the widest such gap, with the cut coordinate (lines starting at or beyond it lie
- * beyond) in *cut_at; 0 when none. The lines that cross go with the column they start in. */
+ * beyond) in *cut_at; 0 when none. The lines that cross go with the column they start in.
+ * The pieces of lines cut at a gutter are not looked at (they abut there, and go to the side
+ * of their centre). */
 static int bridged_cut(const cut_context *x, const int *idx, int n, const lt_box *nb, int step,
                        double min_gap, int *cut_at)
 {
     int nlines = 0;
     for (int i = 0; i < n; i++)
-        nlines += idx[i] < x->nreal;
+        nlines += idx[i] < x->nreal && !is_piece(x, idx[i]);
     if (nlines < 6) return 0;
     const int w = nb->right - nb->left;
     int best = 0;
@@ -195,6 +197,7 @@ static int bridged_cut(const cut_context *x, const int *idx, int n, const lt_box
         /* the rows each column spans (twice the centre), and those of the crossing lines */
         int top[2] = {1 << 30, 1 << 30}, bottom[2] = {-1, -1}, cross_lo = 1 << 30, cross_hi = -1;
         for (int i = 0; i < n && !picture; i++) {
+            if (is_piece(x, idx[i])) continue; /* they go by their centre */
             const lt_box *b = &x->boxes[idx[i]];
             const int side = b->right <= at ? 0 : b->left >= at ? 1 : -1, cy = b->top + b->bottom;
             const int line = idx[i] < x->nreal;

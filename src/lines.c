@@ -500,6 +500,28 @@ done:
     return rc;
 }
 
+/* How many groups (roots[0..nr), sorted by left edge) start in [x0, x1) with their middle
+ * in [y0, y1). */
+static int starts_between(const keyed *roots, int nr, const lt_box *boxes, double x0, double x1,
+                          double y0, double y1)
+{
+    int lo = 0, hi = nr;
+    while (lo < hi) {
+        const int mid = (lo + hi) / 2;
+        if (roots[mid].key < x0)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    int count = 0;
+    for (int k = lo; k < nr && roots[k].key < x1; k++) {
+        const lt_box *b = &boxes[roots[k].index];
+        const double cy = 0.5 * (b->top + b->bottom);
+        count += cy >= y0 && cy < y1;
+    }
+    return count;
+}
+
 /* Lines that bridge a column gutter: where a line of one column runs on until its ink
  * touches the first word of the line beside it (an overfull line), the two are one group
  * whatever the gap tests say. A group at least 8 text heights long is cut at a long gutter
@@ -508,9 +530,12 @@ done:
  *  - its own ink fills the strip, leaving no white in it wider than 0.4 text heights
  *    (narrower than a word space: a line with a gap there, as between an entry and the
  *    leader to its page number, is left to the gap tests), and
- *  - close above the group and close below it (within 2.5 text heights) the strip is white
- *    while text comes within 4 text heights of it on both sides: the edges of two columns,
- *    not a paragraph beside a table or a title over columns.
+ *  - close above the group and close below it (within 2.5 text heights) the strip is white,
+ *    and text comes within 4 text heights of it on both sides, above and below: the edges
+ *    of two columns, not a paragraph beside a table or a title over columns. On one of the
+ *    two (above or below) is enough where the strip's right edge is a column's left edge,
+ *    at least 8 lines starting there (in 20 text heights up and down): the lines of an
+ *    index that run on to a leader start well inside their column.
  * Each member goes to the side of the strip's middle its centre lies on, and is marked in
  * `piece`. */
 static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent, double th,
@@ -536,15 +561,19 @@ static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent,
         if (box_w(b) < 8 * th) continue;
         const link l = {r, r, b->left + 4 * th, b->right - 4 * th, b->top, b->bottom};
         double x0, x1;
-        if (!long_gutter_strip(occ, &l, th, &x0, &x1) || x1 - x0 < 1.5 * th) continue;
+        if (!long_gutter_strip(occ, &l, th, &x0, &x1)) continue;
         const double reach = 2.5 * th, cell = occ->cell_px;
         const double above = b->top - cell, below = b->bottom + cell;
-        if (occupancy_count(occ, x0 - 4 * th, above - reach, x0, above) > 0 &&
-            occupancy_count(occ, x1, above - reach, x1 + 4 * th, above) > 0 &&
-            occupancy_count(occ, x0 - 4 * th, below, x0, below + reach) > 0 &&
-            occupancy_count(occ, x1, below, x1 + 4 * th, below + reach) > 0 &&
-            occupancy_count(occ, x0, above - reach, x1, above) == 0 &&
-            occupancy_count(occ, x0, below, x1, below + reach) == 0) {
+        if (x1 - x0 < 1.5 * th - 1e-6 * cell) continue; /* allowing for rounding */
+        const int text_above = occupancy_count(occ, x0 - 4 * th, above - reach, x0, above) > 0 &&
+                               occupancy_count(occ, x1, above - reach, x1 + 4 * th, above) > 0;
+        const int text_below = occupancy_count(occ, x0 - 4 * th, below, x0, below + reach) > 0 &&
+                               occupancy_count(occ, x1, below, x1 + 4 * th, below + reach) > 0;
+        const int column_edge = starts_between(roots, nr, boxes, x1 - cell, x1 + 0.5 * th,
+                                               b->top - 20 * th, b->bottom + 20 * th) >= 8;
+        if (occupancy_count(occ, x0, above - reach, x1, above) == 0 &&
+            occupancy_count(occ, x0, below, x1, below + reach) == 0 &&
+            ((text_above && text_below) || ((text_above || text_below) && column_edge))) {
             cand_of[r] = ncand;
             strip[2 * ncand] = x0;
             strip[2 * ncand + 1] = x1;

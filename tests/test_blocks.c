@@ -195,18 +195,36 @@ static void test_columns_then_paragraph(void)
 /* Two columns with a gutter of 2 text heights that one line of the left column, in the middle
  * of it, runs across (an index entry running on into the next column, whose line on that row
  * starts later): no white gap runs down the page, yet the reader reads the left column with
- * that line, then the right column. */
+ * that line, then the right column. In the second case one more row holds the two pieces of
+ * a line cut at the gutter (lines.c cut_bridges), meeting in its middle: they narrow no gap,
+ * each going with the column its centre lies in. */
 static void test_bridged_columns(void)
 {
-    page p = {0};
-    tu_rng r = {7};
-    for (int i = 0; i < 12; i++)
-        add_line(&p, 150, i == 5 ? 900 : 760 - tu_range(&r, 0, 40), 200 + i * PITCH);
-    p.nblocks++;
-    for (int i = 0; i < 12; i++)
-        add_line(&p, i == 5 ? 940 : 800, 1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
-    p.nblocks++;
-    check_page(&p, 71, "columns bridged by one line");
+    for (int pieces = 0; pieces <= 1; pieces++) {
+        page p = {0};
+        tu_rng r = {7};
+        const int cut_row = pieces ? 8 : -1;
+        for (int i = 0; i < 12; i++) {
+            add_line(&p, 150,
+                     i == 5         ? 900
+                     : i == cut_row ? 780
+                                    : 760 - tu_range(&r, 0, 40),
+                     200 + i * PITCH);
+            p.lines[p.n - 1].bridged = i == cut_row;
+        }
+        p.nblocks++;
+        for (int i = 0; i < 12; i++) {
+            add_line(&p,
+                     i == 5         ? 940
+                     : i == cut_row ? 781
+                                    : 800,
+                     1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
+            p.lines[p.n - 1].bridged = i == cut_row;
+        }
+        p.nblocks++;
+        check_page(&p, 71,
+                   pieces ? "columns bridged by one line, one cut" : "columns bridged by one line");
+    }
 }
 
 /* Two pieces of one row closer than a gutter (a short gap, 1 text height) stay one block,

@@ -344,34 +344,40 @@ static void test_crossed_gutter(void)
  * overfull line): one component runs across the gutter, yet the row must give one line in
  * each column. The right line's first letter, fused with the left line's last ones, goes
  * with the side its centre lies on, so the check is on which lines span the gutter, not on
- * exact boxes. */
+ * exact boxes. As a plain page, and as an index whose right column runs on every third row
+ * 5 text heights in from the column's edge (a leader to page numbers), one of them right
+ * under the bridged row: there the gutter is known by the column's edge, where the other
+ * rows start. */
 static void test_bridged_gutter(void)
 {
-    for (int seed = 1; seed <= 3; seed++) {
-        char what[64];
-        snprintf(what, sizeof what, "bridged gutter, seed %d", seed);
-        tu_rng r = {(uint64_t)(200 + seed)};
-        page *p = page_new(1700, 1000);
-        const int col = 620, x0 = 150, x1 = x0 + col, x2 = x1 + 3 * XH, rows = 14, bridged = 6;
-        for (int i = 0; i < rows; i++) {
-            const int y = 150 + i * PITCH;
-            draw_line(p, &r, x0, x1, y, 1, 0);
-            draw_line(p, &r, x2, x2 + col, y, 1, 0);
-            if (i == bridged) /* letters without a gap from the left line to the right one */
-                tu_fill(p->img, x1 - 2, y - XH, x2 + 3, y, 1);
+    for (int index = 0; index <= 1; index++)
+        for (int seed = 1; seed <= 3; seed++) {
+            char what[64];
+            snprintf(what, sizeof what, "bridged gutter%s, seed %d", index ? " (index)" : "", seed);
+            tu_rng r = {(uint64_t)(200 + 10 * index + seed)};
+            page *p = page_new(1700, 1100);
+            const int col = 620, x0 = 150, x1 = x0 + col, x2 = x1 + 3 * XH, rows = 16;
+            const int bridged = 6;
+            for (int i = 0; i < rows; i++) {
+                const int y = 150 + i * PITCH, run_on = index && i % 3 == bridged % 3 + 1;
+                draw_line(p, &r, x0, x1, y, 1, 0);
+                draw_line(p, &r, run_on ? x2 + 5 * XH : x2, x2 + col, y, 1, 0);
+                if (i == bridged) /* letters without a gap from the left line to the right one */
+                    tu_fill(p->img, x1 - 2, y - XH, x2 + 3, y, 1);
+            }
+            result res = run_stages(p, what);
+            int on_row = 0;
+            for (int i = 0; res.lines && i < res.lines->count; i++) {
+                const lt_box *b = &res.lines->items[i].box;
+                on_row += b->top < 150 + bridged * PITCH && b->bottom > 150 + bridged * PITCH - XH;
+            }
+            CHECK_INT(lines_across(&res, x1 - 100, x2 + 100), 0, "%s: lines over both columns",
+                      what);
+            CHECK_INT(on_row, 2, "%s: lines on the bridged row", what);
+            CHECK_INT(res.lines ? res.lines->count : 0, 2 * rows, "%s: lines", what);
+            result_free(&res);
+            page_free(p);
         }
-        result res = run_stages(p, what);
-        int on_row = 0;
-        for (int i = 0; res.lines && i < res.lines->count; i++) {
-            const lt_box *b = &res.lines->items[i].box;
-            on_row += b->top < 150 + bridged * PITCH && b->bottom > 150 + bridged * PITCH - XH;
-        }
-        CHECK_INT(lines_across(&res, x1 - 100, x2 + 100), 0, "%s: lines over both columns", what);
-        CHECK_INT(on_row, 2, "%s: lines on the bridged row", what);
-        CHECK_INT(res.lines ? res.lines->count : 0, 2 * rows, "%s: lines", what);
-        result_free(&res);
-        page_free(p);
-    }
 }
 
 /* Rules and a picture: a horizontal rule in the white between two lines, a vertical rule in
