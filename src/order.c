@@ -87,14 +87,17 @@ enum { NOT_BEFORE = 0, ABOVE = 1, EARLIER_COLUMN = 2 };
 /* Whether unit a is read before unit b by the rules in the comment at the top: ABOVE (they
  * overlap horizontally and a stands higher), EARLIER_COLUMN (a lies wholly on the reading
  * side of b and no unit between them vertically overlaps both), or NOT_BEFORE. Boxes
- * overlapping by less than `tol` px count as disjoint: ragged edges and a stray overhang do
- * not tie two columns together. */
+ * overlapping by less than `tol` px, or a tenth of the narrower one's width, count as
+ * disjoint: ragged edges and a stray overhang (an index entry run on past the next column's
+ * edge) do not tie two columns together. */
 static int precedes(const unit *u, int n, int a, int b, int rtl, double tol)
 {
     const lt_box *A = &u[a].box, *B = &u[b].box;
-    if (overlap(A->left, A->right, B->left, B->right) > tol)
+    const double narrower = fmin(A->right - A->left, B->right - B->left),
+                 t = fmax(tol, 0.1 * narrower);
+    if (overlap(A->left, A->right, B->left, B->right) > t)
         return A->top + A->bottom < B->top + B->bottom ? ABOVE : NOT_BEFORE;
-    if (rtl ? A->left < B->right - tol : A->right > B->left + tol) return NOT_BEFORE;
+    if (rtl ? A->left < B->right - t : A->right > B->left + t) return NOT_BEFORE;
     const int ca = A->top + A->bottom, cb = B->top + B->bottom;
     const int lo = ca < cb ? ca : cb, hi = ca < cb ? cb : ca;
     for (int c = 0; c < n; c++) {

@@ -227,6 +227,27 @@ static void test_bridged_columns(void)
     }
 }
 
+/* Two columns, the left one in two blocks (a blank row between them), where a line of the
+ * lower block runs 20 px past the edge of the right column (whose line on that row starts
+ * later): the two boxes overlap by a stray overhang (a thirtieth of a column), which does not
+ * put the right column, standing higher, before the lower left block. */
+static void test_overhanging_block(void)
+{
+    page p = {0};
+    tu_rng r = {9};
+    const int crossing = 7;
+    for (int i = 0; i < 11; i++) {
+        const int row = i < 5 ? i : i + 1;
+        add_line(&p, 150, i == crossing ? 820 : 760 - tu_range(&r, 0, 40), 200 + row * PITCH);
+        if (i == 4) p.nblocks++;
+    }
+    p.nblocks++;
+    for (int i = 0; i < 12; i++)
+        add_line(&p, i == crossing + 1 ? 860 : 800, 1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
+    p.nblocks++;
+    check_page(&p, 73, "a block overhanging the next column");
+}
+
 /* Two pieces of one row closer than a gutter (a short gap, 1 text height) stay one block,
  * read left to right; the next row follows. */
 static void test_row_pieces(void)
@@ -317,6 +338,7 @@ int main(void)
     test_columns_then_paragraph();
     test_row_pieces();
     test_bridged_columns();
+    test_overhanging_block();
     test_footnote_rule();
     test_empty();
     printf("time %.2f s\n", tu_now_s() - t0);
