@@ -154,6 +154,13 @@ void lt_assign_roles(lt_raw_block *b, int n, const lt_raw_lines *lines, const lt
         if (x->table >= 0) continue; /* cells are body text of their table */
         if (head_or_foot(b, n, i, 1, page_h, th) || head_or_foot(b, n, i, 0, page_h, th)) {
             int head = bx->bottom <= page_h / 8;
+            /* Two lines at the top, one across more than half the text area: a paragraph
+             * (running heads of two lines, a title over the authors, are short). */
+            if (head && x->nlines == 2 &&
+                2 * fmax(width(&lines->items[x->lines[0]].box),
+                         width(&lines->items[x->lines[1]].box)) >
+                    area_w)
+                continue;
             int folio =
                 x->nlines == 1 && width(bx) <= 5 * th && lines->items[x->lines[0]].ncomponents <= 6;
             x->role = folio  ? LT_ROLE_PAGE_NUMBER

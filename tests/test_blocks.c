@@ -262,7 +262,31 @@ static void test_row_pieces(void)
     check_page(&p, 61, "row pieces");
 }
 
-/* No lines: no tree, no blocks. */
+/* Arranges the lines of p (in page order) with the components `comps` (rules) and stores the
+ * role of the block holding line want[k] in role[k] (-1 when it failed). */
+static void roles_of_lines(const page *p, lt_components *comps, const int *want, int *role,
+                           int nwant, const char *what)
+{
+    for (int k = 0; k < nwant; k++)
+        role[k] = -1;
+    lt_raw_lines raw = {(lt_raw_line *)p->lines, p->n};
+    lt_params prm;
+    lt_params_default(&prm);
+    lt_error err = {0};
+    lt_cut_node *root = NULL;
+    lt_arrangement *arr = NULL;
+    if (lt_xy_cut(&raw, comps, TH, &prm, &root, &err) ||
+        lt_arrange(root, &raw, comps, TH, &prm, p->lines[p->n - 1].box.bottom + 150, &arr, &err)) {
+        tu_fail("%s: %s", what, err.message);
+    } else {
+        for (int i = 0; i < arr->nlines; i++)
+            for (int k = 0; k < nwant; k++)
+                if (arr->order[i] == want[k]) role[k] = arr->blocks[arr->block_of[i]].role;
+    }
+    lt_arrangement_free(arr);
+    lt_cut_node_free(root);
+}
+
 /* The rule that opens footnotes is short against the block under it: two columns, the left
  * one ending in two lines under a 200 px rule (footnotes), the right one in four lines under
  * a rule as wide as the column (a section rule: not footnotes), both in the lower half, and a
@@ -288,30 +312,40 @@ static void test_footnote_rule(void)
         rules[k].pixels = (long)(rules[k].box.right - rules[k].box.left) * 4;
     }
     lt_components comps = {rules, 2};
-    lt_raw_lines raw = {p.lines, p.n};
-    lt_params prm;
-    lt_params_default(&prm);
-    lt_error err = {0};
-    lt_cut_node *root = NULL;
-    lt_arrangement *arr = NULL;
-    if (lt_xy_cut(&raw, &comps, TH, &prm, &root, &err) ||
-        lt_arrange(root, &raw, &comps, TH, &prm, p.lines[p.n - 1].box.bottom + 150, &arr, &err)) {
-        tu_fail("footnote rule: %s", err.message);
-    } else {
-        int role_of_footnote = -1, role_of_section = -1;
-        for (int i = 0; i < arr->nlines; i++) {
-            if (arr->order[i] == footnote) role_of_footnote = arr->blocks[arr->block_of[i]].role;
-            if (arr->order[i] == section) role_of_section = arr->blocks[arr->block_of[i]].role;
-        }
-        CHECK_INT(role_of_footnote, LT_ROLE_FOOTNOTE,
-                  "footnote rule: the lines under the short rule");
-        CHECK(role_of_section != LT_ROLE_FOOTNOTE,
-              "footnote rule: the lines under the column-wide rule are not footnotes");
-    }
-    lt_arrangement_free(arr);
-    lt_cut_node_free(root);
+    const int want[2] = {footnote, section};
+    int role[2];
+    roles_of_lines(&p, &comps, want, role, 2, "footnote rule");
+    CHECK_INT(role[0], LT_ROLE_FOOTNOTE, "footnote rule: the lines under the short rule");
+    CHECK(role[1] != LT_ROLE_FOOTNOTE,
+          "footnote rule: the lines under the column-wide rule are not footnotes");
 }
 
+/* At the top of the page, two blocks of two lines set apart from the text under them by
+ * white: a running head (two short lines, the title and the authors) and, on a second page,
+ * a paragraph (a line across the text area, then its short last line). Only the first is a
+ * page header. */
+static void test_two_line_head(void)
+{
+    for (int paragraph = 0; paragraph <= 1; paragraph++) {
+        page p = {0};
+        tu_rng r = {17};
+        add_line(&p, 150, paragraph ? 1430 : 600, 90);
+        add_line(&p, 150, paragraph ? 700 : 480, 90 + PITCH);
+        p.nblocks++;
+        add_block(&p, &r, 150, 1430, 250, 12);
+        add_block(&p, &r, 150, 1430, 250 + 13 * PITCH, 8);
+        const int want[1] = {0};
+        int role[1];
+        const char *what = paragraph ? "a paragraph at the top" : "a running head of two lines";
+        roles_of_lines(&p, NULL, want, role, 1, what);
+        if (paragraph)
+            CHECK(role[0] != LT_ROLE_PAGE_HEADER, "%s: not a page header", what);
+        else
+            CHECK_INT(role[0], LT_ROLE_PAGE_HEADER, "%s: its role", what);
+    }
+}
+
+/* No lines: no tree, no blocks. */
 static void test_empty(void)
 {
     lt_raw_lines raw = {NULL, 0};
@@ -340,6 +374,7 @@ int main(void)
     test_bridged_columns();
     test_overhanging_block();
     test_footnote_rule();
+    test_two_line_head();
     test_empty();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_blocks");
