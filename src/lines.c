@@ -522,6 +522,19 @@ static int starts_between(const keyed *roots, int nr, const lt_box *boxes, doubl
     return count;
 }
 
+/* How many groups (roots[0..nr)) end in [x0, x1) with their middle in [y0, y1). */
+static int ends_between(const keyed *roots, int nr, const lt_box *boxes, double x0, double x1,
+                        double y0, double y1)
+{
+    int count = 0;
+    for (int k = 0; k < nr; k++) {
+        const lt_box *b = &boxes[roots[k].index];
+        const double cy = 0.5 * (b->top + b->bottom);
+        count += b->right >= x0 && b->right < x1 && cy >= y0 && cy < y1;
+    }
+    return count;
+}
+
 /* Lines that bridge a column gutter: where a line of one column runs on until its ink
  * touches the first word of the line beside it (an overfull line), the two are one group
  * whatever the gap tests say. A group at least 8 text heights long is cut at a long gutter
@@ -668,7 +681,11 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
 }
 
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
- * punctuation between words), with a gap of at most max_gap that is not in a gutter. */
+ * punctuation between words), with a gap of at most max_gap that is not in a gutter, or that
+ * lies along a leader to page numbers: the left group ends in at least 2 text heights of
+ * marks or the right one starts so (the dots), and the right one, at most 10 text heights
+ * long, ends where more than 4 other lines end (numbers set flush right), not starting where
+ * 8 lines start (the next column). */
 static int join_rows(const lt_components *c, const uint8_t *body, int *parent, double th,
                      double max_gap, const occupancy *occ)
 {
@@ -676,6 +693,25 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
     keyed *roots;
     int nr;
     if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
+    /* the extent of each group's bodies (by root), so that marks beyond it show */
+    int *body_left = malloc(2 * ((size_t)c->count + 1) * sizeof *body_left);
+    if (!body_left) {
+        free(boxes);
+        free(roots);
+        return LT_ENOMEM;
+    }
+    int *body_right = body_left + c->count + 1;
+    for (int i = 0; i < c->count; i++)
+        if (body[i] && lt_uf_find(parent, i) == i) {
+            body_left[i] = c->items[i].box.left;
+            body_right[i] = c->items[i].box.right;
+        }
+    for (int i = 0; i < c->count; i++)
+        if (body[i]) {
+            const int r = lt_uf_find(parent, i);
+            if (c->items[i].box.left < body_left[r]) body_left[r] = c->items[i].box.left;
+            if (c->items[i].box.right > body_right[r]) body_right[r] = c->items[i].box.right;
+        }
     for (int a = 0; a < nr; a++) {
         const lt_box *ba = &boxes[roots[a].index];
         for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
@@ -695,10 +731,20 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
             const int lone = (box_w(ba) <= 1.2 * th && box_h(ba) <= 1.2 * th) ||
                              (box_w(bb) <= 1.2 * th && box_h(bb) <= 1.2 * th);
             const int gap = bb->left - ba->right;
-            if (gap < 1.5 * th || (lone && gap <= 2.5 * th) || !in_gutter(occ, &l, th))
-                lt_uf_unite(parent, roots[a].index, roots[b].index);
+            int join = gap < 1.5 * th || (lone && gap <= 2.5 * th) || !in_gutter(occ, &l, th);
+            const int leader = ba->right - body_right[roots[a].index] >= 2 * th ||
+                               body_left[roots[b].index] - bb->left >= 2 * th;
+            if (!join && leader && box_w(bb) <= 10 * th) {
+                const double y0 = bb->top - 20 * th, y1 = bb->bottom + 20 * th;
+                join = ends_between(roots, nr, boxes, bb->right - 0.5 * th, bb->right + 0.5 * th,
+                                    y0, y1) > 4 &&
+                       starts_between(roots, nr, boxes, bb->left - 0.5 * th, bb->left + 0.5 * th,
+                                      y0, y1) < 8;
+            }
+            if (join) lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
     }
+    free(body_left);
     free(boxes);
     free(roots);
     return 0;

@@ -380,6 +380,54 @@ static void test_bridged_gutter(void)
         }
 }
 
+/* Draws one glyph of line l (a mark when `mark`) and grows the line's box. */
+static void draw_glyph(page *p, int l, lt_box b, int mark)
+{
+    tu_fill_box(p->img, b, 1);
+    tu_box_union(&p->line_box[l], b);
+    p->ncomp[l]++;
+    if (mark) {
+        if (p->nmarks >= MAX_MARKS) tu_die("too many marks");
+        p->mark_box[p->nmarks] = b;
+        p->mark_line[p->nmarks++] = l;
+    }
+}
+
+/* An index in two columns with leaders: each entry of the left column runs on in a few dots
+ * (on a grid of 16 px, as leaders are set) that stop 2 text heights before its page numbers,
+ * one to four digits (old-style, x-height tall) set flush right, so that the white before the
+ * numbers runs down the column like a gutter, with the entries close beside it; the leader
+ * carries the line over it. Every fourth entry's leader runs on to the column's edge without
+ * a number (it follows on the next row, here left out), 3 text heights from a short entry of
+ * the right column, which stays a line of its own. */
+static void test_leaders(void)
+{
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "leaders, seed %d", seed);
+        tu_rng r = {(uint64_t)(300 + seed)};
+        page *p = page_new(1500, 1000);
+        const int x0 = 150, right = 900, x2 = right + 3 * XH, rows = 16;
+        for (int i = 0; i < rows; i++) {
+            const int y = 150 + i * PITCH, digits = i % 4 != 3 ? tu_range(&r, 1, 4) : 0;
+            const int number_left = right - 14 * digits + 3;
+            const int dots_end = digits ? number_left - 2 * XH : right;
+            const int l = draw_line(p, &r, x0, dots_end - tu_range(&r, 40, 100), y, 0, 0);
+            for (int x = (p->line_box[l].right / 16 + 1) * 16; x + 4 <= dots_end; x += 16)
+                draw_glyph(p, l, tu_box(x, y - 4, x + 4, y), 1);
+            for (int k = 0; k < digits; k++)
+                draw_glyph(p, l, tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y),
+                           0);
+            draw_line(p, &r, x2, x2 + tu_range(&r, 120, 190), y, 0, 0);
+        }
+        result res = run_stages(p, what);
+        compare_lines(p, &res, what);
+        CHECK_INT(lines_across(&res, right, x2), 0, "%s: lines across the gutter", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Rules and a picture: a horizontal rule in the white between two lines, a vertical rule in
  * a column gutter, and a picture block (a filled 300 x 300 box, 15 text heights) standing
  * between text on its left and on its right, one text height from each. None of them joins
@@ -513,6 +561,7 @@ int main(void)
     test_two_columns();
     test_crossed_gutter();
     test_bridged_gutter();
+    test_leaders();
     test_rules_and_picture();
     test_small_marks();
     test_analyze();
