@@ -142,6 +142,7 @@ typedef struct occupancy {
     int32_t *sum;         /* (cols+1) x (rows+1) summed-area table */
     const lt_box *vrules; /* vertical rules: hard boundaries no line crosses */
     int nvrules;
+    const struct occupancy *white_of; /* if set: the grid a gutter's strip must be white in */
 } occupancy;
 
 static int occupancy_build(const lt_components *c, const uint8_t *body, double cell_px,
@@ -249,8 +250,9 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     const double top = l->top - cell, bottom = l->bottom + cell;
     const int min_cells = (int)ceil(1.0 * th / cell);
     int best_lo = 0, best_len = 0, run = 0;
+    const occupancy *strip = o->white_of ? o->white_of : o;
     for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
-        run = column_count(o, cx, y0, y1) == 0 ? run + 1 : 0;
+        run = column_count(strip, cx, y0, y1) == 0 ? run + 1 : 0;
         if (run > best_len) {
             best_len = run;
             best_lo = cx - run + 1;
@@ -446,7 +448,15 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
     int *fill = malloc(((size_t)nbands + 1) * sizeof *fill);
     int *members = NULL;
     int rc = LT_ENOMEM;
-    if (!boxes || !marks || !start || !fill) goto done;
+    /* For marks a gutter's strip must be white of marks too: the dots of a leader running
+     * through the rows beside show that the white before a page number is no gutter. */
+    occupancy with_marks = {0}, gutters = *occ;
+    uint8_t *inked = malloc((size_t)n + 1);
+    if (!boxes || !marks || !start || !fill || !inked) goto done;
+    for (int i = 0; i < n; i++)
+        inked[i] = body[i] || mark[i];
+    if (occupancy_build(c, inked, occ->cell_px, &with_marks)) goto done;
+    gutters.white_of = &with_marks;
     group_boxes(c, body, parent, boxes);
     for (int pass = 0; pass < 2; pass++) {
         for (int i = 0; i < n; i++) {
@@ -472,15 +482,22 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
     for (int i = 0; i < n; i++)
         if (mark[i]) marks[m++] = (keyed){c->items[i].box.left, i};
     qsort(marks, (size_t)nmarks, sizeof *marks, cmp_keyed);
-    for (int k = 0; k < nmarks; k++) {
-        const int i = marks[k].index;
+    /* Left to right, then the marks left over right to left: a leader that opens a line
+     * (the dots before the page numbers of an entry run on to a new row) grows from the
+     * line's start. */
+    for (int step = 0; step < 2 * nmarks; step++) {
+        const int back = step >= nmarks, i = marks[back ? 2 * nmarks - 1 - step : step].index;
+        if (back && parent[i] != i) continue;
         const lt_component *mk = &c->items[i];
         int band = (int)(0.5 * (mk->box.top + mk->box.bottom) / th);
         if (band < 0 || band >= nbands) continue;
         int best = -1;
         double best_d = 1e300;
         for (int j = start[band]; j < start[band + 1]; j++) {
-            double d = mark_fit(mk, &boxes[members[j]], th, mark[i] == 2, reach_px, occ);
+            const lt_box *b = &boxes[members[j]];
+            double d = mark_fit(mk, b, th, mark[i] == 2, reach_px, &gutters);
+            /* going back, only dots on the lower half of a line (a leader's) */
+            if (back && mk->box.top + mk->box.bottom < b->top + b->bottom) d = -1;
             if (d >= 0 && d < best_d) {
                 best_d = d;
                 best = members[j];
@@ -497,6 +514,8 @@ done:
     free(start);
     free(fill);
     free(members);
+    free(inked);
+    free(with_marks.sum);
     return rc;
 }
 

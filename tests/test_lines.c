@@ -398,8 +398,9 @@ static void draw_glyph(page *p, int l, lt_box b, int mark)
  * one to four digits (old-style, x-height tall) set flush right, so that the white before the
  * numbers runs down the column like a gutter, with the entries close beside it; the leader
  * carries the line over it. Every fourth entry's leader runs on to the column's edge without
- * a number (it follows on the next row, here left out), 3 text heights from a short entry of
- * the right column, which stays a line of its own. */
+ * a number, 3 text heights from a short entry of the right column, which stays a line of its
+ * own; the next row is the entry's run-on, a leader from 4 text heights in that stops a
+ * text height before its numbers (the dots belong to that line). */
 static void test_leaders(void)
 {
     for (int seed = 1; seed <= 3; seed++) {
@@ -411,9 +412,20 @@ static void test_leaders(void)
         for (int i = 0; i < rows; i++) {
             const int y = 150 + i * PITCH, digits = i % 4 != 3 ? tu_range(&r, 1, 4) : 0;
             const int number_left = right - 14 * digits + 3;
-            const int dots_end = digits ? number_left - 2 * XH : right;
-            const int l = draw_line(p, &r, x0, dots_end - tu_range(&r, 40, 100), y, 0, 0);
-            for (int x = (p->line_box[l].right / 16 + 1) * 16; x + 4 <= dots_end; x += 16)
+            const int run_on = i % 4 == 0 && i > 0;
+            const int dots_end = !digits ? right : number_left - (run_on ? XH : 2 * XH);
+            int l, dots_from;
+            if (run_on) { /* the entry above continued: a leader, numbers */
+                l = p->nlines++;
+                p->line_box[l] = tu_box(0, 0, 0, 0);
+                p->baseline[l] = y;
+                p->ncomp[l] = 0;
+                dots_from = x0 + 4 * XH;
+            } else {
+                l = draw_line(p, &r, x0, dots_end - tu_range(&r, 40, 100), y, 0, 0);
+                dots_from = (p->line_box[l].right / 16 + 1) * 16;
+            }
+            for (int x = dots_from; x + 4 <= dots_end; x += 16)
                 draw_glyph(p, l, tu_box(x, y - 4, x + 4, y), 1);
             for (int k = 0; k < digits; k++)
                 draw_glyph(p, l, tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y),
