@@ -248,6 +248,27 @@ static void test_overhanging_block(void)
     check_page(&p, 73, "a block overhanging the next column");
 }
 
+/* Two columns, each in two blocks, where the third line of the left column's first block
+ * runs on across the gutter (the right column leaves that row blank): the right column's
+ * first block, two lines beside the top of that block, does not stand above it (they are as
+ * much side by side as one over the other), so the left column is still read first. */
+static void test_block_beside_a_run_on(void)
+{
+    page p = {0};
+    tu_rng r = {13};
+    for (int i = 0; i < 11; i++) {
+        if (i == 4) continue; /* the white between the left column's blocks */
+        add_line(&p, 150, i == 2 ? 1200 : 760 - tu_range(&r, 0, 40), 200 + i * PITCH);
+        if (i == 3 || i == 10) p.nblocks++;
+    }
+    for (int i = 0; i < 11; i++) {
+        if (i == 2) continue; /* the row the left line runs across */
+        add_line(&p, 800, 1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
+        if (i == 1 || i == 10) p.nblocks++;
+    }
+    check_page(&p, 79, "a block beside a line run on across the gutter");
+}
+
 /* Two pieces of one row closer than a gutter (a short gap, 1 text height) stay one block,
  * read left to right; the next row follows. */
 static void test_row_pieces(void)
@@ -373,6 +394,7 @@ int main(void)
     test_row_pieces();
     test_bridged_columns();
     test_overhanging_block();
+    test_block_beside_a_run_on();
     test_footnote_rule();
     test_two_line_head();
     test_empty();
