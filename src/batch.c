@@ -285,14 +285,16 @@ static int make_parents(char *path)
     return 0;
 }
 
-/* Writes `json` and a newline to `path` through a temporary file renamed into place. */
+/* Writes `json` and a newline to `path` through a temporary file (PATH.tmp) renamed into
+ * place. The temporary name is the same in every run, so that what a killed run left of a
+ * page is replaced when a resumed run does the page again. */
 static int write_page_file(char *path, const char *json)
 {
     if (make_parents(path)) return -1;
-    size_t n = strlen(path) + 32;
+    size_t n = strlen(path) + 8;
     char *tmp = malloc(n);
     if (!tmp) return -1;
-    snprintf(tmp, n, "%s.tmp.%ld", path, (long)getpid());
+    snprintf(tmp, n, "%s.tmp", path);
     FILE *fp = fopen(tmp, "wb");
     int bad = !fp;
     if (fp) {

@@ -62,6 +62,14 @@ check "every page file the killed run left is complete JSON" "$python" -c '
 import json, pathlib, sys
 for p in pathlib.Path(sys.argv[1]).rglob("*.json"):
     json.loads(p.read_text())' "$work/part"
+# What a run killed while writing a page leaves: that page's temporary file, half written.
+for img in $(cd "$work/archive" && find . -name 'scan*.png' | sort); do
+    page=$work/part/${img%.png}.json
+    if [ ! -e "$page" ]; then
+        mkdir -p "$(dirname "$page")" && printf '{"format":"lineate-lay' >"$page.tmp"
+        break
+    fi
+done
 "$lineate" -j 2 --out-dir "$work/part" --resume "$work/archive" 2>"$work/resume.err"
 check "--resume skips the pages already done" grep -q "[1-9][0-9]* skipped" "$work/resume.err"
 check "resumed output equals the uninterrupted run" diff -r "$work/full" "$work/part"
