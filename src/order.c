@@ -87,8 +87,8 @@ enum { NOT_BEFORE = 0, ABOVE = 1, EARLIER_COLUMN = 2 };
 /* Whether unit a is read before unit b by the rules in the comment at the top: ABOVE (they
  * overlap horizontally and a stands higher, overlapping b vertically by less than half the
  * lower one's height: a line run on across a gutter widens its block over the top of the
- * next column, which then does not stand above it), EARLIER_COLUMN (a lies wholly on the reading
- * side of b and no unit between them vertically overlaps both), or NOT_BEFORE. Boxes
+ * next column, which then does not stand above it), EARLIER_COLUMN (a lies wholly on the
+ * reading side of b and no unit between them vertically overlaps both), or NOT_BEFORE. Boxes
  * overlapping by less than `tol` px, or a tenth of the narrower one's width, count as
  * disjoint: ragged edges and a stray overhang (an index entry run on past the next column's
  * edge) do not tie two columns together. */
@@ -98,8 +98,9 @@ static int precedes(const unit *u, int n, int a, int b, int rtl, double tol)
     const double narrower = fmin(A->right - A->left, B->right - B->left),
                  t = fmax(tol, 0.1 * narrower);
     if (overlap(A->left, A->right, B->left, B->right) > t) {
-        const int lower = fmin(A->bottom - A->top, B->bottom - B->top);
-        if (2 * overlap(A->top, A->bottom, B->top, B->bottom) >= lower) return NOT_BEFORE;
+        const int ha = A->bottom - A->top, hb = B->bottom - B->top;
+        if (2 * overlap(A->top, A->bottom, B->top, B->bottom) >= (ha < hb ? ha : hb))
+            return NOT_BEFORE;
         return A->top + A->bottom < B->top + B->bottom ? ABOVE : NOT_BEFORE;
     }
     if (rtl ? A->left < B->right - t : A->right > B->left + t) return NOT_BEFORE;
