@@ -699,6 +699,22 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
     return 0;
 }
 
+/* Whether a group other than roots[a] (roots sorted by left edge) ends on its row at most
+ * `reach` px before it starts. */
+static int ended_before(const keyed *roots, int a, const lt_box *boxes, double reach)
+{
+    const lt_box *ba = &boxes[roots[a].index];
+    for (int k = 0; k < a; k++) {
+        const lt_box *bk = &boxes[roots[k].index];
+        const int top = ba->top > bk->top ? ba->top : bk->top;
+        const int bottom = ba->bottom < bk->bottom ? ba->bottom : bk->bottom;
+        if (bk->right <= ba->left && ba->left - bk->right <= reach &&
+            2 * (bottom - top) >= box_h(ba))
+            return 1;
+    }
+    return 0;
+}
+
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that is not in a gutter, or that
  * lies along a leader to page numbers: the left group ends in at least 2 text heights of
@@ -746,8 +762,11 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                       ba->top < bb->top ? ba->top : bb->top,
                       ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
             if (rule_between(occ, &l)) continue;
-            /* A lone mark-sized group (a bullet, a dash) close by belongs to the line. */
-            const int lone = (box_w(ba) <= 1.2 * th && box_h(ba) <= 1.2 * th) ||
+            /* A lone mark-sized group (a bullet, a dash) close by belongs to the line; on the
+             * left only where it opens its row (not a page number ending a line, with the
+             * next column beyond it). */
+            const int lone = (box_w(ba) <= 1.2 * th && box_h(ba) <= 1.2 * th &&
+                              !ended_before(roots, a, boxes, max_gap)) ||
                              (box_w(bb) <= 1.2 * th && box_h(bb) <= 1.2 * th);
             const int gap = bb->left - ba->right;
             int join = gap < 1.5 * th || (lone && gap <= 2.5 * th) || !in_gutter(occ, &l, th);

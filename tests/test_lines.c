@@ -398,9 +398,10 @@ static void draw_glyph(page *p, int l, lt_box b, int mark)
  * one to four digits (old-style, x-height tall) set flush right, so that the white before the
  * numbers runs down the column like a gutter, with the entries close beside it; the leader
  * carries the line over it. Every fourth entry's leader runs on to the column's edge without
- * a number, 3 text heights from a short entry of the right column, which stays a line of its
- * own; the next row is the entry's run-on, a leader from 4 text heights in that stops a
- * text height before its numbers (the dots belong to that line). */
+ * a number, 2.5 text heights from a short entry of the right column, which stays a line of
+ * its own (as does one with a page number of one digit, a group as small as a mark); the next row
+ * is the entry's run-on, a leader from 4 text heights in that stops a text height before its
+ * numbers (the dots belong to that line). */
 static void test_leaders(void)
 {
     for (int seed = 1; seed <= 3; seed++) {
@@ -408,7 +409,7 @@ static void test_leaders(void)
         snprintf(what, sizeof what, "leaders, seed %d", seed);
         tu_rng r = {(uint64_t)(300 + seed)};
         page *p = page_new(1500, 1000);
-        const int x0 = 150, right = 900, x2 = right + 3 * XH, rows = 16;
+        const int x0 = 150, right = 900, x2 = right + 5 * XH / 2, rows = 16;
         for (int i = 0; i < rows; i++) {
             const int y = 150 + i * PITCH, digits = i % 4 != 3 ? tu_range(&r, 1, 4) : 0;
             const int number_left = right - 14 * digits + 3;
