@@ -519,37 +519,25 @@ done:
     return rc;
 }
 
-/* How many groups (roots[0..nr), sorted by left edge) start in [x0, x1) with their middle
- * in [y0, y1). */
-static int starts_between(const keyed *roots, int nr, const lt_box *boxes, double x0, double x1,
-                          double y0, double y1)
+/* How many groups have an edge in [x0, x1) and their middle in [y0, y1): `sorted` lists them
+ * (nr, by root) sorted by the key of that edge (the left edge for starts, as list_groups
+ * gives, or the right edge for ends). */
+static int edges_between(const keyed *sorted, int nr, const lt_box *boxes, double x0, double x1,
+                         double y0, double y1)
 {
     int lo = 0, hi = nr;
     while (lo < hi) {
         const int mid = (lo + hi) / 2;
-        if (roots[mid].key < x0)
+        if (sorted[mid].key < x0)
             lo = mid + 1;
         else
             hi = mid;
     }
     int count = 0;
-    for (int k = lo; k < nr && roots[k].key < x1; k++) {
-        const lt_box *b = &boxes[roots[k].index];
+    for (int k = lo; k < nr && sorted[k].key < x1; k++) {
+        const lt_box *b = &boxes[sorted[k].index];
         const double cy = 0.5 * (b->top + b->bottom);
         count += cy >= y0 && cy < y1;
-    }
-    return count;
-}
-
-/* How many groups (roots[0..nr)) end in [x0, x1) with their middle in [y0, y1). */
-static int ends_between(const keyed *roots, int nr, const lt_box *boxes, double x0, double x1,
-                        double y0, double y1)
-{
-    int count = 0;
-    for (int k = 0; k < nr; k++) {
-        const lt_box *b = &boxes[roots[k].index];
-        const double cy = 0.5 * (b->top + b->bottom);
-        count += b->right >= x0 && b->right < x1 && cy >= y0 && cy < y1;
     }
     return count;
 }
@@ -601,8 +589,8 @@ static int cut_bridges(const lt_components *c, const uint8_t *body, int *parent,
                                occupancy_count(occ, x1, above - reach, x1 + 4 * th, above) > 0;
         const int text_below = occupancy_count(occ, x0 - 4 * th, below, x0, below + reach) > 0 &&
                                occupancy_count(occ, x1, below, x1 + 4 * th, below + reach) > 0;
-        const int column_edge = starts_between(roots, nr, boxes, x1 - cell, x1 + 0.5 * th,
-                                               b->top - 20 * th, b->bottom + 20 * th) >= 8;
+        const int column_edge = edges_between(roots, nr, boxes, x1 - cell, x1 + 0.5 * th,
+                                              b->top - 20 * th, b->bottom + 20 * th) >= 8;
         if (occupancy_count(occ, x0, above - reach, x1, above) == 0 &&
             occupancy_count(occ, x0, below, x1, below + reach) == 0 &&
             ((text_above && text_below) || ((text_above || text_below) && column_edge))) {
@@ -699,27 +687,11 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
     return 0;
 }
 
-/* Whether a group other than roots[a] (roots sorted by left edge) ends on its row at most
- * `reach` px before it starts. */
-static int ended_before(const keyed *roots, int a, const lt_box *boxes, double reach)
-{
-    const lt_box *ba = &boxes[roots[a].index];
-    for (int k = 0; k < a; k++) {
-        const lt_box *bk = &boxes[roots[k].index];
-        const int top = ba->top > bk->top ? ba->top : bk->top;
-        const int bottom = ba->bottom < bk->bottom ? ba->bottom : bk->bottom;
-        if (bk->right <= ba->left && ba->left - bk->right <= reach &&
-            2 * (bottom - top) >= box_h(ba))
-            return 1;
-    }
-    return 0;
-}
-
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that is not in a gutter, or that
  * lies along a leader to page numbers: the left group ends in at least 2 text heights of
  * marks or the right one starts so (the dots), and the right one, at most 10 text heights
- * long, ends where more than 4 other lines end (numbers set flush right), not starting where
+ * long, ends where at least 4 other lines end (numbers set flush right), not starting where
  * 8 lines start (the next column). */
 static int join_rows(const lt_components *c, const uint8_t *body, int *parent, double th,
                      double max_gap, const occupancy *occ)
@@ -728,14 +700,25 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
     keyed *roots;
     int nr;
     if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
-    /* the extent of each group's bodies (by root), so that marks beyond it show */
-    int *body_left = malloc(2 * ((size_t)c->count + 1) * sizeof *body_left);
-    if (!body_left) {
+    /* the extent of each group's bodies (by root), so that marks beyond it show; the groups
+     * by their right edge; whether a group opens its row (none ends just before it) */
+    const size_t slots = (size_t)c->count + 1;
+    int *body_left = malloc(2 * slots * sizeof *body_left);
+    keyed *by_right = malloc(((size_t)nr + 1) * sizeof *by_right);
+    uint8_t *opens_row = malloc(slots);
+    if (!body_left || !by_right || !opens_row) {
+        free(body_left);
+        free(by_right);
+        free(opens_row);
         free(boxes);
         free(roots);
         return LT_ENOMEM;
     }
-    int *body_right = body_left + c->count + 1;
+    memset(opens_row, 1, slots);
+    for (int k = 0; k < nr; k++)
+        by_right[k] = (keyed){boxes[roots[k].index].right, roots[k].index};
+    qsort(by_right, (size_t)nr, sizeof *by_right, cmp_keyed);
+    int *body_right = body_left + slots;
     for (int i = 0; i < c->count; i++)
         if (body[i] && lt_uf_find(parent, i) == i) {
             body_left[i] = c->items[i].box.left;
@@ -762,27 +745,30 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                       ba->top < bb->top ? ba->top : bb->top,
                       ba->bottom > bb->bottom ? ba->bottom : bb->bottom};
             if (rule_between(occ, &l)) continue;
+            const int gap = bb->left - ba->right;
+            if (gap >= 0) opens_row[roots[b].index] = 0; /* every group left of b came first */
             /* A lone mark-sized group (a bullet, a dash) close by belongs to the line; on the
              * left only where it opens its row (not a page number ending a line, with the
              * next column beyond it). */
-            const int lone = (box_w(ba) <= 1.2 * th && box_h(ba) <= 1.2 * th &&
-                              !ended_before(roots, a, boxes, max_gap)) ||
-                             (box_w(bb) <= 1.2 * th && box_h(bb) <= 1.2 * th);
-            const int gap = bb->left - ba->right;
+            const int lone =
+                (box_w(ba) <= 1.2 * th && box_h(ba) <= 1.2 * th && opens_row[roots[a].index]) ||
+                (box_w(bb) <= 1.2 * th && box_h(bb) <= 1.2 * th);
             int join = gap < 1.5 * th || (lone && gap <= 2.5 * th) || !in_gutter(occ, &l, th);
             const int leader = ba->right - body_right[roots[a].index] >= 2 * th ||
                                body_left[roots[b].index] - bb->left >= 2 * th;
             if (!join && leader && box_w(bb) <= 10 * th) {
                 const double y0 = bb->top - 20 * th, y1 = bb->bottom + 20 * th;
-                join = ends_between(roots, nr, boxes, bb->right - 0.5 * th, bb->right + 0.5 * th,
-                                    y0, y1) > 4 &&
-                       starts_between(roots, nr, boxes, bb->left - 0.5 * th, bb->left + 0.5 * th,
-                                      y0, y1) < 8;
+                join = edges_between(by_right, nr, boxes, bb->right - 0.5 * th,
+                                     bb->right + 0.5 * th, y0, y1) > 4 &&
+                       edges_between(roots, nr, boxes, bb->left - 0.5 * th, bb->left + 0.5 * th, y0,
+                                     y1) < 8;
             }
             if (join) lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
     }
     free(body_left);
+    free(by_right);
+    free(opens_row);
     free(boxes);
     free(roots);
     return 0;
