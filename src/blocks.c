@@ -117,8 +117,8 @@ typedef struct cut_context {
     const lt_box *rules;     /* separators: vertical and horizontal rules */
     int nrules;
     int rtl;
-    const uint8_t *bridged; /* per line: cut from a line that ran across a gutter */
-    span *spans;            /* scratch room for all lines */
+    const lt_raw_line *lines; /* the lines (boxes[0..nreal)) */
+    span *spans;              /* scratch room for all lines */
 } cut_context;
 
 /* A rule that separates the lines idx[0..n) of a node with box `nb`: it runs along at least
@@ -159,7 +159,7 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
 /* Whether box i is a line cut from one that ran across a gutter. */
 static int is_piece(const cut_context *x, int i)
 {
-    return i < x->nreal && x->bridged[i];
+    return i < x->nreal && x->lines[i].bridged;
 }
 
 /* Whether box i goes to the first child of a cut at `at` (lines starting at or beyond it go
@@ -316,22 +316,18 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     span *spans = malloc((size_t)n * sizeof *spans);
     lt_box *boxes = malloc((size_t)n * sizeof *boxes);
     lt_box *rules = malloc(((size_t)nrules + 1) * sizeof *rules);
-    uint8_t *bridged = malloc((size_t)lines->count);
-    if (!idx || !spans || !boxes || !rules || !bridged) {
+    if (!idx || !spans || !boxes || !rules) {
         free(idx);
         free(spans);
         free(boxes);
         free(rules);
-        free(bridged);
         return lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
     }
     /* Pictures take part in the cuts as obstacles, so that a figure breaking a column does
      * not leave a white band for a cut across the page; leaves keep only lines. */
     int k = 0;
-    for (int i = 0; i < lines->count; i++) {
+    for (int i = 0; i < lines->count; i++)
         boxes[k++] = lines->items[i].box;
-        bridged[i] = lines->items[i].bridged != 0;
-    }
     nrules = 0;
     for (int i = 0; c && i < c->count; i++) {
         if (c->items[i].kind == LT_COMP_RULE) rules[nrules++] = c->items[i].box;
@@ -340,14 +336,13 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     for (int i = 0; i < n; i++)
         idx[i] = i;
     const cut_context x = {boxes, lines->count, p->column_min_gap * th, p->block_min_gap * th,
-                           rules, nrules,       p->right_to_left,       bridged,
+                           rules, nrules,       p->right_to_left,       lines->items,
                            spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);
     free(boxes);
     free(rules);
-    free(bridged);
     return *root ? 0 : lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
 }
 

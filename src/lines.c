@@ -216,6 +216,27 @@ static int rule_between(const occupancy *o, const link *l)
     return 0;
 }
 
+/* The widest run of whole cell columns inside the gap of link l whose occupied cells over the
+ * rows [ya0, ya1) and [yb0, yb1) (the second range may be empty) number at most `limit`: its
+ * length in cells, its first column in *lo. */
+static int widest_strip(const occupancy *o, const link *l, double ya0, double ya1, double yb0,
+                        double yb1, int limit, int *lo)
+{
+    const double cell = o->cell_px;
+    int best = 0, run = 0;
+    *lo = 0;
+    for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
+        const int full =
+            column_count(o, cx, ya0, ya1) + (yb1 > yb0 ? column_count(o, cx, yb0, yb1) : 0);
+        run = full <= limit ? run + 1 : 0;
+        if (run > best) {
+            best = run;
+            *lo = cx - run + 1;
+        }
+    }
+    return best;
+}
+
 /* The far edge of the window beside a strip edge at x, going `dir` (-1 left, +1 right) at
  * most `side` px over the rows [y0, y1) other than the pair's own: it stops at the next white
  * strip a text height wide met after some text (another gutter), so that the window stays in
@@ -249,15 +270,9 @@ static int gutter_within(const occupancy *o, const link *l, double th, double re
     const double y0 = l->top - reach, y1 = l->bottom + reach;
     const double top = l->top - cell, bottom = l->bottom + cell;
     const int min_cells = (int)ceil(1.0 * th / cell);
-    int best_lo = 0, best_len = 0, run = 0;
-    const occupancy *strip = o->white_of ? o->white_of : o;
-    for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
-        run = column_count(strip, cx, y0, y1) == 0 ? run + 1 : 0;
-        if (run > best_len) {
-            best_len = run;
-            best_lo = cx - run + 1;
-        }
-    }
+    int best_lo;
+    const int best_len =
+        widest_strip(o->white_of ? o->white_of : o, l, y0, y1, y1, y1, 0, &best_lo);
     if (best_len < min_cells) return 0;
     const double x0 = best_lo * cell, x1 = (best_lo + best_len) * cell;
     const double left = side_edge(o, l, x0, -1, side, y0, y1, th);
@@ -299,16 +314,9 @@ static int long_gutter_strip(const occupancy *o, const link *l, double th, doubl
     const int rows = (cy_top > cy0 ? cy_top - cy0 : 0) + (cy1 > cy_bottom ? cy1 - cy_bottom : 0);
     if (rows == 0) return 0;
     const int min_cells = (int)ceil(1.0 * th / cell);
-    int best_lo = 0, best_len = 0, run = 0;
-    for (int cx = (int)ceil(l->x0 / cell); (cx + 1) * cell <= l->x1; cx++) {
-        /* a strip one cell wide: its occupied cells are its rows with text */
-        const int full = column_count(o, cx, y0, top) + column_count(o, cx, bottom, y1);
-        run = 8 * full <= rows ? run + 1 : 0;
-        if (run > best_len) {
-            best_len = run;
-            best_lo = cx - run + 1;
-        }
-    }
+    /* a strip one cell wide: its occupied cells are its rows with text */
+    int best_lo;
+    const int best_len = widest_strip(o, l, y0, top, bottom, y1, rows / 8, &best_lo);
     if (best_len < min_cells) return 0;
     *x0 = best_lo * cell;
     *x1 = (best_lo + best_len) * cell;
