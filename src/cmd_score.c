@@ -1,7 +1,7 @@
 /* cmd_score.c — `lineate score [--json] [--per-page] TRUTH PRED`: compares predicted text
  * lines with ground truth (two files paired page by page, or two folders paired by name) and
  * prints per-page rows and summaries; the measures are those of score.c (IoU matching,
- * precision / recall / F1, splits / merges, Kendall's tau-a, skew error).
+ * precision / recall / F1, splits / merges, Kendall's tau-a, the order by cover, skew error).
  *
  * Pairing
  *   TRUTH and PRED files: the k-th page object of PRED is scored against the k-th of TRUTH;
@@ -16,17 +16,21 @@
  *   record is left out of all scores and listed as skipped.
  *
  * Text output (stdout): with --per-page one row per page with the columns
- *   page, truth (lines), pred (lines), F1@.50, F1@.75, splits, merges, tau, skew err (degrees),
- *   and a note (missing / failed / unreadable / skipped); "-" marks an undefined value. Then
+ *   page, truth (lines), pred (lines), F1@.50, F1@.75, splits, merges, tau, misplaced (the
+ *   out-of-place share of the order by cover), back (its backward steps), uncov (in-order
+ *   truth lines no prediction covers), skew err (degrees), and a note (missing / failed /
+ *   unreadable / skipped); "-" marks an undefined value. Then
  *   "summary: all pages" and, when the truth pages carry a variant, "summary: variant NAME"
  *   for each variant in byte order, followed by "summary: variant NAME, C columns" for each
  *   column count C the truth pages of that variant give ("columns"), each with the lines
  *   pages, truth lines, predicted lines, IoU >= 0.50, IoU >= 0.75 (precision, recall, F1 from
  *   match counts summed over the pages, and the match count), mean page F1 (mean of the
- *   pages' F1 at IoU >= 0.50), splits, merges (with side-by-side and cross-column merges), reading
- * order (median and minimum tau over the pages where tau is defined), skew error (median and
- *   maximum in degrees over the pages where both skews are known). Lists of missing, failed,
- *   unreadable and skipped pages follow.
+ *   pages' F1 at IoU >= 0.50), splits, merges (with side-by-side and cross-column merges),
+ *   reading order (median and minimum tau over the pages where tau is defined), order by
+ *   cover (out-of-place lines summed over the pages / covered lines summed, with both counts,
+ *   backward steps and uncovered lines summed), skew error (median and maximum in degrees
+ *   over the pages where both skews are known). Lists of missing, failed, unreadable and
+ *   skipped pages follow.
  *
  * JSON output (--json): one object on one line:
  *   "format": "lineate-score-1", "truth": TRUTH, "pred": PRED,
@@ -34,15 +38,21 @@
  *       "name", "variant" (string or null), "status" ("scored", "missing", "failed",
  *       "unreadable", "skipped"), "truth_lines", "pred_lines", "matched_50", "matched_75",
  *       "precision_50", "recall_50", "f1_50", "precision_75", "recall_75", "f1_75",
- *       "splits", "merges", "side_by_side_merges", "cross_column_merges", "order_pairs" (matched
- * in-order pairs tau is computed over), "tau" (number or null), "skew_error_deg" (number or null);
- *       a skipped page has only name, variant and status,
+ *       "splits", "merges", "side_by_side_merges", "cross_column_merges", "order_pairs"
+ *       (matched in-order pairs tau is computed over), "tau" (number or null),
+ *       "covered_lines", "uncovered_lines" (in-order truth lines that a prediction covers /
+ *       does not cover), "out_of_place_lines", "out_of_place_share" (out-of-place / covered,
+ *       null when none is covered), "backward_steps" (see lt_cover_order_count),
+ *       "skew_error_deg" (number or null); a skipped page has only name, variant and status,
  *   "summary": { "pages", "missing", "failed", "unreadable", "truth_lines", "pred_lines",
  *       "matched_50", "matched_75", "precision_50", "recall_50", "f1_50", "precision_75",
  *       "recall_75", "f1_75", "mean_page_f1_50", "splits", "merges", "side_by_side_merges",
- *       "cross_column_merges", "tau_pages", "tau_median", "tau_min", "skew_pages",
- * "skew_error_median_deg", "skew_error_max_deg" }    (the tau and skew statistics are null over no
- * pages), "variants": { NAME: {same fields as "summary", "by_columns": { "C": {same fields as
+ *       "cross_column_merges", "covered_lines", "uncovered_lines", "out_of_place_lines",
+ *       "out_of_place_share", "backward_steps" (counts summed over the pages, the share
+ *       their ratio, null over no covered line), "tau_pages", "tau_median", "tau_min",
+ *       "skew_pages", "skew_error_median_deg", "skew_error_max_deg" }   (the tau and skew
+ *       statistics are null over no pages),
+ *   "variants": { NAME: {same fields as "summary", "by_columns": { "C": {same fields as
  *       "summary"}, ... }}, ... }   only when the truth has variants,
  *   "missing", "failed", "unreadable", "skipped": arrays of page names.
  *   Fractions are rounded to 6 decimals.
@@ -87,6 +97,8 @@ typedef struct summary {
     double precision_50, recall_50, f1_50, precision_75, recall_75, f1_75;
     double mean_page_f1_50;
     long splits, merges, side_merges, column_merges;
+    long covered, uncovered, out_of_place, backward_steps; /* order by cover, summed */
+    double out_of_place_share;                              /* defined when covered > 0 */
     int tau_pages, skew_pages;
     double tau_median, tau_min, skew_median_deg, skew_max_deg;
 } summary;
@@ -234,6 +246,10 @@ static void summarize(const results *r, const char *variant, int columns, double
         s->merges += e->s.merges;
         s->side_merges += e->s.side_merges;
         s->column_merges += e->s.column_merges;
+        s->covered += e->s.cover.covered;
+        s->uncovered += e->s.cover.uncovered;
+        s->out_of_place += e->s.cover.out_of_place;
+        s->backward_steps += e->s.cover.backward_steps;
         f1_sum += e->s.f1_50;
     }
     lt_prf(s->matched_50, s->truth_lines, s->pred_lines, &s->precision_50, &s->recall_50,
@@ -241,6 +257,7 @@ static void summarize(const results *r, const char *variant, int columns, double
     lt_prf(s->matched_75, s->truth_lines, s->pred_lines, &s->precision_75, &s->recall_75,
            &s->f1_75);
     s->mean_page_f1_50 = s->pages ? f1_sum / s->pages : 0;
+    s->out_of_place_share = s->covered ? (double)s->out_of_place / (double)s->covered : 0;
     for (int pass = 0; pass < 2; pass++) {
         int n = 0;
         for (int i = 0; i < r->count; i++) {
@@ -295,15 +312,18 @@ static void print_row(const result *e, int name_w)
 {
     static const char *const notes[] = {"", "missing", "failed", "unreadable", "skipped"};
     if (e->status == ST_SKIPPED) {
-        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s  %s\n", name_w, e->name, "-", "-", "-", "-",
-               "-", "-", "-", "-", notes[e->status]);
+        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s %5s %6s %9s  %s\n", name_w, e->name, "-",
+               "-", "-", "-", "-", "-", "-", "-", "-", "-", "-", notes[e->status]);
         return;
     }
-    char tau[32] = "-", skew[32] = "-";
+    char tau[32] = "-", misplaced[32] = "-", skew[32] = "-";
     if (e->s.has_tau) snprintf(tau, sizeof tau, "%.3f", e->s.tau);
+    if (e->s.has_out_of_place)
+        snprintf(misplaced, sizeof misplaced, "%.3f", e->s.out_of_place_share);
     if (e->s.has_skew_error) snprintf(skew, sizeof skew, "%.3f", e->s.skew_error_deg);
-    printf("%-*s %6d %6d %7.3f %7.3f %6d %6d %7s %9s%s%s\n", name_w, e->name, e->s.truth_lines,
-           e->s.pred_lines, e->s.f1_50, e->s.f1_75, e->s.splits, e->s.merges, tau, skew,
+    printf("%-*s %6d %6d %7.3f %7.3f %6d %6d %7s %9s %5d %6d %9s%s%s\n", name_w, e->name,
+           e->s.truth_lines, e->s.pred_lines, e->s.f1_50, e->s.f1_75, e->s.splits, e->s.merges,
+           tau, misplaced, e->s.cover.backward_steps, e->s.cover.uncovered, skew,
            e->status ? "  " : "", notes[e->status]);
 }
 
@@ -327,6 +347,14 @@ static void print_summary(const char *title, const summary *s)
                s->tau_min, s->tau_pages, s->tau_pages == 1 ? "" : "s");
     else
         printf("  reading order     - (no page with 2 matched lines in order)\n");
+    if (s->covered)
+        printf("  order by cover    %.4f out of place (%ld of %ld lines), %ld backward step%s, "
+               "%ld uncovered\n",
+               s->out_of_place_share, s->out_of_place, s->covered, s->backward_steps,
+               s->backward_steps == 1 ? "" : "s", s->uncovered);
+    else
+        printf("  order by cover    - (no truth line in order covered), %ld uncovered\n",
+               s->uncovered);
     if (s->skew_pages)
         printf("  skew error        median %.3f deg, max %.3f deg (%d page%s)\n",
                s->skew_median_deg, s->skew_max_deg, s->skew_pages, s->skew_pages == 1 ? "" : "s");
@@ -353,8 +381,9 @@ static int print_text(const results *r, int per_page, double *scratch)
             int w = (int)strlen(r->items[i].name);
             if (w > name_w) name_w = w > 80 ? 80 : w;
         }
-        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s\n", name_w, "page", "truth", "pred", "F1@.50",
-               "F1@.75", "splits", "merges", "tau", "skew err");
+        printf("%-*s %6s %6s %7s %7s %6s %6s %7s %9s %5s %6s %9s\n", name_w, "page", "truth",
+               "pred", "F1@.50", "F1@.75", "splits", "merges", "tau", "misplaced", "back", "uncov",
+               "skew err");
         for (int i = 0; i < r->count; i++)
             print_row(&r->items[i], name_w);
         printf("\n");
@@ -426,6 +455,11 @@ static cJSON *summary_json(const summary *s)
     bad |= add_num(o, "merges", (double)s->merges, 1);
     bad |= add_num(o, "side_by_side_merges", (double)s->side_merges, 1);
     bad |= add_num(o, "cross_column_merges", (double)s->column_merges, 1);
+    bad |= add_num(o, "covered_lines", (double)s->covered, 1);
+    bad |= add_num(o, "uncovered_lines", (double)s->uncovered, 1);
+    bad |= add_num(o, "out_of_place_lines", (double)s->out_of_place, 1);
+    bad |= add_num(o, "out_of_place_share", round6(s->out_of_place_share), s->covered > 0);
+    bad |= add_num(o, "backward_steps", (double)s->backward_steps, 1);
     bad |= add_num(o, "tau_pages", s->tau_pages, 1);
     bad |= add_num(o, "tau_median", round6(s->tau_median), s->tau_pages > 0);
     bad |= add_num(o, "tau_min", round6(s->tau_min), s->tau_pages > 0);
@@ -465,6 +499,12 @@ static cJSON *page_json(const result *e)
         bad |= add_num(o, "cross_column_merges", s->column_merges, 1);
         bad |= add_num(o, "order_pairs", s->order_pairs, 1);
         bad |= add_num(o, "tau", round6(s->tau), s->has_tau);
+        bad |= add_num(o, "covered_lines", s->cover.covered, 1);
+        bad |= add_num(o, "uncovered_lines", s->cover.uncovered, 1);
+        bad |= add_num(o, "out_of_place_lines", s->cover.out_of_place, 1);
+        bad |= add_num(o, "out_of_place_share", round6(s->out_of_place_share),
+                       s->has_out_of_place);
+        bad |= add_num(o, "backward_steps", s->cover.backward_steps, 1);
         bad |= add_num(o, "skew_error_deg", round6(s->skew_error_deg), s->has_skew_error);
     }
     if (bad) {
@@ -762,7 +802,10 @@ static void print_help(void)
                 "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, NAME.jsonl or\n"
                 "NAME.gt.json; without *.gt.json files, TRUTH/NAME.json in lineate's format).\n"
                 "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
-                "decreasing IoU); reading order is Kendall's tau-a over matched lines.\n"
+                "decreasing IoU); reading order is Kendall's tau-a over matched lines, and\n"
+                "the order of every truth line placed at the prediction covering most of it\n"
+                "(at least 25%): the share of lines out of place (1 - longest run in order /\n"
+                "lines covered), backward steps, and lines no prediction covers.\n"
                 "\n"
                 "  --per-page   also print one row per page\n"
                 "  --json       print the results as one JSON object\n"

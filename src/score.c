@@ -1,7 +1,9 @@
 /* score.c — text-line scoring: box IoU, greedy one-to-one matching at IoU >= 0.5 found by a
  * sweep over boxes sorted by top, precision / recall / F1, splits and merges by area
- * containment, and Kendall's tau-a (Kendall 1938) of the reading order by merge-sort
- * inversion counting (Knight 1966). Pure functions: no I/O. */
+ * containment, Kendall's tau-a (Kendall 1938) of the reading order by merge-sort inversion
+ * counting (Knight 1966), and the order of every truth line placed by cover, measured by the
+ * longest increasing subsequence (patience sorting; Schensted 1961, Fredman 1975). Pure
+ * functions: no I/O. */
 #include "score.h"
 
 #include <math.h>
@@ -277,6 +279,149 @@ int lt_kendall_tau_a(const int *seq, int n, double *tau)
     return 0;
 }
 
+/* ---- reading order by cover ----------------------------------------------------------- */
+
+int lt_longest_increasing(const int *seq, int n, int *length)
+{
+    *length = 0;
+    if (n <= 0 || !seq) return 0;
+    /* tails[k]: the smallest last value of a strictly increasing subsequence of length k + 1
+     * among those seen so far; tails increases with k, so bisection finds where a value goes */
+    int *tails = malloc((size_t)n * sizeof *tails);
+    if (!tails) return LT_ENOMEM;
+    int len = 0;
+    for (int i = 0; i < n; i++) {
+        int lo = 0, hi = len; /* the first k with tails[k] >= seq[i] */
+        while (lo < hi) {
+            int mid = lo + (hi - lo) / 2;
+            if (tails[mid] < seq[i])
+                lo = mid + 1;
+            else
+                hi = mid;
+        }
+        tails[lo] = seq[i];
+        if (lo == len) len++;
+    }
+    free(tails);
+    *length = len;
+    return 0;
+}
+
+/* Where a covered truth line falls in the predicted reading: its prediction, then its left
+ * edge among the lines sharing that prediction; `pos` is its place among the covered lines
+ * in truth order (the last tie-break, as the truth index would be). */
+typedef struct cover_key {
+    int pred, left_px, pos;
+} cover_key;
+
+static int cmp_cover_key(const void *a, const void *b)
+{
+    const cover_key *x = a, *y = b;
+    if (x->pred != y->pred) return x->pred < y->pred ? -1 : 1;
+    if (x->left_px != y->left_px) return x->left_px < y->left_px ? -1 : 1;
+    return (x->pos > y->pos) - (x->pos < y->pos);
+}
+
+/* The sweep window of a predicted box over truth boxes sorted by top: every truth box T that
+ * the box P covers by a share c of T's area lies in it. The overlap height ih obeys
+ * c * h_T <= ih (the intersection is at most w_T * ih) and ih <= h_P, and T.bottom >=
+ * P.top + ih, so T.top >= P.top + ih - ih / c >= P.top - h_P (1 / c - 1); and T.top <
+ * P.bottom. Sets [*begin, *end). */
+static void cover_window(const sorted_ref *r, int n, const lt_box *p, int *begin, int *end)
+{
+    const long pct = LT_SCORE_MIN_COVER_PERCENT;
+    const long h = (long)p->bottom - p->top;
+    const long reach = (h * (100 - pct) + pct - 1) / pct;
+    *begin = lower_bound(r, n, (long)p->top - reach);
+    *end = lower_bound(r, n, p->bottom);
+}
+
+int lt_cover_order_count(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                         int npred, lt_cover_order *out, lt_error *err)
+{
+    memset(out, 0, sizeof *out);
+    if (ntruth < 0 || npred < 0 || (ntruth > 0 && !truth) || (npred > 0 && !pred))
+        return lt_error_set(err, LT_EINVAL, "score: bad line arrays");
+    if (ntruth > LT_SCORE_MAX_LINES || npred > LT_SCORE_MAX_LINES)
+        return lt_error_set(err, LT_ELIMIT, "score: more than %d lines on a page",
+                            LT_SCORE_MAX_LINES);
+    const size_t nt = (size_t)(ntruth > 0 ? ntruth : 1);
+    sorted_ref *ts = malloc(nt * sizeof *ts);
+    int64_t *best_inter = malloc(nt * sizeof *best_inter);
+    int *best_pred = malloc(nt * sizeof *best_pred), *rank = malloc(nt * sizeof *rank);
+    cover_key *keys = malloc(nt * sizeof *keys);
+    int rc = 0;
+    if (!ts || !best_inter || !best_pred || !rank || !keys) {
+        rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
+        goto done;
+    }
+    int nts = 0; /* the in-order truth lines that can be covered, by top */
+    for (int t = 0; t < ntruth; t++) {
+        best_pred[t] = -1;
+        best_inter[t] = 0;
+        if (truth[t].in_order && lt_box_area(&truth[t].box) > 0)
+            ts[nts++] = (sorted_ref){truth[t].box.top, t};
+    }
+    qsort(ts, (size_t)nts, sizeof *ts, cmp_ref);
+    long pairs = 0; /* counted before any pair is examined */
+    for (int p = 0; p < npred; p++) {
+        if (lt_box_area(&pred[p].box) == 0) continue;
+        int begin, end;
+        cover_window(ts, nts, &pred[p].box, &begin, &end);
+        pairs += end - begin;
+        if (pairs > LT_SCORE_MAX_PAIR_TESTS) {
+            rc = lt_error_set(err, LT_ELIMIT, "score: more than %ld overlapping box pairs",
+                              LT_SCORE_MAX_PAIR_TESTS);
+            goto done;
+        }
+    }
+    for (int p = 0; p < npred; p++) { /* in predicted order: a tie keeps the earlier one */
+        const lt_box *pb = &pred[p].box;
+        if (lt_box_area(pb) == 0) continue;
+        int begin, end;
+        cover_window(ts, nts, pb, &begin, &end);
+        for (int k = begin; k < end; k++) {
+            const int t = ts[k].index;
+            const int64_t inter = lt_box_intersection(pb, &truth[t].box);
+            if (100 * inter >= LT_SCORE_MIN_COVER_PERCENT * lt_box_area(&truth[t].box) &&
+                inter > best_inter[t]) {
+                best_inter[t] = inter;
+                best_pred[t] = p;
+            }
+        }
+    }
+    int n = 0;
+    for (int t = 0; t < ntruth; t++) {
+        if (!truth[t].in_order) continue;
+        if (best_pred[t] < 0) {
+            out->uncovered++;
+            continue;
+        }
+        keys[n] = (cover_key){best_pred[t], truth[t].box.left, n};
+        n++;
+    }
+    /* the keys replaced by their ranks: a sequence of distinct ints in truth order */
+    qsort(keys, (size_t)n, sizeof *keys, cmp_cover_key);
+    for (int i = 0; i < n; i++)
+        rank[keys[i].pos] = i;
+    int in_order_run;
+    if (lt_longest_increasing(rank, n, &in_order_run)) {
+        rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
+        goto done;
+    }
+    out->covered = n;
+    out->out_of_place = n - in_order_run;
+    for (int i = 1; i < n; i++)
+        out->backward_steps += rank[i] < rank[i - 1];
+done:
+    free(ts);
+    free(best_inter);
+    free(best_pred);
+    free(rank);
+    free(keys);
+    return rc;
+}
+
 /* ---- splits and merges ----------------------------------------------------------------- */
 
 /* Merge kinds of an outer box, bits of kinds[a]. */
@@ -471,9 +616,9 @@ int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_pa
     lt_prf(out->matched_50, nt, np, &out->precision_50, &out->recall_50, &out->f1_50);
     lt_prf(out->matched_75, nt, np, &out->precision_75, &out->recall_75, &out->f1_75);
 
-    /* Splits and merges are judged on the page turned level by its true skew: the boxes of
-     * the lines of a tilted page, taken as they are, overlap their neighbours above and below
-     * and would pass for lines side by side. */
+    /* Splits, merges and the order by cover are judged on the page turned level by its true
+     * skew: the boxes of the lines of a tilted page, taken as they are, overlap their
+     * neighbours above and below and would pass for lines side by side. */
     const lt_scored_line *tl = truth->lines, *pl = pred->lines;
     lt_scored_line *tl_level = NULL, *pl_level = NULL;
     if (truth->has_skew && fabs(truth->skew_deg) >= 0.01) {
@@ -485,6 +630,11 @@ int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_pa
     if (!rc)
         rc = lt_count_splits_merges(tl, nt, pl, np, m, nm, &out->splits, &out->merges,
                                     &out->side_merges, &out->column_merges, err);
+    if (!rc) rc = lt_cover_order_count(tl, nt, pl, np, &out->cover, err);
+    if (!rc && out->cover.covered > 0) {
+        out->has_out_of_place = 1;
+        out->out_of_place_share = (double)out->cover.out_of_place / out->cover.covered;
+    }
     free(tl_level);
     free(pl_level);
     if (rc) {

@@ -1,6 +1,7 @@
 /* score.h — reading layout / ground-truth JSON files and scoring predicted text lines against
  * ground truth: box IoU, greedy one-to-one matching, precision / recall / F1, splits and
- * merges, Kendall's tau-a (Kendall 1938) for reading order, and skew error. */
+ * merges, Kendall's tau-a (Kendall 1938) for reading order, the reading order of every truth
+ * line by the prediction that covers it (longest increasing subsequence), and skew error. */
 #ifndef LINEATE_SCORE_H
 #define LINEATE_SCORE_H
 
@@ -24,6 +25,10 @@ extern "C" {
  * one row) comes near it, and it then fails with LT_ELIMIT instead of running for hours. */
 #define LT_SCORE_MAX_PAIR_TESTS 200000000L
 #define LT_SCORE_MAX_CANDIDATES 4000000 /* pairs with IoU >= 0.5 kept for the matching */
+/* A prediction covers a truth line when their intersection is at least this share of the
+ * truth line's box area, in percent: a quarter still places a line whose prediction was
+ * cut short or merged with its neighbours, while a neighbour that only grazes it does not. */
+#define LT_SCORE_MIN_COVER_PERCENT 25
 
 /* ---- pages as read from a file ---------------------------------------------------------- */
 enum { LT_SCORED_LAYOUT = 0, LT_SCORED_TRUTH = 1 }; /* "lineate-layout-1", "lineseg-gt-1" */
@@ -110,6 +115,37 @@ void lt_prf(long matched, long ntruth, long npred, double *precision, double *re
  * (tau undefined, *tau set to 0) when n < 2, or LT_ENOMEM. */
 int lt_kendall_tau_a(const int *seq, int n, double *tau);
 
+/* Length of the longest strictly increasing subsequence of seq[0..n) (0 when n is 0), by
+ * patience sorting: the smallest possible last value of an increasing run of each length,
+ * kept sorted and searched by bisection, O(n log n) time and O(n) memory (Schensted 1961;
+ * Fredman 1975 for the n log n bound). Returns 0 and sets *length, or LT_ENOMEM. */
+int lt_longest_increasing(const int *seq, int n, int *length);
+
+/* Reading order by cover, counted over the truth lines with in_order set. */
+typedef struct lt_cover_order {
+    int covered;        /* lines placed at the prediction that covers most of them */
+    int uncovered;      /* lines no prediction covers by LT_SCORE_MIN_COVER_PERCENT */
+    int out_of_place;   /* covered lines outside a longest run in predicted order */
+    int backward_steps; /* consecutive covered lines (in truth order) placed backwards */
+} lt_cover_order;
+
+/* Places every in-order truth line at the predicted line that covers most of its box
+ * (intersection / truth area >= LT_SCORE_MIN_COVER_PERCENT; ties: the earlier prediction in
+ * the order of `pred`, the predicted reading order). A line with a zero-area box is uncovered.
+ * The key of a placed line is (its prediction's index, the left edge of its own box, its
+ * truth index): lines sharing one prediction are read left to right, as a reader of that
+ * predicted line meets them; on a right-to-left page this counts a correctly read merged
+ * row as a backward step (a known limit: the truth files give no direction). Read in truth
+ * order, the keys should increase; out_of_place = covered - the longest increasing
+ * subsequence of the keys (the fewest lines whose removal leaves the rest in order), and
+ * backward_steps counts the neighbours (uncovered lines skipped) whose key decreases.
+ * Candidate pairs are found by a sweep over truth boxes sorted by top; their number is
+ * counted, in O(npred log ntruth), before any is examined, and more than
+ * LT_SCORE_MAX_PAIR_TESTS fail with LT_ELIMIT, as do more than LT_SCORE_MAX_LINES lines on
+ * either side. Fails with LT_EINVAL on bad arrays or LT_ENOMEM. */
+int lt_cover_order_count(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                         int npred, lt_cover_order *out, lt_error *err);
+
 /* Splits and merges. A predicted line lies inside a truth line when at least half of its own
  * area lies inside it; a truth line is split when two or more predicted lines lie inside it.
  * A truth line lies inside a predicted line when at least half of the truth line's area lies
@@ -140,13 +176,17 @@ typedef struct lt_page_score {
     int order_pairs;       /* matches at 0.5 whose truth line is in_order */
     int has_tau;           /* 0 when order_pairs < 2 */
     double tau;            /* Kendall tau-a of the predicted order over those pairs */
+    lt_cover_order cover;  /* the order of all in-order truth lines, by cover */
+    int has_out_of_place;  /* 0 when no truth line is covered */
+    double out_of_place_share; /* cover.out_of_place / cover.covered */
     int has_skew_error;    /* both pages have a skew */
     double skew_error_deg; /* |pred skew - truth skew| */
 } lt_page_score;
 
 /* Scores one predicted page against its truth page (all of the above; splits and merges
- * refined by the page's matches, and judged on the page turned level by the truth's skew: the
- * corners of each line's quad, or of its box, rotated about the page centre, then boxed). A
+ * refined by the page's matches, and they and the order by cover judged on the page turned
+ * level by the truth's skew: the corners of each line's quad, or of its box, rotated about
+ * the page centre, then boxed). A
  * failed page is scored as a page with no lines and no skew. Fails with LT_ENOMEM or
  * LT_ELIMIT. */
 int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_page_score *out,

@@ -40,6 +40,14 @@ static void fail(const char *fmt, ...)
         if (g_ != w_) fail("%s: got %ld, want %ld", what, g_, w_);                                 \
     } while (0)
 
+/* A fixed-seed linear congruential generator (Knuth's MMIX constants): 0 .. n-1. */
+static unsigned long rng_state = 12345;
+static int rnd(int n)
+{
+    rng_state = rng_state * 6364136223846793005UL + 1442695040888963407UL;
+    return (int)((rng_state >> 33) % (unsigned long)n);
+}
+
 static lt_box B(int l, int t, int r, int b)
 {
     lt_box x = {l, t, r, b};
@@ -335,6 +343,13 @@ static void test_level_frame(void)
     if (score(&tp, &pp, &s, "tilted page, skew 0")) return;
     CHECK_INT(s.merges, 1, "tilted page taken as level: the hulls make a merge");
     CHECK_INT(s.side_merges, 1, "tilted page taken as level: side by side");
+    /* the order by cover too: the hull of the first line covers most of the second's */
+    CHECK_INT(s.cover.covered, 2, "tilted page taken as level: covered");
+    CHECK_INT(s.cover.uncovered, 0, "tilted page taken as level: uncovered");
+    tp.skew_deg = pp.skew_deg = 10;
+    if (score(&tp, &pp, &s, "tilted page, cover")) return;
+    CHECK_INT(s.cover.covered, 1, "tilted page: covered on the level page");
+    CHECK_INT(s.cover.uncovered, 1, "tilted page: uncovered on the level page");
 }
 
 static void test_order(void)
@@ -405,6 +420,280 @@ static void test_kendall(void)
     free(rev);
 }
 
+/* ---- reading order by cover: worked examples, values derived by hand ------------------- */
+
+static int cover(const lt_scored_line *t, int nt, const lt_scored_line *p, int np,
+                 lt_cover_order *c, const char *what)
+{
+    lt_error err = {0};
+    int rc = lt_cover_order_count(t, nt, p, np, c, &err);
+    if (rc) fail("%s: lt_cover_order_count failed (%d): %s", what, rc, err.message);
+    return rc;
+}
+
+static void expect_cover(const lt_cover_order *c, int covered, int uncovered, int out_of_place,
+                         int backward, const char *what)
+{
+    CHECK(c->covered == covered && c->uncovered == uncovered && c->out_of_place == out_of_place &&
+              c->backward_steps == backward,
+          "%s: covered %d, uncovered %d, out of place %d, backward %d; want %d %d %d %d", what,
+          c->covered, c->uncovered, c->out_of_place, c->backward_steps, covered, uncovered,
+          out_of_place, backward);
+}
+
+/* A contents page of four entries whose truth lists title, page number, title, page number:
+ * the prediction reads the four titles (each exactly the truth box, matched) and then the
+ * four numbers (boxes 70 x 30 around the truth's 30 x 20: IoU 600 / 2100 < 0.5, unmatched,
+ * but covering all of them). Tau over the matched lines, the titles alone, is 1. Keys in
+ * truth order: 0 4 1 5 2 6 3 7; a longest increasing subsequence is 0 1 2 3 7 (length 5),
+ * so 3 of 8 lines are out of place (share 3/8), and 4 > 1, 5 > 2, 6 > 3 are 3 backward
+ * steps. */
+static void test_cover_contents(void)
+{
+    lt_scored_line t[8], p[8];
+    memset(t, 0, sizeof t);
+    memset(p, 0, sizeof p);
+    for (int i = 0; i < 4; i++) {
+        const int y = 100 + 40 * i;
+        t[2 * i].box = B(100, y, 500, y + 20);
+        t[2 * i + 1].box = B(800, y, 830, y + 20);
+        p[i].box = t[2 * i].box;
+        p[4 + i].box = B(780, y - 5, 850, y + 25);
+    }
+    for (int i = 0; i < 8; i++)
+        t[i].in_order = p[i].in_order = 1;
+    lt_scored_page tp = make_page(t, 8, 0), pp = make_page(p, 8, 0);
+    lt_page_score s;
+    if (score(&tp, &pp, &s, "contents page")) return;
+    CHECK_INT(s.matched_50, 4, "contents page: only the titles match");
+    CHECK(s.has_tau, "contents page: tau undefined");
+    CHECK_NEAR(s.tau, 1, 0, "contents page: tau over the matched titles");
+    expect_cover(&s.cover, 8, 0, 3, 3, "contents page");
+    CHECK(s.has_out_of_place, "contents page: share undefined");
+    CHECK_NEAR(s.out_of_place_share, 3.0 / 8.0, 0, "contents page: out-of-place share");
+
+    /* read as the truth reads it, entry by entry: nothing out of place */
+    lt_scored_line q[8];
+    for (int i = 0; i < 4; i++) {
+        q[2 * i] = p[i];
+        q[2 * i + 1] = p[4 + i];
+    }
+    pp.lines = q;
+    if (score(&tp, &pp, &s, "contents page in order")) return;
+    expect_cover(&s.cover, 8, 0, 0, 0, "contents page in order");
+    CHECK_NEAR(s.out_of_place_share, 0, 0, "contents page in order: share");
+}
+
+static void test_cover_order(void)
+{
+    lt_cover_order c;
+    lt_scored_line t[5], p[5];
+    set_lines(t, para, 5);
+    set_lines(p, para, 5);
+    if (cover(t, 5, p, 5, &c, "perfect")) return;
+    expect_cover(&c, 5, 0, 0, 0, "perfect order");
+
+    /* the prediction reads the lines as 1 0 3 2 4 (in truth terms): the keys in truth order
+     * are 1 0 3 2 4, whose longest increasing subsequences (1 3 4, 0 2 4, ...) have 3
+     * elements: 2 lines out of place; 1 > 0 and 3 > 2 are 2 backward steps (tau-a for
+     * comparison: 2 discordant pairs of 10, 0.6) */
+    const lt_box perm[5] = {para[1], para[0], para[3], para[2], para[4]};
+    set_lines(p, perm, 5);
+    if (cover(t, 5, p, 5, &c, "two swaps")) return;
+    expect_cover(&c, 5, 0, 2, 2, "two adjacent swaps");
+    /* reversed: the longest increasing subsequence has one element */
+    const lt_box rev[5] = {para[4], para[3], para[2], para[1], para[0]};
+    set_lines(p, rev, 5);
+    if (cover(t, 5, p, 5, &c, "reversed")) return;
+    expect_cover(&c, 5, 0, 4, 4, "reversed");
+    /* a truth line out of the order counts nowhere; the third line not predicted is
+     * uncovered, and the walk steps over it */
+    t[0].in_order = 0;
+    const lt_box gap[4] = {para[0], para[1], para[3], para[4]};
+    set_lines(p, gap, 4);
+    if (cover(t, 5, p, 4, &c, "in_order and uncovered")) return;
+    expect_cover(&c, 3, 1, 0, 0, "in_order false, one line not predicted");
+    /* no prediction at all: every in-order line uncovered */
+    if (cover(t, 5, NULL, 0, &c, "no prediction")) return;
+    expect_cover(&c, 0, 4, 0, 0, "no prediction");
+}
+
+/* Two truth lines side by side merged into one prediction, read left to right: no line out
+ * of place. If the truth reads the right one first (a right-to-left page), the merged line's
+ * left-to-right reading puts them backwards: the documented limit. */
+static void test_cover_merged(void)
+{
+    lt_cover_order c;
+    lt_scored_line t[3], p[2];
+    const lt_box tb[3] = {B(100, 100, 400, 120), B(500, 100, 800, 120), B(100, 200, 800, 220)};
+    const lt_box pb[2] = {B(100, 100, 800, 120), B(100, 200, 800, 220)};
+    set_lines(t, tb, 3);
+    set_lines(p, pb, 2);
+    if (cover(t, 3, p, 2, &c, "merged")) return;
+    expect_cover(&c, 3, 0, 0, 0, "two lines merged, read left to right");
+    const lt_box rtl[3] = {tb[1], tb[0], tb[2]};
+    set_lines(t, rtl, 3);
+    if (cover(t, 3, p, 2, &c, "merged, right to left")) return;
+    expect_cover(&c, 3, 0, 1, 1, "two lines merged, truth right to left");
+}
+
+/* The 25 % threshold, exact in integers: a truth line 100 x 10 (area 1000) under a
+ * prediction covering 240 (24 %), 250 (25 %) and 260 (26 %) of it. And ties: a truth line
+ * covered half by the first prediction and half by the third is placed at the first (the
+ * earlier in predicted order), so the second truth line, at the second prediction, follows
+ * it; with the third covering 51 % it is placed there and reads after the second. */
+static void test_cover_threshold(void)
+{
+    lt_cover_order c;
+    lt_scored_line t[2], p[3];
+    set_lines(t, (const lt_box[]){B(0, 0, 100, 10)}, 1);
+    const int widths[3] = {24, 25, 26};
+    const int covered[3] = {0, 1, 1};
+    for (int i = 0; i < 3; i++) {
+        set_lines(p, (const lt_box[]){B(0, 0, widths[i], 10)}, 1);
+        if (cover(t, 1, p, 1, &c, "threshold")) return;
+        CHECK(c.covered == covered[i] && c.uncovered == 1 - covered[i],
+              "prediction covering %d %% of a line: covered %d, uncovered %d", widths[i],
+              c.covered, c.uncovered);
+    }
+    lt_scored_page tp = make_page(t, 1, 0), pp = make_page(p, 1, 0);
+    lt_page_score s;
+    set_lines(p, (const lt_box[]){B(0, 0, 24, 10)}, 1);
+    if (score(&tp, &pp, &s, "24 %")) return;
+    CHECK(!s.has_out_of_place, "nothing covered: the share should be undefined");
+
+    const lt_box tb[2] = {B(0, 0, 100, 10), B(0, 20, 100, 30)};
+    const lt_box half[3] = {B(0, 0, 50, 10), B(0, 20, 100, 30), B(50, 0, 100, 10)};
+    set_lines(t, tb, 2);
+    set_lines(p, half, 3);
+    if (cover(t, 2, p, 3, &c, "tie")) return;
+    expect_cover(&c, 2, 0, 0, 0, "tie: the earlier prediction");
+    p[2].box = B(49, 0, 100, 10);
+    if (cover(t, 2, p, 3, &c, "no tie")) return;
+    expect_cover(&c, 2, 0, 1, 1, "51 %: the later prediction");
+}
+
+/* The longest strictly increasing subsequence against the O(n^2) dynamic programme (longest
+ * run ending at i = 1 + the longest ending at an earlier, smaller value), from memory, on
+ * random sequences with repeated values; and a worked example: 3 1 4 1 5 9 2 6 5 3 5 has
+ * 1 4 5 6 and 1 2 3 5 of length 4 and none longer. */
+static void test_longest_increasing(void)
+{
+    int len;
+    const int digits[11] = {3, 1, 4, 1, 5, 9, 2, 6, 5, 3, 5};
+    CHECK(lt_longest_increasing(digits, 11, &len) == 0 && len == 4,
+          "longest increasing of the digits of pi: %d, want 4", len);
+    CHECK(lt_longest_increasing(digits, 0, &len) == 0 && len == 0, "empty: %d", len);
+    const int flat[4] = {7, 7, 7, 7};
+    CHECK(lt_longest_increasing(flat, 4, &len) == 0 && len == 1, "equal values: %d", len);
+    enum { MAXN = 300 };
+    int seq[MAXN], best[MAXN];
+    for (int trial = 0; trial < 500; trial++) {
+        const int n = rnd(MAXN) + 1, range = rnd(2) ? n : 1 + rnd(8);
+        for (int i = 0; i < n; i++)
+            seq[i] = rnd(range) - range / 2;
+        int want = 0;
+        for (int i = 0; i < n; i++) {
+            best[i] = 1;
+            for (int j = 0; j < i; j++)
+                if (seq[j] < seq[i] && best[j] + 1 > best[i]) best[i] = best[j] + 1;
+            if (best[i] > want) want = best[i];
+        }
+        if (lt_longest_increasing(seq, n, &len) != 0 || len != want) {
+            fail("longest increasing, trial %d (n %d): got %d, dynamic programme %d", trial, n,
+                 len, want);
+            return;
+        }
+    }
+}
+
+/* lt_cover_order_count against all pairs and the O(n^2) programme on random pages with tall
+ * predictions (spanning many lines), zero-area boxes, lines out of the order and ties. */
+static int key_less(const int *pred, const lt_scored_line *t, int a, int b)
+{
+    if (pred[a] != pred[b]) return pred[a] < pred[b];
+    if (t[a].box.left != t[b].box.left) return t[a].box.left < t[b].box.left;
+    return a < b;
+}
+
+static void test_cover_brute_force(void)
+{
+    enum { MAXN = 80 };
+    lt_scored_line t[MAXN], p[MAXN];
+    int best[MAXN], placed[MAXN], run[MAXN];
+    for (int trial = 0; trial < 300; trial++) {
+        const int nt = 1 + rnd(MAXN), np = rnd(MAXN + 1);
+        memset(t, 0, sizeof t);
+        memset(p, 0, sizeof p);
+        for (int i = 0; i < nt; i++) {
+            const int l = rnd(20) * 10, top = rnd(40) * 8;
+            t[i].box = B(l, top, l + rnd(12) * 10, top + rnd(4) * 8);
+            t[i].in_order = rnd(8) != 0;
+        }
+        for (int i = 0; i < np; i++) {
+            const int l = rnd(20) * 10, top = rnd(40) * 8;
+            p[i].box = B(l, top, l + rnd(15) * 10, top + (rnd(4) ? rnd(5) * 8 : rnd(200)));
+        }
+        int want_uncovered = 0, n = 0;
+        for (int i = 0; i < nt; i++) {
+            if (!t[i].in_order) continue;
+            const int64_t area = lt_box_area(&t[i].box);
+            int64_t top_inter = 0;
+            best[i] = -1;
+            for (int j = 0; j < np; j++) {
+                const int64_t in = lt_box_intersection(&t[i].box, &p[j].box);
+                if (area > 0 && 4 * in >= area && in > top_inter) {
+                    top_inter = in;
+                    best[i] = j;
+                }
+            }
+            if (best[i] < 0)
+                want_uncovered++;
+            else
+                placed[n++] = i;
+        }
+        int want_run = 0, want_back = 0;
+        for (int a = 0; a < n; a++) {
+            run[a] = 1;
+            for (int b = 0; b < a; b++)
+                if (key_less(best, t, placed[b], placed[a]) && run[b] + 1 > run[a])
+                    run[a] = run[b] + 1;
+            if (run[a] > want_run) want_run = run[a];
+            if (a > 0) want_back += key_less(best, t, placed[a], placed[a - 1]);
+        }
+        lt_cover_order c;
+        if (cover(t, nt, p, np, &c, "random page")) return;
+        if (c.covered != n || c.uncovered != want_uncovered || c.out_of_place != n - want_run ||
+            c.backward_steps != want_back) {
+            fail("cover order, trial %d: got %d %d %d %d, all pairs give %d %d %d %d", trial,
+                 c.covered, c.uncovered, c.out_of_place, c.backward_steps, n, want_uncovered,
+                 n - want_run, want_back);
+            return;
+        }
+    }
+}
+
+/* The bound is checked before any pair is examined: 15000 truth lines piled on one box under
+ * 15000 predictions of the same box are 225 million candidate pairs. */
+static void test_cover_limit(void)
+{
+    const int n = 15000;
+    lt_scored_line *lines = calloc((size_t)n, sizeof *lines);
+    if (!lines) {
+        fail("out of memory");
+        return;
+    }
+    for (int i = 0; i < n; i++) {
+        lines[i].box = B(0, 0, 100, 10);
+        lines[i].in_order = 1;
+    }
+    lt_cover_order c;
+    lt_error err = {0};
+    CHECK_INT(lt_cover_order_count(lines, n, lines, n, &c, &err), LT_ELIMIT,
+              "225 million pairs: LT_ELIMIT");
+    free(lines);
+}
+
 static void test_skew(void)
 {
     lt_scored_line t[1], p[1];
@@ -466,13 +755,6 @@ static int cmp_bf(const void *a, const void *b)
     if (l != r) return l > r ? -1 : 1;
     if (x->t != y->t) return x->t < y->t ? -1 : 1;
     return (x->p > y->p) - (x->p < y->p);
-}
-
-static unsigned long rng_state = 12345;
-static int rnd(int n)
-{
-    rng_state = rng_state * 6364136223846793005UL + 1442695040888963407UL;
-    return (int)((rng_state >> 33) % (unsigned long)n);
 }
 
 static void test_against_brute_force(void)
@@ -861,9 +1143,16 @@ int main(void)
     test_level_frame();
     test_order();
     test_kendall();
+    test_cover_contents();
+    test_cover_order();
+    test_cover_merged();
+    test_cover_threshold();
+    test_cover_limit();
     test_skew();
     test_greedy();
     test_against_brute_force();
+    test_longest_increasing();
+    test_cover_brute_force();
     test_reader();
     test_end_to_end();
     cleanup();
