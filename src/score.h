@@ -125,7 +125,7 @@ int lt_longest_increasing(const int *seq, int n, int *length);
 typedef struct lt_cover_order {
     int covered;        /* lines placed at the prediction that covers most of them */
     int uncovered;      /* lines no prediction covers by LT_SCORE_MIN_COVER_PERCENT */
-    int out_of_place;   /* covered lines outside a longest run in predicted order */
+    int out_of_place;   /* covered - their longest subsequence in predicted order */
     int backward_steps; /* consecutive covered lines (in truth order) placed backwards */
 } lt_cover_order;
 

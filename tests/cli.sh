@@ -233,7 +233,8 @@ def cmd_score(score_json, truth, pred, text_path, man_path):
 def cmd_identity(score_json):
     sm = json.load(open(score_json))["summary"]
     want = {"precision_50": 1, "recall_50": 1, "f1_50": 1, "f1_75": 1, "splits": 0,
-            "merges": 0, "tau_median": 1, "skew_error_max_deg": 0}
+            "merges": 0, "tau_median": 1, "skew_error_max_deg": 0, "out_of_place_share": 0,
+            "backward_steps": 0, "uncovered_lines": 0}
     got = {k: sm[k] for k in want}
     if got != want:
         die("truth scored against itself: %r" % got)
@@ -466,7 +467,7 @@ check "score --json --per-page: exit 0" test "$?" -eq 0 -a ! -s err
 check "score --json figures follow the counts (F1 formula), text agrees, fields documented" \
     py score score.json "$truth" pred.json score.txt "$man"
 $limit "$lineate" score --json "$truth" "$truth" >self.json 2>err
-check "ground truth scored against itself: F1 1, tau 1, no splits or merges" \
+check "ground truth scored against itself: F1 1, tau 1, nothing out of place, no splits or merges" \
     py identity self.json
 
 # ---- the man page EXAMPLES, extracted from man/lineate.1 and run verbatim --------------------
