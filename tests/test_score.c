@@ -71,6 +71,7 @@ static lt_scored_page make_page(lt_scored_line *lines, int n, double skew_deg)
 static void set_lines(lt_scored_line *dst, const lt_box *boxes, int n)
 {
     for (int i = 0; i < n; i++) {
+        memset(&dst[i], 0, sizeof dst[i]); /* no quad */
         dst[i].box = boxes[i];
         dst[i].in_order = 1;
     }
