@@ -109,8 +109,8 @@ export UBSAN_OPTIONS ASAN_OPTIONS
 status=0
 for h in $harnesses; do
     case $h in
-    image) max_len=65536 ;;
-    json) max_len=16384 ;;
+    image) max_len=65536 fd_mask="-close_fd_mask=2" ;; # the harness watches fd 2 itself
+    json) max_len=16384 fd_mask= ;;
     esac
     corpus=$build/corpus-$h
     findings=$build/findings-$h
@@ -130,7 +130,7 @@ for h in $harnesses; do
     # shellcheck disable=SC2086
     nice -n "$niceness" "$build/fuzz_$h" -max_total_time="$seconds" -timeout=10 \
         -rss_limit_mb=2048 -max_len="$max_len" -print_final_stats=1 \
-        -artifact_prefix="$findings/" $dict "$corpus" >"$log" 2>&1 || rc=$?
+        -artifact_prefix="$findings/" $fd_mask $dict "$corpus" >"$log" 2>&1 || rc=$?
     runs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -n 1)
     [ -n "$runs" ] || runs=$(sed -n 's/^Done \([0-9]*\) runs.*/\1/p' "$log" | tail -n 1)
     [ -n "$runs" ] || runs=$(sed -n 's/^#\([0-9]*\).*/\1/p' "$log" | tail -n 1)

@@ -99,11 +99,19 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     if ((double)img->width * img->height > (double)params->max_pixels)
         return lt_error_set(err, LT_ELIMIT, "%d x %d pixels, more than the limit of %ld",
                             img->width, img->height, params->max_pixels);
+    if (!lt_dpi_plausible(params->dpi))
+        return lt_error_set(err, LT_EINVAL, "resolution %g dpi outside %d..%d", params->dpi,
+                            LT_MIN_DPI, LT_MAX_DPI);
     lt_layout *res = calloc(1, sizeof *res);
     if (!res) return lt_error_set(err, LT_ENOMEM, "out of memory");
     res->width = img->width;
     res->height = img->height;
-    res->dpi_from_file = img->dpi > 0 && !params->force_dpi;
+    /* Every size derived from the resolution (window, plausible text heights) stays in range
+     * because the resolution does: an implausible one from the file is ignored. */
+    const int file_dpi_plausible = lt_dpi_plausible(img->dpi);
+    res->dpi_from_file = file_dpi_plausible && !params->force_dpi;
+    res->dpi_rejected = (img->dpi_rejected || (img->dpi != 0 && !file_dpi_plausible)) &&
+                        !params->force_dpi;
     res->dpi = res->dpi_from_file ? img->dpi : params->dpi;
 
     lt_image *ink_own = NULL, *deskewed_own = NULL;

@@ -29,6 +29,7 @@ static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, d
 int lt_sauvola_window_px(const lt_params *p, double dpi)
 {
     if (p && p->sauvola_window_px > 0) return p->sauvola_window_px;
+    if (!lt_dpi_plausible(dpi)) dpi = 300; /* keeps the window in range */
     int thirds = (int)lround(0.17 * dpi / 3.0) | 1; /* odd */
     return thirds < 5 ? 15 : 3 * thirds;
 }

@@ -9,7 +9,7 @@
 double lt_text_height(const lt_components *c, double dpi)
 {
     if (!c || c->count == 0) return 0;
-    if (dpi <= 0) dpi = 300;
+    if (!lt_dpi_plausible(dpi)) dpi = 300; /* keeps the sizes below in range */
     /* Plausible characters: from 1/50 inch (the x-height of 5 pt type) up to a third of an
      * inch tall, not long and thin. Each counts with its width, so that the mass of text,
      * not the many dots and specks, decides. */

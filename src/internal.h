@@ -19,6 +19,11 @@ int lt_uf_find(int *parent, int i);
 void lt_uf_unite(int *parent, int a, int b);
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
 double lt_median(double *v, int n);
+/* 1 when dpi lies in LT_MIN_DPI..LT_MAX_DPI (0 for NaN and infinities). */
+int lt_dpi_plausible(double dpi);
+/* Records the resolution a file gave for img (0: none): kept when plausible, else ignored
+ * and flagged in img->dpi_rejected. */
+void lt_image_set_file_dpi(lt_image *img, double dpi);
 
 /* ---- TIFF (load_tiff.c) --------------------------------------------------------------- */
 /* Number of pages (directories) of a TIFF in memory. */

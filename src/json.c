@@ -56,7 +56,10 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
     cJSON_AddNumberToObject(o, "width", l->width);
     cJSON_AddNumberToObject(o, "height", l->height);
     cJSON_AddNumberToObject(o, "dpi", round2(l->dpi));
-    cJSON_AddStringToObject(o, "dpi_source", l->dpi_from_file ? "file" : "assumed");
+    cJSON_AddStringToObject(o, "dpi_source",
+                            l->dpi_from_file  ? "file"
+                            : l->dpi_rejected ? "assumed-file-implausible"
+                                              : "assumed");
     cJSON_AddNumberToObject(o, "skew_deg", round(l->skew_deg * 1000) / 1000 + 0.0);
     cJSON_AddNumberToObject(o, "skew_confidence", round2(l->skew_confidence));
     cJSON_AddNumberToObject(o, "text_height_px", round2(l->text_height_px));

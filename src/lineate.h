@@ -51,6 +51,10 @@ int lt_error_set(lt_error *err, int code, const char *fmt, ...)
 #define LT_DEFAULT_MAX_PAGES 10000                   /* pages per multi-page TIFF */
 #define LT_DEFAULT_MAX_COMPONENTS 2000000            /* beyond this the page is noise */
 #define LT_MAX_FILE_BYTES (2LL * 1024 * 1024 * 1024) /* files are read into memory */
+/* Plausible resolutions, dots per inch: the range of --dpi, and of a resolution read from a
+ * file (a file's value outside it is ignored, and the page analysed at the assumed one). */
+#define LT_MIN_DPI 10
+#define LT_MAX_DPI 100000
 
 /* ---- images --------------------------------------------------------------------------- */
 /* A page image, one byte per pixel, row-major, no padding (stride == width).
@@ -60,7 +64,9 @@ enum { LT_IMAGE_GRAY = 0, LT_IMAGE_INK = 1 };
 typedef struct lt_image {
     int width, height;
     int kind;        /* LT_IMAGE_GRAY or LT_IMAGE_INK */
-    double dpi;      /* resolution from the file, 0 when the file gives none */
+    double dpi;       /* resolution from the file, 0 when the file gives none or an
+                         implausible one (outside LT_MIN_DPI..LT_MAX_DPI) */
+    int dpi_rejected; /* 1 when the file gave a resolution outside that range (ignored) */
     uint8_t *pixels; /* width * height bytes, owned by the image */
 } lt_image;
 
@@ -91,7 +97,8 @@ void lt_source_free(lt_source *src);
  * component heights, close to the x-height for Latin scripts), so that a 200 dpi and a
  * 600 dpi scan of one page give the same lines. 0 for an "auto" field means: derive it. */
 typedef struct lt_params {
-    double dpi;                 /* resolution to assume when the file gives none (default 300) */
+    double dpi;                 /* resolution to assume when the file gives none (default 300),
+                                   LT_MIN_DPI..LT_MAX_DPI (else lt_analyze fails, LT_EINVAL) */
     int force_dpi;              /* nonzero: use `dpi` even when the file has one */
     int sauvola_window_px;      /* Sauvola window side, odd; 0 = auto: 0.17 inch (51 px at 300) */
     double sauvola_k;           /* Sauvola k (default 0.34; the paper uses 0.5 for clean scans) */
@@ -182,6 +189,8 @@ typedef struct lt_layout {
     int width, height;      /* of the analysed image */
     double dpi;             /* resolution used */
     int dpi_from_file;      /* 1 when the file gave it, 0 when assumed */
+    int dpi_rejected;       /* 1 when the file gave one outside LT_MIN_DPI..LT_MAX_DPI, which
+                               was ignored: `dpi` is then the assumed one */
     double skew_deg;        /* estimated skew, 0 when there is no estimate */
     double skew_confidence; /* 0 (no estimate) .. 1 */
     double text_height_px;  /* measured text height (0 when the page has no text) */
@@ -222,7 +231,8 @@ char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, i
 /* The Sauvola window lt_analyze uses for a page of `dpi`: p->sauvola_window_px when set, else
  * about 0.17 inch (a few text lines high, wide enough to see paper around the strokes; common
  * practice: 15..60 px at 200..400 dpi), at least 15 px, an odd multiple of 3 (51 px at 300
- * dpi, 33 at 200, 69 at 400), so that lt_binarize_sampled samples it. */
+ * dpi, 33 at 200, 69 at 400), so that lt_binarize_sampled samples it. A dpi outside
+ * LT_MIN_DPI..LT_MAX_DPI counts as 300. */
 int lt_sauvola_window_px(const lt_params *p, double dpi);
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                 lt_error *err);
@@ -266,7 +276,7 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
 void lt_components_free(lt_components *c);
 
 /* Text height of a page: mode of the heights of plausible character components
- * (0 when there are none). */
+ * (0 when there are none). A dpi outside LT_MIN_DPI..LT_MAX_DPI counts as 300. */
 double lt_text_height(const lt_components *c, double dpi);
 /* Sets kind of every component from its size relative to text_height_px. */
 void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p);

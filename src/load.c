@@ -10,6 +10,7 @@
 #include <setjmp.h>
 
 #include <errno.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -80,11 +81,49 @@ static int slurp(FILE *fp, const char *name, uint8_t **data, size_t *size, lt_er
     return 0;
 }
 
+/* ---- leptonica's messages: kept per thread, never printed ---------------------------------
+ * Some of leptonica's readers write to stderr whatever the message severity (the PNM reader's
+ * "maxval = 0"); its stderr handler is replaced once for the process by one that keeps the
+ * first message of the current thread, so it can go into the page's error. */
+static _Thread_local char lept_message[160];
+
+static void lept_keep_message(const char *msg)
+{
+    if (lept_message[0]) return;
+    snprintf(lept_message, sizeof lept_message, "%s", msg);
+    size_t n = strlen(lept_message);
+    while (n > 0 && (lept_message[n - 1] == '\n' || lept_message[n - 1] == ' '))
+        lept_message[--n] = '\0';
+}
+
+static void lept_silence(void)
+{
+    setMsgSeverity(L_SEVERITY_NONE);
+    leptSetStderrHandler(lept_keep_message);
+}
+
+static void lept_quiet(void)
+{
+    static pthread_once_t once = PTHREAD_ONCE_INIT;
+    pthread_once(&once, lept_silence);
+    lept_message[0] = '\0';
+}
+
+/* " (leptonica's message)" when it gave one since lept_quiet(), else "". */
+static const char *lept_reason(char *buf, size_t size)
+{
+    if (lept_message[0])
+        snprintf(buf, size, " (%s)", lept_message);
+    else
+        buf[0] = '\0';
+    return buf;
+}
+
 static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pages,
                        lt_source **out, lt_error *err)
 {
     *out = NULL;
-    setMsgSeverity(L_SEVERITY_NONE); /* the library never prints */
+    lept_quiet(); /* the library never prints */
     if (size == 0) {
         free(data);
         return lt_error_set(err, LT_EFORMAT, "%s: empty file", name);
@@ -210,6 +249,13 @@ static PIX *normalise(PIX *pix)
     return pixConvertTo8(pix, 0);
 }
 
+static int too_many_pixels(const lt_source *src, unsigned long w, unsigned long h,
+                           long max_pixels, lt_error *err)
+{
+    return lt_error_set(err, LT_ELIMIT, "%s: page 1: %lu x %lu pixels, more than the limit of %ld",
+                        src->name, w, h, max_pixels);
+}
+
 /* ---- PNG through libpng directly: its messages are kept, never printed ------------------- */
 typedef struct png_input {
     const uint8_t *data;
@@ -239,10 +285,19 @@ static void png_ignore_warning(png_structp png, png_const_charp msg)
 }
 
 /* Decodes a PNG to 8-bit gray (colour by luminance, alpha composited over white paper) or,
- * for 1-bit gray or two-colour palette, to an ink image (dark = ink). Dimensions were checked
- * against the limit already. */
-static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
+ * for 1-bit gray or two-colour palette, to an ink image (dark = ink). The size is checked
+ * against max_pixels as soon as the header is read. */
+static int decode_png(const lt_source *src, long max_pixels, lt_image **out, lt_error *err)
 {
+    /* The size from IHDR, which the PNG specification puts first, before libpng reads on. */
+    const uint8_t *ihdr = src->data + 8;
+    if (src->size >= 24 && !memcmp(ihdr + 4, "IHDR", 4)) {
+        const unsigned long w = (unsigned long)ihdr[8] << 24 | ihdr[9] << 16 | ihdr[10] << 8 | ihdr[11],
+                            h = (unsigned long)ihdr[12] << 24 | ihdr[13] << 16 | ihdr[14] << 8 |
+                                ihdr[15];
+        if ((double)w * (double)h > (double)max_pixels)
+            return too_many_pixels(src, w, h, max_pixels, err);
+    }
     png_input in = {src->data, src->size, 0, "corrupt data"};
     png_structp png =
         png_create_read_struct(PNG_LIBPNG_VER_STRING, &in, png_fail, png_ignore_warning);
@@ -293,7 +348,7 @@ static int decode_png(const lt_source *src, lt_image **out, lt_error *err)
     png_uint_32 res_x = 0, res_y = 0;
     int unit = 0;
     if (png_get_pHYs(png, info, &res_x, &res_y, &unit) && unit == PNG_RESOLUTION_METER)
-        img->dpi = res_x * 0.0254;
+        lt_image_set_file_dpi(img, res_x * 0.0254);
     png_destroy_read_struct(&png, &info, NULL);
     const size_t n = (size_t)w * h;
     if (channels == 2) {
@@ -323,7 +378,7 @@ typedef struct jpeg_failure {
 static void jpeg_fail(j_common_ptr cinfo)
 {
     jpeg_failure *f = (jpeg_failure *)cinfo->err;
-    cinfo->err->format_message(cinfo, f->message);
+    cinfo->err->format_message(cinfo, f->message); /* the error, not an earlier warning */
     longjmp(f->jump, 1);
 }
 
@@ -335,12 +390,34 @@ static void jpeg_keep_warning(j_common_ptr cinfo)
     if (!f->message[0]) cinfo->err->format_message(cinfo, f->message);
 }
 
-/* Decodes a JPEG to 8-bit gray (libjpeg converts colour to luminance itself). */
-static int decode_jpeg(const lt_source *src, lt_image **out, lt_error *err)
+/* Gray of one row of CMYK samples as libjpeg gives them: inverted (0 = full ink) when the file
+ * has Adobe's marker, as Adobe's applications write it, else plain. Red is
+ * (1 - C)(1 - K), and so on, then luminance by the ITU-R BT.601 weights, as for TIFF. */
+static void cmyk_row_to_gray(const uint8_t *cmyk, int width, int inverted, uint8_t *gray)
+{
+    for (int x = 0; x < width; x++, cmyk += 4) {
+        unsigned c = cmyk[0], m = cmyk[1], y = cmyk[2], k = cmyk[3];
+        if (!inverted) {
+            c = 255 - c;
+            m = 255 - m;
+            y = 255 - y;
+            k = 255 - k;
+        }
+        /* r = c * k / 255 etc.; luminance weights sum to 1000 */
+        unsigned lum = (299 * c + 587 * m + 114 * y) * k;
+        gray[x] = (uint8_t)((lum + 127500) / 255000);
+    }
+}
+
+/* Decodes a JPEG to 8-bit gray: libjpeg converts gray, YCbCr and RGB to luminance itself;
+ * CMYK and YCCK (which libjpeg turns into CMYK) are converted here. The size is checked
+ * against max_pixels as soon as the header is read. */
+static int decode_jpeg(const lt_source *src, long max_pixels, lt_image **out, lt_error *err)
 {
     struct jpeg_decompress_struct cinfo;
     jpeg_failure failure;
     lt_image *volatile img = NULL;
+    uint8_t *volatile cmyk = NULL;
     cinfo.err = jpeg_std_error(&failure.base);
     failure.base.error_exit = jpeg_fail;
     failure.base.output_message = jpeg_keep_warning;
@@ -348,34 +425,46 @@ static int decode_jpeg(const lt_source *src, lt_image **out, lt_error *err)
     if (setjmp(failure.jump)) {
         jpeg_destroy_decompress(&cinfo);
         lt_image_free(img);
+        free(cmyk);
         return lt_error_set(err, LT_EFORMAT, "%s: page 1: cannot decode JPEG (%s)", src->name,
                             failure.message);
     }
     jpeg_create_decompress(&cinfo);
     jpeg_mem_src(&cinfo, src->data, (unsigned long)src->size);
     jpeg_read_header(&cinfo, TRUE);
-    cinfo.out_color_space = JCS_GRAYSCALE;
+    if ((double)cinfo.image_width * cinfo.image_height > (double)max_pixels) {
+        const unsigned long w = cinfo.image_width, h = cinfo.image_height;
+        jpeg_destroy_decompress(&cinfo);
+        return too_many_pixels(src, w, h, max_pixels, err);
+    }
+    const int four_channel =
+        cinfo.jpeg_color_space == JCS_CMYK || cinfo.jpeg_color_space == JCS_YCCK;
+    cinfo.out_color_space = four_channel ? JCS_CMYK : JCS_GRAYSCALE;
     jpeg_start_decompress(&cinfo);
-    if (cinfo.output_components != 1) {
+    if (cinfo.output_components != (four_channel ? 4 : 1)) {
         snprintf(failure.message, sizeof failure.message, "unsupported colour space");
         longjmp(failure.jump, 1);
     }
     img = lt_image_new((int)cinfo.output_width, (int)cinfo.output_height, LT_IMAGE_GRAY);
-    if (!img) {
+    if (four_channel) cmyk = lt_alloc_array(cinfo.output_width, 4);
+    if (!img || (four_channel && !cmyk)) {
         snprintf(failure.message, sizeof failure.message, "out of memory");
         longjmp(failure.jump, 1);
     }
     while (cinfo.output_scanline < cinfo.output_height) {
-        JSAMPROW row = img->pixels + (size_t)cinfo.output_scanline * img->width;
-        jpeg_read_scanlines(&cinfo, &row, 1);
+        uint8_t *gray = img->pixels + (size_t)cinfo.output_scanline * img->width;
+        JSAMPROW row = four_channel ? cmyk : gray;
+        if (jpeg_read_scanlines(&cinfo, &row, 1) != 1) break; /* a warning says why */
+        if (four_channel) cmyk_row_to_gray(cmyk, img->width, cinfo.saw_Adobe_marker, gray);
     }
     if (cinfo.saw_JFIF_marker && cinfo.X_density > 0)
-        img->dpi = cinfo.density_unit == 1   ? cinfo.X_density
-                   : cinfo.density_unit == 2 ? cinfo.X_density * 2.54
-                                             : 0;
+        lt_image_set_file_dpi(img, cinfo.density_unit == 1   ? cinfo.X_density
+                                   : cinfo.density_unit == 2 ? cinfo.X_density * 2.54
+                                                             : 0);
     if (failure.message[0]) longjmp(failure.jump, 1); /* damaged: a warning was given */
     jpeg_finish_decompress(&cinfo);
     jpeg_destroy_decompress(&cinfo);
+    free(cmyk);
     *out = img;
     return 0;
 }
@@ -387,21 +476,23 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
         return lt_error_set(err, LT_EINVAL, "%s: no page %d", src ? src->name : "?", index + 1);
     if (is_tiff(src->format))
         return lt_tiff_read_page(src->data, src->size, src->name, index, max_pixels, out, err);
+    if (src->format == IFF_PNG) return decode_png(src, max_pixels, out, err);
+    if (src->format == IFF_JFIF_JPEG) return decode_jpeg(src, max_pixels, out, err);
+    lept_quiet();
+    char why[sizeof lept_message + 4];
     l_int32 w = 0, h = 0, bps = 0, spp = 0, cmap = 0, fmt = 0;
     int bad = pixReadHeaderMem(src->data, src->size, &fmt, &w, &h, &bps, &spp, &cmap);
     if (bad || w <= 0 || h <= 0)
-        return lt_error_set(err, LT_EFORMAT, "%s: page %d: unreadable image header", src->name,
-                            index + 1);
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: unreadable image header%s", src->name,
+                            index + 1, lept_reason(why, sizeof why));
     if ((double)w * (double)h > (double)max_pixels)
         return lt_error_set(err, LT_ELIMIT,
                             "%s: page %d: %d x %d pixels, more than the limit of %ld", src->name,
                             index + 1, (int)w, (int)h, max_pixels);
-    if (src->format == IFF_PNG) return decode_png(src, out, err);
-    if (src->format == IFF_JFIF_JPEG) return decode_jpeg(src, out, err);
     PIX *pix = pixReadMem(src->data, src->size);
     if (!pix)
-        return lt_error_set(err, LT_EFORMAT, "%s: page %d: cannot decode (corrupt or truncated)",
-                            src->name, index + 1);
+        return lt_error_set(err, LT_EFORMAT, "%s: page %d: cannot decode (%s)", src->name,
+                            index + 1, lept_message[0] ? lept_message : "corrupt or truncated");
     if (pixGetWidth(pix) != w || pixGetHeight(pix) != h) {
         pixDestroy(&pix);
         return lt_error_set(err, LT_EFORMAT, "%s: page %d: size differs from its header", src->name,
@@ -424,7 +515,7 @@ int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **o
     else
         copy_gray(norm, img);
     pixDestroy(&norm);
-    img->dpi = dpi > 0 ? dpi : 0;
+    lt_image_set_file_dpi(img, dpi);
     *out = img;
     return 0;
 }

@@ -217,10 +217,12 @@ int lt_tiff_read_page(const uint8_t *data, size_t size, const char *name, int in
                           in.message[0] ? in.message : "corrupt or truncated");
         goto done;
     }
-    if (TIFFGetField(tif, TIFFTAG_XRESOLUTION, &xres) && xres > 0) {
+    double dpi = 0; /* stored as a rational or (legally) as a double, read as a float */
+    if (TIFFGetField(tif, TIFFTAG_XRESOLUTION, &xres)) {
         TIFFGetFieldDefaulted(tif, TIFFTAG_RESOLUTIONUNIT, &unit);
-        img->dpi = unit == RESUNIT_CENTIMETER ? xres * 2.54 : unit == RESUNIT_INCH ? xres : 0;
+        dpi = unit == RESUNIT_CENTIMETER ? xres * 2.54 : unit == RESUNIT_INCH ? xres : 0;
     }
+    lt_image_set_file_dpi(img, dpi);
     *out = img;
 done:
     TIFFClose(tif);

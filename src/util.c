@@ -47,6 +47,18 @@ void lt_image_free(lt_image *img)
     free(img);
 }
 
+int lt_dpi_plausible(double dpi)
+{
+    return dpi >= LT_MIN_DPI && dpi <= LT_MAX_DPI;
+}
+
+void lt_image_set_file_dpi(lt_image *img, double dpi)
+{
+    const int plausible = lt_dpi_plausible(dpi);
+    img->dpi = plausible ? dpi : 0;
+    img->dpi_rejected = dpi != 0 && !plausible;
+}
+
 void lt_params_default(lt_params *p)
 {
     memset(p, 0, sizeof *p);

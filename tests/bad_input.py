@@ -66,6 +66,46 @@ def noise(fraction):
     return png_bytes(Image.fromarray(a))
 
 
+def tiff_resolution(img, kind, value):
+    """Uncompressed 8-bit gray TIFF whose XResolution and YResolution are of TIFF type `kind`
+    (5 RATIONAL, 12 DOUBLE, both legal for these tags: TIFF 6.0 and its Technical Notes) with
+    the 8-byte `value`; ResolutionUnit absent, so inches."""
+    w, h = img.size
+    pixels = img.tobytes()
+    entries, ifd = 11, 8
+    values = ifd + 2 + entries * 12 + 4
+    data = values + 16
+    tags = [(256, 3, w), (257, 3, h), (258, 3, 8), (259, 3, 1), (262, 3, 1), (273, 4, data),
+            (277, 3, 1), (278, 3, h), (279, 4, len(pixels)), (282, kind, values),
+            (283, kind, values + 8)]
+    out = b"II*\0" + struct.pack("<IH", ifd, entries)
+    for tag, typ, val in tags:
+        out += struct.pack("<HHIHH" if typ == 3 else "<HHII", tag, typ, 1, val,
+                           *([0] if typ == 3 else []))
+    return out + struct.pack("<I", 0) + value + value + pixels
+
+
+def png_phys(img, per_metre):
+    """PNG with a pHYs chunk of `per_metre` pixels per metre (PNG spec: 4-byte unsigned)."""
+    data = png_bytes(img)
+    at = data.index(b"IDAT") - 4
+    return data[:at] + chunk(b"pHYs", struct.pack(">IIB", per_metre, per_metre, 1)) + data[at:]
+
+
+def jpeg_cmyk():
+    """CMYK JPEG as print workflows write it (PIL: Adobe's marker, inverted samples)."""
+    out = io.BytesIO()
+    ink = page().point(lambda v: 255 - v)
+    Image.merge("CMYK", (ink.point(lambda v: v // 4), ink.point(lambda v: v // 5),
+                         ink.point(lambda v: v // 6), ink)).save(out, format="JPEG", quality=95)
+    return out.getvalue()
+
+
+def jpeg_header_only():
+    data = jpeg_bytes()
+    return data[:data.index(b"\xff\xda")]  # everything before the start of scan
+
+
 good_png = png_bytes(page())
 good_tiff = tiff_pages(1)
 CASES = [
@@ -85,6 +125,30 @@ CASES = [
     ("all black", "black.png", png_bytes(Image.new("L", (900, 1200), 0)), 0, None),
     ("salt and pepper 50%", "noise.png", noise(0.5), 0, None),
     ("4-page TIFF, page 3 broken", "broken3.tif", tiff_pages(4, broken=3), 1, "page 3"),
+    # The decoders' own messages go into the one line, nothing else on stderr.
+    ("JPEG header only", "header-only.jpg", jpeg_header_only(), 1, "missing SOS marker"),
+    ("JPEG: SOI then garbage", "soi-garbage.jpg", b"\xff\xd8" + bytes(range(256)) * 4, 1,
+     "cannot decode JPEG"),
+    ("PGM with maxval 0", "maxval0.pgm", b"P5\n600 400\n0\n" + bytes(240000), 1, "maxval = 0"),
+]
+# Pages that must come out with particular record fields (name, file name, bytes, field
+# checks, and a file holding the same page as it should be analysed, for the same lines).
+plain = png_bytes(page())
+RECORD_CASES = [
+    ("TIFF XResolution a double of 1e38", "res-double.tif",
+     tiff_resolution(page(), 12, struct.pack("<d", 1e38)),
+     {"dpi": 300, "dpi_source": "assumed-file-implausible"}, plain),
+    ("TIFF XResolution the largest rational", "res-rational.tif",
+     tiff_resolution(page(), 5, struct.pack("<II", 0xFFFFFFFF, 1)),
+     {"dpi": 300, "dpi_source": "assumed-file-implausible"}, plain),
+    ("TIFF XResolution a plausible double", "res-150.tif",
+     tiff_resolution(page(), 12, struct.pack("<d", 150.0)), {"dpi": 150, "dpi_source": "file"},
+     None),
+    ("PNG pHYs 0xffffffff px/m", "phys.png", png_phys(page(), 0xFFFFFFFF),
+     {"dpi": 300, "dpi_source": "assumed-file-implausible"}, plain),
+    # Gray from CMYK as PIL converts it (Image.convert, ITU-R 601-2 luma), the same lines.
+    ("CMYK JPEG", "cmyk.jpg", jpeg_cmyk(), {"dpi_source": "assumed"},
+     png_bytes(Image.open(io.BytesIO(jpeg_cmyk())).convert("L"))),
 ]
 # Inputs that once crashed or hung lineate (found by fuzzing, kept in testdata/bad): any
 # clean outcome, exit 0 or 1 with at most one message, within the time limit.
@@ -139,6 +203,28 @@ with tempfile.TemporaryDirectory() as tmp:
         else:
             one = len(err) == 1 and fname in err[0] and fragment in err[0]
             check(one, "%s: one line naming the file with '%s' (%s)" % (name, fragment, err))
+    for name, fname, data, fields, same_as in RECORD_CASES:
+        path = os.path.join(tmp, fname)
+        with open(path, "wb") as f:
+            f.write(data)
+        r = run([path])
+        err = r.stderr.decode(errors="replace").splitlines()
+        check(r.returncode == 0 and not err, "%s: exit %d, %s" % (name, r.returncode, err[:1]))
+        if r.returncode != 0:
+            continue
+        rec = json.loads(r.stdout)
+        got = {k: rec.get(k) for k in fields}
+        check(got == fields, "%s: %s (want %s)" % (name, got, fields))
+        if same_as:
+            ref_path = os.path.join(tmp, "ref-" + fname + ".png")
+            with open(ref_path, "wb") as f:
+                f.write(same_as)
+            ref = json.loads(run([ref_path]).stdout)
+            boxes, want = [l["box"] for l in rec["lines"]], [l["box"] for l in ref["lines"]]
+            close = len(boxes) == len(want) and all(
+                abs(a - b) <= 2 for p, q in zip(boxes, want) for a, b in zip(p, q))
+            check(close and len(want) > 0, "%s: %d lines as the reference page's %d" %
+                  (name, len(boxes), len(want)))
     # One batch: every good page comes out, the bad ones are reported, the exit says so.
     # Every input page gives one record: its layout or an error record.
     r = run(paths)
@@ -155,6 +241,9 @@ with tempfile.TemporaryDirectory() as tmp:
           "batch: %d layouts for %d good pages" % (len(layouts), good_pages))
     check(all(e.get("source") and "page" in e for e in errors),
           "batch: every error record names its file and page")
+    err = r.stderr.decode(errors="replace").splitlines()
+    check(len(err) == len(errors), "batch: %d stderr lines for %d error records" %
+          (len(err), len(errors)))
     # A reader that closes the pipe early: exit 3 with a message, no crash.
     p = subprocess.Popen([LINEATE] + [paths[0]] * 200, stdout=subprocess.PIPE,
                          stderr=subprocess.PIPE)

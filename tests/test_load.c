@@ -7,6 +7,7 @@
 #include "testutil.h"
 
 #include <errno.h>
+#include <jpeglib.h>
 
 static char dir[256];
 
@@ -354,6 +355,75 @@ static void test_jpeg_pnm(void)
     pixDestroy(&g);
 }
 
+/* Writes w x h four-channel samples as a JPEG in `jpeg_space` (JCS_CMYK or JCS_YCCK), with
+ * Adobe's marker, by libjpeg's own encoder (quality 100). */
+static void write_cmyk_jpeg(const char *path, const uint8_t *samples, int w, int h,
+                            J_COLOR_SPACE jpeg_space)
+{
+    FILE *fp = fopen(path, "wb");
+    if (!fp) tu_die("cannot write %s", path);
+    struct jpeg_compress_struct c;
+    struct jpeg_error_mgr e;
+    c.err = jpeg_std_error(&e);
+    jpeg_create_compress(&c);
+    jpeg_stdio_dest(&c, fp);
+    c.image_width = (JDIMENSION)w;
+    c.image_height = (JDIMENSION)h;
+    c.input_components = 4;
+    c.in_color_space = JCS_CMYK;
+    jpeg_set_defaults(&c);
+    jpeg_set_colorspace(&c, jpeg_space); /* writes Adobe's marker for both */
+    jpeg_set_quality(&c, 100, TRUE);
+    jpeg_start_compress(&c, TRUE);
+    while (c.next_scanline < c.image_height) {
+        JSAMPROW row = (JSAMPROW)samples + (size_t)c.next_scanline * w * 4;
+        jpeg_write_scanlines(&c, &row, 1);
+    }
+    jpeg_finish_compress(&c);
+    jpeg_destroy_compress(&c);
+    fclose(fp);
+}
+
+/* CMYK and YCCK JPEGs (print workflows) in Adobe's convention, where the stored samples are
+ * inverted, 255 meaning no ink (libjpeg's libjpeg.txt, "Special color spaces"). Four flat
+ * patches whose gray is known from the usual conversion: red = (1 - C)(1 - K), green and blue
+ * alike, then luminance 0.299 R + 0.587 G + 0.114 B (ITU-R BT.601). */
+static void test_cmyk_jpeg(void)
+{
+    enum { W = 64, H = 64 };
+    static const uint8_t ink[4][4] = {/* C, M, Y, K as fractions of 255 */
+                                      {0, 0, 0, 0},
+                                      {0, 0, 0, 255},
+                                      {255, 0, 0, 0},
+                                      {51, 102, 153, 128}};
+    static uint8_t samples[W * H * 4];
+    for (int y = 0; y < H; y++)
+        for (int x = 0; x < W; x++) {
+            const uint8_t *p = ink[(y >= H / 2) * 2 + (x >= W / 2)];
+            for (int k = 0; k < 4; k++)
+                samples[(y * W + x) * 4 + k] = (uint8_t)(255 - p[k]); /* inverted */
+        }
+    const J_COLOR_SPACE spaces[2] = {JCS_CMYK, JCS_YCCK};
+    const char *names[2] = {"cmyk.jpg", "ycck.jpg"};
+    for (int s = 0; s < 2; s++) {
+        write_cmyk_jpeg(tmp(names[s]), samples, W, H, spaces[s]);
+        lt_image *img = load(tmp(names[s]), 0);
+        if (!img) continue;
+        CHECK_INT(img->kind, LT_IMAGE_GRAY, "%s: kind", names[s]);
+        for (int q = 0; q < 4; q++) {
+            const uint8_t *p = ink[q];
+            double r = (255 - p[0]) * (255 - p[3]) / 255.0, g = (255 - p[1]) * (255 - p[3]) / 255.0,
+                   b = (255 - p[2]) * (255 - p[3]) / 255.0;
+            double want = 0.299 * r + 0.587 * g + 0.114 * b;
+            int x = (q & 1) ? 3 * W / 4 : W / 4, y = (q & 2) ? 3 * H / 4 : H / 4;
+            /* flat patch centres: JPEG at quality 100 (YCCK through its colour transform)
+             * within 3 levels (from memory) */
+            CHECK_NEAR(img->pixels[y * W + x], want, 3, "%s: patch %d gray", names[s], q);
+        }
+        lt_image_free(img);
+    }
+}
+
 static void test_tiff(void)
 {
     /* 1-bit G4: an ink image with the same ink; resolution from the file. */
@@ -409,6 +479,26 @@ static void test_tiff(void)
     pixDestroy(&bw);
 }
 
+/* CRC-32 of PNG chunks (ISO 3309 / ITU-T V.42 polynomial, as the PNG specification gives). */
+static uint32_t crc32_png(const uint8_t *p, size_t n)
+{
+    uint32_t c = 0xffffffffu;
+    for (size_t i = 0; i < n; i++) {
+        c ^= p[i];
+        for (int k = 0; k < 8; k++)
+            c = c & 1 ? 0xedb88320u ^ (c >> 1) : c >> 1;
+    }
+    return c ^ 0xffffffffu;
+}
+
+static void put32(uint8_t *p, uint32_t v)
+{
+    p[0] = (uint8_t)(v >> 24);
+    p[1] = (uint8_t)(v >> 16);
+    p[2] = (uint8_t)(v >> 8);
+    p[3] = (uint8_t)v;
+}
+
 static void test_resolution(void)
 {
     /* PNG stores pixels per metre: 200 dpi is 7874 px/m, which reads back as 200 within the
@@ -425,6 +515,109 @@ static void test_resolution(void)
     if (img) CHECK_NEAR(img->dpi, 400, 0, "tiff: resolution from the file");
     lt_image_free(img);
     pixDestroy(&g);
+}
+
+/* An uncompressed 8-bit gray TIFF of w x h white pixels whose XResolution and YResolution
+ * have TIFF type `type` (5 RATIONAL, 12 DOUBLE; TIFF 6.0 and its Technical Notes) and the
+ * 8-byte value `value`; resolution unit absent, so inches. */
+static size_t tiff_with_resolution(uint8_t *buf, int w, int h, int type, const uint8_t value[8])
+{
+    enum { ENTRIES = 11, IFD = 8, VALUES = IFD + 2 + ENTRIES * 12 + 4, DATA = VALUES + 16 };
+    const uint32_t tags[ENTRIES][3] = {
+        {256, 3, (uint32_t)w}, {257, 3, (uint32_t)h},         {258, 3, 8},
+        {259, 3, 1},           {262, 3, 1},                   {273, 4, DATA},
+        {277, 3, 1},           {278, 3, (uint32_t)h},         {279, 4, (uint32_t)(w * h)},
+        {282, (uint32_t)type, VALUES}, {283, (uint32_t)type, VALUES + 8}};
+    memset(buf, 0, DATA);
+    memcpy(buf, "II*\0\x08\0\0\0", 8);
+    buf[IFD] = ENTRIES;
+    for (int i = 0; i < ENTRIES; i++) {
+        uint8_t *e = buf + IFD + 2 + 12 * i;
+        e[0] = (uint8_t)tags[i][0];
+        e[1] = (uint8_t)(tags[i][0] >> 8);
+        e[2] = (uint8_t)tags[i][1];
+        e[4] = 1; /* count */
+        for (int k = 0; k < 4; k++)
+            e[8 + k] = (uint8_t)(tags[i][2] >> (8 * k));
+    }
+    memcpy(buf + VALUES, value, 8);
+    memcpy(buf + VALUES + 8, value, 8);
+    memset(buf + DATA, 255, (size_t)w * h);
+    return DATA + (size_t)w * h;
+}
+
+/* Resolutions outside LT_MIN_DPI..LT_MAX_DPI, each legal in its format: ignored, flagged, and
+ * the page analysed at the assumed resolution. */
+static void test_implausible_resolution(void)
+{
+    static uint8_t buf[4096];
+    const double huge = 1e38;
+    uint8_t value[8];
+    memcpy(value, &huge, 8); /* little-endian host, as the file ("II") */
+    size_t n = tiff_with_resolution(buf, 40, 30, 12, value);
+    tu_write_file(tmp("res-double.tif"), buf, n);
+    const uint8_t max_rational[8] = {0xff, 0xff, 0xff, 0xff, 1, 0, 0, 0}; /* 4294967295 / 1 */
+    n = tiff_with_resolution(buf, 40, 30, 5, max_rational);
+    tu_write_file(tmp("res-rational.tif"), buf, n);
+    const double normal = 150;
+    memcpy(value, &normal, 8);
+    n = tiff_with_resolution(buf, 40, 30, 12, value);
+    tu_write_file(tmp("res-150.tif"), buf, n);
+    /* PNG pHYs of 0xffffffff pixels per metre (PNG specification: a 4-byte unsigned count). */
+    PIX *g = gray_pix(30, 20, 8);
+    pixSetResolution(g, 300, 300);
+    write_pix(g, tmp("phys.png"), IFF_PNG);
+    pixDestroy(&g);
+    size_t size = 0;
+    uint8_t *png = tu_read_file(tmp("phys.png"), &size);
+    uint8_t *at = NULL;
+    for (size_t i = 0; png && i + 4 < size; i++)
+        if (!memcmp(png + i, "pHYs", 4)) at = png + i;
+    if (!at) tu_die("leptonica wrote no pHYs chunk");
+    memset(at + 4, 0xff, 8);
+    put32(at + 13, crc32_png(at, 13));
+    tu_write_file(tmp("phys.png"), png, size);
+    free(png);
+
+    const char *files[3] = {"res-double.tif", "res-rational.tif", "phys.png"};
+    for (int i = 0; i < 3; i++) {
+        lt_image *img = load(tmp(files[i]), 0);
+        if (!img) continue;
+        CHECK(img->dpi == 0 && img->dpi_rejected == 1, "%s: dpi %g, rejected %d", files[i],
+              img->dpi, img->dpi_rejected);
+        lt_layout *layout = NULL;
+        lt_error err = {0};
+        lt_params p;
+        lt_params_default(&p);
+        p.dpi = 200;
+        if (lt_analyze(img, &p, &layout, &err))
+            tu_fail("%s: %s", files[i], err.message);
+        else
+            CHECK(layout->dpi == 200 && !layout->dpi_from_file && layout->dpi_rejected,
+                  "%s: analysed at %g dpi (from file %d, rejected %d)", files[i], layout->dpi,
+                  layout->dpi_from_file, layout->dpi_rejected);
+        lt_layout_free(layout);
+        lt_image_free(img);
+    }
+    lt_image *img = load(tmp("res-150.tif"), 0);
+    if (img) CHECK(img->dpi == 150 && !img->dpi_rejected, "tiff double 150: dpi %g", img->dpi);
+    /* An embedder's image with an implausible resolution is treated the same way; an
+     * implausible assumed resolution is refused. */
+    if (img) {
+        img->dpi = 1e300;
+        lt_layout *layout = NULL;
+        lt_error err = {0};
+        if (!lt_analyze(img, NULL, &layout, &err))
+            CHECK(layout->dpi == 300 && layout->dpi_rejected, "dpi 1e300 set by hand: %g",
+                  layout->dpi);
+        lt_layout_free(layout);
+        lt_params p;
+        lt_params_default(&p);
+        p.dpi = 5;
+        lt_error err2 = {0};
+        CHECK_INT(lt_analyze(img, &p, &layout, &err2), LT_EINVAL, "assumed dpi 5");
+    }
+    lt_image_free(img);
 }
 
 /* Standard error of this process goes to a file from begin_quiet() to end_quiet(), which
@@ -483,26 +676,6 @@ static void expect_failure(const char *path, int code, long max_pixels, const ch
     lt_source_free(src);
 }
 
-/* CRC-32 of PNG chunks (ISO 3309 / ITU-T V.42 polynomial, as the PNG specification gives). */
-static uint32_t crc32_png(const uint8_t *p, size_t n)
-{
-    uint32_t c = 0xffffffffu;
-    for (size_t i = 0; i < n; i++) {
-        c ^= p[i];
-        for (int k = 0; k < 8; k++)
-            c = c & 1 ? 0xedb88320u ^ (c >> 1) : c >> 1;
-    }
-    return c ^ 0xffffffffu;
-}
-
-static void put32(uint8_t *p, uint32_t v)
-{
-    p[0] = (uint8_t)(v >> 24);
-    p[1] = (uint8_t)(v >> 16);
-    p[2] = (uint8_t)(v >> 8);
-    p[3] = (uint8_t)v;
-}
-
 static void test_bad_input(void)
 {
     tu_write_file(tmp("empty.png"), "", 0);
@@ -549,6 +722,30 @@ static void test_bad_input(void)
     tu_write_file(tmp("huge.pgm"), pgm, strlen(pgm));
     expect_failure(tmp("huge.pgm"), LT_ELIMIT, LT_DEFAULT_MAX_PIXELS, "pgm claiming 3.6e9 px");
 
+    /* Damaged JPEGs and a PGM with maxval 0: the decoders' own messages go into the error,
+     * nothing is printed. */
+    PIX *j = smooth_pix(60, 40);
+    write_pix(j, tmp("whole.jpg"), IFF_JFIF_JPEG);
+    pixDestroy(&j);
+    size_t jsize = 0;
+    uint8_t *jpeg = tu_read_file(tmp("whole.jpg"), &jsize);
+    size_t sos = 0;
+    while (jpeg && sos + 1 < jsize && !(jpeg[sos] == 0xff && jpeg[sos + 1] == 0xda))
+        sos++;
+    tu_write_file(tmp("header-only.jpg"), jpeg, sos);
+    expect_failure(tmp("header-only.jpg"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "jpeg header only");
+    free(jpeg);
+    uint8_t garbage[1026] = {0xff, 0xd8};
+    for (int i = 2; i < (int)sizeof garbage; i++)
+        garbage[i] = (uint8_t)(i * 37);
+    tu_write_file(tmp("garbage.jpg"), garbage, sizeof garbage);
+    expect_failure(tmp("garbage.jpg"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "jpeg SOI + garbage");
+    char maxval0[64 + 600];
+    int head = snprintf(maxval0, 64, "P5\n30 20\n0\n");
+    memset(maxval0 + head, 0, 600);
+    tu_write_file(tmp("maxval0.pgm"), maxval0, (size_t)head + 600);
+    expect_failure(tmp("maxval0.pgm"), LT_EFORMAT, LT_DEFAULT_MAX_PIXELS, "pgm maxval 0");
+
     /* Missing file and a folder: LT_EIO. */
     expect_failure(tmp("no-such-page.png"), LT_EIO, LT_DEFAULT_MAX_PIXELS, "missing file");
     expect_failure(dir, LT_EIO, LT_DEFAULT_MAX_PIXELS, "a folder");
@@ -574,6 +771,8 @@ int main(void)
     test_jpeg_pnm();
     test_tiff();
     test_resolution();
+    test_implausible_resolution();
+    test_cmyk_jpeg();
     test_bad_input();
     tu_rmtree(dir);
     struct stat st;
