@@ -53,7 +53,7 @@ config_dir=${LT_CONFIG_DIR:-$top}
         "(or set LT_CONFIG_DIR to the build folder)" >&2
     exit 2
 }
-modules="lept libtiff-4 libpng libjpeg libcjson"
+modules="lept libtiff-4 libpng libjpeg libcjson libxml-2.0"
 # shellcheck disable=SC2086 # word splitting of the module and flag lists is intended
 if ! deps_cflags=$(pkg-config --cflags $modules) || ! deps_libs=$(pkg-config --libs $modules)
 then

@@ -198,5 +198,6 @@ void lt_layout_free(lt_layout *layout)
     if (!layout) return;
     free(layout->lines);
     free(layout->blocks);
+    free(layout->polygon_points);
     free(layout);
 }

@@ -7,6 +7,7 @@
 #include "batch.h"
 
 #include <cjson/cJSON.h>
+#include <libxml/parser.h>
 #include <dirent.h>
 #include <errno.h>
 #include <pthread.h>
@@ -260,16 +261,20 @@ static char *error_record(const char *source, int page, int pages, const char *m
     return s;
 }
 
+/* File name extension of each output format. */
+static const char *const format_extension[] = {"json", "page.xml", "alto.xml"};
+
 /* Path of a page's file in the output folder (new string). */
-static char *page_file(const char *dir, const char *name, int page, int pages)
+static char *page_file(const char *dir, const char *name, int page, int pages, int format)
 {
-    size_t n = strlen(dir) + strlen(name) + 32;
+    const char *ext = format_extension[format];
+    size_t n = strlen(dir) + strlen(name) + strlen(ext) + 32;
     char *p = malloc(n);
     if (!p) return NULL;
     if (pages <= 1)
-        snprintf(p, n, "%s/%s.json", dir, name);
+        snprintf(p, n, "%s/%s.%s", dir, name, ext);
     else
-        snprintf(p, n, "%s/%s.p%d.json", dir, name, page);
+        snprintf(p, n, "%s/%s.p%d.%s", dir, name, page, ext);
     return p;
 }
 
@@ -310,8 +315,17 @@ static int write_page_file(char *path, const char *json)
 /* Whether a page file from an earlier run is complete: a layout (not an error record) that
  * parses as one JSON object. Files are only ever renamed into place whole, so a partial file
  * cannot exist; this also rejects a file edited or damaged since. */
-static int page_file_complete(const char *path)
+static int page_file_complete(const char *path, int format)
 {
+    if (format != LT_OUTPUT_JSON) { /* a well-formed document whose root is the format's */
+        xmlDocPtr doc = xmlReadFile(path, NULL, XML_PARSE_NONET | XML_PARSE_NOERROR |
+                                                    XML_PARSE_NOWARNING);
+        xmlNodePtr root = doc ? xmlDocGetRootElement(doc) : NULL;
+        int ok = root && xmlStrEqual(root->name,
+                                     BAD_CAST(format == LT_OUTPUT_PAGE ? "PcGts" : "alto"));
+        xmlFreeDoc(doc);
+        return ok;
+    }
     FILE *fp = fopen(path, "rb");
     if (!fp) return 0;
     text t = {0};
@@ -340,7 +354,7 @@ static void emit(result *r, const lt_batch_options *opt, const lt_input *in, int
         text_add(&r->records, "\n", 1);
         return;
     }
-    char *path = page_file(opt->out_dir, in->out_name, page, pages);
+    char *path = page_file(opt->out_dir, in->out_name, page, pages, opt->format);
     if (!path || write_page_file(path, json)) {
         text_printf(&r->messages, "lineate: %s: cannot write: %s\n", path ? path : opt->out_dir,
                     strerror(errno ? errno : ENOMEM));
@@ -353,7 +367,7 @@ static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in
                       int pages, const char *message)
 {
     text_printf(&r->messages, "lineate: %s\n", message);
-    char *rec = error_record(in->path, page, pages, message);
+    char *rec = opt->format == LT_OUTPUT_JSON ? error_record(in->path, page, pages, message) : NULL;
     if (rec) emit(r, opt, in, page > 0 ? page : 1, pages, rec);
     free(rec);
     r->failed++;
@@ -373,8 +387,8 @@ static void process_page(const lt_input *in, const lt_batch_options *opt, lt_sou
                          pthread_mutex_t *read_lock, int i, int pages, result *r)
 {
     if (opt->out_dir && opt->resume) {
-        char *path = page_file(opt->out_dir, in->out_name, i + 1, pages);
-        int complete = path && page_file_complete(path);
+        char *path = page_file(opt->out_dir, in->out_name, i + 1, pages, opt->format);
+        int complete = path && page_file_complete(path, opt->format);
         free(path);
         if (complete) {
             r->skipped++;
@@ -395,7 +409,11 @@ static void process_page(const lt_input *in, const lt_batch_options *opt, lt_sou
         return;
     }
     lt_image_free(img);
-    char *json = lt_layout_to_json(layout, in->path, i + 1, pages, opt->pretty);
+    char *json = opt->format == LT_OUTPUT_PAGE
+                     ? lt_layout_to_page_xml(layout, in->path, i + 1, pages, opt->created_utc)
+                 : opt->format == LT_OUTPUT_ALTO
+                     ? lt_layout_to_alto(layout, in->path, i + 1, pages)
+                     : lt_layout_to_json(layout, in->path, i + 1, pages, opt->pretty);
     lt_layout_free(layout);
     if (!json) {
         lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, "out of memory");
@@ -540,6 +558,7 @@ static void report_progress(const lt_batch_options *opt, const lt_batch_totals *
 int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals)
 {
     memset(totals, 0, sizeof *totals);
+    xmlInitParser(); /* once, before the workers use libxml2 */
     pool p = {in,
               opt,
               calloc((size_t)in->count + 1, sizeof(input_state)),

@@ -29,6 +29,9 @@ void lt_inputs_free(lt_inputs *in);
 /* A page's message: "FILE: page N: reason", or the reason alone when it names the file. */
 void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg);
 
+/* Output formats of the analyse command (--format). */
+enum { LT_OUTPUT_JSON = 0, LT_OUTPUT_PAGE, LT_OUTPUT_ALTO };
+
 typedef struct lt_batch_options {
     const lt_params *params;
     long max_pages;
@@ -39,6 +42,8 @@ typedef struct lt_batch_options {
     int resume;          /* with out_dir: skip pages whose complete output exists */
     int progress;        /* 0 none, 1 a line per 50 pages, 2 a live bar (terminal) */
     int summary;         /* print the closing summary line on stderr */
+    int format;          /* LT_OUTPUT_*: one JSON record, or one XML document, per page */
+    long long created_utc; /* time written into PAGE metadata (seconds since 1970, UTC) */
 } lt_batch_options;
 
 typedef struct lt_batch_totals {
@@ -48,7 +53,8 @@ typedef struct lt_batch_totals {
 
 /* Analyses every page of every input with opt->jobs threads. Each page gives one record: its
  * layout or an error record (`error` field), in input order; errors are also reported on
- * stderr, one line each. */
+ * stderr, one line each. In the XML formats a failed page gives no document (its message on
+ * stderr and the exit status tell). */
 int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals);
 
 #endif

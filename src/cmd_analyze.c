@@ -11,6 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <time.h>
 #include <unistd.h>
 
 static const char usage_text[] =
@@ -30,6 +31,8 @@ static const char usage_text[] =
     "  -j, --jobs N          worker threads (default: the number of processors)\n"
     "      --progress        report progress on standard error, a line every 50 pages\n"
     "      --pretty          indent the JSON for reading (one object spans many lines)\n"
+    "      --format FORMAT   json (the default), page (PAGE XML) or alto (ALTO 4.4): one\n"
+    "                        document per page; files NAME.json, NAME.page.xml, NAME.alto.xml\n"
     "      --dpi N           resolution to assume when a file gives none (default 300)\n"
     "      --force-dpi       use --dpi even when the file gives a resolution\n"
     "      --window N        Sauvola window in pixels, odd (default: about 0.17 inch)\n"
@@ -59,7 +62,8 @@ enum {
     OPT_RESUME,
     OPT_FROM,
     OPT_PROGRESS,
-    OPT_RTL
+    OPT_RTL,
+    OPT_FORMAT
 };
 
 int lt_cli_number(const char *prefix, const char *opt, const char *text, double lo, double hi,
@@ -74,6 +78,17 @@ int lt_cli_number(const char *prefix, const char *opt, const char *text, double 
     }
     *out = v;
     return 0;
+}
+
+/* The time written into PAGE metadata: SOURCE_DATE_EPOCH when set (reproducible output, as
+ * the reproducible-builds convention has it), else now. */
+static long long creation_time(void)
+{
+    const char *fixed = getenv("SOURCE_DATE_EPOCH");
+    char *end = NULL;
+    long long t = fixed ? strtoll(fixed, &end, 10) : -1;
+    if (fixed && end != fixed && *end == '\0' && t >= 0) return t;
+    return (long long)time(NULL);
 }
 
 int lt_cmd_analyze(int argc, char **argv)
@@ -95,13 +110,14 @@ int lt_cmd_analyze(int argc, char **argv)
         {"jobs", required_argument, NULL, 'j'},
         {"progress", no_argument, NULL, OPT_PROGRESS},
         {"rtl", no_argument, NULL, OPT_RTL},
+        {"format", required_argument, NULL, OPT_FORMAT},
         {"help", no_argument, NULL, 'h'},
         {"version", no_argument, NULL, 'V'},
         {NULL, 0, NULL, 0}};
     lt_params params;
     lt_params_default(&params);
     const char *output = NULL, *out_dir = NULL, *from = NULL;
-    int pretty = 0, resume = 0, progress = 0, c;
+    int pretty = 0, resume = 0, progress = 0, format = LT_OUTPUT_JSON, c;
     long cpus = sysconf(_SC_NPROCESSORS_ONLN);
     double v, max_pages = LT_DEFAULT_MAX_PAGES, jobs = cpus > 0 ? (double)cpus : 1;
     opterr = 0;
@@ -116,6 +132,18 @@ int lt_cmd_analyze(int argc, char **argv)
             if (lt_cli_number("lineate: ", "--jobs", optarg, 1, 256, &jobs)) return LT_EXIT_USAGE;
             break;
         case OPT_PRETTY: pretty = 1; break;
+        case OPT_FORMAT:
+            if (strcmp(optarg, "json") == 0)
+                format = LT_OUTPUT_JSON;
+            else if (strcmp(optarg, "page") == 0)
+                format = LT_OUTPUT_PAGE;
+            else if (strcmp(optarg, "alto") == 0)
+                format = LT_OUTPUT_ALTO;
+            else {
+                fprintf(stderr, "lineate: --format: '%s' is not json, page or alto\n", optarg);
+                return LT_EXIT_USAGE;
+            }
+            break;
         case OPT_DPI:
             if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &params.dpi))
                 return LT_EXIT_USAGE;
@@ -211,7 +239,9 @@ int lt_cmd_analyze(int argc, char **argv)
                             progress                        ? 1
                             : isatty(2) && inputs.count > 1 ? 2
                                                             : 0,
-                            out_dir != NULL || progress || (isatty(2) && inputs.count > 1)};
+                            out_dir != NULL || progress || (isatty(2) && inputs.count > 1),
+                            format,
+                            creation_time()};
     lt_batch_totals totals;
     int write_failed = lt_batch_run(&inputs, &opt, &totals) != 0 || totals.write_failed;
     lt_inputs_free(&inputs);

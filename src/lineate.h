@@ -162,6 +162,10 @@ typedef struct lt_line {
     double xheight_px;    /* distance from baseline to the top of lowercase letters */
     int block;            /* index into lt_layout.blocks */
     int components;       /* number of connected components in the line */
+    lt_point *polygon;    /* outline of the line's ink, clockwise as displayed, original image
+                             pixels; points into lt_layout.polygon_points (not owned); NULL
+                             when the line has none */
+    int npolygon;         /* points of `polygon` (0 or >= 3) */
 } lt_line;
 
 typedef struct lt_block {
@@ -200,6 +204,7 @@ typedef struct lt_layout {
     lt_block *blocks; /* text blocks in reading order, then non-text blocks */
     int nblocks;
     int order_doubts; /* LT_DOUBT_* bits, 0 when nothing calls the reading order in doubt */
+    lt_point *polygon_points; /* storage of every line's polygon (owned by the layout) */
 } lt_layout;
 
 /* Analyses one page. `params` may be NULL for the defaults. On success *out holds a layout
@@ -217,6 +222,18 @@ void lt_layout_free(lt_layout *layout);
  * `source` is the input's name, `page` counts from 1 of `pages`. NULL when out of memory. */
 char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, int pages,
                         int pretty);
+/* The page as one PAGE XML document (PAGE content schema 2019-07-15): text regions with their
+ * role as region type, their lines with Coords (the line's polygon, else its quad) and
+ * Baseline, the reading order as an OrderedGroup, tables, rules and pictures as TableRegion,
+ * SeparatorRegion and ImageRegion. `created_utc` (seconds since 1970, UTC) is the time written
+ * into the metadata. A NUL-terminated string without a final newline, freed with free();
+ * NULL when out of memory. The mapping is documented in man/lineate.1. */
+char *lt_layout_to_page_xml(const lt_layout *layout, const char *source, int page, int pages,
+                            long long created_utc);
+/* The page as one ALTO 4.4 document: pixel units, the resolution in the processing
+ * settings, text blocks (roles as RoleTags) and lines in reading order, table cells in a
+ * ComposedBlock, rules as GraphicalElements, pictures as Illustrations. As above. */
+char *lt_layout_to_alto(const lt_layout *layout, const char *source, int page, int pages);
 
 /* ---- stages (each pure: inputs are not modified) ----------------------------------------
  * Exposed for tests, tools and embedders who need one step. */
