@@ -47,6 +47,38 @@ static char *strip_extension(const char *name)
     return s;
 }
 
+/* The output name of a file given by itself (a new string): its path as given, made relative
+ * and clean, so that files of different folders keep apart under the output folder. A leading
+ * '/', empty and "." components are dropped and each ".." becomes "__" (the name never
+ * leaves the output folder): "/data/vol1/0001.png" gives "data/vol1/0001.png", "../scans/a.tif"
+ * gives "__/scans/a.tif". */
+static char *mirrored_name(const char *path)
+{
+    char *name = malloc(2 * strlen(path) + 8), *w = name;
+    if (!name) return NULL;
+    for (const char *s = path; *s;) {
+        while (*s == '/')
+            s++;
+        size_t n = strcspn(s, "/");
+        if (n == 0 || (n == 1 && s[0] == '.')) {
+            s += n;
+            continue;
+        }
+        if (w > name) *w++ = '/';
+        if (n == 2 && s[0] == '.' && s[1] == '.') {
+            memcpy(w, "__", 2);
+            w += 2;
+        } else {
+            memcpy(w, s, n);
+            w += n;
+        }
+        s += n;
+    }
+    if (w == name) w = stpcpy(name, "page"); /* "." or "/": never an empty name */
+    *w = 0;
+    return name;
+}
+
 static int push_input(lt_inputs *in, const char *path, const char *out_name)
 {
     if (in->count == in->cap) {
@@ -149,12 +181,13 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg)
         free(dir);
         return rc;
     }
-    const char *base = strrchr(arg, '/');
-    base = base ? base + 1 : arg;
-    if (push_input(in, arg, strcmp(arg, "-") == 0 ? "stdin" : base)) {
+    char *name = strcmp(arg, "-") == 0 ? strdup("stdin") : mirrored_name(arg);
+    if (!name || push_input(in, arg, name)) {
+        free(name);
         fprintf(stderr, "lineate: out of memory\n");
         return -1;
     }
+    free(name);
     return 0;
 }
 
@@ -192,6 +225,66 @@ void lt_inputs_free(lt_inputs *in)
     free(in->items);
     in->items = NULL;
     in->count = in->cap = 0;
+}
+
+static int cmp_out_name(const void *a, const void *b)
+{
+    const lt_input *x = *(const lt_input *const *)a, *y = *(const lt_input *const *)b;
+    int c = strcmp(x->out_name, y->out_name);
+    return c ? c : (x > y) - (x < y); /* input order among equal names */
+}
+
+/* The input named `name`, or NULL; `sorted` is in cmp_out_name order. */
+static const lt_input *find_out_name(const lt_input **sorted, int n, const char *name)
+{
+    int lo = 0, hi = n;
+    while (lo < hi) {
+        int mid = lo + (hi - lo) / 2, c = strcmp(sorted[mid]->out_name, name);
+        if (c == 0) return sorted[mid];
+        if (c < 0)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return NULL;
+}
+
+int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const char *suffix)
+{
+    const lt_input **sorted = malloc(((size_t)in->count + 1) * sizeof *sorted);
+    if (!sorted) {
+        fprintf(stderr, "lineate: out of memory\n");
+        return -1;
+    }
+    for (int k = 0; k < in->count; k++)
+        sorted[k] = &in->items[k];
+    qsort(sorted, (size_t)in->count, sizeof *sorted, cmp_out_name);
+    int rc = 0;
+    for (int k = 1; k < in->count && rc == 0; k++)
+        if (strcmp(sorted[k - 1]->out_name, sorted[k]->out_name) == 0) {
+            fprintf(stderr,
+                    "lineate: %s and %s would both write %s/%s%s: give inputs of the same name "
+                    "in different folders, or run them apart\n",
+                    sorted[k - 1]->path, sorted[k]->path, out_dir, sorted[k]->out_name, suffix);
+            rc = -1;
+        }
+    for (int k = 0; k < in->count && rc == 0; k++) { /* NAME.pN beside the pages of NAME */
+        const char *name = sorted[k]->out_name, *dot = strrchr(name, '.');
+        if (!dot || dot[1] != 'p' || !dot[2] || strspn(dot + 2, "0123456789") != strlen(dot + 2))
+            continue;
+        char *stem = strndup(name, (size_t)(dot - name));
+        const lt_input *other = stem ? find_out_name(sorted, in->count, stem) : NULL;
+        if (other) {
+            fprintf(stderr,
+                    "lineate: %s and %s would both write %s/%s%s when %s has several pages: "
+                    "rename one or run them apart\n",
+                    other->path, sorted[k]->path, out_dir, name, suffix, other->path);
+            rc = -1;
+        }
+        free(stem);
+    }
+    free(sorted);
+    return rc;
 }
 
 /* ---- growing text buffers ------------------------------------------------------------- */
@@ -647,9 +740,11 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     }
     const double elapsed = now_s() - t0;
     if (opt->summary)
-        fprintf(stderr, "lineate: %ld pages done, %ld failed, %ld skipped, %.2f pages/s\n",
+        fprintf(stderr,
+                "lineate: %ld pages done, %ld failed, %ld skipped, %.2f pages/s, %d thread%s\n",
                 totals->done, totals->failed, totals->skipped,
-                elapsed > 0 ? (totals->done + totals->failed) / elapsed : 0.0);
+                elapsed > 0 ? (totals->done + totals->failed) / elapsed : 0.0, started ? started : 1,
+                started > 1 ? "s" : "");
     free(threads);
     free(p.inputs);
     return 0;

@@ -25,6 +25,11 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg);
 /* Adds every non-empty line of a list file ("-" reads standard input) as an argument. */
 int lt_inputs_add_list(lt_inputs *in, const char *list_path);
 void lt_inputs_free(lt_inputs *in);
+/* Refuses inputs whose files in the output folder `out_dir` would be one file: two inputs with
+ * one output name, or an input named NAME.pN beside an input NAME (whose page N of several is
+ * NAME.pN). `suffix` completes a page file's name in the message (".json"). 0, or -1 with a
+ * message on stderr naming both inputs. */
+int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const char *suffix);
 
 /* A page's message: "FILE: page N: reason", or the reason alone when it names the file. */
 void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg);

@@ -17,6 +17,12 @@ enum {
 int lt_cli_number(const char *prefix, const char *opt, const char *text, double lo, double hi,
                   double *out);
 
+#define LT_CLI_MAX_JOBS 256 /* --jobs: more threads than this only cost memory */
+
+/* The default number of worker threads: the CPUs this process may run on (its affinity mask,
+ * which a container or a cluster scheduler narrows), at most LT_CLI_MAX_JOBS. */
+int lt_cli_default_jobs(void);
+
 int lt_cmd_analyze(int argc, char **argv);
 int lt_cmd_score(int argc, char **argv);
 int lt_cmd_draw(int argc, char **argv);

@@ -2,9 +2,11 @@
  * output: one record per page, one per line, to stdout, to -o FILE (written to a temporary
  * name and renamed into place, so a failed run leaves no partial file) or, with --out-dir,
  * to one file per page. The work itself is src/batch.c. */
+#define _GNU_SOURCE /* sched_getaffinity */
 #include "batch.h"
 #include "cli.h"
 
+#include <sched.h>
 #include <errno.h>
 #include <getopt.h>
 #include <stdio.h>
@@ -28,7 +30,7 @@ static const char usage_text[] =
     "      --out-dir DIR     write each page to its own file in DIR instead\n"
     "      --resume          with --out-dir: skip pages whose output is already complete\n"
     "      --from FILE       also analyse the paths listed in FILE, one a line ('-': stdin)\n"
-    "  -j, --jobs N          worker threads (default: the number of processors)\n"
+    "  -j, --jobs N          worker threads (default: the processors this process may use)\n"
     "      --progress        report progress on standard error, a line every 50 pages\n"
     "      --pretty          indent the JSON for reading (one object spans many lines)\n"
     "      --format FORMAT   json (the default), page (PAGE XML) or alto (ALTO 4.4): one\n"
@@ -91,6 +93,15 @@ static long long creation_time(void)
     return (long long)time(NULL);
 }
 
+int lt_cli_default_jobs(void)
+{
+    cpu_set_t set;
+    if (sched_getaffinity(0, sizeof set, &set) == 0 && CPU_COUNT(&set) > 0)
+        return CPU_COUNT(&set) < LT_CLI_MAX_JOBS ? CPU_COUNT(&set) : LT_CLI_MAX_JOBS;
+    long cpus = sysconf(_SC_NPROCESSORS_ONLN); /* more CPUs than cpu_set_t holds */
+    return cpus < 1 ? 1 : cpus < LT_CLI_MAX_JOBS ? (int)cpus : LT_CLI_MAX_JOBS;
+}
+
 int lt_cmd_analyze(int argc, char **argv)
 {
     static const struct option longopts[] = {
@@ -118,8 +129,7 @@ int lt_cmd_analyze(int argc, char **argv)
     lt_params_default(&params);
     const char *output = NULL, *out_dir = NULL, *from = NULL;
     int pretty = 0, resume = 0, progress = 0, format = LT_OUTPUT_JSON, c;
-    long cpus = sysconf(_SC_NPROCESSORS_ONLN);
-    double v, max_pages = LT_DEFAULT_MAX_PAGES, jobs = cpus > 0 ? (double)cpus : 1;
+    double v, max_pages = LT_DEFAULT_MAX_PAGES, jobs = lt_cli_default_jobs();
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":o:j:hV", longopts, NULL)) != -1) {
         switch (c) {
@@ -129,7 +139,7 @@ int lt_cmd_analyze(int argc, char **argv)
         case OPT_FROM: from = optarg; break;
         case OPT_PROGRESS: progress = 1; break;
         case 'j':
-            if (lt_cli_number("lineate: ", "--jobs", optarg, 1, 256, &jobs)) return LT_EXIT_USAGE;
+            if (lt_cli_number("lineate: ", "--jobs", optarg, 1, LT_CLI_MAX_JOBS, &jobs)) return LT_EXIT_USAGE;
             break;
         case OPT_PRETTY: pretty = 1; break;
         case OPT_FORMAT:
@@ -205,6 +215,13 @@ int lt_cmd_analyze(int argc, char **argv)
     for (int i = optind; i < argc; i++)
         if (lt_inputs_add_arg(&inputs, argv[i])) status = LT_EXIT_FAILED;
     if (from && lt_inputs_add_list(&inputs, from)) status = LT_EXIT_FAILED;
+    if (out_dir && lt_inputs_check_out_names(&inputs, out_dir,
+                                              format == LT_OUTPUT_PAGE   ? ".page.xml"
+                                              : format == LT_OUTPUT_ALTO ? ".alto.xml"
+                                                                         : ".json")) {
+        lt_inputs_free(&inputs);
+        return LT_EXIT_USAGE;
+    }
     if (out_dir && mkdir(out_dir, 0777) != 0 && errno != EEXIST) {
         fprintf(stderr, "lineate: %s: %s\n", out_dir, strerror(errno));
         lt_inputs_free(&inputs);

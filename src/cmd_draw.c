@@ -4,6 +4,7 @@
  * output's folder, renamed into place once complete, so a failed run leaves no file. */
 #include "cli.h"
 #include "draw.h"
+#include "layoutfile.h"
 #include "score.h" /* lt_read_whole_file and the reader's limits */
 
 #include <cjson/cJSON.h>
@@ -195,111 +196,19 @@ fail:
     return rc;
 }
 
-/* Line and column (from 1) of byte `pos` of data. */
-static void line_col(const char *data, size_t pos, long *line, long *col)
+/* The layout of page `page` of `image` (a file of `image_pages` pages) from the saved stream
+ * at `path`: the object whose source is the image (see lt_layout_file_find). */
+static int read_layout(const char *path, const char *image, int page, int image_pages,
+                       lt_draw_layout **out, lt_error *err)
 {
-    *line = 1;
-    *col = 1;
-    for (size_t i = 0; i < pos; i++) {
-        if (data[i] == '\n') {
-            ++*line;
-            *col = 1;
-        } else {
-            ++*col;
-        }
-    }
-}
-
-/* Reads `path` ("-": standard input) holding one or more JSON page objects (one document,
- * JSON Lines, or objects one after another) and converts the object whose "page" is `page`
- * (an object without "page" counts as its position in the file, from 1). The object must not
- * be an error record, and when it gives "pages" that must be `image_pages`. Messages read
- * "PATH: reason". */
-static int read_layout(const char *path, int page, int image_pages, lt_draw_layout **out,
-                       lt_error *err)
-{
-    const char *name = strcmp(path, "-") == 0 ? "stdin" : path;
-    char *data = NULL;
-    size_t size = 0;
-    int rc = lt_read_whole_file(path, LT_SCORE_MAX_FILE_BYTES, &data, &size, err);
-    if (rc) return rc;
+    lt_layout_file *f = NULL;
     cJSON *found = NULL;
-    int count = 0;
-    size_t pos = 0;
-    for (;;) {
-        while (pos < size && strchr(" \t\r\n", data[pos]) && data[pos])
-            pos++;
-        if (pos >= size) break;
-        const char *end = NULL;
-        cJSON *obj = cJSON_ParseWithLengthOpts(data + pos, size - pos, &end, 0);
-        if (!obj) {
-            long line, col;
-            size_t at = end && end >= data + pos && end <= data + size ? (size_t)(end - data) : pos;
-            if (lt_json_cut_short(data + pos, size - pos))
-                rc = lt_error_set(err, LT_EPARSE,
-                                  "%s: truncated JSON (the file ends inside "
-                                  "object %d)",
-                                  name, count + 1);
-            else {
-                line_col(data, at, &line, &col);
-                rc = lt_error_set(err, LT_EPARSE, "%s: not valid JSON at line %ld, column %ld",
-                                  name, line, col);
-            }
-            goto done;
-        }
-        size_t next = (size_t)(end - data);
-        count++;
-        int number = count;
-        const cJSON *p = cJSON_GetObjectItemCaseSensitive(obj, "page");
-        if (!cJSON_IsObject(obj)) {
-            cJSON_Delete(obj);
-            rc = lt_error_set(err, LT_EPARSE, "%s: JSON value %d is not an object", name, count);
-            goto done;
-        }
-        if (p && json_int(p, 1, INT32_MAX, &number)) {
-            cJSON_Delete(obj);
-            rc = lt_error_set(err, LT_EPARSE, "%s: object %d: \"page\" is not a page number", name,
-                              count);
-            goto done;
-        }
-        if (number == page && !found)
-            found = obj;
-        else
-            cJSON_Delete(obj);
-        if (next <= pos) break; /* cannot happen with cJSON; guards the loop */
-        pos = next;
-    }
-    if (count == 0) {
-        rc = lt_error_set(err, LT_EPARSE, "%s: no JSON object (empty file)", name);
-        goto done;
-    }
-    if (!found) {
-        rc = lt_error_set(err, LT_EPARSE, "%s: no layout of page %d (the file holds %d page %s)",
-                          name, page, count, count == 1 ? "object" : "objects");
-        goto done;
-    }
-    const cJSON *error = cJSON_GetObjectItemCaseSensitive(found, "error");
-    if (cJSON_IsString(error)) {
-        rc = lt_error_set(err, LT_EPARSE, "%s: page %d is an error record: %s", name, page,
-                          error->valuestring);
-        goto done;
-    }
-    int pages = 0;
-    const cJSON *jp = cJSON_GetObjectItemCaseSensitive(found, "pages");
-    if (jp && json_int(jp, 1, INT32_MAX, &pages)) {
-        rc = lt_error_set(err, LT_EPARSE, "%s: page %d: \"pages\" is not a page count", name, page);
-        goto done;
-    }
-    if (jp && pages != image_pages) {
-        rc = lt_error_set(err, LT_EPARSE, "%s: layout of a file of %d %s, but the image has %d %s",
-                          name, pages, pages == 1 ? "page" : "pages", image_pages,
-                          image_pages == 1 ? "page" : "pages");
-        goto done;
-    }
-    rc = layout_from_json(found, name, page, out, err);
-done:
+    int rc = lt_layout_file_read(path, &f, err);
+    if (rc == 0) rc = lt_layout_file_find(f, image, page, image_pages, &found, err);
+    if (rc == 0)
+        rc = layout_from_json(found, strcmp(path, "-") == 0 ? "stdin" : path, page, out, err);
     cJSON_Delete(found);
-    free(data);
+    lt_layout_file_free(f);
     return rc;
 }
 
@@ -536,7 +445,7 @@ int lt_cmd_draw(int argc, char **argv)
     }
     if (lt_source_read_page(src, page - 1, LT_DEFAULT_MAX_PIXELS, &img, &err)) goto fail;
     if (layout_path) {
-        if (read_layout(layout_path, page, pages, &lay, &err)) goto fail;
+        if (read_layout(layout_path, image_path, page, pages, &lay, &err)) goto fail;
         if (lay->width != img->width || lay->height != img->height) {
             lt_error_set(&err, LT_EINVAL, "%s: layout is %dx%d pixels, but page %d of %s is %dx%d",
                          strcmp(layout_path, "-") == 0 ? "stdin" : layout_path, lay->width,

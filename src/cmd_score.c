@@ -7,8 +7,10 @@
  *   TRUTH and PRED files: the k-th page object of PRED is scored against the k-th of TRUTH;
  *   the page counts must agree. Either may be "-" (standard input), not both.
  *   TRUTH and PRED folders: each TRUTH/NAME.gt.json (or, when the folder has none, each
- *   TRUTH/NAME.json and TRUTH/NAME.jsonl in lineate's own format) is paired with the first of
- *   PRED/NAME.json, PRED/NAME.jsonl, PRED/NAME.gt.json that exists, in byte order of NAME.
+ *   TRUTH/NAME.json and TRUTH/NAME.jsonl in lineate's own format), in subfolders too, is
+ *   paired with the first of PRED/NAME.json, PRED/NAME.jsonl, PRED/NAME.gt.json that exists,
+ *   NAME being the path below the folder without the suffix ("vol2/0001"), in byte order of
+ *   NAME.
  *   A missing prediction is scored as a page with no lines and listed as missing; a
  *   prediction file that cannot be read is reported on stderr, scored as no lines, listed as
  *   unreadable, and makes the exit status 1. A page whose analysis failed (an error record
@@ -641,53 +643,94 @@ static void names_free(name_list *l)
     memset(l, 0, sizeof *l);
 }
 
-/* Regular files (or links to them) of `dir` whose names end in one of the suffixes and do
- * not start with '.', as "STEM\0FILE" items sorted bytewise by stem. Returns 0, or prints
- * the reason and returns -1. */
-static int list_dir(const char *dir, const char *const *suffixes, int nsuffixes, name_list *out)
+#define MAX_FOLDER_DEPTH 64 /* deeper trees are refused: a link loop, not an archive */
+
+/* Adds the matching files of folder `rel` below `top` ("" for `top` itself) and of its
+ * subfolders; see list_dir. */
+static int list_tree(const char *top, const char *rel, int depth, const char *const *suffixes,
+                     int nsuffixes, name_list *out)
 {
-    memset(out, 0, sizeof *out);
+    char *dir = *rel ? join_path(top, rel) : strdup(top);
+    if (!dir) goto oom_nodir;
+    if (depth > MAX_FOLDER_DEPTH) {
+        fprintf(stderr, "lineate: %s: folders nested too deep\n", dir);
+        free(dir);
+        return -1;
+    }
     DIR *d = opendir(dir);
     if (!d) {
         fprintf(stderr, "lineate: %s: cannot open the folder: %s\n", dir, strerror(errno));
+        free(dir);
         return -1;
     }
     struct dirent *de;
-    while ((de = readdir(d)) != NULL) {
+    int rc = 0;
+    while (rc == 0 && (de = readdir(d)) != NULL) {
         const char *n = de->d_name;
         if (n[0] == '.') continue;
-        int sfx = -1;
-        for (int s = 0; s < nsuffixes && sfx < 0; s++)
-            if (ends_with(n, suffixes[s])) sfx = s;
-        if (sfx < 0) continue;
         char *full = join_path(dir, n);
-        struct stat st;
-        int regular = full && stat(full, &st) == 0 && S_ISREG(st.st_mode);
-        free(full);
-        if (!regular) continue;
-        if (out->count == out->cap) {
-            int ncap = out->cap ? out->cap * 2 : 64;
-            char **ni = realloc(out->items, (size_t)ncap * sizeof *ni);
-            if (!ni) goto oom;
-            out->items = ni;
-            out->cap = ncap;
+        char *sub = *rel ? join_path(rel, n) : strdup(n);
+        if (!full || !sub) {
+            free(full);
+            free(sub);
+            goto oom;
         }
-        size_t len = strlen(n), stem_len = len - strlen(suffixes[sfx]);
-        char *item = malloc(stem_len + 1 + len + 1);
-        if (!item) goto oom;
-        memcpy(item, n, stem_len);
-        item[stem_len] = '\0';
-        memcpy(item + stem_len + 1, n, len + 1);
-        out->items[out->count++] = item;
+        struct stat st;
+        int kind = stat(full, &st) != 0 ? 0 : S_ISDIR(st.st_mode) ? 'd' : S_ISREG(st.st_mode) ? 'f' : 0;
+        free(full);
+        int sfx = -1;
+        for (int s = 0; kind == 'f' && s < nsuffixes && sfx < 0; s++)
+            if (ends_with(n, suffixes[s])) sfx = s;
+        if (kind == 'd') {
+            rc = list_tree(top, sub, depth + 1, suffixes, nsuffixes, out);
+        } else if (sfx >= 0) {
+            if (out->count == out->cap) {
+                int ncap = out->cap ? out->cap * 2 : 64;
+                char **ni = realloc(out->items, (size_t)ncap * sizeof *ni);
+                if (!ni) {
+                    free(sub);
+                    goto oom;
+                }
+                out->items = ni;
+                out->cap = ncap;
+            }
+            size_t len = strlen(sub), stem_len = len - strlen(suffixes[sfx]);
+            char *item = malloc(stem_len + 1 + len + 1);
+            if (!item) {
+                free(sub);
+                goto oom;
+            }
+            memcpy(item, sub, stem_len);
+            item[stem_len] = '\0';
+            memcpy(item + stem_len + 1, sub, len + 1);
+            out->items[out->count++] = item;
+        }
+        free(sub);
     }
     closedir(d);
-    if (out->count > 1) qsort(out->items, (size_t)out->count, sizeof *out->items, cmp_item);
-    return 0;
+    free(dir);
+    return rc;
 oom:
     closedir(d);
-    names_free(out);
+    free(dir);
+oom_nodir:
     fprintf(stderr, "lineate: out of memory\n");
     return -1;
+}
+
+/* Regular files (or links to them) of `dir` and of its subfolders at any depth whose names
+ * end in one of the suffixes and do not start with '.' (nor lie in a folder that does), as
+ * "STEM\0FILE" items sorted bytewise by stem, both relative to `dir` ("vol2/0001" and
+ * "vol2/0001.gt.json"). Returns 0, or prints the reason and returns -1. */
+static int list_dir(const char *dir, const char *const *suffixes, int nsuffixes, name_list *out)
+{
+    memset(out, 0, sizeof *out);
+    if (list_tree(dir, "", 0, suffixes, nsuffixes, out)) {
+        names_free(out);
+        return -1;
+    }
+    if (out->count > 1) qsort(out->items, (size_t)out->count, sizeof *out->items, cmp_item);
+    return 0;
 }
 
 /* First of DIR/NAME.json, DIR/NAME.jsonl, DIR/NAME.gt.json that is a regular file, as a new

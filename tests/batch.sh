@@ -101,13 +101,72 @@ check "a 7-page TIFF on standard input: 7 records" \
     test "$(grep -c '"lines"' "$work/ledger-stdin2.jsonl")" -eq 7
 check "a 7-page TIFF on standard input: --jobs 2 gives the bytes of --jobs 1" \
     cmp -s "$work/ledger-stdin1.jsonl" "$work/ledger-stdin2.jsonl"
-"$lineate" -j 2 --out-dir "$work/ledger" "$work/ledger.tif" 2>/dev/null
+(cd "$work" && "$lineate" -j 2 --out-dir ledger ledger.tif 2>/dev/null)
 rm -f "$work/ledger/ledger.p3.json" "$work/ledger/ledger.p6.json"
-"$lineate" -j 2 --out-dir "$work/ledger" --resume "$work/ledger.tif" 2>"$work/ledger-resume.err"
+(cd "$work" && "$lineate" -j 2 --out-dir ledger --resume ledger.tif 2>"$work/ledger-resume.err")
 check "a 7-page TIFF resumed with 2 threads redoes the 2 missing pages" \
     grep -q "2 pages done, 0 failed, 5 skipped" "$work/ledger-resume.err"
 for i in 1 2 3 4 5 6 7; do cat "$work/ledger/ledger.p$i.json"; done >"$work/ledger-merged.jsonl"
+(cd "$work" && "$lineate" -j 1 ledger.tif >ledger-relative.jsonl 2>/dev/null)
 check "a 7-page TIFF: its page files equal the stream" \
-    cmp -s "$work/ledger-j1.jsonl" "$work/ledger-merged.jsonl"
+    cmp -s "$work/ledger-relative.jsonl" "$work/ledger-merged.jsonl"
+
+# --out-dir keeps apart inputs of the same name: the folders of a scanned archive each start
+# again at 0001 (two different pages here).
+mkdir -p "$work/dup/vol1" "$work/dup/vol2" "$work/dup/mixed"
+cp "$work/archive/box0/folder0/scan00.png" "$work/dup/vol1/0001.png"
+cp "$work/archive/box0/folder0/scan01.png" "$work/dup/vol2/0001.png"
+cp "$work/archive/box0/folder0/scan00.png" "$work/dup/mixed/0001.png"
+"$python" -c 'from PIL import Image; import sys
+Image.open(sys.argv[1]).save(sys.argv[2])' "$work/dup/vol2/0001.png" "$work/dup/mixed/0001.tif"
+cd "$work/dup" || exit 1
+"$lineate" -j 2 --out-dir out vol1/0001.png vol2/0001.png 2>"$work/dup.err"
+check "files given one by one: exit 0, each page its own file under its own path" \
+    test $? -eq 0 -a "$(find out -name '*.json' | LC_ALL=C sort | tr '\n' ' ')" = \
+    "out/vol1/0001.json out/vol2/0001.json "
+check "files given one by one: each page file holds its own input's record" \
+    test "$(grep -ho '"source":"[^"]*"' out/vol1/0001.json out/vol2/0001.json | tr '\n' ' ')" = \
+    '"source":"vol1/0001.png" "source":"vol2/0001.png" '
+"$lineate" -j 2 vol1/0001.png vol2/0001.png >"$work/dup-stream.jsonl" 2>/dev/null
+check "files given one by one: the page files equal the stream" \
+    sh -c 'cat out/vol1/0001.json out/vol2/0001.json | cmp -s - "$1"' sh "$work/dup-stream.jsonl"
+"$lineate" --out-dir out --resume vol1/0001.png vol2/0001.png 2>"$work/dup-resume.err"
+check "files given one by one: --resume finds both" \
+    grep -q "0 pages done, 0 failed, 2 skipped" "$work/dup-resume.err"
+printf '%s\n' "$work/dup/vol1/0001.png" "$work/dup/vol2/0001.png" >list
+"$lineate" --out-dir out-abs --from list 2>/dev/null
+check "a list of absolute paths: mirrored below the output folder without the leading /" \
+    test -f "out-abs$work/dup/vol1/0001.json" -a -f "out-abs$work/dup/vol2/0001.json"
+(cd vol1 && "$lineate" --out-dir ../out-up ../vol2/0001.png 2>/dev/null)
+check "a path through .. stays inside the output folder (.. becomes __)" test -f out-up/__/vol2/0001.json
+"$lineate" --out-dir out-two vol1 vol2 2>"$work/two.err"
+check "two folders holding the same name: refused at start with exit 2, nothing written" \
+    test $? -eq 2 -a ! -e out-two/0001.json
+check "two folders holding the same name: one line naming both inputs and the file" \
+    test "$(wc -l <"$work/two.err")" -eq 1 -a -n "$(grep -F 'vol1/0001.png and vol2/0001.png would both write out-two/0001.json' "$work/two.err")"
+"$lineate" --out-dir out-mixed mixed 2>"$work/mixed.err"
+check "0001.png beside 0001.tif in one folder: refused with exit 2" \
+    test $? -eq 2 -a -n "$(grep -F 'would both write out-mixed/0001.json' "$work/mixed.err")"
+cp vol1/0001.png vol1/0001.p2.png
+"$lineate" --out-dir out-paged vol1 2>"$work/paged.err"
+check "0001.p2.png beside a possibly multi-page 0001: refused with exit 2" \
+    test $? -eq 2 -a -n "$(grep -F 'would both write out-paged/0001.p2.json' "$work/paged.err")"
+"$lineate" --out-dir out-twice vol1/0001.png ./vol1/0001.png 2>/dev/null
+check "the same file given twice: refused with exit 2" test $? -eq 2
+cd "$work" || exit 1
+
+# The default number of threads follows the CPUs the process may use (its affinity mask), as
+# taskset (util-linux) and nproc (coreutils) read it.
+if command -v taskset >/dev/null && taskset -c 0 true 2>/dev/null; then
+    taskset -c 0 "$lineate" --out-dir "$work/one-cpu" "$work/dup/vol1/0001.png" 2>"$work/one-cpu.err"
+    check "under taskset -c 0 the default is 1 thread" grep -q ', 1 thread$' "$work/one-cpu.err"
+    "$lineate" --out-dir "$work/all-cpus" "$work/dup/vol1/0001.png" 2>"$work/all-cpus.err"
+    cpus=$(nproc)
+    check "without it, as many threads as nproc counts ($cpus)" \
+        grep -q ", $cpus threads*\$" "$work/all-cpus.err"
+else
+    echo "SKIP: taskset cannot pin this process"
+fi
+
 echo "batch: $failed failed"
 [ "$failed" -eq 0 ]

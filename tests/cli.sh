@@ -470,6 +470,27 @@ $limit "$lineate" score --json "$truth" "$truth" >self.json 2>err
 check "ground truth scored against itself: F1 1, tau 1, nothing out of place, no splits or merges" \
     py identity self.json
 
+# Folder mode searches subfolders: an archive in two folders, its mirrored --out-dir tree.
+mkdir -p arch/vol1 arch/vol2
+cp "$testdata/corpus/ulthese_ulthese_p002.png" "$truth" arch/vol1/
+cp "$testdata/corpus/mnras_mnras_guide_p002.png" "$testdata/corpus/mnras_mnras_guide_p002.gt.json" \
+    arch/vol2/
+$limit "$lineate" --out-dir arch-pred arch 2>/dev/null
+$limit "$lineate" score --json --per-page arch arch-pred >tree.json 2>err
+check "score of two folder trees: exit 0, nothing on stderr" test "$?" -eq 0 -a ! -s err
+$limit "$lineate" score --json arch/vol2/mnras_mnras_guide_p002.gt.json \
+    arch-pred/vol2/mnras_mnras_guide_p002.json >vol2.json 2>/dev/null
+check "score of two folder trees: both pages paired by relative path and scored as one by one" \
+    "$python" -c '
+import json, sys
+tree, one = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
+pages = {p["name"]: p for p in tree["pages"]}
+assert sorted(pages) == ["vol1/ulthese_ulthese_p002", "vol2/mnras_mnras_guide_p002"], sorted(pages)
+assert all(p["status"] == "scored" for p in pages.values())
+p = pages["vol2/mnras_mnras_guide_p002"]
+assert (p["truth_lines"], p["matched_50"]) == (one["summary"]["truth_lines"], one["summary"]["matched_50"])
+' tree.json vol2.json
+
 # ---- the man page EXAMPLES, extracted from man/lineate.1 and run verbatim --------------------
 mkdir ex bin
 ln -s "$testdata" ex/testdata

@@ -289,6 +289,41 @@ check "--page 2: the size of page 2 at half size (1275x425)" py size p2.png 1275
 draw two.tif --page 2 -o p2-alone.png
 check "--page 2 analysed from the image alone: the same picture" py same p2.png p2-alone.png
 
+# ---- a stream of several files: the record is found by its source ---------------------------
+# Two scans of one size and one page number in different folders, as an archive has them.
+mkdir -p vol1 vol2 vol3
+"$python" - "$page" "$srcdir/testdata/minutes.png" <<'EOF' || fail "cannot build the volumes"
+import sys
+from PIL import Image
+Image.open(sys.argv[1]).convert("L").crop((0, 0, 2550, 1300)).save("vol1/scan.png", dpi=(300, 300))
+Image.open(sys.argv[2]).convert("L").crop((0, 0, 2550, 1300)).save("vol2/scan.png", dpi=(300, 300))
+EOF
+cp vol2/scan.png vol3/scan.png
+$limit "$lineate" vol1/scan.png vol2/scan.png >both.jsonl 2>/dev/null
+head -n 1 both.jsonl >vol1.json
+draw vol2/scan.png -o vol2-alone.png
+draw vol2/scan.png both.jsonl -o vol2-stream.png
+check "a stream of two files: exit 0" test "$rc" -eq 0
+check "a stream of two files: the second file's record is drawn over it" \
+    py same vol2-alone.png vol2-stream.png
+draw ./vol2/../vol2/scan.png both.jsonl -o vol2-path.png
+check "the image named by another path of the same file: its record still found" \
+    py same vol2-alone.png vol2-path.png
+draw vol3/scan.png vol1.json -o vol3.png
+check "a layout of another file of the same size: refused, exit 1, one line naming both" \
+    test "$rc" -eq 1 -a ! -e vol3.png -a "$(nlines err)" -eq 1 -a \
+    -n "$(grep -F 'lineate draw: vol1.json: the layout of page 1 is of vol1/scan.png, not of vol3/scan.png' err)"
+draw vol3/scan.png both.jsonl -o vol3.png
+check "a stream holding neither: refused, exit 1" test "$rc" -eq 1 -a ! -e vol3.png
+sed 's/"source":"[^"]*",//' vol1.json >nosource.json
+cat nosource.json nosource.json >nosource2.jsonl
+draw vol1/scan.png nosource.json -o nosource.png
+check "a hand-made layout without a source: drawn over the image it is given with" \
+    test "$rc" -eq 0 -a -s nosource.png
+draw vol1/scan.png nosource2.jsonl -o nosource2.png
+check "two layouts of page 1 without a source: refused as ambiguous, exit 1" \
+    test "$rc" -eq 1 -a -n "$(grep -F '2 layouts of page 1, and none names vol1/scan.png' err)"
+
 # ---- performance: an A4 page at 300 dpi (2481 x 3508) drawn at full size ---------------------
 # A4 at 300 dpi is 210 x 297 mm = 2480.3 x 3507.9 pixels (ISO 216, common practice: 2481 x 3508).
 "$python" -c "
@@ -318,7 +353,7 @@ printf 'Minutes of the spring meeting\n' >notimage.png
 printf '{"page": 1, "width": 2550, "height": 3300, "lines": [' >bad.json
 head -c 4000 news.json >truncated.json
 sed 's/"width":2550/"width":1000/' news.json >narrow.json
-printf '{"format": "lineate-layout-1", "source": "x", "page": 1, "error": "cannot read"}\n' \
+printf '{"format": "lineate-layout-1", "page": 1, "error": "cannot read"}\n' \
     >error.json
 printf '{"page": 1, "width": 2550, "height": 3300, "blocks": [], "lines": [{"box": [1, 2]}]}' \
     >badline.json
