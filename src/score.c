@@ -404,13 +404,13 @@ int lt_cover_order_count(const lt_scored_line *truth, int ntruth, const lt_score
     qsort(keys, (size_t)n, sizeof *keys, cmp_cover_key);
     for (int i = 0; i < n; i++)
         rank[keys[i].pos] = i;
-    int in_order_run;
-    if (lt_longest_increasing(rank, n, &in_order_run)) {
+    int longest_forward;
+    if (lt_longest_increasing(rank, n, &longest_forward)) {
         rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
         goto done;
     }
     out->covered = n;
-    out->out_of_place = n - in_order_run;
+    out->out_of_place = n - longest_forward;
     for (int i = 1; i < n; i++)
         out->backward_steps += rank[i] < rank[i - 1];
 done:
