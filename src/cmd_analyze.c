@@ -187,7 +187,7 @@ int lt_cmd_analyze(int argc, char **argv)
             params.max_components = (long)v;
             break;
         case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;
-        case 'V': printf("lineate %s\n", LT_VERSION_STRING); return LT_EXIT_OK;
+        case 'V': printf("lineate %s\n", lt_version()); return LT_EXIT_OK;
         case ':':
             fprintf(stderr, "lineate: option '%s' needs a value (see lineate --help)\n",
                     argv[optind - 1]);

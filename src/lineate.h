@@ -11,6 +11,37 @@
  * Coordinates: integer boxes are [left, top, right, bottom) in pixels of the image as given,
  * right and bottom exclusive; points are continuous (pixel x covers [x, x+1)). Angles are in
  * degrees, positive when text lines rise to the right as the image is displayed.
+ *
+ * Threads: a call works on its arguments and what it allocates; the library's only state of
+ * its own is a once-flag and a per-thread buffer for leptonica's last message (below), with
+ * no caches and no locks held across calls. So several threads may run any calls at once on
+ * different pages: lt_source_open*, lt_source_read_page, lt_analyze*, the stage functions,
+ * the writers lt_layout_to_* (libxml2 set up first, below), and the readers and scorer of
+ * score.h, each with its own lt_error.
+ * Objects a call takes as const (an image, lt_params, a layout) may be shared by threads that
+ * only read them; an object that a call writes or frees belongs to one thread at a time.
+ * lt_source_read_page leaves its source unchanged and decodes with a decoder of its own over
+ * the source's bytes, so threads may read different pages of one source at once (never while
+ * another frees it). What is shared with the rest of the process:
+ *  - leptonica: the first lt_source_open* or lt_source_read_page of the process (once,
+ *    by pthread_once) sets leptonica's process-wide message severity to none
+ *    (setMsgSeverity) and its stderr handler (leptSetStderrHandler) to one that keeps the
+ *    message in a per-thread buffer for lineate's error text. From then on leptonica prints
+ *    nothing in the whole process, the embedding program's own leptonica calls included; an
+ *    embedder who installs another handler afterwards takes those messages from lineate's
+ *    errors. Formats other than PNG, JPEG and TIFF are decoded by leptonica from memory.
+ *  - libpng and libjpeg: a decoder and an error handler of its own for each page, errors
+ *    caught by setjmp within the call; nothing process-wide.
+ *  - libtiff: error and warning handlers per handle (libtiff >= 4.5, TIFFOpenOptions). Built
+ *    against an older libtiff, every TIFF opening instead sets libtiff's process-wide error
+ *    and warning handlers to none, which silences libtiff for the whole process.
+ *  - libxml2 (lt_layout_to_page_xml, lt_layout_to_alto): a document of its own per call,
+ *    but libxml2's global state is set up lazily, which is not safe to race (libxml2 2.9);
+ *    call xmlInitParser() once before threads use these writers, as the lineate command does.
+ *  - cJSON: its default allocator; an embedder who installs cJSON_InitHooks does so for
+ *    lineate too, before starting threads.
+ *  - the message of a failed file read comes from strerror(), which POSIX does not require
+ *    to be thread-safe (glibc gives the text of a known error code as a constant string).
  */
 #ifndef LINEATE_H
 #define LINEATE_H
@@ -22,7 +53,12 @@
 extern "C" {
 #endif
 
+/* The version compiled against; lt_version() and lt_version_number() give the one loaded at
+ * run time (they differ when a program runs with another build of the shared library). */
 #define LT_VERSION_STRING "1.0.0"
+#define LT_VERSION_NUMBER 10000 /* major * 10000 + minor * 100 + patch */
+const char *lt_version(void); /* a static string, LT_VERSION_STRING of the library's build */
+int lt_version_number(void);  /* LT_VERSION_NUMBER of the library's build */
 /* Version of the JSON layout format written by lt_json_*; bumped on incompatible changes. */
 #define LT_FORMAT_NAME "lineate-layout-1"
 

@@ -1,11 +1,21 @@
-/* util.c — error recording, image allocation and the default parameters: the small shared
- * pieces every stage uses. */
+/* util.c — the version, error recording, image allocation and the default parameters: the
+ * small shared pieces every stage uses. */
 #include "internal.h"
 
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+
+const char *lt_version(void)
+{
+    return LT_VERSION_STRING;
+}
+
+int lt_version_number(void)
+{
+    return LT_VERSION_NUMBER;
+}
 
 int lt_error_set(lt_error *err, int code, const char *fmt, ...)
 {

@@ -2,7 +2,7 @@
  * library lineate did not write) into a temp folder: PNG gray, RGB, palette, 16-bit, 1-bit and
  * RGBA; JPEG; PGM/PPM; TIFF G4 and a multi-page TIFF; resolution from the file; and bad input
  * (empty, not an image, truncated, a header claiming a huge size, missing file, a folder),
- * each with a one-line message naming the file.
+ * each with a one-line message naming the file; and the version the library reports.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
 
@@ -762,6 +762,20 @@ static void test_bad_input(void)
     pixDestroy(&g);
 }
 
+/* The library as loaded reports the version the test was compiled against, as a string and
+ * as a number that says the same (major * 10000 + minor * 100 + patch). */
+static void test_version(void)
+{
+    CHECK(strcmp(lt_version(), LT_VERSION_STRING) == 0, "lt_version() '%s', header '%s'",
+          lt_version(), LT_VERSION_STRING);
+    CHECK_INT(lt_version_number(), LT_VERSION_NUMBER, "lt_version_number()");
+    int major = -1, minor = -1, patch = -1, end = 0;
+    sscanf(lt_version(), "%d.%d.%d%n", &major, &minor, &patch, &end);
+    CHECK(end > 0 && lt_version()[end] == '\0', "lt_version() '%s' is not N.N.N", lt_version());
+    CHECK_INT(major * 10000 + minor * 100 + patch, lt_version_number(),
+              "version number from the string '%s'", lt_version());
+}
+
 int main(void)
 {
     setMsgSeverity(L_SEVERITY_NONE);
@@ -774,6 +788,7 @@ int main(void)
     test_implausible_resolution();
     test_cmyk_jpeg();
     test_bad_input();
+    test_version();
     tu_rmtree(dir);
     struct stat st;
     CHECK(stat(dir, &st) != 0 && errno == ENOENT, "temp folder %s not removed", dir);
