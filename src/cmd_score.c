@@ -6,11 +6,12 @@
  * Pairing
  *   TRUTH and PRED files: the k-th page object of PRED is scored against the k-th of TRUTH;
  *   the page counts must agree. Either may be "-" (standard input), not both.
+ *   Either file may hold lineate JSON, corpus ground truth, PAGE XML or ALTO (xmlread.c).
  *   TRUTH and PRED folders: each TRUTH/NAME.gt.json (or, when the folder has none, each
- *   TRUTH/NAME.json and TRUTH/NAME.jsonl in lineate's own format), in subfolders too, is
- *   paired with the first of PRED/NAME.json, PRED/NAME.jsonl, PRED/NAME.gt.json that exists,
- *   NAME being the path below the folder without the suffix ("vol2/0001"), in byte order of
- *   NAME.
+ *   TRUTH/NAME.json, .jsonl, .page.xml, .alto.xml and .xml), in subfolders too, is paired
+ *   with the first of PRED/NAME.json, .jsonl, .gt.json, .page.xml, .alto.xml, .xml that
+ *   exists, NAME being the path below the folder without the suffix ("vol2/0001"), in byte
+ *   order of NAME.
  *   A missing prediction is scored as a page with no lines and listed as missing; a
  *   prediction file that cannot be read is reported on stderr, scored as no lines, listed as
  *   unreadable, and makes the exit status 1. A page whose analysis failed (an error record
@@ -733,13 +734,15 @@ static int list_dir(const char *dir, const char *const *suffixes, int nsuffixes,
     return 0;
 }
 
-/* First of DIR/NAME.json, DIR/NAME.jsonl, DIR/NAME.gt.json that is a regular file, as a new
- * string; NULL when none is (or out of memory: *oom set). */
+/* First of DIR/NAME.json, .jsonl, .gt.json, .page.xml, .alto.xml, .xml that is a regular
+ * file, as a new string; NULL when none is (or out of memory: *oom set). */
 static char *find_prediction(const char *dir, const char *stem, int *oom)
 {
-    static const char *const exts[] = {".json", ".jsonl", ".gt.json"};
+    static const char *const exts[] = {".json",     ".jsonl",    ".gt.json",
+                                       ".page.xml", ".alto.xml", ".xml"};
+    const int nexts = (int)(sizeof exts / sizeof exts[0]);
     *oom = 0;
-    for (int i = 0; i < 3; i++) {
+    for (int i = 0; i < nexts; i++) {
         size_t len = strlen(stem) + strlen(exts[i]) + 1;
         char *file = malloc(len);
         if (!file) break;
@@ -750,7 +753,7 @@ static char *find_prediction(const char *dir, const char *stem, int *oom)
         struct stat st;
         if (stat(full, &st) == 0 && S_ISREG(st.st_mode)) return full;
         free(full);
-        if (i == 2) return NULL;
+        if (i == nexts - 1) return NULL;
     }
     *oom = 1;
     return NULL;
@@ -761,15 +764,17 @@ static char *find_prediction(const char *dir, const char *stem, int *oom)
 static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
 {
     static const char *const gt_suffix[] = {".gt.json"};
-    static const char *const own_suffix[] = {".json", ".jsonl"};
+    /* the longer suffixes first: NAME.page.xml is NAME, not NAME.page */
+    static const char *const own_suffix[] = {".json", ".jsonl", ".page.xml", ".alto.xml", ".xml"};
     name_list names;
     if (list_dir(truth_dir, gt_suffix, 1, &names)) return LT_EIO;
-    if (names.count == 0) { /* no ground truth: lineate's own files as the reference */
+    if (names.count == 0) { /* no corpus truth: lineate's own files, PAGE or ALTO */
         names_free(&names);
-        if (list_dir(truth_dir, own_suffix, 2, &names)) return LT_EIO;
+        if (list_dir(truth_dir, own_suffix, 5, &names)) return LT_EIO;
     }
     if (names.count == 0) {
-        fprintf(stderr, "lineate: %s: no *.gt.json or *.json files in the folder\n", truth_dir);
+        fprintf(stderr, "lineate: %s: no *.gt.json, *.json or *.xml files in the folder\n",
+                truth_dir);
         names_free(&names);
         return LT_EIO;
     }
@@ -842,8 +847,11 @@ static void print_help(void)
                 "Compare predicted text lines with ground truth.\n"
                 "\n"
                 "TRUTH and PRED are two files (pages paired in order; '-' reads standard input)\n"
-                "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, NAME.jsonl or\n"
-                "NAME.gt.json; without *.gt.json files, TRUTH/NAME.json in lineate's format).\n"
+                "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, .jsonl,\n"
+                ".gt.json, .page.xml, .alto.xml or .xml; without *.gt.json files, TRUTH/NAME\n"
+                "in lineate's JSON, PAGE XML or ALTO). Files hold lineate JSON, corpus ground\n"
+                "truth, PAGE XML or ALTO (lines from polygons or positions, order from\n"
+                "ReadingOrder where present, else document order).\n"
                 "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
                 "decreasing IoU); reading order is Kendall's tau-a over matched lines, and\n"
                 "the order of every truth line placed at the prediction covering most of it\n"

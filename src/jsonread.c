@@ -418,8 +418,14 @@ int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages, 
     size_t size;
     int rc = lt_read_whole_file(path, LT_SCORE_MAX_FILE_BYTES, &data, &size, err);
     if (rc) return rc;
-    rc = lt_scored_pages_parse(data, size, strcmp(path, "-") == 0 ? "stdin" : path, pages, npages,
-                               err);
+    const char *name = strcmp(path, "-") == 0 ? "stdin" : path;
+    size_t first = size >= 3 && memcmp(data, "\xEF\xBB\xBF", 3) == 0 ? 3 : 0;
+    while (first < size && is_json_space(data[first]))
+        first++;
+    if (first < size && data[first] == '<') /* PAGE XML or ALTO */
+        rc = lt_scored_pages_parse_xml(data, size, name, pages, npages, err);
+    else
+        rc = lt_scored_pages_parse(data, size, name, pages, npages, err);
     free(data);
     return rc;
 }

@@ -75,7 +75,26 @@ int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_sc
  * JSON file cut short; 0 otherwise (a plain syntax error). */
 int lt_json_cut_short(const char *data, size_t n);
 
-/* lt_read_whole_file (capped at LT_SCORE_MAX_FILE_BYTES) followed by lt_scored_pages_parse;
+/* Parses PAGE XML (root PcGts, any version of the PAGE content schema) or ALTO (root alto,
+ * pixel units) documents, one or more one after the other (each new one starting with an XML
+ * declaration at the start of a line), into pages as above: PAGE gives one page per document
+ * (Page/@imageFilename, @imageWidth, @imageHeight, @orientation as the skew), ALTO one per
+ * Layout/Page (@WIDTH, @HEIGHT, @ROTATION as the skew, @PHYSICAL_IMG_NR, the fileName of
+ * sourceImageInformation). A line's box is the hull of its Coords points (PAGE) or its
+ * HPOS, VPOS, WIDTH, HEIGHT (ALTO; the hull of Shape/Polygon when those are missing); a
+ * polygon of four points is also its quad, and a longer one on a skewed page gives the
+ * rectangle at the page's angle that holds it. Lines are in the order of the ReadingOrder
+ * element when the document has one: the members of ordered groups by @index (PAGE) or in
+ * document order (ALTO), each reference placing the lines of the element it names (a
+ * region, a block, a line) that are not placed yet; lines reached only through an unordered
+ * group, or not at all, are not in_order (the latter follow in document order). Without
+ * ReadingOrder, document order, every line in_order. Fails with LT_EPARSE ("NAME: document
+ * D[, line L]: reason"), LT_ELIMIT or LT_ENOMEM. */
+int lt_scored_pages_parse_xml(const char *data, size_t size, const char *name,
+                              lt_scored_page **pages, int *npages, lt_error *err);
+
+/* lt_read_whole_file (capped at LT_SCORE_MAX_FILE_BYTES) followed by lt_scored_pages_parse, or
+ * lt_scored_pages_parse_xml when the first character that is not white space is '<';
  * messages name `path` ("stdin" for "-"). */
 int lt_scored_pages_read(const char *path, lt_scored_page **pages, int *npages, lt_error *err);
 

@@ -97,32 +97,45 @@ static xmlNodePtr child(xmlNodePtr parent, xmlNsPtr ns, const char *name, const 
     return xmlNewChild(parent, ns, BAD_CAST name, text ? BAD_CAST text : NULL);
 }
 
-/* Rounds v to a whole pixel inside [0, limit]. */
-static long clamp_round(double v, int limit)
+/* v to a whole pixel inside [0, limit]: rounded down when `down`, else up. */
+static long clamp_pixel(double v, int down, int limit)
 {
     if (!(v > 0)) return 0; /* also NaN */
-    return v >= limit ? limit : lround(v);
+    if (v >= limit) return limit;
+    return (long)(down ? floor(v + 1e-6) : ceil(v - 1e-6)); /* the tolerance of geom.c */
 }
 
-/* "x1,y1 x2,y2 ..." of n points rounded into the image; the caller frees it. */
-static char *points_text(const lt_point *p, int n, int width, int height)
+/* "x1,y1 x2,y2 ..." of n points in whole pixels inside the image; the caller frees it. An
+ * outline (`outward`) has each coordinate rounded away from the outline's centre, so that the
+ * box of the written points is the box of the outline (the floor / ceil hull, as the JSON
+ * box is); other points are rounded to the nearest pixel. */
+static char *points_text(const lt_point *p, int n, int outward, int width, int height)
 {
+    double cx = 0, cy = 0;
+    for (int i = 0; i < n; i++) {
+        cx += p[i].x / n;
+        cy += p[i].y / n;
+    }
     size_t cap = (size_t)n * 24 + 1;
     char *s = lt_alloc_array(cap, 1);
     if (!s) return NULL;
     size_t len = 0;
     s[0] = '\0';
-    for (int i = 0; i < n; i++)
-        len += (size_t)snprintf(s + len, cap - len, "%s%ld,%ld", i ? " " : "",
-                                clamp_round(p[i].x, width), clamp_round(p[i].y, height));
+    for (int i = 0; i < n; i++) {
+        long x = outward ? clamp_pixel(p[i].x, p[i].x < cx, width)
+                         : clamp_pixel(p[i].x + 0.5, 1, width);
+        long y = outward ? clamp_pixel(p[i].y, p[i].y < cy, height)
+                         : clamp_pixel(p[i].y + 0.5, 1, height);
+        len += (size_t)snprintf(s + len, cap - len, "%s%ld,%ld", i ? " " : "", x, y);
+    }
     return s;
 }
 
-/* Sets attribute `name` to the points; 0, or -1 when out of memory. */
-static int set_points(xmlNodePtr node, const char *name, const lt_point *p, int n, int width,
-                      int height)
+/* Sets attribute `name` to the points (see points_text); 0, or -1 when out of memory. */
+static int set_points(xmlNodePtr node, const char *name, const lt_point *p, int n, int outward,
+                      int width, int height)
 {
-    char *s = points_text(p, n, width, height);
+    char *s = points_text(p, n, outward, width, height);
     if (!s) return -1;
     set_attr(node, name, s);
     free(s);
@@ -182,7 +195,7 @@ static xmlNodePtr new_root(xmlDocPtr doc, const char *name, const char *ns_uri,
 static int page_coords(xmlNodePtr parent, xmlNsPtr ns, const lt_point *p, int n, int w, int h)
 {
     xmlNodePtr c = child(parent, ns, "Coords", NULL);
-    return c ? set_points(c, "points", p, n, w, h) : -1;
+    return c ? set_points(c, "points", p, n, 1, w, h) : -1;
 }
 
 /* A TextRegion for text block k with its lines, under `parent`. */
@@ -204,7 +217,8 @@ static int page_text_region(xmlNodePtr parent, xmlNsPtr ns, const lt_layout *l, 
         const lt_point *outline = line_outline(ln, &n);
         if (page_coords(t, ns, outline, n, l->width, l->height)) return -1;
         xmlNodePtr base = child(t, ns, "Baseline", NULL);
-        if (!base || set_points(base, "points", ln->baseline, 2, l->width, l->height)) return -1;
+        if (!base || set_points(base, "points", ln->baseline, 2, 0, l->width, l->height))
+            return -1;
     }
     return 0;
 }
@@ -322,7 +336,7 @@ static int alto_shape(xmlNodePtr parent, xmlNsPtr ns, const lt_point *p, int n, 
 {
     xmlNodePtr shape = child(parent, ns, "Shape", NULL);
     xmlNodePtr poly = shape ? child(shape, ns, "Polygon", NULL) : NULL;
-    return poly ? set_points(poly, "POINTS", p, n, w, h) : -1;
+    return poly ? set_points(poly, "POINTS", p, n, 1, w, h) : -1;
 }
 
 /* A TextBlock for text block k with its lines, under `parent`. */
@@ -344,7 +358,7 @@ static int alto_text_block(xmlNodePtr parent, xmlNsPtr ns, const lt_layout *l, i
         if (!t) return -1;
         set_attr_id(t, "ID", "l", i + 1);
         alto_position(t, &ln->box);
-        if (set_points(t, "BASELINE", ln->baseline, 2, l->width, l->height)) return -1;
+        if (set_points(t, "BASELINE", ln->baseline, 2, 0, l->width, l->height)) return -1;
         int n;
         const lt_point *outline = line_outline(ln, &n);
         if (alto_shape(t, ns, outline, n, l->width, l->height)) return -1;
