@@ -5,12 +5,14 @@
  * folder every page is its own file, written under a temporary name and renamed into place;
  * --resume skips pages already complete. */
 #include "batch.h"
+#include "internal.h" /* lt_json_add_source, lt_utf8_clean */
 
 #include <cjson/cJSON.h>
 #include <libxml/parser.h>
 #include <dirent.h>
 #include <errno.h>
 #include <pthread.h>
+#include <signal.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
@@ -105,53 +107,139 @@ static int cmp_str(const void *a, const void *b)
     return strcmp(*(char *const *)a, *(char *const *)b);
 }
 
-/* Adds the image files below `dir`; `rel` is the path relative to the folder given. */
-static int add_folder(lt_inputs *in, const char *dir, const char *rel, int depth)
+/* A folder walk: the folders entered so far, by device and inode (a hash set with linear
+ * probing, at most half full), so that each is searched once however links lead back to it. */
+typedef struct walk {
+    struct walk_folder {
+        dev_t dev;
+        ino_t ino;
+        int used;
+    } *slots;
+    size_t count, size; /* size: a power of two, or 0 */
+} walk;
+
+static size_t walk_slot(const walk *w, dev_t dev, ino_t ino)
 {
-    if (depth > 64) {
-        fprintf(stderr, "lineate: %s: folders nested too deep\n", dir);
-        return -1;
+    size_t i = ((size_t)ino * 0x9E3779B97F4A7C15u ^ (size_t)dev) & (w->size - 1);
+    while (w->slots[i].used && (w->slots[i].dev != dev || w->slots[i].ino != ino))
+        i = (i + 1) & (w->size - 1);
+    return i;
+}
+
+/* 1 when the folder st is new to the walk (and now remembered), 0 when seen, -1 when out of
+ * memory. */
+static int walk_enter(walk *w, const struct stat *st)
+{
+    if (2 * (w->count + 1) > w->size) {
+        walk bigger = {calloc(w->size ? 2 * w->size : 64, sizeof *w->slots), w->count,
+                       w->size ? 2 * w->size : 64};
+        if (!bigger.slots) return -1;
+        for (size_t i = 0; i < w->size; i++)
+            if (w->slots[i].used)
+                bigger.slots[walk_slot(&bigger, w->slots[i].dev, w->slots[i].ino)] = w->slots[i];
+        free(w->slots);
+        *w = bigger;
     }
+    const size_t i = walk_slot(w, st->st_dev, st->st_ino);
+    if (w->slots[i].used) return 0;
+    w->slots[i] = (struct walk_folder){st->st_dev, st->st_ino, 1};
+    w->count++;
+    return 1;
+}
+
+/* The sorted names in `dir` but the hidden ones (and "." and ".."); NULL with a message on
+ * stderr when the folder cannot be read. */
+static char **folder_names(const char *dir, size_t *count)
+{
     DIR *d = opendir(dir);
     if (!d) {
         fprintf(stderr, "lineate: %s: %s\n", dir, strerror(errno));
-        return -1;
+        return NULL;
     }
     char **names = NULL;
     size_t n = 0, cap = 0;
-    int rc = 0;
-    for (struct dirent *e; (e = readdir(d));) {
-        if (e->d_name[0] == '.') continue; /* hidden files, ".", ".." */
+    const char *failure = NULL;
+    for (;;) {
+        errno = 0;
+        struct dirent *e = readdir(d);
+        if (!e) {
+            if (errno) failure = strerror(errno);
+            break;
+        }
+        if (e->d_name[0] == '.') continue;
         if (n == cap) {
             cap = cap ? 2 * cap : 64;
             char **bigger = realloc(names, cap * sizeof *bigger);
             if (!bigger) {
-                rc = -1;
+                failure = "out of memory";
                 break;
             }
             names = bigger;
         }
         if (!(names[n] = strdup(e->d_name))) {
-            rc = -1;
+            failure = "out of memory";
             break;
         }
         n++;
     }
     closedir(d);
+    if (failure) {
+        fprintf(stderr, "lineate: %s: %s\n", dir, failure);
+        for (size_t i = 0; i < n; i++)
+            free(names[i]);
+        free(names);
+        return NULL;
+    }
     if (n) qsort(names, n, sizeof *names, cmp_str);
-    for (size_t i = 0; i < n && rc == 0; i++) {
+    *count = n;
+    return names ? names : calloc(1, sizeof *names);
+}
+
+/* Adds the image files below `dir` (whose stat is `st`); `rel` is the path relative to the
+ * folder given. Only regular files are taken; a folder met again (a link back to one already
+ * searched) and other kinds of file named like images (FIFOs, devices) are reported and
+ * skipped. A folder that cannot be read is reported, and the walk goes on; then -1. */
+static int add_folder(lt_inputs *in, walk *w, const char *dir, const struct stat *st,
+                      const char *rel, int depth)
+{
+    if (depth > 64) {
+        fprintf(stderr, "lineate: %s: folders nested too deep\n", dir);
+        return -1;
+    }
+    const int entered = walk_enter(w, st);
+    if (entered <= 0) {
+        if (entered == 0)
+            fprintf(stderr, "lineate: %s: skipped, a folder already searched (reached again "
+                            "through a link)\n", dir);
+        else
+            fprintf(stderr, "lineate: %s: out of memory\n", dir);
+        return entered == 0 ? 0 : -1;
+    }
+    size_t n = 0;
+    char **names = folder_names(dir, &n);
+    if (!names) return -1;
+    int rc = 0;
+    for (size_t i = 0; i < n; i++) {
         size_t lp = strlen(dir) + strlen(names[i]) + 2, lr = strlen(rel) + strlen(names[i]) + 2;
         char *path = malloc(lp), *sub = malloc(lr);
+        struct stat est;
         if (!path || !sub) {
+            fprintf(stderr, "lineate: %s: out of memory\n", dir);
             rc = -1;
         } else {
             snprintf(path, lp, "%s/%s", dir, names[i]);
             snprintf(sub, lr, "%s%s%s", rel, *rel ? "/" : "", names[i]);
-            struct stat st;
-            if (stat(path, &st) == 0 && S_ISDIR(st.st_mode))
-                rc = add_folder(in, path, sub, depth + 1);
-            else if (is_image_name(names[i]))
-                rc = push_input(in, path, sub);
+            const int found = stat(path, &est) == 0;
+            if (found && S_ISDIR(est.st_mode)) {
+                if (add_folder(in, w, path, &est, sub, depth + 1)) rc = -1;
+            } else if (!is_image_name(names[i])) {
+                /* not taken */
+            } else if (found && !S_ISREG(est.st_mode)) {
+                fprintf(stderr, "lineate: %s: skipped, not a regular file\n", path);
+            } else if (push_input(in, path, sub)) { /* a broken link fails when opened */
+                fprintf(stderr, "lineate: %s: out of memory\n", path);
+                rc = -1;
+            }
         }
         free(path);
         free(sub);
@@ -159,7 +247,6 @@ static int add_folder(lt_inputs *in, const char *dir, const char *rel, int depth
     for (size_t i = 0; i < n; i++)
         free(names[i]);
     free(names);
-    if (rc) fprintf(stderr, "lineate: %s: out of memory\n", dir);
     return rc;
 }
 
@@ -173,7 +260,9 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg)
         while (n > 1 && dir[n - 1] == '/')
             dir[--n] = 0;
         const int before = in->count;
-        int rc = add_folder(in, dir, "", 0);
+        walk w = {0};
+        int rc = add_folder(in, &w, dir, &st, "", 0);
+        free(w.slots);
         if (rc == 0 && in->count == before) {
             fprintf(stderr, "lineate: %s: no image files in this folder\n", dir);
             rc = -1;
@@ -319,11 +408,88 @@ static void text_printf(text *t, const char *fmt, ...) __attribute__((format(pri
 static void text_printf(text *t, const char *fmt, ...)
 {
     char buf[1024];
-    va_list ap;
+    va_list ap, again;
     va_start(ap, fmt);
+    va_copy(again, ap);
     int n = vsnprintf(buf, sizeof buf, fmt, ap);
+    if (n >= (int)sizeof buf) { /* a long file name: the whole line */
+        char *line = malloc((size_t)n + 1);
+        if (line) vsnprintf(line, (size_t)n + 1, fmt, again);
+        if (line) text_add(t, line, (size_t)n);
+        if (!line) t->failed = 1;
+        free(line);
+    } else if (n > 0) {
+        text_add(t, buf, (size_t)n);
+    }
+    va_end(again);
     va_end(ap);
-    if (n > 0) text_add(t, buf, (size_t)n < sizeof buf ? (size_t)n : sizeof buf - 1);
+}
+
+/* ---- temporary files and signals -------------------------------------------------------
+ * SIGINT, SIGTERM and SIGHUP are taken by a thread of their own (sigwait), which waits until
+ * no page file is being written, removes the stream's temporary file, and ends the process
+ * by the same signal; so no temporary file is left behind, and no new one is begun. */
+static pthread_mutex_t temp_lock = PTHREAD_MUTEX_INITIALIZER;
+static pthread_cond_t temp_idle = PTHREAD_COND_INITIALIZER;
+static int temp_writers;        /* page files between their creation and their rename */
+static int temp_stopping;       /* a signal came: no new temporary file */
+static char *temp_stream;       /* the stream's temporary file, or NULL */
+static sigset_t temp_signals;
+
+static void temp_write_begin(void)
+{
+    pthread_mutex_lock(&temp_lock);
+    while (temp_stopping) /* the process is about to end */
+        pthread_cond_wait(&temp_idle, &temp_lock);
+    temp_writers++;
+    pthread_mutex_unlock(&temp_lock);
+}
+
+static void temp_write_end(void)
+{
+    pthread_mutex_lock(&temp_lock);
+    if (--temp_writers == 0) pthread_cond_broadcast(&temp_idle);
+    pthread_mutex_unlock(&temp_lock);
+}
+
+static void *temp_guard(void *arg)
+{
+    (void)arg;
+    int sig = 0;
+    if (sigwait(&temp_signals, &sig) != 0) return NULL;
+    pthread_mutex_lock(&temp_lock);
+    temp_stopping = 1;
+    while (temp_writers > 0)
+        pthread_cond_wait(&temp_idle, &temp_lock);
+    if (temp_stream) unlink(temp_stream);
+    signal(sig, SIG_DFL);
+    pthread_sigmask(SIG_UNBLOCK, &temp_signals, NULL);
+    raise(sig); /* the default action: the process ends here, the lock still held */
+    _exit(128 + sig);
+}
+
+int lt_batch_guard_signals(void)
+{
+    sigemptyset(&temp_signals);
+    sigaddset(&temp_signals, SIGINT);
+    sigaddset(&temp_signals, SIGTERM);
+    sigaddset(&temp_signals, SIGHUP);
+    pthread_t guard;
+    if (pthread_sigmask(SIG_BLOCK, &temp_signals, NULL) != 0) return -1;
+    if (pthread_create(&guard, NULL, temp_guard, NULL) != 0) {
+        pthread_sigmask(SIG_UNBLOCK, &temp_signals, NULL);
+        return -1;
+    }
+    pthread_detach(guard);
+    return 0;
+}
+
+void lt_batch_stream_temp(const char *path)
+{
+    pthread_mutex_lock(&temp_lock);
+    free(temp_stream);
+    temp_stream = path ? strdup(path) : NULL;
+    pthread_mutex_unlock(&temp_lock);
 }
 
 /* ---- one input ------------------------------------------------------------------------ */
@@ -342,13 +508,19 @@ static char *error_record(const char *source, int page, int pages, const char *m
     cJSON *o = cJSON_CreateObject();
     if (!o) return NULL;
     cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME);
-    cJSON_AddStringToObject(o, "source", source);
+    char *clean = lt_utf8_clean(message); /* it names the file */
+    if (lt_json_add_source(o, source) || !clean) {
+        free(clean);
+        cJSON_Delete(o);
+        return NULL;
+    }
     if (page > 0)
         cJSON_AddNumberToObject(o, "page", page);
     else
         cJSON_AddNullToObject(o, "page");
     if (pages > 0) cJSON_AddNumberToObject(o, "pages", pages);
-    cJSON_AddStringToObject(o, "error", message);
+    cJSON_AddStringToObject(o, "error", clean);
+    free(clean);
     char *s = cJSON_PrintUnformatted(o);
     cJSON_Delete(o);
     return s;
@@ -371,38 +543,42 @@ static char *page_file(const char *dir, const char *name, int page, int pages, i
     return p;
 }
 
-/* Creates the folders leading to `path` (its last component is a file). */
+/* Creates the folders leading to `path` (its last component is a file); 0 or an errno. */
 static int make_parents(char *path)
 {
     for (char *s = strchr(path + 1, '/'); s; s = strchr(s + 1, '/')) {
         *s = 0;
-        int bad = mkdir(path, 0777) != 0 && errno != EEXIST;
+        int bad = mkdir(path, 0777) != 0 && errno != EEXIST ? errno : 0;
         *s = '/';
-        if (bad) return -1;
+        if (bad) return bad;
     }
     return 0;
 }
 
 /* Writes `json` and a newline to `path` through a temporary file (PATH.tmp) renamed into
  * place. The temporary name is the same in every run, so that what a killed run left of a
- * page is replaced when a resumed run does the page again. */
+ * page is replaced when a resumed run does the page again. Returns 0 or the errno of the
+ * step that failed. */
 static int write_page_file(char *path, const char *json)
 {
-    if (make_parents(path)) return -1;
+    int bad = make_parents(path);
+    if (bad) return bad;
     size_t n = strlen(path) + 8;
     char *tmp = malloc(n);
-    if (!tmp) return -1;
+    if (!tmp) return ENOMEM;
     snprintf(tmp, n, "%s.tmp", path);
+    temp_write_begin();
     FILE *fp = fopen(tmp, "wb");
-    int bad = !fp;
+    if (!fp) bad = errno;
     if (fp) {
-        bad = fputs(json, fp) < 0 || fputc('\n', fp) == EOF;
-        bad |= fclose(fp) != 0;
-        if (!bad) bad = rename(tmp, path) != 0;
+        if (fputs(json, fp) < 0 || fputc('\n', fp) == EOF) bad = errno ? errno : EIO;
+        if (fclose(fp) != 0 && !bad) bad = errno ? errno : EIO;
+        if (!bad && rename(tmp, path) != 0) bad = errno;
         if (bad) remove(tmp);
     }
+    temp_write_end();
     free(tmp);
-    return bad ? -1 : 0;
+    return bad;
 }
 
 /* Whether a page file from an earlier run is complete: a layout (not an error record) that
@@ -438,22 +614,25 @@ static int page_file_complete(const char *path, int format)
     return ok;
 }
 
-/* Hands one page's record to the stream or the output folder. */
-static void emit(result *r, const lt_batch_options *opt, const lt_input *in, int page, int pages,
-                 char *json)
+/* Hands one page's record to the stream or the output folder; -1 when its file could not
+ * be written (reported). */
+static int emit(result *r, const lt_batch_options *opt, const lt_input *in, int page, int pages,
+                char *json)
 {
     if (!opt->out_dir) {
         text_add(&r->records, json, strlen(json));
         text_add(&r->records, "\n", 1);
-        return;
+        return 0;
     }
     char *path = page_file(opt->out_dir, in->out_name, page, pages, opt->format);
-    if (!path || write_page_file(path, json)) {
+    const int bad = path ? write_page_file(path, json) : ENOMEM;
+    if (bad) {
         text_printf(&r->messages, "lineate: %s: cannot write: %s\n", path ? path : opt->out_dir,
-                    strerror(errno ? errno : ENOMEM));
+                    strerror(bad));
         r->write_failed = 1;
     }
     free(path);
+    return bad ? -1 : 0;
 }
 
 static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in, int page,
@@ -468,10 +647,21 @@ static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in
 
 void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg)
 {
-    if (strncmp(msg, name, strlen(name)) == 0)
-        snprintf(buf, n, "%s", msg);
-    else
-        snprintf(buf, n, "%s: page %d: %s", name, page, msg);
+    /* The library's messages name the file first, perhaps shortened in the middle. */
+    const size_t named = strlen(name) < 32 ? strlen(name) : 32;
+    if (strncmp(msg, name, named) == 0) {
+        lt_shorten_middle(buf, n, msg);
+        return;
+    }
+    const size_t len = strlen(name) + strlen(msg) + 32;
+    char *full = malloc(len);
+    if (!full) {
+        lt_shorten_middle(buf, n, msg);
+        return;
+    }
+    snprintf(full, len, "%s: page %d: %s", name, page, msg);
+    lt_shorten_middle(buf, n, full); /* a long name loses its middle, not the reason */
+    free(full);
 }
 
 /* One page of an opened input: its record (layout or error) and messages into *r. The source
@@ -513,9 +703,11 @@ static void process_page(const lt_input *in, const lt_batch_options *opt, lt_sou
         fail_page(r, opt, in, i + 1, pages, msg);
         return;
     }
-    emit(r, opt, in, i + 1, pages, json);
+    if (emit(r, opt, in, i + 1, pages, json) == 0)
+        r->done++;
+    else
+        r->failed++; /* analysed, but not written */
     free(json);
-    r->done++;
 }
 
 /* ---- the pool ------------------------------------------------------------------------- */
@@ -702,8 +894,10 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
                 pthread_cond_wait(&p.changed, &p.lock);
             pthread_mutex_unlock(&p.lock);
             if (r->records.len && !totals->write_failed &&
-                fwrite(r->records.data, 1, r->records.len, opt->out) != r->records.len)
+                fwrite(r->records.data, 1, r->records.len, opt->out) != r->records.len) {
                 totals->write_failed = 1;
+                totals->stream_errno = errno ? errno : EIO;
+            }
             if (r->records.failed || r->messages.failed) {
                 fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
                 r->failed++;

@@ -31,7 +31,8 @@ void lt_inputs_free(lt_inputs *in);
  * message on stderr naming both inputs. */
 int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const char *suffix);
 
-/* A page's message: "FILE: page N: reason", or the reason alone when it names the file. */
+/* A page's message: "FILE: page N: reason", or the reason alone when it names the file; a
+ * message longer than n - 1 bytes loses the middle of the file name, never the reason. */
 void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg);
 
 /* Output formats of the analyse command (--format). */
@@ -52,8 +53,9 @@ typedef struct lt_batch_options {
 } lt_batch_options;
 
 typedef struct lt_batch_totals {
-    long done, failed, skipped;
-    int write_failed; /* the stream or a page file could not be written */
+    long done, failed, skipped; /* pages written, failed (or not written), skipped by --resume */
+    int write_failed;           /* the stream or a page file could not be written */
+    int stream_errno;           /* why the stream could not be written, 0 when it could */
 } lt_batch_totals;
 
 /* Analyses every page of every input with opt->jobs threads. Each page gives one record: its
@@ -61,5 +63,12 @@ typedef struct lt_batch_totals {
  * stderr, one line each. In the XML formats a failed page gives no document (its message on
  * stderr and the exit status tell). */
 int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals);
+
+/* From now on SIGINT, SIGTERM and SIGHUP end the process only once no page file is half
+ * written, after removing the temporary file of the stream named by lt_batch_stream_temp.
+ * Call from the main thread before any other thread is started; 0 or -1. */
+int lt_batch_guard_signals(void);
+/* The stream's temporary file to remove on those signals (NULL: none any more). */
+void lt_batch_stream_temp(const char *path);
 
 #endif

@@ -222,26 +222,36 @@ int lt_cmd_analyze(int argc, char **argv)
         lt_inputs_free(&inputs);
         return LT_EXIT_USAGE;
     }
-    if (out_dir && mkdir(out_dir, 0777) != 0 && errno != EEXIST) {
+    struct stat st;
+    if (out_dir && ((mkdir(out_dir, 0777) != 0 && errno != EEXIST) || stat(out_dir, &st) != 0 ||
+                    (!S_ISDIR(st.st_mode) && (errno = ENOTDIR)))) {
         fprintf(stderr, "lineate: %s: %s\n", out_dir, strerror(errno));
         lt_inputs_free(&inputs);
         return LT_EXIT_OUTPUT;
     }
+    if (lt_batch_guard_signals()) {
+        fprintf(stderr, "lineate: cannot set up the signal handling\n");
+        lt_inputs_free(&inputs);
+        return LT_EXIT_FAILED;
+    }
     FILE *out = stdout;
     char *tmp_path = NULL;
-    struct stat st;
     if (output && strcmp(output, "-") != 0 && stat(output, &st) == 0 && !S_ISREG(st.st_mode)) {
         out = fopen(output, "wb"); /* a device or pipe: written in place, never replaced */
     } else if (output && strcmp(output, "-") != 0) {
-        size_t n = strlen(output) + 32;
+        /* PATH.tmp, renamed into place at the end; removed on SIGINT, SIGTERM and SIGHUP, and
+         * replaced by the next run if something harder stopped this one */
+        size_t n = strlen(output) + 8;
         tmp_path = malloc(n);
         if (tmp_path) {
-            snprintf(tmp_path, n, "%s.tmp.%ld", output, (long)getpid());
+            snprintf(tmp_path, n, "%s.tmp", output);
+            lt_batch_stream_temp(tmp_path);
             out = fopen(tmp_path, "wb");
         }
     }
     if (!out) {
         fprintf(stderr, "lineate: %s: %s\n", output, strerror(tmp_path ? errno : ENOMEM));
+        lt_batch_stream_temp(NULL);
         free(tmp_path);
         lt_inputs_free(&inputs);
         return LT_EXIT_OUTPUT;
@@ -260,24 +270,23 @@ int lt_cmd_analyze(int argc, char **argv)
                             format,
                             creation_time()};
     lt_batch_totals totals;
-    int write_failed = lt_batch_run(&inputs, &opt, &totals) != 0 || totals.write_failed;
+    if (lt_batch_run(&inputs, &opt, &totals) != 0) status = LT_EXIT_FAILED;
     lt_inputs_free(&inputs);
     if (totals.failed) status = LT_EXIT_FAILED;
-    if (fflush(out) != 0 || ferror(out)) write_failed = 1;
+    /* The stream's failure, told with the errno of the call that failed (page files that
+     * could not be written were reported as they failed). */
+    int stream_errno = totals.stream_errno;
+    errno = 0;
+    if (!stream_errno && (fflush(out) != 0 || ferror(out))) stream_errno = errno ? errno : EIO;
+    if (out != stdout && fclose(out) != 0 && !stream_errno) stream_errno = errno ? errno : EIO;
+    if (tmp_path && !stream_errno && rename(tmp_path, output) != 0) stream_errno = errno;
+    if (stream_errno)
+        fprintf(stderr, "lineate: %s: %s\n", out == stdout ? "standard output" : output,
+                strerror(stream_errno));
     if (tmp_path) {
-        if (fclose(out) != 0) write_failed = 1;
-        if (!write_failed && rename(tmp_path, output) != 0) write_failed = 1;
-        if (write_failed) {
-            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno ? errno : EIO));
-            remove(tmp_path);
-        }
+        if (stream_errno) remove(tmp_path);
+        lt_batch_stream_temp(NULL);
         free(tmp_path);
-    } else if (out != stdout) {
-        if (fclose(out) != 0) write_failed = 1;
-        if (write_failed)
-            fprintf(stderr, "lineate: %s: %s\n", output, strerror(errno ? errno : EIO));
-    } else if (write_failed) {
-        fprintf(stderr, "lineate: standard output: %s\n", strerror(errno ? errno : EIO));
     }
-    return write_failed ? LT_EXIT_OUTPUT : status;
+    return stream_errno || totals.write_failed ? LT_EXIT_OUTPUT : status;
 }

@@ -19,11 +19,26 @@ int lt_uf_find(int *parent, int i);
 void lt_uf_unite(int *parent, int a, int b);
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
 double lt_median(double *v, int n);
+/* Copies text into dst (size bytes with the NUL); text that does not fit loses a part of
+ * its first fifth, marked "...", so that its end (in a message: the end of a file name and
+ * the reason) is kept whole. UTF-8 characters are not cut. */
+void lt_shorten_middle(char *dst, size_t size, const char *text);
 /* 1 when dpi lies in LT_MIN_DPI..LT_MAX_DPI (0 for NaN and infinities). */
 int lt_dpi_plausible(double dpi);
 /* Records the resolution a file gave for img (0: none): kept when plausible, else ignored
  * and flagged in img->dpi_rejected. */
 void lt_image_set_file_dpi(lt_image *img, double dpi);
+
+/* ---- JSON text (json.c) ----------------------------------------------------------------- */
+struct cJSON;
+/* A copy of text (new string) with each byte that is not part of a valid UTF-8 sequence
+ * replaced by U+FFFD, so that it can go into JSON; NULL when out of memory. */
+char *lt_utf8_clean(const char *text);
+/* Adds "source" to the object o: the name when it is valid UTF-8, else the name cleaned as
+ * by lt_utf8_clean, with "source_bytes", the exact bytes percent-encoded (RFC 3986: every
+ * byte below 0x20, 0x7F and above, and '%' as %XX, upper-case hex). 0, or -1 when out of
+ * memory. */
+int lt_json_add_source(struct cJSON *o, const char *source);
 
 /* ---- TIFF (load_tiff.c) --------------------------------------------------------------- */
 /* Number of pages (directories) of a TIFF in memory. */

@@ -4,7 +4,70 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
+
+/* Length of the valid UTF-8 sequence at s (RFC 3629: no overlong forms, no surrogates,
+ * nothing above U+10FFFF), 0 when the byte at s does not start one. */
+static size_t utf8_sequence(const unsigned char *s)
+{
+    const unsigned c = s[0];
+    if (c < 0x80) return 1;
+    size_t n = c >= 0xc2 && c <= 0xdf ? 2 : c >= 0xe0 && c <= 0xef ? 3 : c >= 0xf0 && c <= 0xf4 ? 4 : 0;
+    if (n == 0) return 0;
+    /* the second byte's range depends on the first (RFC 3629, section 4) */
+    const unsigned lo = c == 0xe0 ? 0xa0 : c == 0xf0 ? 0x90 : 0x80;
+    const unsigned hi = c == 0xed ? 0x9f : c == 0xf4 ? 0x8f : 0xbf;
+    if (s[1] < lo || s[1] > hi) return 0;
+    for (size_t i = 2; i < n; i++)
+        if ((s[i] & 0xc0) != 0x80) return 0;
+    return n;
+}
+
+char *lt_utf8_clean(const char *text)
+{
+    const unsigned char *s = (const unsigned char *)text;
+    size_t n = 0;
+    for (size_t i = 0, k; s[i]; i += k ? k : 1)
+        n += (k = utf8_sequence(s + i)) ? k : 3;
+    char *out = malloc(n + 1), *o = out;
+    if (!out) return NULL;
+    for (size_t i = 0, k; s[i]; i += k ? k : 1) {
+        if ((k = utf8_sequence(s + i))) {
+            memcpy(o, s + i, k);
+            o += k;
+        } else {
+            memcpy(o, "\xef\xbf\xbd", 3); /* U+FFFD REPLACEMENT CHARACTER */
+            o += 3;
+        }
+    }
+    *o = '\0';
+    return out;
+}
+
+int lt_json_add_source(struct cJSON *o, const char *source)
+{
+    char *clean = lt_utf8_clean(source);
+    if (!clean) return -1;
+    const int exact = strcmp(clean, source) == 0;
+    int bad = !cJSON_AddStringToObject(o, "source", clean);
+    free(clean);
+    if (exact || bad) return bad ? -1 : 0;
+    const unsigned char *s = (const unsigned char *)source;
+    char *bytes = malloc(3 * strlen(source) + 1), *b = bytes;
+    if (!bytes) return -1;
+    for (; *s; s++) {
+        if (*s < 0x20 || *s >= 0x7f || *s == '%')
+            b += sprintf(b, "%%%02X", *s);
+        else
+            *b++ = (char)*s;
+    }
+    *b = '\0';
+    bad = !cJSON_AddStringToObject(o, "source_bytes", bytes);
+    free(bytes);
+    return bad ? -1 : 0;
+}
 
 static double round2(double v)
 {
@@ -50,7 +113,10 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
     cJSON *o = cJSON_CreateObject();
     if (!o) return NULL;
     cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME);
-    cJSON_AddStringToObject(o, "source", source ? source : "");
+    if (lt_json_add_source(o, source ? source : "")) {
+        cJSON_Delete(o);
+        return NULL;
+    }
     cJSON_AddNumberToObject(o, "page", page);
     cJSON_AddNumberToObject(o, "pages", pages);
     cJSON_AddNumberToObject(o, "width", l->width);

@@ -14,6 +14,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
+
+#define LT_FORMAT_PROBE_BYTES 12 /* the first bytes that tell an image format */
 
 struct lt_source {
     char *name;
@@ -46,29 +49,59 @@ const char *lt_source_format(const lt_source *src)
     }
 }
 
-/* Reads all of `fp` into a new buffer; fails beyond LT_MAX_FILE_BYTES. */
+/* Leptonica's IFF_* format of the first bytes of a file, IFF_UNKNOWN when it is no image
+ * format that lineate reads (or too short to tell). */
+static int format_of(const uint8_t *data, size_t size)
+{
+    l_int32 format = IFF_UNKNOWN;
+    if (size < LT_FORMAT_PROBE_BYTES || findFileFormatBuffer(data, &format)) return IFF_UNKNOWN;
+    return strcmp(lt_source_format(&(lt_source){.format = format}), "unknown") ? format
+                                                                              : IFF_UNKNOWN;
+}
+
+/* Reads all of `fp` into a new buffer. Fails beyond LT_MAX_FILE_BYTES, before reading when
+ * the file's size is known, else as the stream grows past it; and as soon as the first bytes
+ * show that the input is not an image, so that a stream of noise is not read to its end. */
 static int slurp(FILE *fp, const char *name, uint8_t **data, size_t *size, lt_error *err)
 {
-    size_t cap = 1 << 16, len = 0;
+    struct stat st;
+    const int sized = fstat(fileno(fp), &st) == 0 && S_ISREG(st.st_mode);
+    if (sized && st.st_size > LT_MAX_FILE_BYTES)
+        return lt_error_set(err, LT_ELIMIT, "%s: file larger than %lld bytes", name,
+                            (long long)LT_MAX_FILE_BYTES);
+    size_t cap = sized && st.st_size > 0 ? (size_t)st.st_size + 1 : 1 << 16, len = 0;
     uint8_t *buf = malloc(cap);
     if (!buf) return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+    int probed = 0;
     for (;;) {
         if (len == cap) {
-            if ((long long)cap >= LT_MAX_FILE_BYTES) {
+            if ((long long)cap > LT_MAX_FILE_BYTES) {
                 free(buf);
                 return lt_error_set(err, LT_ELIMIT, "%s: file larger than %lld bytes", name,
                                     (long long)LT_MAX_FILE_BYTES);
             }
-            uint8_t *bigger = realloc(buf, cap * 2);
+            size_t bigger_cap = 2 * cap;
+            if ((long long)bigger_cap > LT_MAX_FILE_BYTES + 1)
+                bigger_cap = (size_t)LT_MAX_FILE_BYTES + 1; /* one byte more tells "too large" */
+            uint8_t *bigger = realloc(buf, bigger_cap);
             if (!bigger) {
                 free(buf);
                 return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
             }
             buf = bigger;
-            cap *= 2;
+            cap = bigger_cap;
         }
-        size_t got = fread(buf + len, 1, cap - len, fp);
+        const size_t room = cap - len, first = 1 << 16; /* a first read small enough to probe */
+        size_t got = fread(buf + len, 1, probed || room < first ? room : first, fp);
         len += got;
+        if (!probed && len >= LT_FORMAT_PROBE_BYTES) {
+            probed = 1;
+            if (format_of(buf, len) == IFF_UNKNOWN) {
+                free(buf);
+                return lt_error_set(err, LT_EFORMAT, "%s: not an image file (unknown format)",
+                                    name);
+            }
+        }
         if (got == 0) break;
     }
     if (ferror(fp)) {
@@ -128,9 +161,8 @@ static int open_buffer(uint8_t *data, size_t size, const char *name, long max_pa
         free(data);
         return lt_error_set(err, LT_EFORMAT, "%s: empty file", name);
     }
-    l_int32 format = IFF_UNKNOWN;
-    if (size < 12 || findFileFormatBuffer(data, &format) ||
-        strcmp(lt_source_format(&(lt_source){.format = format}), "unknown") == 0) {
+    const int format = format_of(data, size);
+    if (format == IFF_UNKNOWN) {
         free(data);
         return lt_error_set(err, LT_EFORMAT, "%s: not an image file (unknown format)", name);
     }

@@ -17,12 +17,44 @@ int lt_version_number(void)
     return LT_VERSION_NUMBER;
 }
 
+void lt_shorten_middle(char *dst, size_t size, const char *text)
+{
+    const size_t n = strlen(text), mark = 3; /* "..." */
+    if (n < size) {
+        memcpy(dst, text, n + 1);
+        return;
+    }
+    if (size <= 2 * mark) { /* no room to cut: the end, which holds the reason */
+        if (size) snprintf(dst, size, "%s", text + n - (size - 1));
+        return;
+    }
+    size_t head = (size - 1 - mark) / 5, tail = size - 1 - mark - head;
+    while (head > 0 && ((unsigned char)text[head] & 0xc0) == 0x80) /* whole UTF-8 characters */
+        head--;
+    size_t from = n - tail;
+    while (from < n && ((unsigned char)text[from] & 0xc0) == 0x80)
+        from++;
+    memcpy(dst, text, head);
+    memcpy(dst + head, "...", mark);
+    memcpy(dst + head + mark, text + from, n - from + 1);
+}
+
 int lt_error_set(lt_error *err, int code, const char *fmt, ...)
 {
     if (err && err->code == 0) {
-        va_list ap;
+        va_list ap, again;
         va_start(ap, fmt);
-        vsnprintf(err->message, sizeof err->message, fmt, ap);
+        va_copy(again, ap);
+        /* A message that does not fit (a long file name) loses the middle of its name, never
+         * the end of the name nor the reason after it. */
+        const int n = vsnprintf(err->message, sizeof err->message, fmt, ap);
+        char *full = n >= (int)sizeof err->message ? malloc((size_t)n + 1) : NULL;
+        if (full) {
+            vsnprintf(full, (size_t)n + 1, fmt, again);
+            lt_shorten_middle(err->message, sizeof err->message, full);
+            free(full);
+        }
+        va_end(again);
         va_end(ap);
         /* One line whatever the input put in it (file names, strings from a JSON file). */
         for (char *c = err->message; *c; c++)
