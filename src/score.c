@@ -131,6 +131,38 @@ static int cmp_match_truth(const void *a, const void *b)
     return (x->truth > y->truth) - (x->truth < y->truth);
 }
 
+/* The pairs (truth, pred) with IoU >= 0.5, in truth order, into out[] (NULL: only counted),
+ * found in each truth box's window of the preds sorted by top (window_start). Returns their
+ * number, or a negative LT_E* code past LT_SCORE_MAX_PAIR_TESTS pairs examined or
+ * LT_SCORE_MAX_CANDIDATES found. */
+static long find_candidates(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                            const sorted_ref *ps, int npred, candidate *out, lt_error *err)
+{
+    long ncand = 0, tests = 0;
+    for (int t = 0; t < ntruth; t++) {
+        const lt_box *tb = &truth[t].box;
+        int64_t at = lt_box_area(tb);
+        if (at == 0) continue;
+        for (int k = window_start(ps, npred, tb); k < npred && ps[k].top < tb->bottom; k++) {
+            if (++tests > LT_SCORE_MAX_PAIR_TESTS)
+                return lt_error_set(err, LT_ELIMIT, "match: more than %ld overlapping box pairs",
+                                    LT_SCORE_MAX_PAIR_TESTS);
+            int p = ps[k].index;
+            int64_t ap = lt_box_area(&pred[p].box);
+            if (ap == 0) continue;
+            int64_t inter = lt_box_intersection(tb, &pred[p].box);
+            int64_t uni = at + ap - inter;
+            if (inter == 0 || 2 * inter < uni) continue;
+            if (ncand == LT_SCORE_MAX_CANDIDATES)
+                return lt_error_set(err, LT_ELIMIT, "match: more than %d box pairs with IoU >= 0.5",
+                                    LT_SCORE_MAX_CANDIDATES);
+            if (out) out[ncand] = (candidate){t, p, inter, uni};
+            ncand++;
+        }
+    }
+    return ncand;
+}
+
 int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred, int npred,
                    lt_line_match **matches, int *nmatches, lt_error *err)
 {
@@ -148,45 +180,20 @@ int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line
         rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
         goto done;
     }
-    /* Candidates: every pred with IoU >= 0.5 lies in the truth box's window (window_start). */
-    long ncand = 0, capcand = 0, tests = 0;
-    for (int t = 0; t < ntruth; t++) {
-        const lt_box *tb = &truth[t].box;
-        int64_t at = lt_box_area(tb);
-        if (at == 0) continue;
-        for (int k = window_start(ps, npred, tb); k < npred && ps[k].top < tb->bottom; k++) {
-            if (++tests > LT_SCORE_MAX_PAIR_TESTS) {
-                rc = lt_error_set(err, LT_ELIMIT, "match: more than %ld overlapping box pairs",
-                                  LT_SCORE_MAX_PAIR_TESTS);
-                goto done;
-            }
-            int p = ps[k].index;
-            int64_t ap = lt_box_area(&pred[p].box);
-            if (ap == 0) continue;
-            int64_t inter = lt_box_intersection(tb, &pred[p].box);
-            int64_t uni = at + ap - inter;
-            if (inter == 0 || 2 * inter < uni) continue;
-            if (ncand == capcand) {
-                if (capcand >= LT_SCORE_MAX_CANDIDATES) {
-                    rc = lt_error_set(err, LT_ELIMIT,
-                                      "match: more than %d box pairs with IoU >= 0.5",
-                                      LT_SCORE_MAX_CANDIDATES);
-                    goto done;
-                }
-                long ncap = capcand ? capcand * 2 : 256;
-                if (ncap > LT_SCORE_MAX_CANDIDATES) ncap = LT_SCORE_MAX_CANDIDATES;
-                candidate *nc = realloc(cand, (size_t)ncap * sizeof *nc);
-                if (!nc) {
-                    rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
-                    goto done;
-                }
-                cand = nc;
-                capcand = ncap;
-            }
-            cand[ncand++] = (candidate){t, p, inter, uni};
-        }
+    /* Counted first, so that the limits are checked before anything is stored, and the
+     * candidates then take exactly the memory they need. */
+    long ncand = find_candidates(truth, ntruth, pred, ps, npred, NULL, err);
+    if (ncand < 0) {
+        rc = (int)ncand;
+        goto done;
     }
     if (ncand == 0) goto done;
+    cand = malloc((size_t)ncand * sizeof *cand);
+    if (!cand) {
+        rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
+        goto done;
+    }
+    find_candidates(truth, ntruth, pred, ps, npred, cand, err);
     qsort(cand, (size_t)ncand, sizeof *cand, cmp_candidate);
     int cap = ntruth < npred ? ntruth : npred;
     out = malloc((size_t)cap * sizeof *out);

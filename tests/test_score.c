@@ -8,7 +8,11 @@
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <errno.h>
 #include <string.h>
+#include <sys/resource.h>
+#include <sys/wait.h>
+#include <time.h>
 #include <unistd.h>
 
 static int failures;
@@ -695,6 +699,60 @@ static void test_cover_limit(void)
     free(lines);
 }
 
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return ts.tv_sec + ts.tv_nsec * 1e-9;
+}
+
+/* The candidate bound is checked before the candidates are stored: 1,000,000 truth lines on
+ * one box under as many predictions of the same box (10^12 candidate pairs) are refused with
+ * LT_ELIMIT, quickly, within 64 MB more than the inputs take (the 4 million candidates that
+ * the limit allows would take 96 MB). The memory bound is checked in a child process under
+ * RLIMIT_AS, which the sanitizers' shadow memory rules out. */
+static void test_match_limit(void)
+{
+    const int n = 1000000;
+    lt_scored_line *lines = calloc((size_t)n, sizeof *lines);
+    if (!lines) {
+        fail("out of memory");
+        return;
+    }
+    for (int i = 0; i < n; i++)
+        lines[i].box = B(0, 0, 100, 10);
+    const int sanitized = getenv("LT_SANITIZED") != NULL;
+    const double t0 = now_s();
+    pid_t child = sanitized ? 0 : fork();
+    if (child == 0) {
+        long pages = 0;
+        FILE *statm = fopen("/proc/self/statm", "r");
+        if (!sanitized && statm && fscanf(statm, "%ld", &pages) == 1) {
+            const rlim_t bytes = (rlim_t)pages * (rlim_t)sysconf(_SC_PAGESIZE) + (64u << 20);
+            setrlimit(RLIMIT_AS, &(struct rlimit){bytes, bytes});
+        }
+        if (statm) fclose(statm);
+        lt_line_match *m = NULL;
+        int nm = 0;
+        lt_error err = {0};
+        int rc = lt_match_lines(lines, n, lines, n, &m, &nm, &err);
+        int ok = rc == LT_ELIMIT && strstr(err.message, "IoU >= 0.5") && !m && nm == 0;
+        if (!ok) fprintf(stderr, "FAIL: 10^12 candidates: rc %d, '%s'\n", rc, err.message);
+        free(m);
+        if (!sanitized) _exit(ok ? 0 : 1);
+        if (!ok) failures++;
+    } else if (child > 0) {
+        int status = 0;
+        waitpid(child, &status, 0);
+        CHECK(WIFEXITED(status) && WEXITSTATUS(status) == 0,
+              "10^12 candidates: refused with LT_ELIMIT within 64 MB (status %d)", status);
+    } else {
+        fail("fork: %s", strerror(errno));
+    }
+    CHECK(now_s() - t0 < 5, "10^12 candidates: refused in %.1f s", now_s() - t0);
+    free(lines);
+}
+
 static void test_skew(void)
 {
     lt_scored_line t[1], p[1];
@@ -1149,6 +1207,7 @@ int main(void)
     test_cover_merged();
     test_cover_threshold();
     test_cover_limit();
+    test_match_limit();
     test_skew();
     test_greedy();
     test_against_brute_force();
