@@ -164,7 +164,13 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     if (rc) goto done;
     rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->height, &arr, err);
     if (rc) goto done;
-    if (assemble(res, raw, arr, comps, &frame)) rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+    if (assemble(res, raw, arr, comps, &frame)) {
+        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+        goto done;
+    }
+    /* 7. An outline of each line's ink. */
+    rc = lt_line_polygons(raw, arr->order, arr->nlines, comps, res->text_height_px, &frame, res,
+                          err);
 done:
     lt_image_free(ink_own);
     lt_image_free(deskewed_own);

@@ -96,6 +96,17 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_param
                    lt_raw_lines **out, lt_error *err);
 void lt_raw_lines_free(lt_raw_lines *l);
 
+/* ---- line polygons (polygon.c) ----------------------------------------------------------- */
+/* Sets lines[i].polygon / npolygon of `out` (its lines[0..nlines) are raw lines order[i]) to
+ * an outline of each line's ink: the envelope of its components' boxes (a component belongs
+ * to the line whose box holds its centre) over strips about a text height wide, merged where
+ * they differ by less than half a text height, each strip holding at least the x-height
+ * band; the outline lies within the line's quad. The points live in out->polygon_points.
+ * `th` is the text height in pixels; a page without text gets no polygons. */
+int lt_line_polygons(const lt_raw_lines *raw, const int *order, int nlines,
+                     const lt_components *c, double th, const lt_frame *frame, lt_layout *out,
+                     lt_error *err);
+
 /* ---- blocks and order (blocks.c, order.c) --------------------------------------------- */
 /* Node of the XY-cut tree. Leaves holding lines are blocks (pictures take part in the cuts
  * as obstacles, so a leaf may hold none); children are in reading order (top to bottom for a

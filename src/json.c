@@ -146,6 +146,7 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
         cJSON_AddItemToObject(j, "box", box_json(&ln->box));
         cJSON_AddItemToObject(j, "quad", points_json(ln->quad, 4));
         cJSON_AddItemToObject(j, "baseline", points_json(ln->baseline, 2));
+        if (ln->npolygon > 0) cJSON_AddItemToObject(j, "polygon", points_json(ln->polygon, ln->npolygon));
         cJSON_AddNumberToObject(j, "xheight_px", round2(ln->xheight_px));
         cJSON_AddNumberToObject(j, "block", ln->block);
         cJSON_AddItemToArray(lines, j);

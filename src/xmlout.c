@@ -122,8 +122,8 @@ static char *points_text(const lt_point *p, int n, int outward, int width, int h
     size_t len = 0;
     s[0] = '\0';
     for (int i = 0; i < n; i++) {
-        long x = outward ? clamp_pixel(p[i].x, p[i].x < cx, width)
-                         : clamp_pixel(p[i].x + 0.5, 1, width);
+        long x =
+            outward ? clamp_pixel(p[i].x, p[i].x < cx, width) : clamp_pixel(p[i].x + 0.5, 1, width);
         long y = outward ? clamp_pixel(p[i].y, p[i].y < cy, height)
                          : clamp_pixel(p[i].y + 0.5, 1, height);
         len += (size_t)snprintf(s + len, cap - len, "%s%ld,%ld", i ? " " : "", x, y);
@@ -217,8 +217,7 @@ static int page_text_region(xmlNodePtr parent, xmlNsPtr ns, const lt_layout *l, 
         const lt_point *outline = line_outline(ln, &n);
         if (page_coords(t, ns, outline, n, l->width, l->height)) return -1;
         xmlNodePtr base = child(t, ns, "Baseline", NULL);
-        if (!base || set_points(base, "points", ln->baseline, 2, 0, l->width, l->height))
-            return -1;
+        if (!base || set_points(base, "points", ln->baseline, 2, 0, l->width, l->height)) return -1;
     }
     return 0;
 }
@@ -294,12 +293,12 @@ char *lt_layout_to_page_xml(const lt_layout *l, const char *source, int page, in
                 if (!table_node[t]) {
                     table_node[t] = child(pg, ns, "TableRegion", NULL);
                     if (!table_node[t]) {
- bad = 1;
- break;
- }
+                        bad = 1;
+                        break;
+                    }
                     set_attr_id(table_node[t], "id", "r", t + 1);
-                    bad |= page_coords(table_node[t], ns, l->blocks[t].quad, 4, l->width,
-                                       l->height);
+                    bad |=
+                        page_coords(table_node[t], ns, l->blocks[t].quad, 4, l->width, l->height);
                 }
                 parent = table_node[t];
             }
@@ -311,9 +310,9 @@ char *lt_layout_to_page_xml(const lt_layout *l, const char *source, int page, in
                                               "TableRegion"};
         xmlNodePtr r = child(pg, ns, element[b->kind], NULL);
         if (!r) {
- bad = 1;
- break;
- }
+            bad = 1;
+            break;
+        }
         set_attr_id(r, "id", "r", k + 1);
         bad |= page_coords(r, ns, b->quad, 4, l->width, l->height);
     }
@@ -452,9 +451,9 @@ char *lt_layout_to_alto(const lt_layout *l, const char *source, int page, int pa
                 if (open_table_index != t || space->last != open_table) {
                     open_table = child(space, ns, "ComposedBlock", NULL);
                     if (!open_table) {
- bad = 1;
- break;
- }
+                        bad = 1;
+                        break;
+                    }
                     set_attr_id(open_table, "ID", "t", ++ncomposed);
                     set_attr(open_table, "TYPE", "table");
                     alto_position(open_table, &l->blocks[t].box);
@@ -475,9 +474,9 @@ char *lt_layout_to_alto(const lt_layout *l, const char *source, int page, int pa
             e = child(space, ns, "GraphicalElement", NULL);
         }
         if (!e) {
- bad = 1;
- break;
- }
+            bad = 1;
+            break;
+        }
         set_attr_id(e, "ID", "b", k + 1);
         alto_position(e, &b->box);
     }

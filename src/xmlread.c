@@ -12,7 +12,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define MAX_GROUP_DEPTH 64 /* nesting of reading-order groups; deeper is not a real page */
+#define MAX_GROUP_DEPTH 64   /* nesting of reading-order groups; deeper is not a real page */
 #define MAX_DOCUMENTS 100000 /* XML documents in one file */
 
 /* ---- helpers --------------------------------------------------------------------------- */
@@ -55,11 +55,11 @@ static int attr_number(xmlNodePtr n, const char *name, double *out)
 /* ---- one document ------------------------------------------------------------------------ */
 
 typedef struct xline {
-    int page;    /* index of its page in the document */
+    int page; /* index of its page in the document */
     lt_box box;
     lt_point quad[4];
     int has_quad;
-    int placed;   /* already put into the reading order */
+    int placed; /* already put into the reading order */
 } xline;
 
 typedef struct idref {
@@ -202,8 +202,8 @@ static int alto_line(reader *r, xmlNodePtr tl, int page, double skew_deg)
     for (int k = 0; k < 4; k++) {
         int got = attr_number(tl, keys[k], &v[k]);
         if (got < 0 || (got && fabs(v[k]) > LT_SCORE_MAX_COORD))
-            return fail(r, LT_EPARSE, "a TextLine has a position that is not a number in range: ",
-                        keys[k]);
+            return fail(r, LT_EPARSE,
+                        "a TextLine has a position that is not a number in range: ", keys[k]);
         have += got;
     }
     if (have == 4 && v[2] >= 0 && v[3] >= 0)
@@ -294,7 +294,8 @@ static int cmp_indexed(const void *a, const void *b)
  * the order. */
 static int walk_group(reader *r, xmlNodePtr g, int unordered, int depth)
 {
-    if (depth > MAX_GROUP_DEPTH) return fail(r, LT_ELIMIT, "reading-order groups nested too deeply", NULL);
+    if (depth > MAX_GROUP_DEPTH)
+        return fail(r, LT_ELIMIT, "reading-order groups nested too deeply", NULL);
     long n = 0;
     for (xmlNodePtr c = g->children; c; c = c->next)
         n += c->type == XML_ELEMENT_NODE;
@@ -370,8 +371,9 @@ static int page_size(reader *r, xmlNodePtr n, const char *wkey, const char *hkey
     double w = 0, h = 0;
     if (attr_number(n, wkey, &w) != 1 || attr_number(n, hkey, &h) != 1 || w < 1 || h < 1 ||
         w > LT_SCORE_MAX_COORD || h > LT_SCORE_MAX_COORD)
-        return lt_error_set(r->err, LT_EPARSE, "%s: document %d: the page has no %s and %s in 1..%d",
-                            r->name, r->doc, wkey, hkey, LT_SCORE_MAX_COORD);
+        return lt_error_set(r->err, LT_EPARSE,
+                            "%s: document %d: the page has no %s and %s in 1..%d", r->name, r->doc,
+                            wkey, hkey, LT_SCORE_MAX_COORD);
     pg->width = (int)ceil(w);
     pg->height = (int)ceil(h);
     return 0;
@@ -426,14 +428,14 @@ static int read_alto_doc(reader *r, xmlNodePtr root, lt_scored_page **pages, int
     xmlChar *unit = xmlNodeGetContent(first_child(desc, "MeasurementUnit"));
     int pixel = unit && strcmp((const char *)unit, "pixel") == 0;
     if (!pixel) {
-        int rc = fail(r, LT_EPARSE, "ALTO measurement unit is not pixel: ",
-                      unit ? (const char *)unit : "(none)");
+        int rc = fail(r, LT_EPARSE,
+                      "ALTO measurement unit is not pixel: ", unit ? (const char *)unit : "(none)");
         xmlFree(unit);
         return rc;
     }
     xmlFree(unit);
-    xmlChar *file = xmlNodeGetContent(
-        first_child(first_child(desc, "sourceImageInformation"), "fileName"));
+    xmlChar *file =
+        xmlNodeGetContent(first_child(first_child(desc, "sourceImageInformation"), "fileName"));
     xmlNodePtr layout = first_child(root, "Layout");
     int n = 0;
     for (xmlNodePtr c = layout ? layout->children : NULL; c; c = c->next)
@@ -477,8 +479,8 @@ static int read_document(const char *data, size_t size, const char *name, int do
     xmlParserCtxtPtr ctxt = xmlNewParserCtxt();
     if (!ctxt) return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
     xmlDocPtr xdoc = xmlCtxtReadMemory(ctxt, data, (int)size, name, NULL,
-                                       XML_PARSE_NONET | XML_PARSE_NOERROR |
-                                           XML_PARSE_NOWARNING | XML_PARSE_NOCDATA);
+                                       XML_PARSE_NONET | XML_PARSE_NOERROR | XML_PARSE_NOWARNING |
+                                           XML_PARSE_NOCDATA);
     if (!xdoc) {
         const xmlError *e = xmlCtxtGetLastError(ctxt);
         char msg[200] = "not well-formed XML";
@@ -546,8 +548,8 @@ int lt_scored_pages_parse_xml(const char *data, size_t size, const char *name,
         }
         size_t end = next ? (size_t)(next - data) : size;
         if (++ndoc > MAX_DOCUMENTS) {
-            rc = lt_error_set(err, LT_ELIMIT, "%s: more than %d XML documents", name,
-                              MAX_DOCUMENTS);
+            rc =
+                lt_error_set(err, LT_ELIMIT, "%s: more than %d XML documents", name, MAX_DOCUMENTS);
             break;
         }
         lt_scored_page *pg;

@@ -48,7 +48,8 @@ check "every ALTO document validates against alto-4-4.xsd" \
     test "$(grep -c ' validates$' alto.valid)" -eq "$(nlines alto.list)"
 grep -v ' validates$' page.valid alto.valid | head -n 5
 
-# Content: the same lines, regions and order as the JSON of the same run.
+# Content: the same lines (Coords the JSON polygon), regions and order as the JSON of the same
+# run.
 "$python" - json page alto <<'PY'
 import glob, json, os, sys
 import xml.etree.ElementTree as ET
@@ -84,11 +85,12 @@ for jpath in sorted(glob.glob(jdir + "/**/*.json", recursive=True)):
        pics != sum(b["kind"] == "picture" for b in lay["blocks"]):
         problems.append("PAGE separators / images")
     for l, j in zip(page_lines, lay["lines"]):
-        xs = [int(p.split(",")[0]) for p in l.find(P + "Coords").get("points").split()]
-        ys = [int(p.split(",")[1]) for p in l.find(P + "Coords").get("points").split()]
-        b = j["box"]
-        if abs(min(xs) - b[0]) > 1 or abs(min(ys) - b[1]) > 1 or abs(max(xs) - b[2]) > 1 or abs(max(ys) - b[3]) > 1:
-            problems.append("PAGE line outside its JSON box: %s vs %s" % ((min(xs), min(ys), max(xs), max(ys)), b))
+        # Coords: the line's polygon (its quad when it has none), in whole pixels
+        got = [tuple(map(int, p.split(","))) for p in l.find(P + "Coords").get("points").split()]
+        want = j.get("polygon", j["quad"])
+        if len(got) != len(want) or any(abs(g[0] - w[0]) > 1 or abs(g[1] - w[1]) > 1
+                                         for g, w in zip(got, want) if 0 < w[0] < lay["width"] and 0 < w[1] < lay["height"]):
+            problems.append("PAGE Coords %s are not the JSON outline %s" % (got[:4], want[:4]))
             break
     if len(alto_lines) != len(lay["lines"]):
         problems.append("ALTO lines %d, JSON %d" % (len(alto_lines), len(lay["lines"])))
