@@ -503,11 +503,13 @@ typedef struct result {
 } result;
 
 /* The error record of a page: format, source, page (0 when the file did not open), error. */
-static char *error_record(const char *source, int page, int pages, const char *message)
+static char *error_record(const char *format_name, const char *source, int page, int pages,
+                          const char *message)
 {
     cJSON *o = cJSON_CreateObject();
     if (!o) return NULL;
-    cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME);
+    cJSON_AddStringToObject(o, "format", format_name);
+    if (strcmp(format_name, LT_FORMAT_NAME) != 0) cJSON_AddStringToObject(o, "kind", "error");
     char *clean = lt_utf8_clean(message); /* it names the file */
     if (lt_json_add_source(o, source) || !clean) {
         free(clean);
@@ -530,21 +532,36 @@ static char *error_record(const char *source, int page, int pages, const char *m
 static const char *const format_extension[] = {"json", "page.xml", "alto.xml"};
 
 /* Path of a page's file in the output folder (new string). */
-static char *page_file(const char *dir, const char *name, int page, int pages, int format)
+static char *page_file(const lt_batch_options *opt, const char *name, int page, int pages)
 {
-    const char *ext = format_extension[format];
-    size_t n = strlen(dir) + strlen(name) + strlen(ext) + 32;
+    const char *ext = opt->task ? opt->task->suffix : format_extension[opt->format];
+    size_t n = strlen(opt->out_dir) + strlen(name) + strlen(ext) + 32;
     char *p = malloc(n);
     if (!p) return NULL;
     if (pages <= 1)
-        snprintf(p, n, "%s/%s.%s", dir, name, ext);
+        snprintf(p, n, "%s/%s.%s", opt->out_dir, name, ext);
     else
-        snprintf(p, n, "%s/%s.p%d.%s", dir, name, page, ext);
+        snprintf(p, n, "%s/%s.p%d.%s", opt->out_dir, name, page, ext);
     return p;
 }
 
-/* Creates the folders leading to `path` (its last component is a file); 0 or an errno. */
-static int make_parents(char *path)
+/* The whole of a file as a string in t (t->failed when it could not be read whole). */
+static void read_text_file(const char *path, text *t)
+{
+    FILE *fp = fopen(path, "rb");
+    if (!fp) {
+        t->failed = 1;
+        return;
+    }
+    char buf[65536];
+    size_t got;
+    while ((got = fread(buf, 1, sizeof buf, fp)) > 0)
+        text_add(t, buf, got);
+    if (ferror(fp)) t->failed = 1;
+    fclose(fp);
+}
+
+int lt_make_parents(char *path)
 {
     for (char *s = strchr(path + 1, '/'); s; s = strchr(s + 1, '/')) {
         *s = 0;
@@ -561,7 +578,7 @@ static int make_parents(char *path)
  * step that failed. */
 static int write_page_file(char *path, const char *json)
 {
-    int bad = make_parents(path);
+    int bad = lt_make_parents(path);
     if (bad) return bad;
     size_t n = strlen(path) + 8;
     char *tmp = malloc(n);
@@ -584,9 +601,10 @@ static int write_page_file(char *path, const char *json)
 /* Whether a page file from an earlier run is complete: a layout (not an error record) that
  * parses as one JSON object. Files are only ever renamed into place whole, so a partial file
  * cannot exist; this also rejects a file edited or damaged since. */
-static int page_file_complete(const char *path, int format)
+static int page_file_complete(const char *path, const lt_batch_options *opt)
 {
-    if (format != LT_OUTPUT_JSON) { /* a well-formed document whose root is the format's */
+    const int format = opt->format;
+    if (!opt->task && format != LT_OUTPUT_JSON) { /* a well-formed document whose root is the format's */
         xmlDocPtr doc = xmlReadFile(path, NULL, XML_PARSE_NONET | XML_PARSE_NOERROR |
                                                     XML_PARSE_NOWARNING);
         xmlNodePtr root = doc ? xmlDocGetRootElement(doc) : NULL;
@@ -595,16 +613,12 @@ static int page_file_complete(const char *path, int format)
         xmlFreeDoc(doc);
         return ok;
     }
-    FILE *fp = fopen(path, "rb");
-    if (!fp) return 0;
     text t = {0};
-    char buf[65536];
-    size_t got;
-    while ((got = fread(buf, 1, sizeof buf, fp)) > 0)
-        text_add(&t, buf, got);
-    fclose(fp);
+    read_text_file(path, &t);
     int ok = 0;
-    if (!t.failed && t.data) {
+    if (!t.failed && t.data && opt->task) {
+        ok = opt->task->complete(opt->task->ctx, t.data);
+    } else if (!t.failed && t.data) {
         cJSON *o = cJSON_Parse(t.data);
         ok = cJSON_IsObject(o) && cJSON_IsArray(cJSON_GetObjectItemCaseSensitive(o, "lines")) &&
              !cJSON_GetObjectItemCaseSensitive(o, "error");
@@ -624,7 +638,7 @@ static int emit(result *r, const lt_batch_options *opt, const lt_input *in, int 
         text_add(&r->records, "\n", 1);
         return 0;
     }
-    char *path = page_file(opt->out_dir, in->out_name, page, pages, opt->format);
+    char *path = page_file(opt, in->out_name, page, pages);
     const int bad = path ? write_page_file(path, json) : ENOMEM;
     if (bad) {
         text_printf(&r->messages, "lineate: %s: cannot write: %s\n", path ? path : opt->out_dir,
@@ -639,7 +653,11 @@ static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in
                       int pages, const char *message)
 {
     text_printf(&r->messages, "lineate: %s\n", message);
-    char *rec = opt->format == LT_OUTPUT_JSON ? error_record(in->path, page, pages, message) : NULL;
+    char *rec = opt->task                     ? error_record(opt->task->format_name, in->path, page,
+                                                             pages, message)
+                : opt->format == LT_OUTPUT_JSON ? error_record(LT_FORMAT_NAME, in->path, page, pages,
+                                                             message)
+                                                : NULL;
     if (rec) emit(r, opt, in, page > 0 ? page : 1, pages, rec);
     free(rec);
     r->failed++;
@@ -664,14 +682,39 @@ void lt_page_message(char *buf, size_t n, const char *name, int page, const char
     free(full);
 }
 
+/* A page task's work on a decoded page: its record, or an error record. */
+static void run_task(const lt_input *in, const lt_batch_options *opt, const char *name,
+                     lt_image **img, int page, int pages, result *r)
+{
+    lt_error err = {0};
+    char *record = NULL, msg[512];
+    int rc = opt->task->page_record(opt->task->ctx, in, page, pages, img, &record, &err);
+    if (rc == 0 || record) {
+        if (record) emit(r, opt, in, page, pages, record);
+        if (rc == 0) r->done++;
+    }
+    if (rc) {
+        lt_page_message(msg, sizeof msg, name, page, err.message[0] ? err.message : "failed");
+        text_printf(&r->messages, "lineate: %s\n", msg);
+        if (!record) {
+            char *rec = error_record(opt->task->format_name, in->path, page, pages, msg);
+            if (rec) emit(r, opt, in, page, pages, rec);
+            free(rec);
+        }
+        r->failed++;
+        if (rc == -2) r->write_failed = 1;
+    }
+    free(record);
+}
+
 /* One page of an opened input: its record (layout or error) and messages into *r. The source
  * is shared by the workers on the input's pages; `read_lock` serialises the decoding. */
 static void process_page(const lt_input *in, const lt_batch_options *opt, lt_source *src,
                          pthread_mutex_t *read_lock, int i, int pages, result *r)
 {
     if (opt->out_dir && opt->resume) {
-        char *path = page_file(opt->out_dir, in->out_name, i + 1, pages, opt->format);
-        int complete = path && page_file_complete(path, opt->format);
+        char *path = page_file(opt, in->out_name, i + 1, pages);
+        int complete = path && page_file_complete(path, opt);
         free(path);
         if (complete) {
             r->skipped++;
@@ -685,6 +728,11 @@ static void process_page(const lt_input *in, const lt_batch_options *opt, lt_sou
     int rc = lt_source_read_page(src, i, opt->params->max_pixels, &img, &perr);
     pthread_mutex_unlock(read_lock);
     char msg[512];
+    if (rc == 0 && opt->task) {
+        run_task(in, opt, lt_source_name(src), &img, i + 1, pages, r);
+        lt_image_free(img);
+        return;
+    }
     if (rc || lt_analyze_consume(&img, opt->params, &layout, &perr)) {
         lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
         fail_page(r, opt, in, i + 1, pages, msg);
@@ -840,6 +888,24 @@ static void report_progress(const lt_batch_options *opt, const lt_batch_totals *
     }
 }
 
+/* Copies the file of a page, done or skipped, to the merged stream. 0, or -1 with a message
+ * on stderr. */
+static int merge_page_file(const lt_batch_options *opt, const lt_input *in, int page, int pages)
+{
+    char *path = page_file(opt, in->out_name, page, pages);
+    text t = {0};
+    if (path) read_text_file(path, &t);
+    int bad = !path || t.failed || !t.data;
+    if (bad)
+        fprintf(stderr, "lineate: %s: cannot read back: %s\n", path ? path : opt->out_dir,
+                strerror(errno ? errno : ENOMEM));
+    else if (fwrite(t.data, 1, t.len, opt->out) != t.len)
+        bad = 1; /* the caller reports the stream */
+    free(t.data);
+    free(path);
+    return bad ? -1 : 0;
+}
+
 int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals)
 {
     memset(totals, 0, sizeof *totals);
@@ -902,6 +968,9 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
                 fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
                 r->failed++;
             }
+            if (opt->merge && !r->write_failed && !totals->write_failed &&
+                merge_page_file(opt, &in->items[k], i + 1, st->pages))
+                totals->write_failed = 1;
             if (r->messages.len) fputs(r->messages.data, stderr);
             totals->done += r->done;
             totals->failed += r->failed;

@@ -31,12 +31,35 @@ void lt_inputs_free(lt_inputs *in);
  * message on stderr naming both inputs. */
 int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const char *suffix);
 
+/* Creates the folders leading to `path` (its last component is a file; `path` is changed
+ * while it works and restored). 0, or the errno of the step that failed. */
+int lt_make_parents(char *path);
+
 /* A page's message: "FILE: page N: reason", or the reason alone when it names the file; a
  * message longer than n - 1 bytes loses the middle of the file name, never the reason. */
 void lt_page_message(char *buf, size_t n, const char *name, int page, const char *msg);
 
 /* Output formats of the analyse command (--format). */
 enum { LT_OUTPUT_JSON = 0, LT_OUTPUT_PAGE, LT_OUTPUT_ALTO };
+
+/* The work of a command other than the analysis on each decoded page (the crop command's),
+ * done by the batch's worker threads, several pages at once. */
+typedef struct lt_page_task {
+    const char *format_name; /* "format" of the task's error records */
+    const char *suffix;      /* ends the name of a page's file in the output folder */
+    /* Makes the record of page `page` (from 1) of the `pages` of `in` from its decoded image
+     * (*img: the task may free it and set it to NULL): one or more JSON lines, without the
+     * last newline, as a new string in *record. Returns 0; -1 when the page failed (a record
+     * telling so may still be given, else the batch writes an error record), the reason in
+     * err (without the file's name); -2 when an output file could not be written, which
+     * makes the run's exit status 3. */
+    int (*page_record)(void *ctx, const lt_input *in, int page, int pages, lt_image **img,
+                       char **record, lt_error *err);
+    /* Whether `content`, the text of a page's file from an earlier run, is a complete record
+     * of a page done (for --resume). */
+    int (*complete)(void *ctx, const char *content);
+    void *ctx;
+} lt_page_task;
 
 typedef struct lt_batch_options {
     const lt_params *params;
@@ -50,6 +73,8 @@ typedef struct lt_batch_options {
     int summary;         /* print the closing summary line on stderr */
     int format;          /* LT_OUTPUT_*: one JSON record, or one XML document, per page */
     long long created_utc; /* time written into PAGE metadata (seconds since 1970, UTC) */
+    const lt_page_task *task; /* NULL: the analysis, written in `format` */
+    int merge; /* with out_dir: every page's file also copied to `out`, in input and page order */
 } lt_batch_options;
 
 typedef struct lt_batch_totals {

@@ -1,16 +1,23 @@
 /* cmd_crop.c — `lineate crop [OPTIONS] IMAGE|FOLDER... --out-dir DIR`: every text line of every
- * page as its own PNG, in reading order, with a JSON Lines manifest (DIR/manifest.jsonl). Each
- * page is decoded and analysed once (lt_analyze); the crops come from src/crop.c, the Sauvola
- * page for --binary from lt_binarize. Every file goes to a temporary name and is renamed. */
+ * page as its own PNG, named in reading order, from the page's analysis or from a saved (maybe
+ * hand-corrected) layout stream. The pages go through the analyse command's batch machinery
+ * (src/batch.c): worker threads, progress and summary, --resume; each page's crops are
+ * written first, then the page's manifest file (its page record and one record per crop),
+ * each under a temporary name renamed into place, so a page whose manifest file exists is
+ * complete. At the end the page manifests are merged, in input and page order, into
+ * DIR/manifest.jsonl. The records are described by schema/lineate-crop.schema.json. */
 #include "batch.h"
 #include "cli.h"
 #include "crop.h"
+#include "internal.h" /* lt_json_add_source */
+#include "layoutfile.h"
 
 #include <cjson/cJSON.h>
 #include <errno.h>
 #include <getopt.h>
 #include <math.h>
 #include <png.h>
+#include <stdatomic.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -18,151 +25,52 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#define CROP_FORMAT_NAME "lineate-crop-1"
+#define CROP_FORMAT_NAME "lineate-crop-2"
 #define MANIFEST_NAME "manifest.jsonl"
+#define PAGE_MANIFEST_SUFFIX "crops.jsonl" /* DIR/NAME.crops.jsonl, DIR/NAME.pN.crops.jsonl */
 #define MAX_MARGIN_PX 1000 /* wider margins make crops mostly of paper, or of other lines */
+#define MAX_LINES 1000000  /* lines of one page in a saved layout (the reader's bound) */
 
 static const char usage_text[] =
     "Usage: lineate crop [OPTIONS] IMAGE|FOLDER... --out-dir DIR\n"
-    "Analyse every page and write each text line as its own PNG image into DIR, in reading\n"
-    "order (NAME-pPAGE-lLINE.png), with DIR/manifest.jsonl: one JSON object per crop, and one\n"
-    "per page that failed.\n"
+    "Write each text line of every page as its own PNG image into DIR, in reading order\n"
+    "(NAME-pPAGE-lLINE.png, NAME the input's path as for lineate --out-dir), with a manifest\n"
+    "per page (NAME.crops.jsonl) and all of them merged into DIR/manifest.jsonl: a record per\n"
+    "page, per crop, and per page that failed. The lines come from the page's analysis, or\n"
+    "from a saved layout with --layout.\n"
     "\n"
     "Options:\n"
-    "      --out-dir DIR     write the crops and the manifest into DIR (created if missing)\n"
+    "      --out-dir DIR     write the crops and the manifests into DIR (created if missing)\n"
+    "      --resume          skip the pages whose manifest and crops are already complete\n"
+    "      --layout FILE     crop the lines of this saved layout stream ('-': stdin), found by\n"
+    "                        each record's source and page, instead of analysing the pages\n"
     "      --rectify         sample along the line's skew so that the line comes out level\n"
     "      --binary          black and white crops from Sauvola binarization of the page\n"
     "      --margin PX       grow every crop by PX pixels (default: 0.25 x-height, >= 2)\n"
-    "      --dpi N           resolution to assume when a file gives none (default 300)\n"
+    LT_CLI_ANALYSIS_HELP
     "  -h, --help            show this help and exit\n"
     "\n"
     "Exit status: 0 every page cropped, 1 some input failed (the others are written),\n"
     "2 bad command line, 3 DIR or a file in it could not be written.\n";
 
-enum { OPT_OUT_DIR = 256, OPT_RECTIFY, OPT_BINARY, OPT_MARGIN, OPT_DPI };
+enum { OPT_OUT_DIR = 256, OPT_RESUME, OPT_LAYOUT, OPT_RECTIFY, OPT_BINARY, OPT_MARGIN };
 
 typedef struct crop_options {
     const char *out_dir;
-    int rectify, binary;
+    int resume, rectify, binary;
     int margin_px; /* -1: per line, from its x-height */
-    lt_params params;
+    lt_cli_analysis an;
+    const char *layout_path;   /* --layout, or NULL: the pages are analysed */
+    lt_layout_file *layouts;   /* the stream read from layout_path */
+    atomic_long crops_written; /* line images written by this run */
 } crop_options;
 
-/* State of one run: the manifest being written and the counts behind the exit status. */
-typedef struct crop_run {
-    const crop_options *opt;
-    FILE *manifest; /* the temporary manifest */
-    long crops, failed;
-    int write_failed; /* a crop or the manifest could not be written: stop */
-} crop_run;
-
-/* ---- output names ---------------------------------------------------------------------- */
-
-/* Base name of an input without folder and extension ("stdin" for "-"); a new string. */
-static char *base_name(const char *path)
-{
-    if (strcmp(path, "-") == 0) return strdup("stdin");
-    const char *slash = strrchr(path, '/');
-    const char *base = slash ? slash + 1 : path;
-    const char *dot = strrchr(base, '.');
-    size_t n = dot && dot > base ? (size_t)(dot - base) : strlen(base);
-    if (n == 0) return strdup("page"); /* "dir/" or ".png": never an empty name */
-    char *s = malloc(n + 1);
-    if (s) {
-        memcpy(s, base, n);
-        s[n] = 0;
-    }
-    return s;
-}
-
-static uint64_t hash_name(const char *s)
-{
-    uint64_t h = 1469598103934665603ull; /* FNV-1a, 64 bit */
-    for (; *s; s++)
-        h = (h ^ (unsigned char)*s) * 1099511628211ull;
-    return h;
-}
-
-/* A set of strings (open addressing); the strings belong to the caller. */
-typedef struct name_set {
-    const char **slots;
-    size_t mask;
-} name_set;
-
-static int name_set_has(const name_set *s, const char *name)
-{
-    for (size_t i = hash_name(name) & s->mask; s->slots[i]; i = (i + 1) & s->mask)
-        if (strcmp(s->slots[i], name) == 0) return 1;
-    return 0;
-}
-
-static void name_set_put(name_set *s, const char *name)
-{
-    size_t i = hash_name(name) & s->mask;
-    while (s->slots[i])
-        i = (i + 1) & s->mask;
-    s->slots[i] = name;
-}
-
-/* Output name of every input, in input order: its base name, or NAME~2, NAME~3 ... for the
- * later inputs whose base name is taken (by an earlier input's name, which may itself carry a
- * suffix). Returns an array of in->count new strings, or NULL when out of memory. */
-static char **output_names(const lt_inputs *in)
-{
-    size_t cap = 16;
-    while (cap < 2 * (size_t)in->count + 2)
-        cap *= 2;
-    name_set set = {calloc(cap, sizeof(const char *)), cap - 1};
-    char **names = calloc((size_t)in->count + 1, sizeof *names);
-    int ok = set.slots && names;
-    for (int k = 0; ok && k < in->count; k++) {
-        char *base = base_name(in->items[k].path);
-        if (!base) {
-            ok = 0;
-            break;
-        }
-        char *name = base;
-        for (long n = 2; name_set_has(&set, name); n++) {
-            if (name != base) free(name);
-            size_t len = strlen(base) + 24;
-            if (!(name = malloc(len))) break;
-            snprintf(name, len, "%s~%ld", base, n);
-        }
-        if (name != base) free(base);
-        if (!name) {
-            ok = 0;
-            break;
-        }
-        names[k] = name;
-        name_set_put(&set, name);
-    }
-    free(set.slots);
-    if (!ok && names) {
-        for (int k = 0; k < in->count; k++)
-            free(names[k]);
-        free(names);
-        names = NULL;
-    }
-    return names;
-}
-
-/* "DIR/NAME" as a new string. */
-static char *join_path(const char *dir, const char *name)
-{
-    size_t n = strlen(dir) + strlen(name) + 2;
-    char *p = malloc(n);
-    if (p) snprintf(p, n, "%s/%s", dir, name);
-    return p;
-}
-
-/* The temporary name beside `path` ("PATH.tmp.PID"), a new string. */
-static char *temp_path(const char *path)
-{
-    size_t n = strlen(path) + 32;
-    char *p = malloc(n);
-    if (p) snprintf(p, n, "%s.tmp.%ld", path, (long)getpid());
-    return p;
-}
+/* A line to crop, read from a page object. */
+typedef struct crop_line {
+    lt_line line;     /* box, quad, baseline, xheight_px, block (-1: none) */
+    int index;        /* in the layout's "lines", from 0 */
+    const char *role; /* its block's role, or NULL (points into the page object) */
+} crop_line;
 
 /* ---- PNG ----------------------------------------------------------------------------- */
 
@@ -238,7 +146,7 @@ static int write_png(const char *path, const lt_image *img)
     return 0;
 }
 
-/* ---- the manifest ---------------------------------------------------------------------- */
+/* ---- the manifest's values ------------------------------------------------------------ */
 
 static double round2(double v)
 {
@@ -264,44 +172,6 @@ static cJSON *quad_json(const lt_point q[4])
     }
     return a;
 }
-
-/* Writes one object as one line of the manifest and frees it; a failure stops the run. */
-static void manifest_put(crop_run *run, cJSON *o)
-{
-    char *s = o ? cJSON_PrintUnformatted(o) : NULL;
-    cJSON_Delete(o);
-    if (!s || fputs(s, run->manifest) < 0 || fputc('\n', run->manifest) == EOF) {
-        if (!run->write_failed)
-            fprintf(stderr, "lineate: %s/%s: cannot write: %s\n", run->opt->out_dir, MANIFEST_NAME,
-                    strerror(s ? (errno ? errno : EIO) : ENOMEM));
-        run->write_failed = 1;
-    }
-    free(s);
-}
-
-/* A failed file (page <= 0), page or line (line > 0): the message on stderr, a record in the
- * manifest. `message` names the file already. */
-static void fail(crop_run *run, const char *source, int page, int pages, int line,
-                 const char *message)
-{
-    fprintf(stderr, "lineate: %s\n", message);
-    cJSON *o = cJSON_CreateObject();
-    if (o) {
-        cJSON_AddStringToObject(o, "format", CROP_FORMAT_NAME);
-        cJSON_AddStringToObject(o, "source", source);
-        if (page > 0)
-            cJSON_AddNumberToObject(o, "page", page);
-        else
-            cJSON_AddNullToObject(o, "page");
-        if (pages > 0) cJSON_AddNumberToObject(o, "pages", pages);
-        if (line > 0) cJSON_AddNumberToObject(o, "line", line);
-        cJSON_AddStringToObject(o, "error", message);
-    }
-    manifest_put(run, o);
-    run->failed++;
-}
-
-/* ---- one page ---------------------------------------------------------------------------- */
 
 /* What a crop was cut from, for the manifest. */
 typedef struct cut_info {
@@ -339,66 +209,6 @@ static int cut_line(const crop_options *opt, const lt_image *page, const lt_line
     return lt_crop_box(page, b, out, err);
 }
 
-/* Writes every line of one analysed page: the PNGs (temporary name, then renamed) and their
- * manifest records. `page` is the gray image the crops are cut from; `source` is the input as
- * given, `shown` its name in messages ("stdin" for "-"), `name` its output name. */
-static void crop_page(crop_run *run, const char *source, const char *shown, const char *name,
-                      int page_no, int pages, const lt_layout *layout, const lt_image *page)
-{
-    const crop_options *opt = run->opt;
-    for (int i = 0; i < layout->nlines && !run->write_failed; i++) {
-        const lt_line *l = &layout->lines[i];
-        lt_error err = {0};
-        lt_image *crop = NULL;
-        cut_info info;
-        if (cut_line(opt, page, l, &crop, &info, &err)) {
-            char msg[512];
-            snprintf(msg, sizeof msg, "%s: page %d: line %d: %s", shown, page_no, i + 1,
-                     err.message);
-            fail(run, source, page_no, pages, i + 1, msg);
-            continue;
-        }
-        char file[600];
-        snprintf(file, sizeof file, "%s-p%04d-l%04d.png", name, page_no, i + 1);
-        char *path = join_path(opt->out_dir, file);
-        char *tmp = path ? temp_path(path) : NULL;
-        errno = 0;
-        if (!tmp || write_png(tmp, crop) != 0 || rename(tmp, path) != 0) {
-            fprintf(stderr, "lineate: %s: cannot write: %s\n", path ? path : opt->out_dir,
-                    strerror(tmp ? (errno ? errno : EIO) : ENOMEM));
-            if (tmp) remove(tmp);
-            run->write_failed = 1;
-        } else {
-            cJSON *o = cJSON_CreateObject();
-            if (o) {
-                cJSON_AddStringToObject(o, "format", CROP_FORMAT_NAME);
-                cJSON_AddStringToObject(o, "source", source);
-                cJSON_AddNumberToObject(o, "page", page_no);
-                cJSON_AddNumberToObject(o, "pages", pages);
-                cJSON_AddNumberToObject(o, "line", i + 1);
-                cJSON_AddNumberToObject(o, "block", l->block);
-                cJSON_AddItemToObject(o, "box", box_json(l->box));
-                cJSON_AddItemToObject(o, "quad", quad_json(l->quad));
-                cJSON_AddNumberToObject(o, "xheight_px", round2(l->xheight_px));
-                cJSON_AddNumberToObject(o, "skew_deg", round(layout->skew_deg * 1000) / 1000 + 0.0);
-                cJSON_AddStringToObject(o, "file", file);
-                cJSON_AddNumberToObject(o, "width", crop->width);
-                cJSON_AddNumberToObject(o, "height", crop->height);
-                cJSON_AddStringToObject(o, "mode", opt->binary ? "binary" : "gray");
-                cJSON_AddBoolToObject(o, "rectified", opt->rectify);
-                cJSON_AddNumberToObject(o, "margin_px", info.margin_px);
-                cJSON_AddItemToObject(o, "cut_box", box_json(info.box));
-                cJSON_AddItemToObject(o, "cut_quad", quad_json(info.quad));
-            }
-            manifest_put(run, o);
-            run->crops++;
-        }
-        free(tmp);
-        free(path);
-        lt_image_free(crop);
-    }
-}
-
 /* The image the crops of a page are cut from: the decoded page as 8-bit gray (a 1-bit page
  * as 0/255), or with --binary its Sauvola black and white with the analyser's defaults. */
 static int crop_source(const crop_options *opt, const lt_image *img, double dpi, lt_image **out,
@@ -407,88 +217,398 @@ static int crop_source(const crop_options *opt, const lt_image *img, double dpi,
     *out = NULL;
     if (img->kind == LT_IMAGE_INK) return lt_ink_to_gray(img, out, err); /* 1-bit: used as is */
     if (!opt->binary) return 0;                           /* the decoded page itself */
-    int window = lt_sauvola_window_px(&opt->params, dpi); /* the analyser's window */
+    int window = lt_sauvola_window_px(&opt->an.params, dpi); /* the analyser's window */
     lt_image *ink = NULL;
-    int rc = lt_binarize(img, window, opt->params.sauvola_k, opt->params.sauvola_r, &ink, err);
+    int rc = lt_binarize(img, window, opt->an.params.sauvola_k, opt->an.params.sauvola_r, &ink, err);
     if (rc == 0) rc = lt_ink_to_gray(ink, out, err);
     lt_image_free(ink);
     return rc;
 }
 
-static void crop_input(crop_run *run, const char *path, const char *name)
+/* ---- the page object ------------------------------------------------------------------ */
+
+/* The lines of a page object in reading order: the blocks in their order, the lines of each
+ * as the block lists them, then the lines no block lists, in their order. A line needs a
+ * "quad" or a "box"; "xheight_px" (default: half the quad's height), "baseline" (default: the
+ * quad's bottom edge) and "block" are read when present, so that a hand-corrected layout
+ * need only give the geometry. The page's "width" and "height" must be the image's. */
+static int read_lines(const cJSON *o, const lt_image *img, crop_line **out, int *n,
+                      lt_error *err)
 {
-    const crop_options *opt = run->opt;
-    lt_error err = {0};
-    lt_source *src = NULL;
-    if (lt_source_open(path, LT_DEFAULT_MAX_PAGES, &src, &err)) {
-        fail(run, path, 0, 0, 0, err.message);
-        return;
+    *out = NULL;
+    *n = 0;
+    int width, height;
+    if (lt_json_int(cJSON_GetObjectItemCaseSensitive(o, "width"), 1, INT32_MAX, &width) ||
+        lt_json_int(cJSON_GetObjectItemCaseSensitive(o, "height"), 1, INT32_MAX, &height))
+        return lt_error_set(err, LT_EPARSE, "layout: no valid \"width\" and \"height\"");
+    if (width != img->width || height != img->height)
+        return lt_error_set(err, LT_EINVAL, "the layout is %dx%d pixels, but the page is %dx%d",
+                            width, height, img->width, img->height);
+    const cJSON *lines = cJSON_GetObjectItemCaseSensitive(o, "lines");
+    const cJSON *blocks = cJSON_GetObjectItemCaseSensitive(o, "blocks");
+    if (!cJSON_IsArray(lines)) return lt_error_set(err, LT_EPARSE, "layout: no \"lines\" array");
+    if (blocks && !cJSON_IsArray(blocks))
+        return lt_error_set(err, LT_EPARSE, "layout: \"blocks\" is not an array");
+    const int nl = cJSON_GetArraySize(lines), nb = blocks ? cJSON_GetArraySize(blocks) : 0;
+    if (nl > MAX_LINES) return lt_error_set(err, LT_ELIMIT, "layout: more than %d lines", MAX_LINES);
+    crop_line *all = calloc((size_t)nl + 1, sizeof *all), *ordered = calloc((size_t)nl + 1, sizeof *ordered);
+    char *placed = calloc((size_t)nl + 1, 1);
+    int rc = 0, k = 0;
+    if (!all || !ordered || !placed) {
+        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+        goto done;
     }
-    const int pages = lt_source_pages(src);
-    for (int i = 0; i < pages && !run->write_failed; i++) {
-        lt_error perr = {0};
-        lt_image *img = NULL, *own = NULL;
-        lt_layout *layout = NULL;
-        if (lt_source_read_page(src, i, opt->params.max_pixels, &img, &perr) ||
-            lt_analyze(img, &opt->params, &layout, &perr) ||
-            crop_source(opt, img, layout->dpi, &own, &perr)) {
-            char msg[512];
-            lt_page_message(msg, sizeof msg, lt_source_name(src), i + 1, perr.message);
-            fail(run, path, i + 1, pages, 0, msg);
-        } else {
-            crop_page(run, path, lt_source_name(src), name, i + 1, pages, layout, own ? own : img);
+    for (int i = 0; i < nl && rc == 0; i++) {
+        const cJSON *ln = cJSON_GetArrayItem(lines, i);
+        crop_line *c = &all[i];
+        c->index = i;
+        c->line.block = -1;
+        if (!cJSON_IsObject(ln) || lt_json_quad(ln, c->line.quad)) {
+            rc = lt_error_set(err, LT_EPARSE, "layout: lines[%d]: no valid \"quad\" or \"box\"", i);
+            break;
         }
-        lt_layout_free(layout);
-        lt_image_free(own);
-        lt_image_free(img);
+        const lt_point *q = c->line.quad;
+        double x0 = q[0].x, x1 = x0, y0 = q[0].y, y1 = y0;
+        for (int j = 1; j < 4; j++) {
+            x0 = fmin(x0, q[j].x);
+            x1 = fmax(x1, q[j].x);
+            y0 = fmin(y0, q[j].y);
+            y1 = fmax(y1, q[j].y);
+        }
+        c->line.box = (lt_box){(int)floor(x0), (int)floor(y0), (int)ceil(x1), (int)ceil(y1)};
+        int box[4];
+        const cJSON *jb = cJSON_GetObjectItemCaseSensitive(ln, "box");
+        if (cJSON_IsArray(jb) && cJSON_GetArraySize(jb) == 4) {
+            int ok = 1;
+            for (int j = 0; j < 4 && ok; j++)
+                ok = lt_json_int(cJSON_GetArrayItem(jb, j), -1e9, 1e9, &box[j]) == 0;
+            if (ok) c->line.box = (lt_box){box[0], box[1], box[2], box[3]};
+        }
+        const cJSON *xh = cJSON_GetObjectItemCaseSensitive(ln, "xheight_px");
+        c->line.xheight_px = cJSON_IsNumber(xh) && xh->valuedouble > 0 && xh->valuedouble < 1e6
+                                 ? xh->valuedouble
+                                 : 0.5 * hypot(q[3].x - q[0].x, q[3].y - q[0].y);
+        const cJSON *bl = cJSON_GetObjectItemCaseSensitive(ln, "baseline");
+        if (!(cJSON_IsArray(bl) && cJSON_GetArraySize(bl) == 2 &&
+              lt_json_point(cJSON_GetArrayItem(bl, 0), &c->line.baseline[0]) == 0 &&
+              lt_json_point(cJSON_GetArrayItem(bl, 1), &c->line.baseline[1]) == 0)) {
+            c->line.baseline[0] = q[3];
+            c->line.baseline[1] = q[2];
+        }
+        const cJSON *jblock = cJSON_GetObjectItemCaseSensitive(ln, "block");
+        int b;
+        if (jblock && lt_json_int(jblock, 0, nb - 1, &b) == 0) {
+            c->line.block = b;
+            const cJSON *role =
+                cJSON_GetObjectItemCaseSensitive(cJSON_GetArrayItem(blocks, b), "role");
+            c->role = cJSON_IsString(role) ? role->valuestring : NULL;
+        }
     }
-    lt_source_free(src);
+    for (int b = 0; b < nb && rc == 0; b++) {
+        const cJSON *members = cJSON_GetObjectItemCaseSensitive(cJSON_GetArrayItem(blocks, b), "lines");
+        const int nm = cJSON_IsArray(members) ? cJSON_GetArraySize(members) : 0;
+        for (int j = 0; j < nm; j++) {
+            int i;
+            if (lt_json_int(cJSON_GetArrayItem(members, j), 0, nl - 1, &i) == 0 && !placed[i]) {
+                placed[i] = 1;
+                ordered[k++] = all[i];
+            }
+        }
+    }
+    for (int i = 0; i < nl && rc == 0; i++)
+        if (!placed[i]) ordered[k++] = all[i];
+done:
+    free(all);
+    free(placed);
+    if (rc) {
+        free(ordered);
+        return rc;
+    }
+    *out = ordered;
+    *n = nl;
+    return 0;
+}
+
+/* The page object of page `page` of `in`: from the saved stream, or analysed and converted
+ * through the JSON writer, so that crops from a fresh analysis and from its saved layout are
+ * the same. */
+static int page_layout(const crop_options *opt, const lt_input *in, int page, int pages,
+                       const lt_image *img, cJSON **out, lt_error *err)
+{
+    if (opt->layouts) return lt_layout_file_find(opt->layouts, in->path, page, pages, out, err);
+    lt_layout *layout = NULL;
+    int rc = lt_analyze(img, &opt->an.params, &layout, err);
+    if (rc) return rc;
+    char *json = lt_layout_to_json(layout, in->path, page, pages, 0);
+    lt_layout_free(layout);
+    *out = json ? cJSON_Parse(json) : NULL;
+    free(json);
+    return *out ? 0 : lt_error_set(err, LT_ENOMEM, "out of memory");
+}
+
+/* ---- the records ------------------------------------------------------------------------- */
+
+/* Appends the object as one line to *text (a growing string) and deletes it; -1 when out of
+ * memory. */
+static int append_record(char **text, size_t *len, cJSON *o)
+{
+    char *s = o ? cJSON_PrintUnformatted(o) : NULL;
+    cJSON_Delete(o);
+    if (!s) return -1;
+    size_t n = strlen(s);
+    char *bigger = realloc(*text, *len + n + 2);
+    if (bigger) {
+        if (*len) bigger[(*len)++] = '\n';
+        memcpy(bigger + *len, s, n + 1);
+        *len += n;
+        *text = bigger;
+    }
+    free(s);
+    return bigger ? 0 : -1;
+}
+
+/* The fields that start every record: format, kind, source, page, pages. */
+static cJSON *record_head(const char *kind, const lt_input *in, int page, int pages)
+{
+    cJSON *o = cJSON_CreateObject();
+    if (!o) return NULL;
+    cJSON_AddStringToObject(o, "format", CROP_FORMAT_NAME);
+    cJSON_AddStringToObject(o, "kind", kind);
+    if (lt_json_add_source(o, in->path)) { /* a name not in UTF-8 also as source_bytes */
+        cJSON_Delete(o);
+        return NULL;
+    }
+    cJSON_AddNumberToObject(o, "page", page);
+    cJSON_AddNumberToObject(o, "pages", pages);
+    return o;
+}
+
+/* The crop settings, in the page record: a resumed run redoes pages made with others. */
+static void add_settings(cJSON *o, const crop_options *opt)
+{
+    cJSON_AddStringToObject(o, "mode", opt->binary ? "binary" : "gray");
+    cJSON_AddBoolToObject(o, "rectified", opt->rectify);
+    if (opt->margin_px >= 0)
+        cJSON_AddNumberToObject(o, "margin", opt->margin_px);
+    else
+        cJSON_AddStringToObject(o, "margin", "auto");
+}
+
+static cJSON *point_pair_json(const lt_point p[2])
+{
+    lt_point q[4] = {p[0], p[1], p[1], p[1]};
+    cJSON *a = quad_json(q);
+    if (a) {
+        cJSON_DeleteItemFromArray(a, 3);
+        cJSON_DeleteItemFromArray(a, 2);
+    }
+    return a;
+}
+
+static cJSON *line_record(const crop_options *opt, const lt_input *in, int page, int pages,
+                          const crop_line *c, int order, double skew_deg, const char *file,
+                          const lt_image *crop, const cut_info *info)
+{
+    cJSON *o = record_head("line", in, page, pages);
+    if (!o) return NULL;
+    cJSON_AddNumberToObject(o, "line", c->index + 1);
+    cJSON_AddNumberToObject(o, "order", order);
+    if (c->line.block >= 0)
+        cJSON_AddNumberToObject(o, "block", c->line.block);
+    else
+        cJSON_AddNullToObject(o, "block");
+    if (c->role)
+        cJSON_AddStringToObject(o, "role", c->role);
+    else
+        cJSON_AddNullToObject(o, "role");
+    cJSON_AddItemToObject(o, "box", box_json(c->line.box));
+    cJSON_AddItemToObject(o, "quad", quad_json(c->line.quad));
+    cJSON_AddItemToObject(o, "baseline", point_pair_json(c->line.baseline));
+    cJSON_AddNumberToObject(o, "xheight_px", round2(c->line.xheight_px));
+    cJSON_AddNumberToObject(o, "skew_deg", skew_deg);
+    cJSON_AddStringToObject(o, "file", file);
+    cJSON_AddNumberToObject(o, "width", crop->width);
+    cJSON_AddNumberToObject(o, "height", crop->height);
+    cJSON_AddStringToObject(o, "mode", opt->binary ? "binary" : "gray");
+    cJSON_AddBoolToObject(o, "rectified", opt->rectify);
+    cJSON_AddNumberToObject(o, "margin_px", info->margin_px);
+    cJSON_AddItemToObject(o, "cut_box", box_json(info->box));
+    cJSON_AddItemToObject(o, "cut_quad", quad_json(info->quad));
+    return o;
+}
+
+/* ---- one page ---------------------------------------------------------------------------- */
+
+/* Writes `crop` as DIR/FILE through DIR/FILE.tmp (the same temporary name in every run, so
+ * that what a killed run left is replaced). 0, or -1 with errno set. */
+static int write_crop(const char *dir, const char *file, const lt_image *crop)
+{
+    size_t n = strlen(dir) + strlen(file) + 8;
+    char *path = malloc(n), *tmp = malloc(n);
+    int rc = -1;
+    if (path && tmp) {
+        snprintf(path, n, "%s/%s", dir, file);
+        snprintf(tmp, n, "%s/%s.tmp", dir, file);
+        rc = lt_make_parents(tmp) || write_png(tmp, crop) || rename(tmp, path) ? -1 : 0;
+        if (rc) {
+            int saved = errno;
+            remove(tmp);
+            errno = saved;
+        }
+    } else {
+        errno = ENOMEM;
+    }
+    free(path);
+    free(tmp);
+    return rc;
+}
+
+/* The page task (lt_page_task.page_record): crops every line of the page in reading order,
+ * then gives the page's manifest: its page record and a record per crop. */
+static int crop_page_record(void *ctx, const lt_input *in, int page, int pages, lt_image **imgp,
+                            char **record, lt_error *err)
+{
+    crop_options *opt = ctx;
+    const lt_image *img = *imgp;
+    cJSON *lay = NULL;
+    crop_line *lines = NULL;
+    lt_image *own = NULL;
+    int n = 0, rc = page_layout(opt, in, page, pages, img, &lay, err);
+    if (rc == 0) rc = read_lines(lay, img, &lines, &n, err);
+    if (rc == 0) {
+        const cJSON *dpi = cJSON_GetObjectItemCaseSensitive(lay, "dpi");
+        rc = crop_source(opt, img,
+                         cJSON_IsNumber(dpi) && dpi->valuedouble > 0 ? dpi->valuedouble
+                         : img->dpi > 0                                ? img->dpi
+                                                                       : opt->an.params.dpi,
+                         &own, err);
+    }
+    if (rc) {
+        free(lines);
+        cJSON_Delete(lay);
+        return -1;
+    }
+    const lt_image *source = own ? own : img;
+    char *text = NULL;
+    size_t len = 0;
+    const cJSON *skew = cJSON_GetObjectItemCaseSensitive(lay, "skew_deg");
+    const double skew_deg = cJSON_IsNumber(skew) ? skew->valuedouble : 0;
+    cJSON *head = record_head("page", in, page, pages);
+    if (head) {
+        cJSON_AddNumberToObject(head, "width", img->width);
+        cJSON_AddNumberToObject(head, "height", img->height);
+        cJSON_AddNumberToObject(head, "skew_deg", skew_deg);
+        cJSON_AddStringToObject(head, "layout", opt->layout_path ? opt->layout_path : "analysis");
+        cJSON_AddNumberToObject(head, "lines", n);
+        add_settings(head, opt);
+    }
+    int status = append_record(&text, &len, head) ? -1 : 0;
+    if (status) lt_error_set(err, LT_ENOMEM, "out of memory");
+    for (int k = 0; k < n && status == 0; k++) {
+        lt_image *crop = NULL;
+        cut_info info;
+        lt_error cerr = {0};
+        if (cut_line(opt, source, &lines[k].line, &crop, &info, &cerr)) {
+            lt_error_set(err, cerr.code, "line %d: %s", lines[k].index + 1, cerr.message);
+            status = -1;
+            break;
+        }
+        char file[4200];
+        snprintf(file, sizeof file, "%s-p%04d-l%04d.png", in->out_name, page, k + 1);
+        if (write_crop(opt->out_dir, file, crop)) {
+            lt_error_set(err, LT_EIO, "%s/%s: cannot write: %s", opt->out_dir, file,
+                         strerror(errno ? errno : EIO));
+            status = -2;
+        } else if (append_record(&text, &len,
+                                 line_record(opt, in, page, pages, &lines[k], k + 1, skew_deg,
+                                             file, crop, &info))) {
+            lt_error_set(err, LT_ENOMEM, "out of memory");
+            status = -1;
+        } else {
+            atomic_fetch_add(&opt->crops_written, 1);
+        }
+        lt_image_free(crop);
+    }
+    lt_image_free(own);
+    free(lines);
+    cJSON_Delete(lay);
+    if (status) { /* the batch writes the page's error record */
+        free(text);
+        return status;
+    }
+    *record = text;
+    return 0;
+}
+
+/* Whether a page's manifest from an earlier run is complete (lt_page_task.complete): a page
+ * record made with the same settings, as many crop records as it has lines, every crop file
+ * in place, no error record. */
+static int page_manifest_complete(void *ctx, const char *content)
+{
+    const crop_options *opt = ctx;
+    cJSON *want = cJSON_CreateObject();
+    if (!want) return 0;
+    add_settings(want, opt);
+    int ok = 1, lines = -1, crops = 0;
+    for (const char *s = content; ok && *s;) {
+        const char *end = strchr(s, '\n');
+        size_t n = end ? (size_t)(end - s) : strlen(s);
+        cJSON *o = cJSON_ParseWithLength(s, n);
+        const cJSON *kind = cJSON_GetObjectItemCaseSensitive(o, "kind");
+        if (!cJSON_IsString(kind)) {
+            ok = 0;
+        } else if (strcmp(kind->valuestring, "page") == 0 && lines < 0) {
+            for (const cJSON *w = want->child; ok && w; w = w->next)
+                ok = cJSON_Compare(w, cJSON_GetObjectItemCaseSensitive(o, w->string), 1);
+            const cJSON *jl = cJSON_GetObjectItemCaseSensitive(o, "lines");
+            if (ok && lt_json_int(jl, 0, MAX_LINES, &lines)) ok = 0;
+        } else if (strcmp(kind->valuestring, "line") == 0 && lines >= 0) {
+            const cJSON *file = cJSON_GetObjectItemCaseSensitive(o, "file");
+            char path[8192];
+            struct stat st;
+            ok = cJSON_IsString(file) &&
+                 (size_t)snprintf(path, sizeof path, "%s/%s", opt->out_dir, file->valuestring) <
+                     sizeof path &&
+                 stat(path, &st) == 0 && S_ISREG(st.st_mode);
+            crops++;
+        } else {
+            ok = 0; /* an error record, or records out of place */
+        }
+        cJSON_Delete(o);
+        s += end ? n + 1 : n;
+    }
+    cJSON_Delete(want);
+    return ok && lines >= 0 && crops == lines;
 }
 
 /* ---- the command ---------------------------------------------------------------------- */
 
-/* The error record of an argument that gave no input; its message went to stderr when the
- * inputs were listed (src/batch.c). */
-static void bad_arg_record(crop_run *run, const char *arg)
-{
-    char msg[512];
-    snprintf(msg, sizeof msg, "%s: no image file could be listed", arg);
-    cJSON *o = cJSON_CreateObject();
-    if (o) {
-        cJSON_AddStringToObject(o, "format", CROP_FORMAT_NAME);
-        cJSON_AddStringToObject(o, "source", arg);
-        cJSON_AddNullToObject(o, "page");
-        cJSON_AddStringToObject(o, "error", msg);
-    }
-    manifest_put(run, o);
-    run->failed++;
-}
-
-/* A command-line argument that gave no input (a folder without images or that cannot be
- * read): its error record goes before the input at position `before`. */
-typedef struct bad_arg {
-    const char *arg;
-    int before;
-} bad_arg;
-
-/* Parses the command line into `opt`, `in` and `bad`; 0, or the exit status to stop with
- * (-1: --help was shown). */
-static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, bad_arg **bad,
-                      int *nbad)
+/* Parses the command line into `opt` and `in`; 0, or the exit status to stop with (-1:
+ * --help was shown). An argument that lists no input (a folder without images or that cannot
+ * be read) is reported on stderr and makes the exit status 1 (*status). */
+static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, int *status)
 {
     static const struct option longopts[] = {{"out-dir", required_argument, NULL, OPT_OUT_DIR},
+                                             {"resume", no_argument, NULL, OPT_RESUME},
+                                             {"layout", required_argument, NULL, OPT_LAYOUT},
                                              {"rectify", no_argument, NULL, OPT_RECTIFY},
                                              {"binary", no_argument, NULL, OPT_BINARY},
                                              {"margin", required_argument, NULL, OPT_MARGIN},
-                                             {"dpi", required_argument, NULL, OPT_DPI},
+                                             LT_CLI_ANALYSIS_LONGOPTS,
                                              {"help", no_argument, NULL, 'h'},
                                              {NULL, 0, NULL, 0}};
     double v;
-    int c;
+    int c, taken;
     opterr = 0;
-    while ((c = getopt_long(argc, argv, ":h", longopts, NULL)) != -1) {
+    while ((c = getopt_long(argc, argv, ":j:h", longopts, NULL)) != -1) {
+        if ((taken = lt_cli_analysis_option(&opt->an, c, optarg, "lineate: "))) {
+            if (taken < 0) return LT_EXIT_USAGE;
+            continue;
+        }
         switch (c) {
         case OPT_OUT_DIR: opt->out_dir = optarg; break;
+        case OPT_RESUME: opt->resume = 1; break;
+        case OPT_LAYOUT: opt->layout_path = optarg; break;
         case OPT_RECTIFY: opt->rectify = 1; break;
         case OPT_BINARY: opt->binary = 1; break;
         case OPT_MARGIN:
@@ -501,10 +621,6 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
             }
             opt->margin_px = (int)v;
             break;
-        case OPT_DPI:
-            if (lt_cli_number("lineate: ", "--dpi", optarg, 10, 100000, &opt->params.dpi))
-                return LT_EXIT_USAGE;
-            break;
         case 'h': fputs(usage_text, stdout); return -1;
         case ':':
             fprintf(stderr, "lineate: option '%s' needs a value (see lineate crop --help)\n",
@@ -516,7 +632,7 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
             return LT_EXIT_USAGE;
         }
     }
-    if (optind >= argc) {
+    if (optind >= argc && !opt->an.from) {
         fprintf(stderr, "lineate: crop: no input image (see lineate crop --help)\n");
         return LT_EXIT_USAGE;
     }
@@ -524,18 +640,28 @@ static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, b
         fprintf(stderr, "lineate: crop: --out-dir DIR is required (see lineate crop --help)\n");
         return LT_EXIT_USAGE;
     }
-    /* An argument that lists nothing (a folder without images or that cannot be read) has its
-     * message on stderr from lt_inputs_add_arg and, later, an error record. */
-    *bad = calloc((size_t)(argc - optind), sizeof **bad);
-    if (!*bad) {
-        fprintf(stderr, "lineate: out of memory\n");
-        return LT_EXIT_FAILED;
-    }
+    int stdin_inputs = opt->an.from && strcmp(opt->an.from, "-") == 0;
     for (int i = optind; i < argc; i++) {
-        const int before = in->count;
-        if (lt_inputs_add_arg(in, argv[i])) (*bad)[(*nbad)++] = (bad_arg){argv[i], before};
+        stdin_inputs |= strcmp(argv[i], "-") == 0;
+        if (lt_inputs_add_arg(in, argv[i])) *status = LT_EXIT_FAILED;
     }
+    if (opt->an.from && lt_inputs_add_list(in, opt->an.from)) *status = LT_EXIT_FAILED;
+    if (opt->layout_path && strcmp(opt->layout_path, "-") == 0 && stdin_inputs) {
+        fprintf(stderr, "lineate: crop: --layout - and an input from standard input exclude "
+                        "each other\n");
+        return LT_EXIT_USAGE;
+    }
+    if (lt_inputs_check_out_names(in, opt->out_dir, "." PAGE_MANIFEST_SUFFIX)) return LT_EXIT_USAGE;
     return 0;
+}
+
+/* "DIR/NAME" as a new string. */
+static char *join_path(const char *dir, const char *name)
+{
+    size_t n = strlen(dir) + strlen(name) + 2;
+    char *p = malloc(n);
+    if (p) snprintf(p, n, "%s/%s", dir, name);
+    return p;
 }
 
 int lt_cmd_crop(int argc, char **argv)
@@ -543,20 +669,24 @@ int lt_cmd_crop(int argc, char **argv)
     crop_options opt;
     memset(&opt, 0, sizeof opt);
     opt.margin_px = -1;
-    lt_params_default(&opt.params);
+    lt_cli_analysis_default(&opt.an);
+    atomic_init(&opt.crops_written, 0);
     lt_inputs inputs = {0};
-    bad_arg *bad = NULL;
-    int nbad = 0;
-    int status = parse_args(argc, argv, &opt, &inputs, &bad, &nbad);
-    if (status) {
-        lt_inputs_free(&inputs);
-        free(bad);
-        return status < 0 ? LT_EXIT_OK : status;
+    int status = LT_EXIT_OK, stop = parse_args(argc, argv, &opt, &inputs, &status);
+    char *manifest = NULL, *manifest_tmp = NULL;
+    if (stop) {
+        status = stop < 0 ? LT_EXIT_OK : stop;
+        goto done;
     }
-    char *manifest = join_path(opt.out_dir, MANIFEST_NAME);
-    char *manifest_tmp = manifest ? temp_path(manifest) : NULL;
-    char **names = output_names(&inputs);
-    if (!manifest_tmp || !names) {
+    lt_error err = {0};
+    if (opt.layout_path && lt_layout_file_read(opt.layout_path, &opt.layouts, &err)) {
+        fprintf(stderr, "lineate: %s\n", err.message);
+        status = LT_EXIT_FAILED;
+        goto done;
+    }
+    manifest = join_path(opt.out_dir, MANIFEST_NAME);
+    manifest_tmp = manifest ? join_path(opt.out_dir, MANIFEST_NAME ".tmp") : NULL;
+    if (!manifest_tmp) {
         fprintf(stderr, "lineate: out of memory\n");
         status = LT_EXIT_OUTPUT;
         goto done;
@@ -566,42 +696,45 @@ int lt_cmd_crop(int argc, char **argv)
         status = LT_EXIT_OUTPUT;
         goto done;
     }
-    crop_run run = {&opt, fopen(manifest_tmp, "wb"), 0, 0, 0};
-    if (!run.manifest) {
+    FILE *out = fopen(manifest_tmp, "wb");
+    if (!out) {
         fprintf(stderr, "lineate: %s: cannot write: %s\n", opt.out_dir, strerror(errno));
         status = LT_EXIT_OUTPUT;
         goto done;
     }
-    for (int k = 0, b = 0; k <= inputs.count && !run.write_failed; k++) {
-        for (; b < nbad && bad[b].before == k; b++)
-            bad_arg_record(&run, bad[b].arg);
-        if (k < inputs.count) crop_input(&run, inputs.items[k].path, names[k]);
-    }
+    const lt_page_task task = {CROP_FORMAT_NAME, PAGE_MANIFEST_SUFFIX, crop_page_record,
+                               page_manifest_complete, &opt};
+    const int many = inputs.count > 1;
+    lt_batch_options bopt = {&opt.an.params,
+                             opt.an.max_pages,
+                             0,
+                             opt.an.jobs,
+                             out,
+                             opt.out_dir,
+                             opt.resume,
+                             opt.an.progress ? 1 : isatty(2) && many ? 2 : 0,
+                             1,
+                             LT_OUTPUT_JSON,
+                             0,
+                             &task,
+                             1};
+    lt_batch_totals totals;
+    int write_failed = lt_batch_run(&inputs, &bopt, &totals) != 0 || totals.write_failed;
     errno = 0;
-    if (fflush(run.manifest) != 0 || ferror(run.manifest)) {
-        if (!run.write_failed)
-            fprintf(stderr, "lineate: %s: cannot write: %s\n", manifest,
-                    strerror(errno ? errno : EIO));
-        run.write_failed = 1;
+    if (fflush(out) != 0 || ferror(out)) write_failed = 1;
+    if (fclose(out) != 0) write_failed = 1;
+    if (!write_failed && rename(manifest_tmp, manifest) != 0) write_failed = 1;
+    if (write_failed) {
+        fprintf(stderr, "lineate: %s: not written: %s\n", manifest,
+                errno ? strerror(errno) : "an output file could not be written");
+        remove(manifest_tmp);
     }
-    if (fclose(run.manifest) != 0 && !run.write_failed) {
-        fprintf(stderr, "lineate: %s: cannot write: %s\n", manifest, strerror(errno));
-        run.write_failed = 1;
-    }
-    if (!run.write_failed && rename(manifest_tmp, manifest) != 0) {
-        fprintf(stderr, "lineate: %s: cannot write: %s\n", manifest, strerror(errno));
-        run.write_failed = 1;
-    }
-    if (run.write_failed) remove(manifest_tmp);
-    status = run.write_failed ? LT_EXIT_OUTPUT : run.failed ? LT_EXIT_FAILED : LT_EXIT_OK;
+    fprintf(stderr, "lineate: %ld line images written\n", atomic_load(&opt.crops_written));
+    status = write_failed ? LT_EXIT_OUTPUT : totals.failed ? LT_EXIT_FAILED : status;
 done:
-    if (names)
-        for (int k = 0; k < inputs.count; k++)
-            free(names[k]);
-    free(names);
     free(manifest);
     free(manifest_tmp);
-    free(bad);
+    lt_layout_file_free(opt.layouts);
     lt_inputs_free(&inputs);
     return status;
 }

@@ -44,53 +44,6 @@ enum { OPT_PAGE = 256, OPT_SCALE, OPT_NO_ORDER };
 
 /* ---- layout JSON -> lt_draw_layout ------------------------------------------------------- */
 
-/* Reads an integral JSON number in [lo, hi]; -1 when `item` is not one. */
-static int json_int(const cJSON *item, double lo, double hi, int *out)
-{
-    if (!cJSON_IsNumber(item)) return -1;
-    double v = item->valuedouble;
-    if (!isfinite(v) || v != floor(v) || v < lo || v > hi) return -1;
-    *out = (int)v;
-    return 0;
-}
-
-/* A point [x, y] of finite numbers within the reader's coordinate limit. */
-static int json_point(const cJSON *item, lt_point *p)
-{
-    if (!cJSON_IsArray(item) || cJSON_GetArraySize(item) != 2) return -1;
-    const cJSON *x = cJSON_GetArrayItem(item, 0), *y = cJSON_GetArrayItem(item, 1);
-    if (!cJSON_IsNumber(x) || !cJSON_IsNumber(y)) return -1;
-    if (!(fabs(x->valuedouble) <= LT_SCORE_MAX_COORD && fabs(y->valuedouble) <= LT_SCORE_MAX_COORD))
-        return -1;
-    p->x = x->valuedouble;
-    p->y = y->valuedouble;
-    return 0;
-}
-
-/* The quad of a line or block: its "quad" (4 points) or, when it has none, the corners of its
- * "box" [left, top, right, bottom]. -1 when neither is valid. */
-static int json_quad(const cJSON *obj, lt_point *q)
-{
-    const cJSON *quad = cJSON_GetObjectItemCaseSensitive(obj, "quad");
-    if (quad) {
-        if (!cJSON_IsArray(quad) || cJSON_GetArraySize(quad) != 4) return -1;
-        for (int i = 0; i < 4; i++)
-            if (json_point(cJSON_GetArrayItem(quad, i), &q[i])) return -1;
-        return 0;
-    }
-    const cJSON *box = cJSON_GetObjectItemCaseSensitive(obj, "box");
-    if (!cJSON_IsArray(box) || cJSON_GetArraySize(box) != 4) return -1;
-    int v[4];
-    for (int i = 0; i < 4; i++)
-        if (json_int(cJSON_GetArrayItem(box, i), -LT_SCORE_MAX_COORD, LT_SCORE_MAX_COORD, &v[i]))
-            return -1;
-    q[0] = (lt_point){v[0], v[1]};
-    q[1] = (lt_point){v[2], v[1]};
-    q[2] = (lt_point){v[2], v[3]};
-    q[3] = (lt_point){v[0], v[3]};
-    return 0;
-}
-
 static char *xstrdup(const char *s)
 {
     size_t n = strlen(s) + 1;
@@ -113,8 +66,8 @@ static int layout_from_json(const cJSON *o, const char *name, int page, lt_draw_
         rc = lt_error_set(err, LT_EPARSE, __VA_ARGS__);                                            \
         goto fail;                                                                                 \
     } while (0)
-    if (json_int(cJSON_GetObjectItemCaseSensitive(o, "width"), 1, LT_SCORE_MAX_COORD, &l->width) ||
-        json_int(cJSON_GetObjectItemCaseSensitive(o, "height"), 1, LT_SCORE_MAX_COORD, &l->height))
+    if (lt_json_int(cJSON_GetObjectItemCaseSensitive(o, "width"), 1, LT_SCORE_MAX_COORD, &l->width) ||
+        lt_json_int(cJSON_GetObjectItemCaseSensitive(o, "height"), 1, LT_SCORE_MAX_COORD, &l->height))
         BAD("%s: page %d: no valid \"width\" and \"height\" (positive integers)", name, page);
     const cJSON *lines = cJSON_GetObjectItemCaseSensitive(o, "lines");
     const cJSON *blocks = cJSON_GetObjectItemCaseSensitive(o, "blocks");
@@ -142,7 +95,7 @@ static int layout_from_json(const cJSON *o, const char *name, int page, lt_draw_
         if (role && !cJSON_IsString(role) && !cJSON_IsNull(role))
             BAD("%s: page %d: blocks[%d]: \"role\" is not a string", name, page, i);
         d->role = lt_role_from_name(cJSON_IsString(role) ? role->valuestring : NULL);
-        if (json_quad(b, d->quad))
+        if (lt_json_quad(b, d->quad))
             BAD("%s: page %d: blocks[%d]: no valid \"quad\" (4 points [x, y]) or \"box\"", name,
                 page, i);
     }
@@ -151,12 +104,12 @@ static int layout_from_json(const cJSON *o, const char *name, int page, lt_draw_
     for (const cJSON *ln = lines->child; ln; ln = ln->next, i++) {
         lt_draw_line *d = &l->lines[i];
         if (!cJSON_IsObject(ln)) BAD("%s: page %d: lines[%d] is not an object", name, page, i);
-        if (json_quad(ln, d->quad))
+        if (lt_json_quad(ln, d->quad))
             BAD("%s: page %d: lines[%d]: no valid \"quad\" (4 points [x, y]) or \"box\"", name,
                 page, i);
         const cJSON *block = cJSON_GetObjectItemCaseSensitive(ln, "block");
         d->block = -1;
-        if (block && !cJSON_IsNull(block) && json_int(block, 0, nb - 1, &d->block))
+        if (block && !cJSON_IsNull(block) && lt_json_int(block, 0, nb - 1, &d->block))
             BAD("%s: page %d: lines[%d]: \"block\" is not an index into the %d blocks", name, page,
                 i, nb);
     }

@@ -53,12 +53,49 @@ static void line_col(const char *data, size_t pos, long *line, long *col)
 }
 
 /* Reads an integral JSON number in [lo, hi]; -1 when `item` is not one. */
-static int json_int(const cJSON *item, double lo, double hi, int *out)
+int lt_json_int(const cJSON *item, double lo, double hi, int *out)
 {
     if (!cJSON_IsNumber(item)) return -1;
     double v = item->valuedouble;
     if (!isfinite(v) || v != floor(v) || v < lo || v > hi) return -1;
     *out = (int)v;
+    return 0;
+}
+
+/* A point [x, y] of finite numbers within the reader's coordinate limit. */
+int lt_json_point(const cJSON *item, lt_point *p)
+{
+    if (!cJSON_IsArray(item) || cJSON_GetArraySize(item) != 2) return -1;
+    const cJSON *x = cJSON_GetArrayItem(item, 0), *y = cJSON_GetArrayItem(item, 1);
+    if (!cJSON_IsNumber(x) || !cJSON_IsNumber(y)) return -1;
+    if (!(fabs(x->valuedouble) <= LT_SCORE_MAX_COORD && fabs(y->valuedouble) <= LT_SCORE_MAX_COORD))
+        return -1;
+    p->x = x->valuedouble;
+    p->y = y->valuedouble;
+    return 0;
+}
+
+/* The quad of a line or block: its "quad" (4 points) or, when it has none, the corners of its
+ * "box" [left, top, right, bottom]. -1 when neither is valid. */
+int lt_json_quad(const cJSON *obj, lt_point *q)
+{
+    const cJSON *quad = cJSON_GetObjectItemCaseSensitive(obj, "quad");
+    if (quad) {
+        if (!cJSON_IsArray(quad) || cJSON_GetArraySize(quad) != 4) return -1;
+        for (int i = 0; i < 4; i++)
+            if (lt_json_point(cJSON_GetArrayItem(quad, i), &q[i])) return -1;
+        return 0;
+    }
+    const cJSON *box = cJSON_GetObjectItemCaseSensitive(obj, "box");
+    if (!cJSON_IsArray(box) || cJSON_GetArraySize(box) != 4) return -1;
+    int v[4];
+    for (int i = 0; i < 4; i++)
+        if (lt_json_int(cJSON_GetArrayItem(box, i), -LT_SCORE_MAX_COORD, LT_SCORE_MAX_COORD, &v[i]))
+            return -1;
+    q[0] = (lt_point){v[0], v[1]};
+    q[1] = (lt_point){v[2], v[1]};
+    q[2] = (lt_point){v[2], v[3]};
+    q[3] = (lt_point){v[0], v[3]};
     return 0;
 }
 
@@ -71,7 +108,7 @@ static int add_entry(lt_layout_file *f, const cJSON *obj, size_t start, size_t e
     if (!cJSON_IsObject(obj))
         return lt_error_set(err, LT_EPARSE, "%s: JSON value %d is not an object", f->name, count);
     const cJSON *p = cJSON_GetObjectItemCaseSensitive(obj, "page");
-    if (p && json_int(p, 1, INT32_MAX, &number))
+    if (p && lt_json_int(p, 1, INT32_MAX, &number))
         return lt_error_set(err, LT_EPARSE, "%s: object %d: \"page\" is not a page number",
                             f->name, count);
     if (f->count == *cap) {
@@ -201,7 +238,7 @@ int lt_layout_file_find(const lt_layout_file *f, const char *image, int page, in
     if (cJSON_IsString(error))
         rc = lt_error_set(err, LT_EPARSE, "%s: page %d is an error record: %s", f->name, page,
                           error->valuestring);
-    else if (jp && json_int(jp, 1, INT32_MAX, &pages))
+    else if (jp && lt_json_int(jp, 1, INT32_MAX, &pages))
         rc = lt_error_set(err, LT_EPARSE, "%s: page %d: \"pages\" is not a page count", f->name,
                           page);
     else if (jp && pages != image_pages)

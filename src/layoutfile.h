@@ -29,4 +29,12 @@ void lt_layout_file_free(lt_layout_file *f);
 int lt_layout_file_find(const lt_layout_file *f, const char *image, int page, int image_pages,
                         cJSON **out, lt_error *err);
 
+/* Reads an integral JSON number in [lo, hi]; -1 when `item` is not one. */
+int lt_json_int(const cJSON *item, double lo, double hi, int *out);
+/* A point [x, y] of finite numbers within the reader's coordinate limit; -1 when not one. */
+int lt_json_point(const cJSON *item, lt_point *p);
+/* The quad of a line or block: its "quad" (4 points) or, when it has none, the corners of its
+ * "box" [left, top, right, bottom]. -1 when neither is valid. */
+int lt_json_quad(const cJSON *obj, lt_point *q);
+
 #endif

@@ -1,8 +1,10 @@
 #!/bin/sh
 # crop.sh: automake test of `lineate crop`: one PNG per text line in reading order with a JSON
 # Lines manifest; plain crops against PIL's own crop of the page; --rectify against a known
-# rotation; --binary against scikit-image's Sauvola; 1-bit pages, multi-page TIFF, name
-# collisions, bad inputs, an unwritable folder, usage errors, and the man page's CROP section.
+# rotation; --binary against scikit-image's Sauvola; 1-bit pages, multi-page TIFF, names
+# mirrored and collisions refused, bad inputs, an unwritable folder, usage errors, threads,
+# a run killed and resumed, crops from a saved and a hand-corrected layout, the analysis
+# options, the manifest against its JSON Schema, and the man page's CROP section.
 # Environment (set by `make check`): top_srcdir, top_builddir, PYTHON3; defaults ., . and
 # /usr/bin/python3. Exit status: 0 pass, 1 fail, 77 skip (no python3 with PIL and numpy).
 #
@@ -10,7 +12,8 @@
 # cuts the reference rectangles (Image.crop); PIL's Image.rotate(4, BILINEAR, expand=True) is
 # the known transformation the rectified crops must undo; skimage.filters.threshold_sauvola
 # (python3-skimage) is the reference binarization, T = m (1 + k (s / R - 1)) after Sauvola &
-# Pietikainen (2000).
+# Pietikainen (2000); python3-jsonschema validates every manifest record against
+# schema/lineate-crop.schema.json.
 
 # Runs are bounded generously: sanitizer builds are several times slower.
 test_name=crop test_modules="PIL.Image, numpy" test_timeout=300
@@ -35,7 +38,7 @@ def manifest(d):
     return [json.loads(l) for l in open(os.path.join(d, "manifest.jsonl"), encoding="utf-8")]
 
 def crops(d):
-    return [r for r in manifest(d) if "error" not in r]
+    return [r for r in manifest(d) if r["kind"] == "line"]
 
 def load(d, r):
     """A crop decoded by PIL, as a numpy array; its size must be the manifest's."""
@@ -65,18 +68,18 @@ def cmd_layout(d, layout_json, page_path, name, margin):
     order, named NAME-p0001-lLLLL.png, box, quad and block as in the layout, cut box = box
     grown by the margin, nothing else in the folder (no temporary file)."""
     page = json.load(open(layout_json))
-    rs = manifest(d)
+    rs = crops(d)
     if len(rs) != len(page["lines"]) or len(rs) == 0:
         die("%d manifest records, %d lines" % (len(rs), len(page["lines"])))
     pngs = sorted(f for f in os.listdir(d) if f.endswith(".png"))
     if len(pngs) != len(rs):
         die("%d PNG files, %d records" % (len(pngs), len(rs)))
-    extra = set(os.listdir(d)) - set(pngs) - {"manifest.jsonl"}
+    extra = set(os.listdir(d)) - set(pngs) - {"manifest.jsonl", name + ".crops.jsonl"}
     if extra:
         die("unexpected files: %s" % sorted(extra))
     for i, (r, l) in enumerate(zip(rs, page["lines"]), 1):
         want = "%s-p0001-l%04d.png" % (name, i)
-        if r["file"] != want or r["line"] != i or r["page"] != 1 or r["pages"] != 1:
+        if r["file"] != want or r["line"] != i or r["order"] != i or r["page"] != 1 or r["pages"] != 1:
             die("record %d: file %s line %s page %s" % (i, r["file"], r["line"], r["page"]))
         if r["box"] != l["box"] or r["quad"] != l["quad"] or r["block"] != l["block"]:
             die("record %d: box/quad/block differ from the layout: %r %r" % (i, r, l))
@@ -240,8 +243,10 @@ def cmd_records(d, spec):
     null when the file did not open); every crop's file exists."""
     out, last = [], None
     for r in manifest(d):
+        if r["kind"] == "page":
+            continue
         if "error" in r:
-            if not r["error"] or r["format"] != "lineate-crop-1" or "file" in r:
+            if not r["error"] or r["format"] != "lineate-crop-2" or "file" in r:
                 die("bad error record %r" % r)
             out.append("%s:error:%s" % (r["source"], "null" if r["page"] is None else r["page"]))
             last = None
@@ -269,6 +274,82 @@ def cmd_names(d, *prefixes):
         expect += 1
     if seen != list(prefixes):
         die("name prefixes %s, expected %s" % (seen, list(prefixes)))
+
+def cmd_schema(schema_path, *dirs):
+    """Every record of every manifest (and page manifest) is valid against the JSON Schema
+    (python3-jsonschema, Draft 2020-12), and each page record is followed by as many line
+    records as it announces."""
+    try:
+        import jsonschema
+        validator = jsonschema.Draft202012Validator(json.load(open(schema_path)))
+    except (ImportError, AttributeError):
+        print("jsonschema >= 4 not available: schema validation skipped")
+        return
+    n = 0
+    for d in dirs:
+        for root, _, files in os.walk(d):
+            for f in files:
+                if not f.endswith(".jsonl"):
+                    continue
+                want = 0
+                for line in open(os.path.join(root, f), encoding="utf-8"):
+                    r = json.loads(line)
+                    errors = list(validator.iter_errors(r))
+                    if errors:
+                        die("%s: %s" % (os.path.join(root, f), errors[0].message))
+                    if r["kind"] == "page":
+                        if want:
+                            die("%s: %d line records missing" % (f, want))
+                        want = r["lines"]
+                    elif r["kind"] == "line":
+                        want -= 1
+                    n += 1
+                if want:
+                    die("%s: %d line records missing" % (f, want))
+    if n == 0:
+        die("no records")
+
+def cmd_killed_pages(d):
+    """What a killed run left: every page manifest complete (its crops in place), no
+    manifest.jsonl yet, and at least one page done but not all."""
+    done = 0
+    for root, _, files in os.walk(d):
+        for f in files:
+            if f.endswith(".crops.jsonl"):
+                rs = [json.loads(l) for l in open(os.path.join(root, f))]
+                if rs[0]["kind"] != "page" or len(rs) != rs[0]["lines"] + 1:
+                    die("%s: incomplete" % f)
+                for r in rs[1:]:
+                    if not os.path.isfile(os.path.join(d, r["file"])):
+                        die("%s: %s missing" % (f, r["file"]))
+                done += 1
+    if done == 0 or os.path.exists(os.path.join(d, "manifest.jsonl")):
+        die("%d pages done, manifest.jsonl present: %s" % (done, os.path.exists(os.path.join(d, "manifest.jsonl"))))
+
+def cmd_hand_layout(src, dst):
+    """A hand-corrected layout: the first line's quad replaced by the rectangle
+    [100, 120, 700, 190) and the first two blocks swapped in reading order."""
+    page = json.load(open(src))
+    page["lines"][0]["quad"] = [[100, 120], [700, 120], [700, 190], [100, 190]]
+    page["lines"][0]["box"] = [100, 120, 700, 190]
+    page["blocks"][0], page["blocks"][1] = page["blocks"][1], page["blocks"][0]
+    json.dump(page, open(dst, "w"))
+
+def cmd_hand_crops(d, layout, page_path):
+    """The crops follow the hand-corrected layout: the lines of its first block first, then
+    the second's (order 1, 2, ... in the order the blocks list them), and the edited line cut
+    at its new rectangle (--margin 0: PIL's crop of exactly that box)."""
+    page = json.load(open(layout))
+    want = [i + 1 for b in page["blocks"] for i in b["lines"]]
+    rs = crops(d)
+    if [r["line"] for r in rs][:len(want)] != want or [r["order"] for r in rs] != list(range(1, len(rs) + 1)):
+        die("order: lines %s, expected %s" % ([r["line"] for r in rs][:12], want[:12]))
+    edited = [r for r in rs if r["line"] == 1]
+    if len(edited) != 1 or edited[0]["cut_box"] != [100, 120, 700, 190]:
+        die("edited line: %r" % edited)
+    ref = np.asarray(Image.open(page_path).convert("L").crop((100, 120, 700, 190)))
+    if not (load(d, edited[0]) == ref).all():
+        die("the edited line's crop differs from PIL's crop")
 
 def cmd_pages(out_dir, src, *names_sizes):
     """Writes the images of a test: NAME=PAGE:TOP:BOTTOM[:1bit] cuts rows of a testdata page;
@@ -317,7 +398,7 @@ def cmd_options(man_path, help_path):
     lines = open(man_path, encoding="utf-8").read().splitlines()
     k = lines.index(".SS Crop options")
     e = next(n for n in range(k + 1, len(lines)) if re.match(r"\.S[SH] ", lines[n]))
-    tags = " ".join(lines[n + 1] for n in range(k, e - 1) if lines[n].startswith(".TP"))
+    tags = " ".join(lines[n + 1] for n in range(k, e - 1) if lines[n].startswith((".TP", ".TQ")))
     in_man = sorted(set(re.findall(r"--[a-z][a-z-]*", tags.replace("\\-", "-"))))
     in_help = sorted(set(m.group(1) for m in (re.match(r"\s+(?:-[A-Za-z], )?(--[a-z][a-z-]*)", l)
                                               for l in open(help_path)) if m))
@@ -327,14 +408,24 @@ def cmd_options(man_path, help_path):
 globals()["cmd_" + sys.argv[1].replace("-", "_")](*sys.argv[2:])
 EOF
 
-news="$testdata/newsletter.png"
-minutes="$testdata/minutes.png"
+cp "$testdata/newsletter.png" "$testdata/minutes.png" .
+news=newsletter.png
+minutes=minutes.png
+# quiet: the last crop ran with exit 0, nothing on stdout, and nothing on stderr but the
+# closing summary lines.
+quiet() {
+    test "$rc" -eq 0 -a ! -s out && ! grep -v -e ' pages done, ' -e ' line images written$' err | grep -q .
+}
 
 # ---- the newsletter: one crop per line, in reading order, equal to PIL's crops ------------------
 $limit "$lineate" "$news" >news.json 2>err
 check "lineate on the newsletter: exit 0" test "$?" -eq 0 -a ! -s err
 crop "$news" --out-dir plain
-check "crop: exit 0, nothing on stdout or stderr" test "$rc" -eq 0 -a ! -s out -a ! -s err
+check "crop: exit 0, nothing on stdout, a summary on stderr" quiet
+n_lines=$("$python" -c 'import json, sys; print(len(json.load(open(sys.argv[1]))["lines"]))' news.json)
+check "crop: the summary counts the page and its $n_lines line images" \
+    test -n "$(grep '^lineate: 1 pages done, 0 failed, 0 skipped' err)" -a \
+    -n "$(grep "^lineate: $n_lines line images written" err)"
 check "crop: one PNG per line of 'lineate FILE', records in reading order, default margins" \
     py layout plain news.json "$news" newsletter auto
 check "crop: every crop decodes with PIL at its manifest size and equals PIL's crop of the page" \
@@ -359,7 +450,7 @@ check "--rectify on a page without skew: the page itself at the cut box (white o
 # ---- --rectify against a known rotation ---------------------------------------------------------
 py rotate "$minutes" minutes-rot4.png 4
 crop --rectify minutes-rot4.png --out-dir rot-rect
-check "--rectify on the rotated minutes: exit 0, nothing on stderr" test "$rc" -eq 0 -a ! -s err
+check "--rectify on the rotated minutes: exit 0, nothing on stderr but the summary" quiet
 crop minutes-rot4.png --out-dir rot-plain
 crop "$minutes" --out-dir minutes-level
 check "rectified crops undo PIL's 4-degree rotation: level bands, sizes, correlation" \
@@ -367,7 +458,7 @@ check "rectified crops undo PIL's 4-degree rotation: level bands, sizes, correla
 
 # ---- --binary -----------------------------------------------------------------------------------
 crop --binary "$news" --out-dir binary
-check "--binary: exit 0" test "$rc" -eq 0 -a ! -s err
+check "--binary: exit 0" quiet
 if "$python" -c 'import skimage.filters' >/dev/null 2>&1; then
     check "--binary crops hold only 0 and 255 and agree with skimage's Sauvola of the page" \
         py binary binary "$news"
@@ -376,36 +467,40 @@ else
     check "--binary crops hold only 0 and 255" py only01 binary
 fi
 crop --binary --rectify minutes-rot4.png --out-dir rot-binary
-check "--binary --rectify on a skewed page: exit 0" test "$rc" -eq 0 -a ! -s err
+check "--binary --rectify on a skewed page: exit 0" quiet
 check "--binary --rectify on a skewed page: only 0 and 255" py only01 rot-binary
 
 # ---- 1-bit pages, multi-page TIFF, folders, names shared by several inputs ----------------------
 py pages . "$testdata" in/a/scan.png=newsletter:250:1000 in/b/scan.png=minutes:250:900 \
     in/c/scan.png=bulletin:300:800:1bit in/scan.tif=in/a/scan.png,in/b/scan.png,in/c/scan.png
 crop in/c/scan.png --out-dir onebit
-check "a 1-bit page: exit 0" test "$rc" -eq 0 -a ! -s err
+check "a 1-bit page: exit 0" quiet
 check "a 1-bit page: crops of 0 and 255 only" py only01 onebit
 check "a 1-bit page: crops equal PIL's crops of the page converted to 8-bit gray" \
     py same-as-pil onebit in/c/scan.png
-crop in/a/scan.png in/b/scan.png in/scan.tif in/a/scan.png --out-dir shared
-check "inputs sharing a base name: exit 0" test "$rc" -eq 0 -a ! -s err
-check "shared names become NAME, NAME~2, NAME~3 ... in input order; TIFF pages p0001..p0003" \
-    py names shared scan-p0001 scan~2-p0001 scan~3-p0001 scan~3-p0002 scan~3-p0003 scan~4-p0001
+crop in/a/scan.png in/b/scan.png in/scan.tif in/a/scan.png --out-dir twice
+check "the same input twice: refused at start, exit 2, one line naming it, nothing written" \
+    test "$rc" -eq 2 -a "$(nlines err)" -eq 1 -a ! -e twice -a \
+    -n "$(grep -F 'in/a/scan.png and in/a/scan.png would both write twice/in/a/scan.crops.jsonl' err)"
+crop in/a/scan.png in/b/scan.png in/scan.tif --out-dir shared
+check "inputs sharing a base name: exit 0" quiet
+check "names mirror the paths given (in/a/scan, in/b/scan); TIFF pages p0001..p0003" \
+    py names shared in/a/scan-p0001 in/b/scan-p0001 in/scan-p0001 in/scan-p0002 in/scan-p0003
 check "the manifest follows input, page and line order" \
     py records shared "in/a/scan.png:1 in/b/scan.png:1 in/scan.tif:1 in/scan.tif:2
-        in/scan.tif:3 in/a/scan.png:1"
+        in/scan.tif:3"
 crop in --out-dir folder
-check "a folder: exit 0" test "$rc" -eq 0 -a ! -s err
+check "a folder: exit 0" quiet
 check "a folder: its images at any depth, in byte order of their paths" \
     py records folder "in/a/scan.png:1 in/b/scan.png:1 in/c/scan.png:1 in/scan.tif:1
         in/scan.tif:2 in/scan.tif:3"
-# tiff_same: each page of in/scan.tif (scan~4 in the folder run) gave byte-identical crops to
-# the PNG file holding the same pixels (scan, scan~2, scan~3).
+# tiff_same: each page of in/scan.tif gave byte-identical crops to the PNG file holding the
+# same pixels (a/scan, b/scan, c/scan below the folder).
 tiff_same() {
     for p in 1 2 3; do
-        case $p in 1) png=scan ;; 2) png=scan~2 ;; *) png=scan~3 ;; esac
+        case $p in 1) png=a/scan ;; 2) png=b/scan ;; *) png=c/scan ;; esac
         n=0
-        for f in folder/scan~4-p000$p-l*.png; do
+        for f in folder/scan-p000$p-l*.png; do
             [ -e "$f" ] && cmp -s "$f" "folder/$png-p0001-${f##*-}" || return 1
             n=$((n + 1))
         done
@@ -420,12 +515,13 @@ mkdir in/empty-folder
 crop in/a/scan.png in/missing.png in/truncated.png in/empty-folder in/b/scan.png --out-dir bad
 check "a missing file, a truncated PNG and an empty folder among good files: exit 1" \
     test "$rc" -eq 1 -a ! -s out
+grep -v -e ' pages done, ' -e ' line images written$' err >err-lines
 check "bad inputs: one stderr line each, naming the file" \
-    test "$(nlines err)" -eq 3 -a "$(grep -c -F in/missing.png err)" -eq 1 -a \
-    "$(grep -c -F in/truncated.png err)" -eq 1 -a "$(grep -c -F in/empty-folder err)" -eq 1
-check "bad inputs: an error record for each in input order, crops for the good files" \
+    test "$(nlines err-lines)" -eq 3 -a "$(grep -c -F in/missing.png err-lines)" -eq 1 -a \
+    "$(grep -c -F in/truncated.png err-lines)" -eq 1 -a "$(grep -c -F in/empty-folder err-lines)" -eq 1
+check "bad inputs: an error record for each file in input order, crops for the good files" \
     py records bad "in/a/scan.png:1 in/missing.png:error:null in/truncated.png:error:1
-        in/empty-folder:error:null in/b/scan.png:1"
+        in/b/scan.png:1"
 # same_crops A B PREFIX: the crops PREFIX-* of folder A are in B, byte for byte.
 same_crops() {
     n=0
@@ -436,11 +532,11 @@ same_crops() {
     [ "$n" -gt 0 ]
 }
 check "bad inputs: the good files' crops are those of a run without them" \
-    same_crops shared bad scan-p0001
+    same_crops shared bad in/a/scan-p0001
 check "bad inputs: the good files' crops are those of a run without them (second file)" \
-    same_crops shared bad scan~2-p0001
+    same_crops shared bad in/b/scan-p0001
 check "bad inputs: no temporary file left" \
-    test "$(ls bad | grep -v -c -e '\.png$' -e '^manifest\.jsonl$')" -eq 0
+    test "$(find bad -type f | grep -v -c -e '\.png$' -e '\.jsonl$')" -eq 0
 
 # ---- an unwritable output folder: exit 3, no manifest -------------------------------------------
 : >a-file
@@ -483,6 +579,77 @@ in/a/scan.png|--out-dir
 EOF
 check "usage errors create no output folder" test ! -e never
 
+# ---- threads, a killed run resumed -----------------------------------------------------------
+# The pages of the corpus excerpt in testdata/corpus (4 pages) and three test pages.
+mkdir many
+cp "$testdata"/corpus/*.png many/
+cp "$testdata/newsletter.png" "$testdata/minutes.png" "$testdata/bulletin.png" many/
+crop -j 1 many --out-dir threads1
+check "-j 1 over 7 pages: exit 0" quiet
+crop -j 2 many --out-dir threads2
+check "-j 2 gives the crops and manifests of -j 1, byte for byte" diff -r threads1 threads2
+check "-j 2: the summary names 2 threads" grep -q ' 2 threads$' err
+"$lineate" crop -j 1 many --out-dir killed 2>/dev/null & # no timeout wrapper: $! is lineate
+pid=$!
+i=0
+while [ "$(find killed -name '*.crops.jsonl' 2>/dev/null | wc -l)" -lt 3 ] && [ $i -lt 1200 ]; do
+    sleep 0.05
+    i=$((i + 1))
+done
+kill -9 $pid 2>/dev/null
+wait $pid 2>/dev/null
+check "a run killed after some pages: their page manifests complete, no manifest.jsonl yet" \
+    py killed-pages killed
+crop -j 2 --resume many --out-dir killed
+check "the run resumed with -j 2: exit 0, the pages done skipped" \
+    test "$rc" -eq 0 && grep -q ' [1-9] skipped' err
+check "the resumed run gives the crops and manifests of an uninterrupted one, byte for byte" \
+    diff -r threads1 killed
+crop -j 2 --resume many --out-dir killed
+check "resumed again: every page skipped" grep -q '0 pages done, 0 failed, 7 skipped' err
+rm killed/bulletin-p0001-l0003.png
+crop --resume many --out-dir killed
+check "a crop file lost: its page redone, the others skipped" \
+    grep -q '1 pages done, 0 failed, 6 skipped' err && diff -r threads1 killed
+crop --resume --margin 0 many/bulletin.png --out-dir killed
+check "resumed with other settings: the page is not taken as done" grep -q '1 pages done' err
+
+# ---- crops from a saved layout, and from a hand-corrected one --------------------------------
+$limit "$lineate" many >many.jsonl 2>/dev/null
+crop --layout many.jsonl many --out-dir saved
+check "--layout: exit 0" quiet
+check "--layout with the stream of the same run: the same crops as the analysis" \
+    diff -r -x '*.jsonl' threads1 saved
+check "--layout: the manifest differs only in naming the layout" \
+    sh -c 'sed "s|\"layout\":\"many.jsonl\"|\"layout\":\"analysis\"|" saved/manifest.jsonl | cmp -s - threads1/manifest.jsonl'
+py hand-layout news.json hand.json
+crop --layout hand.json --margin 0 "$news" --out-dir hand
+check "--layout hand-corrected: exit 0" quiet
+check "--layout hand-corrected: crops in its reading order, the edited line at its new box" \
+    py hand-crops hand hand.json "$news"
+crop --layout hand.json "$minutes" --out-dir wrong
+check "--layout of another image: exit 1, one line naming the layout and both sources" \
+    test "$rc" -eq 1 -a -n "$(grep -F "hand.json: the layout of page 1 is of $news, not of $minutes" err)"
+
+# ---- the analysis options of the main command ---------------------------------------------------
+$limit "$lineate" --rtl "$news" >news-rtl.json 2>/dev/null
+crop --rtl "$news" --out-dir rtl
+check "--rtl: the crops follow the right-to-left layout of 'lineate --rtl'" \
+    py layout rtl news-rtl.json "$news" newsletter auto
+check "--rtl: a reading order other than the default's" \
+    test "$(cmp -s news.json news-rtl.json; echo $?)" -ne 0
+$limit "$lineate" --window 31 --k 0.2 --max-skew 3 --dpi 200 --force-dpi "$news" >news-opts.json 2>/dev/null
+crop --window 31 --k 0.2 --max-skew 3 --dpi 200 --force-dpi "$news" --out-dir opts
+check "--window, --k, --max-skew, --dpi, --force-dpi: the crops of that analysis" \
+    py layout opts news-opts.json "$news" newsletter auto
+crop --max-pixels 1000 "$news" --out-dir small
+check "--max-pixels: the page refused, exit 1, an error record" \
+    test "$rc" -eq 1 && py records small "newsletter.png:error:1"
+printf '%s\n' "$news" >list
+crop --from list --progress --out-dir from
+check "--from and --progress: the listed page, a progress line" \
+    test "$rc" -eq 0 && grep -q 'progress: 1/1 files' err && diff -r -x '*.jsonl' plain from
+
 # ---- help and the man page ----------------------------------------------------------------------
 crop --help
 check "crop --help: exit 0, usage on stdout" test "$rc" -eq 0 -a -s out -a ! -s err
@@ -491,6 +658,9 @@ check "crop --help and the man page's crop options list the same long options" \
     py options "$man" crop-help.txt
 check "every manifest field written above is described in the man page's CROP section" \
     py documented "$man" plain rot-rect binary shared bad
+check "every manifest record is valid against schema/lineate-crop.schema.json" \
+    py schema "$srcdir/schema/lineate-crop.schema.json" plain level rot-rect binary shared folder \
+    bad threads1 threads2 killed hand
 check "the man page SYNOPSIS shows the crop command" grep -q '^\.B lineate crop$' "$man"
 
 echo "crop.sh: $passed passed, $failed failed"
