@@ -75,7 +75,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#define USAGE "usage: lineate score [--json] [--per-page] TRUTH PRED"
+#define USAGE "usage: lineate score [--json] [--per-page] [--match box|ink [--images DIR]] TRUTH PRED"
 
 enum { ST_SCORED = 0, ST_MISSING, ST_FAILED, ST_UNREADABLE, ST_SKIPPED };
 static const char *const status_names[] = {"scored", "missing", "failed", "unreadable", "skipped"};
@@ -91,7 +91,10 @@ typedef struct result {
 typedef struct results {
     result *items;
     int count, cap;
-    int read_failures; /* files that could not be read (exit status 1) */
+    int read_failures;      /* files that could not be read (exit status 1) */
+    int match_ink;          /* --match ink: lines matched on the ink of the truth's image */
+    const char *images_dir; /* --images DIR, or NULL */
+    const char *truth_path; /* the truth file being scored (its folder holds its images) */
 } results;
 
 typedef struct summary {
@@ -182,6 +185,91 @@ static void results_free(results *r)
 /* Scores truth[0..ntruth) against pred[0..ntruth) (pred NULL: each scored as a page with no
  * lines, with status `absent_status`). Results are named `name`, or "name:PAGE" when
  * `numbered`. Returns 0 or a negative code with a message in err. */
+/* The page image of truth page t for --match ink: with --images DIR, DIR/BASE (BASE the
+ * base name of the page's image or source); else the name as the truth gives it when
+ * absolute, else beside the truth file (as given, then its base name), else as given from the
+ * working folder. Returns a new string, or NULL when none is a file (*oom set when out of
+ * memory). */
+static char *find_page_image(const results *r, const lt_scored_page *t, int *oom)
+{
+    *oom = 0;
+    const char *src = t->source && *t->source ? t->source : NULL;
+    if (!src) return NULL;
+    char *dir = NULL;
+    if (!r->images_dir && strcmp(r->truth_path, "-") != 0) {
+        const char *slash = strrchr(r->truth_path, '/');
+        dir = slash ? strndup(r->truth_path, (size_t)(slash - r->truth_path) + 1) : xstrdup(".");
+        if (!dir) {
+            *oom = 1;
+            return NULL;
+        }
+    }
+    char *cand[4] = {NULL, NULL, NULL, NULL};
+    int n = 0;
+    if (r->images_dir) {
+        cand[n++] = join_path(r->images_dir, base_name(src));
+    } else if (src[0] == '/') {
+        cand[n++] = xstrdup(src);
+    } else {
+        if (dir) {
+            cand[n++] = join_path(dir, src);
+            cand[n++] = join_path(dir, base_name(src));
+        }
+        cand[n++] = xstrdup(src);
+    }
+    free(dir);
+    char *found = NULL;
+    for (int i = 0; i < n; i++) {
+        struct stat st;
+        if (!cand[i]) *oom = 1;
+        if (!found && cand[i] && stat(cand[i], &st) == 0 && S_ISREG(st.st_mode)) {
+            found = cand[i];
+            cand[i] = NULL;
+        }
+        free(cand[i]);
+    }
+    return found;
+}
+
+/* The ink table of truth page t's image for --match ink: the page (t->page of the file)
+ * decoded and binarized as the analysis does (Sauvola with lineate's default window, k and
+ * R, at the file's resolution or 300 dpi); its size must be the truth page's. */
+static int load_page_ink(const results *r, const char *name, const lt_scored_page *t,
+                         lt_ink_table **out, lt_error *err)
+{
+    *out = NULL;
+    int oom;
+    char *path = find_page_image(r, t, &oom);
+    if (!path)
+        return oom ? lt_error_set(err, LT_ENOMEM, "out of memory")
+                   : lt_error_set(err, LT_EIO,
+                                  "%s: --match ink: cannot find the page image \"%.120s\" (give "
+                                  "its folder with --images DIR)",
+                                  name, t->source ? t->source : "");
+    lt_params params;
+    lt_params_default(&params);
+    lt_source *src = NULL;
+    lt_image *img = NULL, *ink = NULL;
+    int rc = lt_source_open(path, LT_DEFAULT_MAX_PAGES, &src, err);
+    if (!rc && (t->page < 1 || t->page > lt_source_pages(src)))
+        rc = lt_error_set(err, LT_EFORMAT, "%s: has no page %d", path, t->page);
+    if (!rc) rc = lt_source_read_page(src, t->page - 1, params.max_pixels, &img, err);
+    if (!rc && (img->width != t->width || img->height != t->height))
+        rc = lt_error_set(err, LT_EFORMAT, "%s: the image is %dx%d, the truth page of %s %dx%d",
+                          path, img->width, img->height, name, t->width, t->height);
+    if (!rc && img->kind == LT_IMAGE_GRAY) {
+        const double dpi = img->dpi > 0 ? img->dpi : params.dpi;
+        rc = lt_binarize_sampled(img, lt_sauvola_window_px(&params, dpi), params.sauvola_k,
+                                 params.sauvola_r, &ink, err);
+    }
+    if (!rc) rc = lt_ink_table_new(ink ? ink : img, t->has_skew ? t->skew_deg : 0, out, err);
+    lt_image_free(ink);
+    lt_image_free(img);
+    lt_source_free(src);
+    free(path);
+    return rc;
+}
+
 static int score_pages(results *r, const char *name, const lt_scored_page *truth, int ntruth,
                        const lt_scored_page *pred, int absent_status, int numbered, lt_error *err)
 {
@@ -199,7 +287,12 @@ static int score_pages(results *r, const char *name, const lt_scored_page *truth
             fprintf(stderr, "lineate: warning: %s: predicted page is %dx%d, truth %dx%d\n", e->name,
                     p->width, p->height, t->width, t->height);
         lt_error why = {0};
-        int rc = lt_score_page(t, p, &e->s, &why);
+        lt_ink_table *ink = NULL;
+        const int need_ink = r->match_ink && !p->failed && p->nlines > 0 && t->nlines > 0;
+        int rc = need_ink ? load_page_ink(r, e->name, t, &ink, &why) : 0;
+        if (rc) return lt_error_set(err, rc, "%s", why.message);
+        rc = lt_score_page_ink(t, p, ink, &e->s, &why);
+        lt_ink_table_free(ink);
         if (rc) return lt_error_set(err, rc, "%s: %s", e->name, why.message);
     }
     return 0;
@@ -597,6 +690,7 @@ static int run_files(const char *truth_path, const char *pred_path, results *r)
     lt_error err = {0};
     lt_scored_page *tp = NULL, *pp = NULL;
     int nt = 0, np = 0;
+    r->truth_path = truth_path;
     int rc = lt_scored_pages_read(truth_path, &tp, &nt, &err);
     if (!rc) rc = lt_scored_pages_read(pred_path, &pp, &np, &err);
     if (!rc && nt != np)
@@ -796,6 +890,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
         lt_error err = {0};
         lt_scored_page *tp = NULL, *pp = NULL;
         int nt = 0, np = 0;
+        r->truth_path = tpath;
         if (lt_scored_pages_read(tpath, &tp, &nt, &err)) {
             fprintf(stderr, "lineate: %s\n", err.message);
             r->read_failures++;
@@ -826,6 +921,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
         lt_scored_pages_free(tp, nt);
         lt_scored_pages_free(pp, np);
         free(ppath);
+        r->truth_path = NULL;
         free(tpath);
     }
     names_free(&names);
@@ -859,6 +955,11 @@ static void print_help(void)
                 "subsequence / lines covered), backward steps, and lines no prediction covers.\n"
                 "\n"
                 "  --per-page   also print one row per page\n"
+                "  --match ink  match lines on the ink their boxes hold in the truth's page\n"
+                "               image (IoU of ink pixels), not on box areas; for truth\n"
+                "               drawn loosely around the text (--match box: the default)\n"
+                "  --images DIR with --match ink: the page images are DIR/NAME (NAME the\n"
+                "               truth's image file name); default: beside the truth file\n"
                 "  --json       print the results as one JSON object\n"
                 "  --help       print this help and exit\n"
                 "\n"
@@ -869,8 +970,8 @@ static void print_help(void)
 
 int lt_cmd_score(int argc, char **argv)
 {
-    int json = 0, per_page = 0, npos = 0, opts_done = 0;
-    const char *pos[2] = {NULL, NULL};
+    int json = 0, per_page = 0, npos = 0, opts_done = 0, match_ink = 0;
+    const char *pos[2] = {NULL, NULL}, *images = NULL;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i];
         if (!opts_done && a[0] == '-' && a[1] != '\0') {
@@ -880,6 +981,21 @@ int lt_cmd_score(int argc, char **argv)
                 json = 1;
             else if (strcmp(a, "--per-page") == 0)
                 per_page = 1;
+            else if (strcmp(a, "--match") == 0 || strcmp(a, "--images") == 0) {
+                if (i + 1 >= argc) {
+                    usage_error("option '%s' needs a value", a);
+                    return LT_EXIT_USAGE;
+                }
+                const char *v = argv[++i];
+                if (a[2] == 'i') {
+                    images = v;
+                } else if (strcmp(v, "box") == 0 || strcmp(v, "ink") == 0) {
+                    match_ink = v[0] == 'i';
+                } else {
+                    usage_error("--match: '%s' is not box or ink", v);
+                    return LT_EXIT_USAGE;
+                }
+            }
             else if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) {
                 print_help();
                 return fflush(stdout) == 0 && !ferror(stdout) ? LT_EXIT_OK : LT_EXIT_OUTPUT;
@@ -897,6 +1013,10 @@ int lt_cmd_score(int argc, char **argv)
     }
     if (npos < 2) {
         usage_error("%s", npos == 0 ? "missing TRUTH and PRED" : "missing PRED");
+        return LT_EXIT_USAGE;
+    }
+    if (images && !match_ink) {
+        usage_error("%s", "--images goes with --match ink");
         return LT_EXIT_USAGE;
     }
     if (strcmp(pos[0], "-") == 0 && strcmp(pos[1], "-") == 0) {
@@ -922,6 +1042,8 @@ int lt_cmd_score(int argc, char **argv)
     }
 
     results r = {0};
+    r.match_ink = match_ink;
+    r.images_dir = images;
     int rc = is_dir[0] ? run_dirs(pos[0], pos[1], &r) : run_files(pos[0], pos[1], &r);
     if (rc) {
         results_free(&r);

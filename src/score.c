@@ -6,6 +6,8 @@
  * functions: no I/O. */
 #include "score.h"
 
+#include "internal.h"
+
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -131,26 +133,120 @@ static int cmp_match_truth(const void *a, const void *b)
     return (x->truth > y->truth) - (x->truth < y->truth);
 }
 
+/* Below this |skew| a page is scored as it is, not turned level. */
+#define LEVEL_MIN_SKEW_DEG 0.01
+
+/* ---- ink ------------------------------------------------------------------------------- */
+
+int lt_ink_table_new(const lt_image *ink, double skew_deg, lt_ink_table **out, lt_error *err)
+{
+    *out = NULL;
+    if (!ink || ink->kind != LT_IMAGE_INK || ink->width <= 0 || ink->height <= 0)
+        return lt_error_set(err, LT_EINVAL, "ink table: no ink image");
+    lt_image *level = NULL;
+    int dx = 0, dy = 0;
+    if (fabs(skew_deg) >= LEVEL_MIN_SKEW_DEG) {
+        int rc = lt_rotate_ink(ink, skew_deg, &level, err);
+        if (rc) return rc;
+        lt_frame f;
+        lt_frame_init(&f, ink->width, ink->height, skew_deg);
+        dx = (int)lround(f.desk_cx - f.orig_cx);
+        dy = (int)lround(f.desk_cy - f.orig_cy);
+        ink = level;
+    } else {
+        skew_deg = 0;
+    }
+    const size_t w1 = (size_t)ink->width + 1, h1 = (size_t)ink->height + 1;
+    lt_ink_table *t = calloc(1, sizeof *t);
+    uint32_t *sum = t ? lt_alloc_array(w1 * h1, sizeof *sum) : NULL;
+    if (!sum) {
+        free(t);
+        lt_image_free(level);
+        return lt_error_set(err, LT_ENOMEM, "ink table: out of memory");
+    }
+    memset(sum, 0, w1 * sizeof *sum);
+    for (size_t y = 1; y < h1; y++) {
+        const uint8_t *row = ink->pixels + (y - 1) * (size_t)ink->width;
+        uint32_t run = 0;
+        sum[y * w1] = 0;
+        for (size_t x = 1; x < w1; x++) {
+            run += row[x - 1] != 0;
+            sum[y * w1 + x] = sum[(y - 1) * w1 + x] + run;
+        }
+    }
+    *t = (lt_ink_table){ink->width, ink->height, sum, skew_deg, dx, dy};
+    lt_image_free(level);
+    *out = t;
+    return 0;
+}
+
+void lt_ink_table_free(lt_ink_table *t)
+{
+    if (!t) return;
+    free(t->sum);
+    free(t);
+}
+
+/* v clipped to [0, hi]. */
+static long clip(long v, long hi)
+{
+    return v < 0 ? 0 : v > hi ? hi : v;
+}
+
+int64_t lt_ink_in_box(const lt_ink_table *t, const lt_box *b)
+{
+    const long l = clip((long)b->left + t->dx, t->width), r = clip((long)b->right + t->dx, t->width);
+    const long top = clip((long)b->top + t->dy, t->height);
+    const long bot = clip((long)b->bottom + t->dy, t->height);
+    if (r <= l || bot <= top) return 0;
+    const size_t w1 = (size_t)t->width + 1;
+    return (int64_t)t->sum[(size_t)bot * w1 + r] - t->sum[(size_t)top * w1 + r] -
+           t->sum[(size_t)bot * w1 + l] + t->sum[(size_t)top * w1 + l];
+}
+
+/* The measure matching compares: a box's area, or the ink it holds when `ink` is given. */
+static int64_t measure(const lt_ink_table *ink, const lt_box *b)
+{
+    return ink ? lt_ink_in_box(ink, b) : lt_box_area(b);
+}
+
 /* The pairs (truth, pred) with IoU >= 0.5, in truth order, into out[] (NULL: only counted),
- * found in each truth box's window of the preds sorted by top (window_start). Returns their
- * number, or a negative LT_E* code past LT_SCORE_MAX_PAIR_TESTS pairs examined or
- * LT_SCORE_MAX_CANDIDATES found. */
+ * found in each truth box's window of the preds sorted by top (window_start). With `ink`
+ * the IoU is that of the ink the boxes hold, and as that says nothing about their areas, the
+ * window takes every prediction whose top lies within the tallest prediction's height above
+ * the truth box. Returns their number, or a negative LT_E* code past LT_SCORE_MAX_PAIR_TESTS
+ * pairs examined or LT_SCORE_MAX_CANDIDATES found. */
 static long find_candidates(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
-                            const sorted_ref *ps, int npred, candidate *out, lt_error *err)
+                            const sorted_ref *ps, int npred, const lt_ink_table *ink,
+                            candidate *out, lt_error *err)
 {
     long ncand = 0, tests = 0;
+    int tallest = 0;
+    for (int p = 0; ink && p < npred; p++)
+        if (pred[p].box.bottom - pred[p].box.top > tallest)
+            tallest = pred[p].box.bottom - pred[p].box.top;
     for (int t = 0; t < ntruth; t++) {
         const lt_box *tb = &truth[t].box;
-        int64_t at = lt_box_area(tb);
+        int64_t at = measure(ink, tb);
         if (at == 0) continue;
-        for (int k = window_start(ps, npred, tb); k < npred && ps[k].top < tb->bottom; k++) {
+        int start = ink ? lower_bound(ps, npred, (long)tb->top - tallest)
+                        : window_start(ps, npred, tb);
+        for (int k = start; k < npred && ps[k].top < tb->bottom; k++) {
             if (++tests > LT_SCORE_MAX_PAIR_TESTS)
                 return lt_error_set(err, LT_ELIMIT, "match: more than %ld overlapping box pairs",
                                     LT_SCORE_MAX_PAIR_TESTS);
             int p = ps[k].index;
-            int64_t ap = lt_box_area(&pred[p].box);
+            int64_t ap = measure(ink, &pred[p].box);
             if (ap == 0) continue;
             int64_t inter = lt_box_intersection(tb, &pred[p].box);
+            if (ink && inter > 0) {
+                const lt_box *pb = &pred[p].box;
+                const lt_box both = {tb->left > pb->left ? tb->left : pb->left,
+                                     tb->top > pb->top ? tb->top : pb->top,
+                                     tb->right < pb->right ? tb->right : pb->right,
+                                     tb->bottom < pb->bottom ? tb->bottom : pb->bottom};
+                inter = lt_ink_in_box(ink, &both);
+            }
             int64_t uni = at + ap - inter;
             if (inter == 0 || 2 * inter < uni) continue;
             if (ncand == LT_SCORE_MAX_CANDIDATES)
@@ -163,8 +259,10 @@ static long find_candidates(const lt_scored_line *truth, int ntruth, const lt_sc
     return ncand;
 }
 
-int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred, int npred,
-                   lt_line_match **matches, int *nmatches, lt_error *err)
+/* Matching by area (ink NULL) or by the ink the boxes hold. */
+static int match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                       int npred, const lt_ink_table *ink, lt_line_match **matches, int *nmatches,
+                       lt_error *err)
 {
     *matches = NULL;
     *nmatches = 0;
@@ -182,7 +280,7 @@ int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line
     }
     /* Counted first, so that the limits are checked before anything is stored, and the
      * candidates then take exactly the memory they need. */
-    long ncand = find_candidates(truth, ntruth, pred, ps, npred, NULL, err);
+    long ncand = find_candidates(truth, ntruth, pred, ps, npred, ink, NULL, err);
     if (ncand < 0) {
         rc = (int)ncand;
         goto done;
@@ -193,7 +291,7 @@ int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line
         rc = lt_error_set(err, LT_ENOMEM, "match: out of memory");
         goto done;
     }
-    find_candidates(truth, ntruth, pred, ps, npred, cand, err);
+    find_candidates(truth, ntruth, pred, ps, npred, ink, cand, err);
     qsort(cand, (size_t)ncand, sizeof *cand, cmp_candidate);
     int cap = ntruth < npred ? ntruth : npred;
     out = malloc((size_t)cap * sizeof *out);
@@ -223,6 +321,19 @@ done:
     free(used_t);
     free(used_p);
     return rc;
+}
+
+int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred, int npred,
+                   lt_line_match **matches, int *nmatches, lt_error *err)
+{
+    return match_lines(truth, ntruth, pred, npred, NULL, matches, nmatches, err);
+}
+
+int lt_match_lines_ink(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                       int npred, const lt_ink_table *ink, lt_line_match **matches, int *nmatches,
+                       lt_error *err)
+{
+    return match_lines(truth, ntruth, pred, npred, ink, matches, nmatches, err);
 }
 
 void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall, double *f1)
@@ -608,31 +719,47 @@ typedef struct order_pair {
 int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_page_score *out,
                   lt_error *err)
 {
+    return lt_score_page_ink(truth, pred, NULL, out, err);
+}
+
+int lt_score_page_ink(const lt_scored_page *truth, const lt_scored_page *pred,
+                      const lt_ink_table *ink, lt_page_score *out, lt_error *err)
+{
     memset(out, 0, sizeof *out);
     int nt = truth->failed ? 0 : truth->nlines;
     int np = pred->failed ? 0 : pred->nlines;
     out->truth_lines = nt;
     out->pred_lines = np;
-    lt_line_match *m = NULL;
-    int nm = 0;
-    int rc = lt_match_lines(truth->lines, nt, pred->lines, np, &m, &nm, err);
-    if (rc) return rc;
-    out->matched_50 = nm;
-    for (int i = 0; i < nm; i++)
-        out->matched_75 += m[i].strict;
-    lt_prf(out->matched_50, nt, np, &out->precision_50, &out->recall_50, &out->f1_50);
-    lt_prf(out->matched_75, nt, np, &out->precision_75, &out->recall_75, &out->f1_75);
-
     /* Splits, merges and the order by cover are judged on the page turned level by its true
      * skew: the boxes of the lines of a tilted page, taken as they are, overlap their
      * neighbours above and below and would pass for lines side by side. */
+    const int level = truth->has_skew && fabs(truth->skew_deg) >= LEVEL_MIN_SKEW_DEG;
+    if (ink && ink->skew_deg != (level ? truth->skew_deg : 0))
+        return lt_error_set(err, LT_EINVAL, "score: the ink was levelled by %g deg, the truth by %g",
+                            ink->skew_deg, level ? truth->skew_deg : 0);
     const lt_scored_line *tl = truth->lines, *pl = pred->lines;
     lt_scored_line *tl_level = NULL, *pl_level = NULL;
-    if (truth->has_skew && fabs(truth->skew_deg) >= 0.01) {
+    if (level) {
         const double cx = 0.5 * truth->width, cy = 0.5 * truth->height;
         tl = tl_level = level_lines(truth->lines, nt, truth->skew_deg, cx, cy);
         pl = pl_level = level_lines(pred->lines, np, truth->skew_deg, cx, cy);
-        if (!tl_level || !pl_level) rc = lt_error_set(err, LT_ENOMEM, "score: out of memory");
+        if (!tl_level || !pl_level) {
+            free(tl_level);
+            free(pl_level);
+            return lt_error_set(err, LT_ENOMEM, "score: out of memory");
+        }
+    }
+    /* Matching: on the lines as they are, or, on ink, on the lines turned level like the ink. */
+    lt_line_match *m = NULL;
+    int nm = 0;
+    int rc = ink ? match_lines(tl, nt, pl, np, ink, &m, &nm, err)
+                 : match_lines(truth->lines, nt, pred->lines, np, NULL, &m, &nm, err);
+    if (!rc) {
+        out->matched_50 = nm;
+        for (int i = 0; i < nm; i++)
+            out->matched_75 += m[i].strict;
+        lt_prf(out->matched_50, nt, np, &out->precision_50, &out->recall_50, &out->f1_50);
+        lt_prf(out->matched_75, nt, np, &out->precision_75, &out->recall_75, &out->f1_75);
     }
     if (!rc)
         rc = lt_count_splits_merges(tl, nt, pl, np, m, nm, &out->splits, &out->merges,

@@ -124,6 +124,34 @@ typedef struct lt_line_match {
 int lt_match_lines(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred, int npred,
                    lt_line_match **matches, int *nmatches, lt_error *err);
 
+/* ---- matching on ink ----------------------------------------------------------------------
+ * Annotation tools often draw a line's polygon around its baseline, 1.5 to 2 times as tall as
+ * the ink and shifted, so that an ink-tight line meets it at an IoU under 0.5. Matching on ink
+ * compares what the boxes hold instead of their areas: the IoU of two boxes is then the ink
+ * pixels inside both over the ink pixels inside either, on the page's own ink. */
+typedef struct lt_ink_table {
+    int width, height; /* of the (levelled) ink */
+    uint32_t *sum;     /* summed-area table (Crow 1984): ink pixels of [0, x) x [0, y) at
+                          sum[y * (width + 1) + x] */
+    double skew_deg;   /* the page was turned level by this angle (0: as it is) */
+    int dx, dy;        /* a box of the levelled page (lt_score_page's frame, turned about
+                          the page centre) lies at box + (dx, dy) in the levelled ink */
+} lt_ink_table;
+
+/* The summed-area table of an ink image (LT_IMAGE_INK, nonzero = ink), turned level first by
+ * skew_deg when |skew_deg| >= 0.01 (the page's true skew: lt_rotate_ink), as lt_score_page
+ * turns the lines of a skewed page. Fails with LT_EINVAL or LT_ENOMEM; free it with
+ * lt_ink_table_free (NULL-safe). */
+int lt_ink_table_new(const lt_image *ink, double skew_deg, lt_ink_table **out, lt_error *err);
+void lt_ink_table_free(lt_ink_table *t);
+/* Ink pixels inside box b (offset by dx, dy), clipped to the ink; 0 for an empty box. O(1). */
+int64_t lt_ink_in_box(const lt_ink_table *t, const lt_box *b);
+/* As lt_match_lines, with the IoU of the ink the boxes hold: ink(A and B) / ink(A or B); a box
+ * without ink matches nothing. Candidates are every pair of boxes that meet. */
+int lt_match_lines_ink(const lt_scored_line *truth, int ntruth, const lt_scored_line *pred,
+                       int npred, const lt_ink_table *ink, lt_line_match **matches, int *nmatches,
+                       lt_error *err);
+
 /* Precision matched/npred, recall matched/ntruth, F1 = 2PR/(P+R). Both empty: all 1; only
  * one empty: all 0; F1 is 0 when P + R is 0. */
 void lt_prf(long matched, long ntruth, long npred, double *precision, double *recall, double *f1);
@@ -210,6 +238,14 @@ typedef struct lt_page_score {
  * LT_ELIMIT. */
 int lt_score_page(const lt_scored_page *truth, const lt_scored_page *pred, lt_page_score *out,
                   lt_error *err);
+/* As lt_score_page, matching on ink when `ink` (the truth page's ink, levelled by the truth's
+ * skew) is not NULL: on a skewed page the lines are turned level first, like the ink, and
+ * boxed; the match counts, precision, recall, F1, tau and the splits and merges refined by
+ * the matches follow the ink matching; the splits, merges and the order by cover themselves
+ * are judged on areas as always. Fails with LT_EINVAL when the table was levelled by another
+ * angle than the truth's skew. */
+int lt_score_page_ink(const lt_scored_page *truth, const lt_scored_page *pred,
+                      const lt_ink_table *ink, lt_page_score *out, lt_error *err);
 
 #ifdef __cplusplus
 }
