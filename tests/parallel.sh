@@ -55,28 +55,8 @@ check "the single run analyses every page (exit 0)" test $? -eq 0
 check "the single run gives $n_pages records" test "$(wc -l <"$work/single.jsonl")" -eq "$n_pages"
 
 # ---- the recipe (as in DEVELOPERS.md, with -S : for the host list) ---------------------------
-# merge_pages LIST DIR: the page files of DIR for the inputs of LIST, in list order, a file's
-# pages in page order (NAME.json, or NAME.p1.json .. NAME.pN.json, N read from page 1).
-merge_pages() {
-    while IFS= read -r path; do
-        name=${path#./}
-        name=${name#/} # page files mirror the path as given, without a leading / or ./
-        case "${name##*/}" in *.*) name=${name%.*} ;; esac
-        if [ -f "$2/$name.json" ]; then
-            cat "$2/$name.json"
-        elif [ -f "$2/$name.p1.json" ]; then
-            pages=$(grep -o '"pages":[0-9]*' "$2/$name.p1.json" | head -n 1 | cut -d: -f2)
-            i=1
-            while [ "$i" -le "${pages:-0}" ]; do
-                cat "$2/$name.p$i.json" || return 1
-                i=$((i + 1))
-            done
-        else
-            echo "merge: $path: no page file in $2" >&2
-            return 1
-        fi
-    done <"$1"
-}
+# merge_pages LIST DIR: the recipe's merge (recipes/lineate-merge.sh).
+merge_pages() { sh "$srcdir/recipes/lineate-merge.sh" "$@"; }
 list=$work/pages.list
 out=$work/layouts
 parallel --will-cite --pipe -N 4 -S 2/: \
