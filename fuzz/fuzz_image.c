@@ -49,7 +49,8 @@ static void capture_end(void)
     ssize_t got = pread(scratch_fd, text, sizeof text - 1, 0);
     text[got > 0 ? got : 0] = '\0';
     text[strcspn(text, "\n")] = '\0';
-    snprintf(summary, sizeof summary, "SUMMARY: fuzz_image: %lld bytes written to stderr, first line: %s",
+    snprintf(summary, sizeof summary,
+             "SUMMARY: fuzz_image: %lld bytes written to stderr, first line: %s",
              (long long)written, text);
     __sanitizer_report_error_summary(summary);
     abort();

@@ -110,8 +110,8 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
      * because the resolution does: an implausible one from the file is ignored. */
     const int file_dpi_plausible = lt_dpi_plausible(img->dpi);
     res->dpi_from_file = file_dpi_plausible && !params->force_dpi;
-    res->dpi_rejected = (img->dpi_rejected || (img->dpi != 0 && !file_dpi_plausible)) &&
-                        !params->force_dpi;
+    res->dpi_rejected =
+        (img->dpi_rejected || (img->dpi != 0 && !file_dpi_plausible)) && !params->force_dpi;
     res->dpi = res->dpi_from_file ? img->dpi : params->dpi;
 
     lt_image *ink_own = NULL, *deskewed_own = NULL;

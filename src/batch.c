@@ -109,12 +109,14 @@ static int cmp_str(const void *a, const void *b)
 
 /* A folder walk: the folders entered so far, by device and inode (a hash set with linear
  * probing, at most half full), so that each is searched once however links lead back to it. */
+typedef struct walk_folder {
+    dev_t dev;
+    ino_t ino;
+    int used;
+} walk_folder;
+
 typedef struct walk {
-    struct walk_folder {
-        dev_t dev;
-        ino_t ino;
-        int used;
-    } *slots;
+    walk_folder *slots;
     size_t count, size; /* size: a power of two, or 0 */
 } walk;
 
@@ -142,7 +144,7 @@ static int walk_enter(walk *w, const struct stat *st)
     }
     const size_t i = walk_slot(w, st->st_dev, st->st_ino);
     if (w->slots[i].used) return 0;
-    w->slots[i] = (struct walk_folder){st->st_dev, st->st_ino, 1};
+    w->slots[i] = (walk_folder){st->st_dev, st->st_ino, 1};
     w->count++;
     return 1;
 }
@@ -209,8 +211,7 @@ static int add_folder(lt_inputs *in, walk *w, const char *dir, const struct stat
     const int entered = walk_enter(w, st);
     if (entered <= 0) {
         if (entered == 0)
-            fprintf(stderr, "lineate: %s: skipped, a folder already searched (reached again "
-                            "through a link)\n", dir);
+            fprintf(stderr, "lineate: %s: skipped, a folder searched already (a link)\n", dir);
         else
             fprintf(stderr, "lineate: %s: out of memory\n", dir);
         return entered == 0 ? 0 : -1;
@@ -431,9 +432,9 @@ static void text_printf(text *t, const char *fmt, ...)
  * by the same signal; so no temporary file is left behind, and no new one is begun. */
 static pthread_mutex_t temp_lock = PTHREAD_MUTEX_INITIALIZER;
 static pthread_cond_t temp_idle = PTHREAD_COND_INITIALIZER;
-static int temp_writers;        /* page files between their creation and their rename */
-static int temp_stopping;       /* a signal came: no new temporary file */
-static char *temp_stream;       /* the stream's temporary file, or NULL */
+static int temp_writers;  /* page files between their creation and their rename */
+static int temp_stopping; /* a signal came: no new temporary file */
+static char *temp_stream; /* the stream's temporary file, or NULL */
 static sigset_t temp_signals;
 
 static void temp_write_begin(void)

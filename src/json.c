@@ -14,7 +14,10 @@ static size_t utf8_sequence(const unsigned char *s)
 {
     const unsigned c = s[0];
     if (c < 0x80) return 1;
-    size_t n = c >= 0xc2 && c <= 0xdf ? 2 : c >= 0xe0 && c <= 0xef ? 3 : c >= 0xf0 && c <= 0xf4 ? 4 : 0;
+    size_t n = c >= 0xc2 && c <= 0xdf   ? 2
+               : c >= 0xe0 && c <= 0xef ? 3
+               : c >= 0xf0 && c <= 0xf4 ? 4
+                                        : 0;
     if (n == 0) return 0;
     /* the second byte's range depends on the first (RFC 3629, section 4) */
     const unsigned lo = c == 0xe0 ? 0xa0 : c == 0xf0 ? 0x90 : 0x80;

@@ -56,7 +56,7 @@ static int format_of(const uint8_t *data, size_t size)
     l_int32 format = IFF_UNKNOWN;
     if (size < LT_FORMAT_PROBE_BYTES || findFileFormatBuffer(data, &format)) return IFF_UNKNOWN;
     return strcmp(lt_source_format(&(lt_source){.format = format}), "unknown") ? format
-                                                                              : IFF_UNKNOWN;
+                                                                               : IFF_UNKNOWN;
 }
 
 /* Reads all of `fp` into a new buffer. Fails beyond LT_MAX_FILE_BYTES, before reading when
@@ -281,11 +281,16 @@ static PIX *normalise(PIX *pix)
     return pixConvertTo8(pix, 0);
 }
 
-static int too_many_pixels(const lt_source *src, unsigned long w, unsigned long h,
-                           long max_pixels, lt_error *err)
+static int too_many_pixels(const lt_source *src, unsigned long w, unsigned long h, long max_pixels,
+                           lt_error *err)
 {
     return lt_error_set(err, LT_ELIMIT, "%s: page 1: %lu x %lu pixels, more than the limit of %ld",
                         src->name, w, h, max_pixels);
+}
+
+static unsigned long big_endian32(const uint8_t *p)
+{
+    return (unsigned long)p[0] << 24 | (unsigned long)p[1] << 16 | (unsigned long)p[2] << 8 | p[3];
 }
 
 /* ---- PNG through libpng directly: its messages are kept, never printed ------------------- */
@@ -324,9 +329,7 @@ static int decode_png(const lt_source *src, long max_pixels, lt_image **out, lt_
     /* The size from IHDR, which the PNG specification puts first, before libpng reads on. */
     const uint8_t *ihdr = src->data + 8;
     if (src->size >= 24 && !memcmp(ihdr + 4, "IHDR", 4)) {
-        const unsigned long w = (unsigned long)ihdr[8] << 24 | ihdr[9] << 16 | ihdr[10] << 8 | ihdr[11],
-                            h = (unsigned long)ihdr[12] << 24 | ihdr[13] << 16 | ihdr[14] << 8 |
-                                ihdr[15];
+        const unsigned long w = big_endian32(ihdr + 8), h = big_endian32(ihdr + 12);
         if ((double)w * (double)h > (double)max_pixels)
             return too_many_pixels(src, w, h, max_pixels, err);
     }

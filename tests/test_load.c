@@ -523,11 +523,17 @@ static void test_resolution(void)
 static size_t tiff_with_resolution(uint8_t *buf, int w, int h, int type, const uint8_t value[8])
 {
     enum { ENTRIES = 11, IFD = 8, VALUES = IFD + 2 + ENTRIES * 12 + 4, DATA = VALUES + 16 };
-    const uint32_t tags[ENTRIES][3] = {
-        {256, 3, (uint32_t)w}, {257, 3, (uint32_t)h},         {258, 3, 8},
-        {259, 3, 1},           {262, 3, 1},                   {273, 4, DATA},
-        {277, 3, 1},           {278, 3, (uint32_t)h},         {279, 4, (uint32_t)(w * h)},
-        {282, (uint32_t)type, VALUES}, {283, (uint32_t)type, VALUES + 8}};
+    const uint32_t tags[ENTRIES][3] = {{256, 3, (uint32_t)w},
+                                       {257, 3, (uint32_t)h},
+                                       {258, 3, 8},
+                                       {259, 3, 1},
+                                       {262, 3, 1},
+                                       {273, 4, DATA},
+                                       {277, 3, 1},
+                                       {278, 3, (uint32_t)h},
+                                       {279, 4, (uint32_t)(w * h)},
+                                       {282, (uint32_t)type, VALUES},
+                                       {283, (uint32_t)type, VALUES + 8}};
     memset(buf, 0, DATA);
     memcpy(buf, "II*\0\x08\0\0\0", 8);
     buf[IFD] = ENTRIES;
