@@ -39,6 +39,9 @@ char *lt_utf8_clean(const char *text);
  * byte below 0x20, 0x7F and above, and '%' as %XX, upper-case hex). 0, or -1 when out of
  * memory. */
 int lt_json_add_source(struct cJSON *o, const char *source);
+/* The name that a "source_bytes" value encodes (new string; %00 and malformed escapes are
+ * kept as they stand); NULL when out of memory. */
+char *lt_source_bytes_decode(const char *text);
 
 /* ---- TIFF (load_tiff.c) --------------------------------------------------------------- */
 /* Number of pages (directories) of a TIFF in memory. */

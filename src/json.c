@@ -3,6 +3,7 @@
 #include "internal.h"
 
 #include <cjson/cJSON.h>
+#include <ctype.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -70,6 +71,24 @@ int lt_json_add_source(struct cJSON *o, const char *source)
     bad = !cJSON_AddStringToObject(o, "source_bytes", bytes);
     free(bytes);
     return bad ? -1 : 0;
+}
+
+char *lt_source_bytes_decode(const char *text)
+{
+    char *out = malloc(strlen(text) + 1), *o = out;
+    if (!out) return NULL;
+    for (const char *s = text; *s; s++) {
+        unsigned byte;
+        if (*s == '%' && sscanf(s + 1, "%2X", &byte) == 1 && isxdigit((unsigned char)s[1]) &&
+            isxdigit((unsigned char)s[2]) && byte != 0) {
+            *o++ = (char)byte;
+            s += 2;
+        } else {
+            *o++ = *s;
+        }
+    }
+    *o = '\0';
+    return out;
 }
 
 static double round2(double v)

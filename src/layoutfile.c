@@ -2,6 +2,7 @@
  * and page; an object is parsed again from its bytes when it is asked for, so a stream of many
  * pages does not stay in memory as a tree. */
 #include "layoutfile.h"
+#include "internal.h" /* lt_source_bytes_decode */
 #include "score.h" /* lt_read_whole_file, lt_json_cut_short and the reader's limits */
 
 #include <math.h>
@@ -124,8 +125,10 @@ static int add_entry(lt_layout_file *f, const cJSON *obj, size_t start, size_t e
     e->len = end - start;
     e->page = number;
     const cJSON *src = cJSON_GetObjectItemCaseSensitive(obj, "source");
+    const cJSON *exact = cJSON_GetObjectItemCaseSensitive(obj, "source_bytes"); /* not UTF-8 */
     if (cJSON_IsString(src) && src->valuestring[0] && strcmp(src->valuestring, "stdin") != 0) {
-        if (!(e->source = strdup(src->valuestring)))
+        if (!(e->source = cJSON_IsString(exact) ? lt_source_bytes_decode(exact->valuestring)
+                                                : strdup(src->valuestring)))
             return lt_error_set(err, LT_ENOMEM, "%s: out of memory", f->name);
         struct stat st;
         if (stat(e->source, &st) == 0) {

@@ -133,6 +133,13 @@ def non_utf8_names(tmp):
                   "Latin-1 name %r: source %r, source_bytes gives it back" % (name, rec["source"]))
         check("error" in recs[1] and "\ufffd" in recs[1]["error"],
               "Latin-1 name: the error record's message is UTF-8 too")
+    # lineate draw finds the record of the image by its exact name
+    layout = os.path.join(tmp, "latin1.jsonl")
+    write(layout, run([os.fsdecode(os.path.join(d, names[0]))]).stdout)
+    r = run(["draw", os.fsdecode(os.path.join(d, names[0])), layout, "-o",
+             os.path.join(tmp, "latin1.png")])
+    check(r.returncode == 0, "Latin-1 name: draw finds its record by source_bytes (%s)" %
+          lines_of(r))
     r = run([os.fsdecode(os.path.join(d, names[0])), "--out-dir", os.path.join(tmp, "latin1-out")])
     out = os.path.join(tmp, "latin1-out").encode()
     files = [os.path.join(root, f) for root, _, fs in os.walk(out) for f in fs]
