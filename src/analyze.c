@@ -102,6 +102,13 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     if (!lt_dpi_plausible(params->dpi))
         return lt_error_set(err, LT_EINVAL, "resolution %g dpi outside %d..%d", params->dpi,
                             LT_MIN_DPI, LT_MAX_DPI);
+    const double text_units[] = {params->speckle_max,        params->rule_min_aspect,
+                                 params->picture_min_height, params->link_max_gap,
+                                 params->column_min_gap,     params->block_min_gap};
+    for (size_t i = 0; i < sizeof text_units / sizeof *text_units; i++)
+        if (!(text_units[i] >= 0 && text_units[i] <= LT_MAX_TEXT_UNITS))
+            return lt_error_set(err, LT_EINVAL, "a size of %g text units outside 0..%g",
+                                text_units[i], LT_MAX_TEXT_UNITS);
     lt_layout *res = calloc(1, sizeof *res);
     if (!res) return lt_error_set(err, LT_ENOMEM, "out of memory");
     res->width = img->width;

@@ -91,6 +91,9 @@ int lt_error_set(lt_error *err, int code, const char *fmt, ...)
  * file (a file's value outside it is ignored, and the page analysed at the assumed one). */
 #define LT_MIN_DPI 10
 #define LT_MAX_DPI 100000
+/* Largest size of a parameter in text units (lt_params): with the text height at most a
+ * third of LT_MAX_DPI, every size derived from one stays far inside an int. */
+#define LT_MAX_TEXT_UNITS 1000.0
 
 /* ---- images --------------------------------------------------------------------------- */
 /* A page image, one byte per pixel, row-major, no padding (stride == width).

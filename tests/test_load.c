@@ -622,6 +622,10 @@ static void test_implausible_resolution(void)
         p.dpi = 5;
         lt_error err2 = {0};
         CHECK_INT(lt_analyze(img, &p, &layout, &err2), LT_EINVAL, "assumed dpi 5");
+        lt_params_default(&p);
+        p.link_max_gap = 1e300; /* sizes in text units are checked too */
+        lt_error err3 = {0};
+        CHECK_INT(lt_analyze(img, &p, &layout, &err3), LT_EINVAL, "link_max_gap 1e300");
     }
     lt_image_free(img);
 }
