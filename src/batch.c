@@ -185,6 +185,8 @@ static char **folder_names(const char *dir, size_t *count)
         n++;
     }
     closedir(d);
+    if (!failure && !names && !(names = malloc(sizeof *names))) /* an empty folder */
+        failure = "out of memory";
     if (failure) {
         fprintf(stderr, "lineate: %s: %s\n", dir, failure);
         for (size_t i = 0; i < n; i++)
@@ -194,7 +196,7 @@ static char **folder_names(const char *dir, size_t *count)
     }
     if (n) qsort(names, n, sizeof *names, cmp_str);
     *count = n;
-    return names ? names : calloc(1, sizeof *names);
+    return names;
 }
 
 /* Adds the image files below `dir` (whose stat is `st`); `rel` is the path relative to the
@@ -415,10 +417,13 @@ static void text_printf(text *t, const char *fmt, ...)
     int n = vsnprintf(buf, sizeof buf, fmt, ap);
     if (n >= (int)sizeof buf) { /* a long file name: the whole line */
         char *line = malloc((size_t)n + 1);
-        if (line) vsnprintf(line, (size_t)n + 1, fmt, again);
-        if (line) text_add(t, line, (size_t)n);
-        if (!line) t->failed = 1;
-        free(line);
+        if (line) {
+            vsnprintf(line, (size_t)n + 1, fmt, again);
+            text_add(t, line, (size_t)n);
+            free(line);
+        } else {
+            t->failed = 1;
+        }
     } else if (n > 0) {
         text_add(t, buf, (size_t)n);
     }
