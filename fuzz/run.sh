@@ -1,11 +1,11 @@
 #!/bin/sh
-# run.sh — builds lineate's two libFuzzer harnesses with AddressSanitizer and UBSan and runs
+# run.sh — builds lineate's three libFuzzer harnesses with AddressSanitizer and UBSan and runs
 # each for SECONDS on a working copy of its seed corpus; prints executions and findings.
 #
-# Usage: sh fuzz/run.sh SECONDS [image] [json]      (no harness named: both, one after another)
+# Usage: sh fuzz/run.sh SECONDS [image] [json] [xml]   (no harness named: all, one after another)
 #
 # Everything it writes lies under fuzz/build/ of the source tree that holds this script:
-#   fuzz/build/fuzz_image, fuzz_json   the harness binaries
+#   fuzz/build/fuzz_image, _json, _xml the harness binaries
 #   fuzz/build/corpus-image, -json     working corpora, seeded from fuzz/seeds/* on first use
 #                                      and kept between runs (libFuzzer adds to them)
 #   fuzz/build/findings-image, -json   crash-*, leak-*, timeout-*, oom-* inputs
@@ -17,7 +17,7 @@
 set -eu
 
 usage() {
-    echo "usage: sh fuzz/run.sh SECONDS [image] [json]" >&2
+    echo "usage: sh fuzz/run.sh SECONDS [image] [json] [xml]" >&2
     exit 2
 }
 
@@ -28,10 +28,10 @@ case $seconds in
 '' | *[!0-9]*) usage ;;
 esac
 [ "$seconds" -ge 1 ] || usage
-harnesses=${*:-image json}
+harnesses=${*:-image json xml}
 for h in $harnesses; do
     case $h in
-    image | json) ;;
+    image | json | xml) ;;
     *) usage ;;
     esac
 done
@@ -110,7 +110,7 @@ status=0
 for h in $harnesses; do
     case $h in
     image) max_len=65536 fd_mask="-close_fd_mask=2" ;; # the harness watches fd 2 itself
-    json) max_len=16384 fd_mask= ;;
+    json | xml) max_len=16384 fd_mask= ;;
     esac
     corpus=$build/corpus-$h
     findings=$build/findings-$h

@@ -252,7 +252,8 @@ static int cmp_idref(const void *a, const void *b)
 static int place(reader *r, const char *id, int in_order)
 {
     idref key = {id, 0, 0};
-    const idref *e = bsearch(&key, r->ids, (size_t)r->nids, sizeof *r->ids, cmp_idref);
+    const idref *e =
+        r->nids > 0 ? bsearch(&key, r->ids, (size_t)r->nids, sizeof *r->ids, cmp_idref) : NULL;
     if (!e) return fail(r, LT_EPARSE, "the reading order refers to a missing element: ", id);
     for (int i = e->first; i < e->end; i++) {
         if (r->lines[i].placed) continue;
@@ -523,8 +524,31 @@ static int read_document(const char *data, size_t size, const char *name, int do
     return rc;
 }
 
+static int parse_documents(const char *data, size_t size, const char *name, lt_scored_page **pages,
+                           int *npages, lt_error *err);
+
+/* libxml2's generic error handler while a file is read: the library never prints. */
+static void silent(void *ctx, const char *fmt, ...)
+{
+    (void)ctx;
+    (void)fmt;
+}
+
 int lt_scored_pages_parse_xml(const char *data, size_t size, const char *name,
                               lt_scored_page **pages, int *npages, lt_error *err)
+{
+    /* the handler is the calling thread's; the caller's is put back before return */
+    xmlGenericErrorFunc caller_handler = xmlGenericError;
+    void *caller_context = xmlGenericErrorContext;
+    xmlSetGenericErrorFunc(NULL, silent);
+    int rc = parse_documents(data, size, name, pages, npages, err);
+    xmlSetGenericErrorFunc(caller_context, caller_handler);
+    return rc;
+}
+
+/* lt_scored_pages_parse_xml without the handler. */
+static int parse_documents(const char *data, size_t size, const char *name, lt_scored_page **pages,
+                           int *npages, lt_error *err)
 {
     *pages = NULL;
     *npages = 0;
@@ -569,6 +593,8 @@ int lt_scored_pages_parse_xml(const char *data, size_t size, const char *name,
         }
         start = end;
     }
+    if (!rc && n == 0)
+        rc = lt_error_set(err, LT_EPARSE, "%s: no XML document (the file is empty)", name);
     if (rc) {
         lt_scored_pages_free(all, n);
         return rc;
