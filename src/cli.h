@@ -52,34 +52,37 @@ enum {
     LT_OPT_MAX_COMPONENTS
 };
 
-/* The shared long options, for a command's getopt_long table (with "j:" in its short ones). */
-#define LT_CLI_ANALYSIS_LONGOPTS                                                                  \
-    {"from", required_argument, NULL, LT_OPT_FROM},                                               \
-        {"jobs", required_argument, NULL, 'j'}, {"progress", no_argument, NULL, LT_OPT_PROGRESS}, \
-        {"dpi", required_argument, NULL, LT_OPT_DPI},                                             \
-        {"force-dpi", no_argument, NULL, LT_OPT_FORCE_DPI},                                       \
-        {"window", required_argument, NULL, LT_OPT_WINDOW},                                       \
-        {"k", required_argument, NULL, LT_OPT_K},                                                 \
-        {"max-skew", required_argument, NULL, LT_OPT_MAX_SKEW},                                   \
-        {"rtl", no_argument, NULL, LT_OPT_RTL},                                                   \
-        {"max-pixels", required_argument, NULL, LT_OPT_MAX_PIXELS},                               \
-        {"max-pages", required_argument, NULL, LT_OPT_MAX_PAGES},                                 \
-        {"max-components", required_argument, NULL, LT_OPT_MAX_COMPONENTS}
+/* The shared long options, for a command's getopt_long table (with "j:" in its short ones),
+ * and their lines in the command's --help. */
+/* clang-format off */
+#define LT_CLI_ANALYSIS_LONGOPTS \
+    {"from", required_argument, NULL, LT_OPT_FROM}, \
+    {"jobs", required_argument, NULL, 'j'}, \
+    {"progress", no_argument, NULL, LT_OPT_PROGRESS}, \
+    {"dpi", required_argument, NULL, LT_OPT_DPI}, \
+    {"force-dpi", no_argument, NULL, LT_OPT_FORCE_DPI}, \
+    {"window", required_argument, NULL, LT_OPT_WINDOW}, \
+    {"k", required_argument, NULL, LT_OPT_K}, \
+    {"max-skew", required_argument, NULL, LT_OPT_MAX_SKEW}, \
+    {"rtl", no_argument, NULL, LT_OPT_RTL}, \
+    {"max-pixels", required_argument, NULL, LT_OPT_MAX_PIXELS}, \
+    {"max-pages", required_argument, NULL, LT_OPT_MAX_PAGES}, \
+    {"max-components", required_argument, NULL, LT_OPT_MAX_COMPONENTS}
 
-/* Their lines in a command's --help. */
-#define LT_CLI_ANALYSIS_HELP                                                                       \
-    "      --from FILE       also take the paths listed in FILE, one a line ('-': stdin)\n"       \
-    "  -j, --jobs N          worker threads (default: the processors this process may use)\n"    \
-    "      --progress        report progress on standard error, a line every 50 pages\n"         \
-    "      --dpi N           resolution to assume when a file gives none (default 300)\n"        \
-    "      --force-dpi       use --dpi even when the file gives a resolution\n"                  \
-    "      --window N        Sauvola window in pixels, odd (default: about 0.17 inch)\n"         \
-    "      --k K             Sauvola k (default 0.34)\n"                                         \
-    "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n"                           \
-    "      --rtl             columns and the pieces of a row read right to left\n"              \
-    "      --max-pixels N    refuse pages larger than N pixels (default 200000000)\n"            \
-    "      --max-pages N     refuse files with more than N pages (default 10000)\n"              \
+#define LT_CLI_ANALYSIS_HELP \
+    "      --from FILE       also take the paths listed in FILE, one a line ('-': stdin)\n" \
+    "  -j, --jobs N          worker threads (default: the processors this process may use)\n" \
+    "      --progress        report progress on standard error, a line every 50 pages\n" \
+    "      --dpi N           resolution to assume when a file gives none (default 300)\n" \
+    "      --force-dpi       use --dpi even when the file gives a resolution\n" \
+    "      --window N        Sauvola window in pixels, odd (default: about 0.17 inch)\n" \
+    "      --k K             Sauvola k (default 0.34)\n" \
+    "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n" \
+    "      --rtl             columns and the pieces of a row read right to left\n" \
+    "      --max-pixels N    refuse pages larger than N pixels (default 200000000)\n" \
+    "      --max-pages N     refuse files with more than N pages (default 10000)\n" \
     "      --max-components N  refuse pages with more than N ink components (default 2000000)\n"
+/* clang-format on */
 
 /* The defaults: lt_params_default, LT_DEFAULT_MAX_PAGES, lt_cli_default_jobs threads. */
 void lt_cli_analysis_default(lt_cli_analysis *a);

@@ -46,9 +46,8 @@ static const char usage_text[] =
     "                        each record's source and page, instead of analysing the pages\n"
     "      --rectify         sample along the line's skew so that the line comes out level\n"
     "      --binary          black and white crops from Sauvola binarization of the page\n"
-    "      --margin PX       grow every crop by PX pixels (default: 0.25 x-height, >= 2)\n"
-    LT_CLI_ANALYSIS_HELP
-    "  -h, --help            show this help and exit\n"
+    "      --margin PX       grow every crop by PX pixels (default: 0.25 x-height, >= "
+    "2)\n" LT_CLI_ANALYSIS_HELP "  -h, --help            show this help and exit\n"
     "\n"
     "Exit status: 0 every page cropped, 1 some input failed (the others are written),\n"
     "2 bad command line, 3 DIR or a file in it could not be written.\n";
@@ -216,10 +215,11 @@ static int crop_source(const crop_options *opt, const lt_image *img, double dpi,
 {
     *out = NULL;
     if (img->kind == LT_IMAGE_INK) return lt_ink_to_gray(img, out, err); /* 1-bit: used as is */
-    if (!opt->binary) return 0;                           /* the decoded page itself */
+    if (!opt->binary) return 0;                              /* the decoded page itself */
     int window = lt_sauvola_window_px(&opt->an.params, dpi); /* the analyser's window */
     lt_image *ink = NULL;
-    int rc = lt_binarize(img, window, opt->an.params.sauvola_k, opt->an.params.sauvola_r, &ink, err);
+    int rc =
+        lt_binarize(img, window, opt->an.params.sauvola_k, opt->an.params.sauvola_r, &ink, err);
     if (rc == 0) rc = lt_ink_to_gray(ink, out, err);
     lt_image_free(ink);
     return rc;
@@ -232,8 +232,7 @@ static int crop_source(const crop_options *opt, const lt_image *img, double dpi,
  * "quad" or a "box"; "xheight_px" (default: half the quad's height), "baseline" (default: the
  * quad's bottom edge) and "block" are read when present, so that a hand-corrected layout
  * need only give the geometry. The page's "width" and "height" must be the image's. */
-static int read_lines(const cJSON *o, const lt_image *img, crop_line **out, int *n,
-                      lt_error *err)
+static int read_lines(const cJSON *o, const lt_image *img, crop_line **out, int *n, lt_error *err)
 {
     *out = NULL;
     *n = 0;
@@ -250,22 +249,29 @@ static int read_lines(const cJSON *o, const lt_image *img, crop_line **out, int 
     if (blocks && !cJSON_IsArray(blocks))
         return lt_error_set(err, LT_EPARSE, "layout: \"blocks\" is not an array");
     const int nl = cJSON_GetArraySize(lines), nb = blocks ? cJSON_GetArraySize(blocks) : 0;
-    if (nl > MAX_LINES) return lt_error_set(err, LT_ELIMIT, "layout: more than %d lines", MAX_LINES);
-    crop_line *all = calloc((size_t)nl + 1, sizeof *all), *ordered = calloc((size_t)nl + 1, sizeof *ordered);
+    if (nl > MAX_LINES || nb > MAX_LINES)
+        return lt_error_set(err, LT_ELIMIT, "layout: more than %d lines or blocks", MAX_LINES);
+    /* cJSON arrays are lists: walked once each, the blocks kept by index. */
+    crop_line *all = calloc((size_t)nl + 1, sizeof *all);
+    crop_line *ordered = calloc((size_t)nl + 1, sizeof *ordered);
+    const cJSON **block = calloc((size_t)nb + 1, sizeof *block);
     char *placed = calloc((size_t)nl + 1, 1);
-    int rc = 0, k = 0;
-    if (!all || !ordered || !placed) {
+    int rc = 0, k = 0, i = 0;
+    if (!all || !ordered || !block || !placed) {
         rc = lt_error_set(err, LT_ENOMEM, "out of memory");
         goto done;
     }
-    for (int i = 0; i < nl && rc == 0; i++) {
-        const cJSON *ln = cJSON_GetArrayItem(lines, i);
+    const cJSON *item;
+    cJSON_ArrayForEach(item, blocks) block[k++] = item;
+    k = 0;
+    cJSON_ArrayForEach(item, lines)
+    {
         crop_line *c = &all[i];
         c->index = i;
         c->line.block = -1;
-        if (!cJSON_IsObject(ln) || lt_json_quad(ln, c->line.quad)) {
+        if (!cJSON_IsObject(item) || lt_json_quad(item, c->line.quad)) {
             rc = lt_error_set(err, LT_EPARSE, "layout: lines[%d]: no valid \"quad\" or \"box\"", i);
-            break;
+            goto done;
         }
         const lt_point *q = c->line.quad;
         double x0 = q[0].x, x1 = x0, y0 = q[0].y, y1 = y0;
@@ -276,49 +282,47 @@ static int read_lines(const cJSON *o, const lt_image *img, crop_line **out, int 
             y1 = fmax(y1, q[j].y);
         }
         c->line.box = (lt_box){(int)floor(x0), (int)floor(y0), (int)ceil(x1), (int)ceil(y1)};
-        int box[4];
-        const cJSON *jb = cJSON_GetObjectItemCaseSensitive(ln, "box");
-        if (cJSON_IsArray(jb) && cJSON_GetArraySize(jb) == 4) {
-            int ok = 1;
-            for (int j = 0; j < 4 && ok; j++)
-                ok = lt_json_int(cJSON_GetArrayItem(jb, j), -1e9, 1e9, &box[j]) == 0;
-            if (ok) c->line.box = (lt_box){box[0], box[1], box[2], box[3]};
-        }
-        const cJSON *xh = cJSON_GetObjectItemCaseSensitive(ln, "xheight_px");
+        int box[4], j = 0;
+        const cJSON *jb = cJSON_GetObjectItemCaseSensitive(item, "box"), *v;
+        cJSON_ArrayForEach(v, jb) if (j < 4 && lt_json_int(v, -1e9, 1e9, &box[j]) == 0) j++;
+        if (j == 4 && cJSON_IsArray(jb) && cJSON_GetArraySize(jb) == 4)
+            c->line.box = (lt_box){box[0], box[1], box[2], box[3]};
+        const cJSON *xh = cJSON_GetObjectItemCaseSensitive(item, "xheight_px");
         c->line.xheight_px = cJSON_IsNumber(xh) && xh->valuedouble > 0 && xh->valuedouble < 1e6
                                  ? xh->valuedouble
                                  : 0.5 * hypot(q[3].x - q[0].x, q[3].y - q[0].y);
-        const cJSON *bl = cJSON_GetObjectItemCaseSensitive(ln, "baseline");
+        const cJSON *bl = cJSON_GetObjectItemCaseSensitive(item, "baseline");
         if (!(cJSON_IsArray(bl) && cJSON_GetArraySize(bl) == 2 &&
-              lt_json_point(cJSON_GetArrayItem(bl, 0), &c->line.baseline[0]) == 0 &&
-              lt_json_point(cJSON_GetArrayItem(bl, 1), &c->line.baseline[1]) == 0)) {
+              lt_json_point(bl->child, &c->line.baseline[0]) == 0 &&
+              lt_json_point(bl->child->next, &c->line.baseline[1]) == 0)) {
             c->line.baseline[0] = q[3];
             c->line.baseline[1] = q[2];
         }
-        const cJSON *jblock = cJSON_GetObjectItemCaseSensitive(ln, "block");
         int b;
-        if (jblock && lt_json_int(jblock, 0, nb - 1, &b) == 0) {
+        if (lt_json_int(cJSON_GetObjectItemCaseSensitive(item, "block"), 0, nb - 1, &b) == 0) {
             c->line.block = b;
-            const cJSON *role =
-                cJSON_GetObjectItemCaseSensitive(cJSON_GetArrayItem(blocks, b), "role");
+            const cJSON *role = cJSON_GetObjectItemCaseSensitive(block[b], "role");
             c->role = cJSON_IsString(role) ? role->valuestring : NULL;
         }
+        i++;
     }
-    for (int b = 0; b < nb && rc == 0; b++) {
-        const cJSON *members = cJSON_GetObjectItemCaseSensitive(cJSON_GetArrayItem(blocks, b), "lines");
-        const int nm = cJSON_IsArray(members) ? cJSON_GetArraySize(members) : 0;
-        for (int j = 0; j < nm; j++) {
-            int i;
-            if (lt_json_int(cJSON_GetArrayItem(members, j), 0, nl - 1, &i) == 0 && !placed[i]) {
-                placed[i] = 1;
-                ordered[k++] = all[i];
+    for (int b = 0; b < nb; b++) {
+        const cJSON *members = cJSON_GetObjectItemCaseSensitive(block[b], "lines"), *member;
+        if (!cJSON_IsArray(members)) continue;
+        cJSON_ArrayForEach(member, members)
+        {
+            int m;
+            if (lt_json_int(member, 0, nl - 1, &m) == 0 && !placed[m]) {
+                placed[m] = 1;
+                ordered[k++] = all[m];
             }
         }
     }
-    for (int i = 0; i < nl && rc == 0; i++)
+    for (i = 0; i < nl; i++)
         if (!placed[i]) ordered[k++] = all[i];
 done:
     free(all);
+    free(block);
     free(placed);
     if (rc) {
         free(ordered);
@@ -479,8 +483,8 @@ static int crop_page_record(void *ctx, const lt_input *in, int page, int pages, 
         const cJSON *dpi = cJSON_GetObjectItemCaseSensitive(lay, "dpi");
         rc = crop_source(opt, img,
                          cJSON_IsNumber(dpi) && dpi->valuedouble > 0 ? dpi->valuedouble
-                         : img->dpi > 0                                ? img->dpi
-                                                                       : opt->an.params.dpi,
+                         : img->dpi > 0                              ? img->dpi
+                                                                     : opt->an.params.dpi,
                          &own, err);
     }
     if (rc) {
@@ -520,8 +524,8 @@ static int crop_page_record(void *ctx, const lt_input *in, int page, int pages, 
                          strerror(errno ? errno : EIO));
             status = -2;
         } else if (append_record(&text, &len,
-                                 line_record(opt, in, page, pages, &lines[k], k + 1, skew_deg,
-                                             file, crop, &info))) {
+                                 line_record(opt, in, page, pages, &lines[k], k + 1, skew_deg, file,
+                                             crop, &info))) {
             lt_error_set(err, LT_ENOMEM, "out of memory");
             status = -1;
         } else {
@@ -712,7 +716,9 @@ int lt_cmd_crop(int argc, char **argv)
                              out,
                              opt.out_dir,
                              opt.resume,
-                             opt.an.progress ? 1 : isatty(2) && many ? 2 : 0,
+                             opt.an.progress     ? 1
+                             : isatty(2) && many ? 2
+                                                 : 0,
                              1,
                              LT_OUTPUT_JSON,
                              0,

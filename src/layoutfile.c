@@ -110,8 +110,8 @@ static int add_entry(lt_layout_file *f, const cJSON *obj, size_t start, size_t e
         return lt_error_set(err, LT_EPARSE, "%s: JSON value %d is not an object", f->name, count);
     const cJSON *p = cJSON_GetObjectItemCaseSensitive(obj, "page");
     if (p && lt_json_int(p, 1, INT32_MAX, &number))
-        return lt_error_set(err, LT_EPARSE, "%s: object %d: \"page\" is not a page number",
-                            f->name, count);
+        return lt_error_set(err, LT_EPARSE, "%s: object %d: \"page\" is not a page number", f->name,
+                            count);
     if (f->count == *cap) {
         int bigger_cap = *cap ? 2 * *cap : 64;
         entry *bigger = realloc(f->entries, (size_t)bigger_cap * sizeof *bigger);
@@ -228,9 +228,8 @@ int lt_layout_file_find(const lt_layout_file *f, const char *image, int page, in
             return lt_error_set(err, LT_EPARSE,
                                 "%s: %d layouts of page %d, and none names %s as its source",
                                 f->name, candidates, page, shown);
-        return lt_error_set(err, LT_EPARSE,
-                            "%s: the layout of page %d is of %s, not of %s%s", f->name, page,
-                            other->source, shown,
+        return lt_error_set(err, LT_EPARSE, "%s: the layout of page %d is of %s, not of %s%s",
+                            f->name, page, other->source, shown,
                             candidates > 1 ? " (nor is any other of that page)" : "");
     }
     cJSON *obj = cJSON_ParseWithLength(f->data + e->start, e->len);
