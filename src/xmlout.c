@@ -60,9 +60,13 @@ static char *xml_safe_copy(const char *s)
     return out;
 }
 
+/* Set when an attribute could not be added (out of memory) while this thread builds a
+ * document; the document is then dropped, not written without it. */
+static _Thread_local int attr_failed;
+
 static void set_attr(xmlNodePtr node, const char *name, const char *value)
 {
-    xmlNewProp(node, BAD_CAST name, BAD_CAST value);
+    if (!xmlNewProp(node, BAD_CAST name, BAD_CAST value)) attr_failed = 1;
 }
 
 static void set_attr_int(xmlNodePtr node, const char *name, long value)
@@ -94,7 +98,7 @@ static void set_attr_id(xmlNodePtr node, const char *name, const char *prefix, i
 
 static xmlNodePtr child(xmlNodePtr parent, xmlNsPtr ns, const char *name, const char *text)
 {
-    return xmlNewChild(parent, ns, BAD_CAST name, text ? BAD_CAST text : NULL);
+    return xmlNewTextChild(parent, ns, BAD_CAST name, text ? BAD_CAST text : NULL);
 }
 
 /* v to a whole pixel inside [0, limit]: rounded down when `down`, else up. */
@@ -153,12 +157,13 @@ static const lt_point *line_outline(const lt_line *ln, int *n)
     return ln->quad;
 }
 
-/* Serialises the document into a malloc'd NUL-terminated string; frees the document. */
+/* Serialises the document into a malloc'd NUL-terminated string, or NULL when building it
+ * failed anywhere; frees the document. */
 static char *finish(xmlDocPtr doc, int failed)
 {
     xmlChar *mem = NULL;
     int size = 0;
-    if (!failed) xmlDocDumpFormatMemoryEnc(doc, &mem, &size, "UTF-8", 1);
+    if (!failed && !attr_failed) xmlDocDumpFormatMemoryEnc(doc, &mem, &size, "UTF-8", 1);
     xmlFreeDoc(doc);
     if (!mem) return NULL;
     char *out = malloc((size_t)size + 1);
@@ -186,7 +191,7 @@ static xmlNodePtr new_root(xmlDocPtr doc, const char *name, const char *ns_uri,
     xmlSetNs(root, *ns);
     char loc[256];
     snprintf(loc, sizeof loc, "%s %s", ns_uri, schema_url);
-    xmlNewNsProp(root, xsi, BAD_CAST "schemaLocation", BAD_CAST loc);
+    if (!xmlNewNsProp(root, xsi, BAD_CAST "schemaLocation", BAD_CAST loc)) return NULL;
     return root;
 }
 
@@ -225,6 +230,7 @@ static int page_text_region(xmlNodePtr parent, xmlNsPtr ns, const lt_layout *l, 
 char *lt_layout_to_page_xml(const lt_layout *l, const char *source, int page, int pages,
                             long long created_utc)
 {
+    attr_failed = 0;
     xmlDocPtr doc = xmlNewDoc(BAD_CAST "1.0");
     if (!doc) return NULL;
     xmlNsPtr ns;
@@ -372,6 +378,7 @@ static int alto_text_block(xmlNodePtr parent, xmlNsPtr ns, const lt_layout *l, i
 
 char *lt_layout_to_alto(const lt_layout *l, const char *source, int page, int pages)
 {
+    attr_failed = 0;
     (void)pages;
     xmlDocPtr doc = xmlNewDoc(BAD_CAST "1.0");
     if (!doc) return NULL;

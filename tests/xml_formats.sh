@@ -125,6 +125,19 @@ $limit "$lineate" --format alto bad.png >bad.xml 2>bad.err
 rc=$?
 check "a page that fails: exit 1, no document, its message on stderr" \
     test "$rc" -eq 1 -a ! -s bad.xml -a -s bad.err
+# A file name with the characters XML escapes: written escaped, valid, read back as it was.
+cp "$testdata/minutes.png" 'a&b<c "d".png'
+for fmt in page alto; do
+    $limit "$lineate" --format $fmt 'a&b<c "d".png' >"amp.$fmt.xml" 2>/dev/null
+done
+"$xmllint" --nonet --noout --schema "$standards/page-2019-07-15/pagecontent.xsd" amp.page.xml \
+    >/dev/null 2>&1 &&
+    XML_CATALOG_FILES="$standards/catalog.xml" "$xmllint" --nonet --noout \
+        --schema "$standards/alto-4-4/alto-4-4.xsd" amp.alto.xml >/dev/null 2>&1
+check "a file name with & < and quotes: both documents valid" test $? -eq 0
+"$lineate" score --per-page amp.page.xml amp.alto.xml >amp.score 2>&1
+check "... and the name read back unchanged" grep -q '^a&b<c "d".png ' amp.score
+
 SOURCE_DATE_EPOCH=1704067200 $limit "$lineate" --format page "$testdata/minutes.png" >fixed.xml
 check "SOURCE_DATE_EPOCH fixes the PAGE creation time" \
     grep -q '<Created>2024-01-01T00:00:00Z</Created>' fixed.xml
