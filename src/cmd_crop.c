@@ -9,7 +9,7 @@
 #include "batch.h"
 #include "cli.h"
 #include "crop.h"
-#include "internal.h" /* lt_json_add_source */
+#include "internal.h" /* lt_json_add_source, lt_source_bytes_decode */
 #include "layoutfile.h"
 
 #include <cjson/cJSON.h>
@@ -409,6 +409,19 @@ static cJSON *point_pair_json(const lt_point p[2])
     return a;
 }
 
+/* Adds "file" to o and, for a name that is not valid UTF-8, "file_bytes": the exact bytes,
+ * percent-encoded as "source_bytes" is. */
+static void add_file_name(cJSON *o, const char *file)
+{
+    cJSON *names = cJSON_CreateObject();
+    if (names && lt_json_add_source(names, file) == 0) {
+        cJSON_AddItemToObject(o, "file", cJSON_DetachItemFromObject(names, "source"));
+        cJSON *exact = cJSON_DetachItemFromObject(names, "source_bytes");
+        if (exact) cJSON_AddItemToObject(o, "file_bytes", exact);
+    }
+    cJSON_Delete(names);
+}
+
 static cJSON *line_record(const crop_options *opt, const lt_input *in, int page, int pages,
                           const crop_line *c, int order, double skew_deg, const char *file,
                           const lt_image *crop, const cut_info *info)
@@ -430,7 +443,7 @@ static cJSON *line_record(const crop_options *opt, const lt_input *in, int page,
     cJSON_AddItemToObject(o, "baseline", point_pair_json(c->line.baseline));
     cJSON_AddNumberToObject(o, "xheight_px", round2(c->line.xheight_px));
     cJSON_AddNumberToObject(o, "skew_deg", skew_deg);
-    cJSON_AddStringToObject(o, "file", file);
+    add_file_name(o, file);
     cJSON_AddNumberToObject(o, "width", crop->width);
     cJSON_AddNumberToObject(o, "height", crop->height);
     cJSON_AddStringToObject(o, "mode", opt->binary ? "binary" : "gray");
@@ -568,12 +581,16 @@ static int page_manifest_complete(void *ctx, const char *content)
             if (ok && lt_json_int(jl, 0, MAX_LINES, &lines)) ok = 0;
         } else if (strcmp(kind->valuestring, "line") == 0 && lines >= 0) {
             const cJSON *file = cJSON_GetObjectItemCaseSensitive(o, "file");
+            const cJSON *exact = cJSON_GetObjectItemCaseSensitive(o, "file_bytes");
+            char *name = cJSON_IsString(exact)  ? lt_source_bytes_decode(exact->valuestring)
+                         : cJSON_IsString(file) ? strdup(file->valuestring)
+                                                : NULL;
             char path[8192];
             struct stat st;
-            ok = cJSON_IsString(file) &&
-                 (size_t)snprintf(path, sizeof path, "%s/%s", opt->out_dir, file->valuestring) <
-                     sizeof path &&
+            ok = name &&
+                 (size_t)snprintf(path, sizeof path, "%s/%s", opt->out_dir, name) < sizeof path &&
                  stat(path, &st) == 0 && S_ISREG(st.st_mode);
+            free(name);
             crops++;
         } else {
             ok = 0; /* an error record, or records out of place */

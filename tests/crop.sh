@@ -650,6 +650,23 @@ crop --from list --progress --out-dir from
 check "--from and --progress: the listed page, a progress line" \
     test "$rc" -eq 0 && grep -q 'progress: 1/1 files' err && diff -r -x '*.jsonl' plain from
 
+# ---- a file name that is not UTF-8 ---------------------------------------------------------------
+mkdir odd
+cp in/a/scan.png "odd/$(printf 'scan\377')".png
+crop odd --out-dir odd-out
+check "a name that is not UTF-8: exit 0" quiet
+check "a name that is not UTF-8: strict UTF-8 JSON, the exact names in source_bytes and file_bytes" \
+    "$python" -c '
+import json, os, sys, urllib.parse
+rs = [json.loads(l.decode("utf-8")) for l in open(sys.argv[1] + "/manifest.jsonl", "rb")]
+lines = [r for r in rs if r["kind"] == "line"]
+assert lines and all(urllib.parse.unquote_to_bytes(r["source_bytes"]) == b"odd/scan\xff.png" for r in rs)
+for r in lines:
+    assert os.path.isfile(os.path.join(sys.argv[1].encode(), urllib.parse.unquote_to_bytes(r["file_bytes"])))
+' odd-out
+crop --resume odd --out-dir odd-out
+check "a name that is not UTF-8: --resume finds its page complete" grep -q '0 pages done, 0 failed, 1 skipped' err
+
 # ---- help and the man page ----------------------------------------------------------------------
 crop --help
 check "crop --help: exit 0, usage on stdout" test "$rc" -eq 0 -a -s out -a ! -s err
@@ -657,10 +674,10 @@ cp out crop-help.txt
 check "crop --help and the man page's crop options list the same long options" \
     py options "$man" crop-help.txt
 check "every manifest field written above is described in the man page's CROP section" \
-    py documented "$man" plain rot-rect binary shared bad
+    py documented "$man" plain rot-rect binary shared bad odd-out
 check "every manifest record is valid against schema/lineate-crop.schema.json" \
     py schema "$srcdir/schema/lineate-crop.schema.json" plain level rot-rect binary shared folder \
-    bad threads1 threads2 killed hand
+    bad threads1 threads2 killed hand odd-out
 check "the man page SYNOPSIS shows the crop command" grep -q '^\.B lineate crop$' "$man"
 
 echo "crop.sh: $passed passed, $failed failed"
