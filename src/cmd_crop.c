@@ -31,6 +31,7 @@
 #define MAX_MARGIN_PX 1000 /* wider margins make crops mostly of paper, or of other lines */
 #define MAX_LINES 1000000  /* lines of one page in a saved layout (the reader's bound) */
 
+/* clang-format off */
 static const char usage_text[] =
     "Usage: lineate crop [OPTIONS] IMAGE|FOLDER... --out-dir DIR\n"
     "Write each text line of every page as its own PNG image into DIR, in reading order\n"
@@ -46,11 +47,13 @@ static const char usage_text[] =
     "                        each record's source and page, instead of analysing the pages\n"
     "      --rectify         sample along the line's skew so that the line comes out level\n"
     "      --binary          black and white crops from Sauvola binarization of the page\n"
-    "      --margin PX       grow every crop by PX pixels (default: 0.25 x-height, >= "
-    "2)\n" LT_CLI_ANALYSIS_HELP "  -h, --help            show this help and exit\n"
+    "      --margin PX       grow every crop by PX pixels (default: 0.25 x-height, >= 2)\n"
+    LT_CLI_ANALYSIS_HELP
+    "  -h, --help            show this help and exit\n"
     "\n"
     "Exit status: 0 every page cropped, 1 some input failed (the others are written),\n"
     "2 bad command line, 3 DIR or a file in it could not be written.\n";
+/* clang-format on */
 
 enum { OPT_OUT_DIR = 256, OPT_RESUME, OPT_LAYOUT, OPT_RECTIFY, OPT_BINARY, OPT_MARGIN };
 
@@ -530,9 +533,13 @@ static int crop_page_record(void *ctx, const lt_input *in, int page, int pages, 
             status = -1;
             break;
         }
-        char file[4200];
-        snprintf(file, sizeof file, "%s-p%04d-l%04d.png", in->out_name, page, k + 1);
-        if (write_crop(opt->out_dir, file, crop)) {
+        const size_t file_size = strlen(in->out_name) + 48;
+        char *file = malloc(file_size);
+        if (file) snprintf(file, file_size, "%s-p%04d-l%04d.png", in->out_name, page, k + 1);
+        if (!file) {
+            lt_error_set(err, LT_ENOMEM, "out of memory");
+            status = -1;
+        } else if (write_crop(opt->out_dir, file, crop)) {
             lt_error_set(err, LT_EIO, "%s/%s: cannot write: %s", opt->out_dir, file,
                          strerror(errno ? errno : EIO));
             status = -2;
@@ -544,6 +551,7 @@ static int crop_page_record(void *ctx, const lt_input *in, int page, int pages, 
         } else {
             atomic_fetch_add(&opt->crops_written, 1);
         }
+        free(file);
         lt_image_free(crop);
     }
     lt_image_free(own);
