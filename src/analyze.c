@@ -3,6 +3,7 @@
 #include "internal.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -123,6 +124,7 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
 
     lt_image *ink_own = NULL, *deskewed_own = NULL;
     lt_components *comps = NULL;
+    lt_separators *seps = NULL;
     lt_raw_lines *raw = NULL;
     lt_cut_node *tree = NULL;
     lt_arrangement *arr = NULL;
@@ -164,10 +166,16 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     res->ncomponents = comps->count;
     res->text_height_px = lt_text_height(comps, res->dpi);
     lt_classify_components(comps, res->text_height_px, params);
-    /* 4. Lines, 5. blocks, 6. tables, roles and reading order. */
-    rc = lt_build_lines(comps, res->text_height_px, params, &raw, err);
+    /* 4. Separators, 5. lines, 6. blocks, 7. tables, roles and reading order. */
+    rc = lt_find_separators(comps, res->text_height_px, &seps, err);
     if (rc) goto done;
-    rc = lt_xy_cut(raw, comps, res->text_height_px, params, &tree, err);
+    if (getenv("LT_DEBUG_GUTTERS"))
+        for (int k = 0; k < seps->ngutters; k++)
+            fprintf(stderr, "gutter %d %d %d %d\n", seps->gutters[k].left, seps->gutters[k].top,
+                    seps->gutters[k].right, seps->gutters[k].bottom);
+    rc = lt_build_lines(comps, res->text_height_px, seps, params, &raw, err);
+    if (rc) goto done;
+    rc = lt_xy_cut(raw, comps, seps, res->text_height_px, params, &tree, err);
     if (rc) goto done;
     rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->height, &arr, err);
     if (rc) goto done;
@@ -182,6 +190,7 @@ done:
     lt_image_free(ink_own);
     lt_image_free(deskewed_own);
     lt_components_free(comps);
+    lt_separators_free(seps);
     lt_raw_lines_free(raw);
     lt_cut_node_free(tree);
     lt_arrangement_free(arr);

@@ -7,6 +7,13 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* Narrowest column of text, in text heights, that a gutter cut makes: a few words. Narrower
+ * columns beside a gutter are list labels or table cells, read row by row. */
+static const double COLUMN_MIN_WIDTH = 10.0;
+/* Lines that may run across a gutter cut, per line beside it: an index entry run on into the
+ * next column's white, an overfull line. */
+static const double MAX_CROSSING = 1.0 / 6;
+
 typedef struct span {
     int lo, hi, line;
 } span;
@@ -114,8 +121,10 @@ typedef struct cut_context {
     const lt_box *boxes;     /* the lines' boxes, then the obstacles' (pictures) */
     int nreal;               /* number of lines */
     double col_gap, row_gap; /* px */
-    const lt_box *rules;     /* separators: vertical and horizontal rules */
+    const lt_box *rules;     /* vertical and horizontal rules */
     int nrules;
+    const lt_separators *seps; /* may be NULL */
+    double column_min_width;   /* px: narrowest column of text a gutter cut makes */
     int rtl;
     const lt_raw_line *lines; /* the lines (boxes[0..nreal)) */
     span *spans;              /* scratch room for all lines */
@@ -172,59 +181,62 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
     return (across ? b->left : b->top) < at;
 }
 
-/* A column gutter that a few lines run across: some x between a fifth and four fifths of the
- * node's width (in steps of `step` px) where
- *  - at least one and at most a sixth of the node's lines cross x, and at least a quarter of
- *    them lie wholly on each side;
- *  - the lines that do not cross leave a white gap at least `min_gap` wide around x;
- *  - the crossing lines stand between lines of both columns above and below them (not a
- *    paragraph over the columns, as above a table), and no picture crosses x.
- * Returns the widest such gap, with the cut coordinate (lines starting at or beyond it lie
- * beyond) in *cut_at; 0 when none. The lines that cross go with the column they start in.
- * The pieces of lines cut at a gutter are not looked at (they abut there, and go to the side
- * of their centre). */
-static int bridged_cut(const cut_context *x, const int *idx, int n, const lt_box *nb, int step,
-                       double min_gap, int *cut_at)
+/* A gutter that separates the lines idx[0..n) of a node with box `nb` into two columns, each
+ * holding at least `min_width` px of text beside it (narrower: labels, or the cells of a
+ * table, which are read row by row). Either no line crosses the gutter's middle and gutters
+ * run along at least 60 % of the node's height there, or a few lines cross it (at most
+ * MAX_CROSSING of the others: lines run on across the gutter, which go with the column they
+ * start in), standing between lines of both columns above and below them, and each column
+ * holds at least a quarter of the lines. The pieces of a line cut at a gutter go by their
+ * centre. Returns 1 with the cut coordinate (lines starting at or after it lie beyond), the
+ * gutter's width and the number of lines that cross it. */
+static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box *nb,
+                      double min_width, int *cut_at, int *width, int *crossing)
 {
-    int nlines = 0;
-    for (int i = 0; i < n; i++)
-        nlines += idx[i] < x->nreal && !is_piece(x, idx[i]);
-    if (nlines < 6) return 0;
-    const int w = nb->right - nb->left;
-    int best = 0;
-    for (int at = nb->left + w / 5; at <= nb->right - w / 5; at += step) {
-        int across = 0, count[2] = {0, 0}, reach = nb->left, next = nb->right, picture = 0;
-        /* the rows each column spans (twice the centre), and those of the crossing lines */
+    if (!x->seps) return 0;
+    for (int k = 0; k < x->seps->ngutters; k++) {
+        const lt_box *g = &x->seps->gutters[k];
+        const int mid = (g->left + g->right) / 2;
+        if (mid - nb->left < min_width || nb->right - mid < min_width) continue;
+        int run = 0; /* the node's rows that gutters hold at mid */
+        for (int j = 0; j < x->seps->ngutters; j++) {
+            const lt_box *h = &x->seps->gutters[j];
+            const int lo = h->top > nb->top ? h->top : nb->top;
+            const int hi = h->bottom < nb->bottom ? h->bottom : nb->bottom;
+            if (h->left <= mid && h->right > mid && hi > lo) run += hi - lo;
+        }
+        /* the lines on each side and across (centres twice over, so in whole numbers) */
+        int count[2] = {0, 0}, crossed = 0, reach = nb->left, next = nb->right;
         int top[2] = {1 << 30, 1 << 30}, bottom[2] = {-1, -1}, cross_lo = 1 << 30, cross_hi = -1;
-        for (int i = 0; i < n && !picture; i++) {
-            if (is_piece(x, idx[i])) continue; /* they go by their centre */
+        for (int i = 0; i < n; i++) {
             const lt_box *b = &x->boxes[idx[i]];
-            const int side = b->right <= at ? 0 : b->left >= at ? 1 : -1, cy = b->top + b->bottom;
-            const int line = idx[i] < x->nreal;
+            if (is_piece(x, idx[i])) continue;
+            const int side = b->right <= mid ? 0 : b->left >= mid ? 1 : -1, cy = b->top + b->bottom;
             if (side < 0) {
-                picture = !line; /* a picture spanning the columns */
-                across++;
+                crossed++;
                 if (cy < cross_lo) cross_lo = cy;
                 if (cy > cross_hi) cross_hi = cy;
                 continue;
             }
             if (side == 0 && b->right > reach) reach = b->right;
             if (side == 1 && b->left < next) next = b->left;
-            if (!line) continue;
             count[side]++;
             if (cy < top[side]) top[side] = cy;
             if (cy > bottom[side]) bottom[side] = cy;
         }
-        /* the crossing lines stand inside both columns, not above or below them */
-        const int inside =
-            cross_lo > top[0] && cross_lo > top[1] && cross_hi < bottom[0] && cross_hi < bottom[1];
-        if (!picture && across >= 1 && 6 * across <= nlines && 4 * count[0] >= nlines &&
-            4 * count[1] >= nlines && inside && next - reach >= min_gap && next - reach > best) {
-            best = next - reach;
-            *cut_at = next;
-        }
+        const int lines = count[0] + count[1];
+        if (!count[0] || !count[1]) continue;
+        if (crossed == 0 ? 10 * run < 6 * (nb->bottom - nb->top)
+                         : MAX_CROSSING * lines < crossed || 4 * count[0] < lines ||
+                               4 * count[1] < lines || cross_lo <= top[0] ||
+                               cross_lo <= top[1] || cross_hi >= bottom[0] || cross_hi >= bottom[1])
+            continue;
+        *cut_at = next;
+        *width = next - reach;
+        *crossing = crossed;
+        return 1;
     }
-    return best;
+    return 0;
 }
 
 /* Builds the subtree of lines idx[0..n), n >= 1. */
@@ -256,14 +268,16 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     /* A separating rule counts as a gap twice the narrowest one. */
     if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
     if (n > 1 && sy < 2 && rule_cut(x, idx, n, &node->box, 0, &y_cut)) sy = 2;
-    /* No gap wide enough: columns that a few lines run across are still columns. */
-    if (n > 1 && sx < 1 && sy < 1) {
-        const int step = x->col_gap > 4 ? (int)(x->col_gap / 3) : 1;
-        const int g = bridged_cut(x, idx, n, &node->box, step, x->col_gap, &x_cut);
-        if (g > 0) {
-            sx = 1;
-            gx = g;
-        }
+    /* Columns come from the gutters: a gutter that separates columns of text is cut along
+     * before any band of white that happens to line up across the columns; one that a few
+     * lines run across only where no gap is wide enough (a heading over two sections of
+     * columns is cut above and below first). */
+    int gutter_width, crossing;
+    if (n > 1 &&
+        gutter_cut(x, idx, n, &node->box, x->column_min_width, &x_cut, &gutter_width, &crossing) &&
+        (crossing == 0 || (sx < 1 && sy < 1))) {
+        sx = sy + 1;
+        gx = gutter_width;
     }
     if (sx < 1 && sy < 1) {
         if (leaf_lines(node, boxes, x->nreal, idx, n, x->rtl)) {
@@ -300,8 +314,8 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     return node;
 }
 
-int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_height_px,
-              const lt_params *p, lt_cut_node **root, lt_error *err)
+int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separators *seps,
+              double text_height_px, const lt_params *p, lt_cut_node **root, lt_error *err)
 {
     *root = NULL;
     if (lines->count == 0) return 0;
@@ -336,8 +350,8 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_hei
     for (int i = 0; i < n; i++)
         idx[i] = i;
     const cut_context x = {boxes, lines->count, p->column_min_gap * th, p->block_min_gap * th,
-                           rules, nrules,       p->right_to_left,       lines->items,
-                           spans};
+                           rules, nrules, seps, COLUMN_MIN_WIDTH * th, p->right_to_left,
+                           lines->items, spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

@@ -73,6 +73,38 @@ lt_point lt_frame_to_deskewed(const lt_frame *f, double x, double y);
 void lt_frame_map_box(const lt_frame *f, lt_box deskewed, int width, int height, lt_point quad[4],
                       lt_box *hull);
 
+/* ---- separators (separators.c) ------------------------------------------------------- */
+/* The obstacles of a page (deskewed frame): rules and column gutters. Lines are not linked
+ * across them, blocks are cut along them, columns are read from them. */
+typedef struct lt_separators {
+    lt_box *rules; /* rule components, vertical and horizontal */
+    int nrules;
+    lt_box *gutters; /* column gutters: bounding boxes of the connected white regions
+                        between columns (a line printed across a gutter cuts it in two) */
+    int ngutters;
+    /* the gutter cells, for constant-time queries: a summed-area table of the cell grid */
+    int cols, rows;
+    double cell_px;
+    int32_t *sum;
+    int32_t *text_sum; /* the same for the cells holding text, bodies and marks */
+    double th;         /* the text height the stage was given */
+} lt_separators;
+
+/* Finds the rules (components classified LT_COMP_RULE) and the column gutters of a page. */
+int lt_find_separators(const lt_components *c, double text_height_px, lt_separators **out,
+                       lt_error *err);
+/* 1 when gutter white lies in the rectangle [x0, x1) x [y0, y1) (in the cells wholly inside
+ * it), or a vertical rule stands in it; s may be NULL. */
+int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1);
+/* Whether a link between two pieces of text on one row, with the gap [x0, x1) between them
+ * and their rows [top, bottom), is refused: a separator lies in the gap, or the gap is wider
+ * than a stretched word space and a white strip through it has text on both sides in the
+ * line above or below. */
+int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom);
+/* The same for gutter white alone. */
+int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, double y1);
+void lt_separators_free(lt_separators *s);
+
 /* ---- lines (lines.c) ------------------------------------------------------------------ */
 /* A text line in the deskewed frame, before mapping. */
 typedef struct lt_raw_line {
@@ -95,8 +127,8 @@ typedef struct lt_raw_lines {
 /* Groups the text components into lines (docstrum-style neighbour links, transitive
  * closure), then attaches speckle-sized marks (dots, accents, punctuation) that lie inside a
  * line's band. */
-int lt_build_lines(const lt_components *c, double text_height_px, const lt_params *p,
-                   lt_raw_lines **out, lt_error *err);
+int lt_build_lines(const lt_components *c, double text_height_px, const lt_separators *seps,
+                   const lt_params *p, lt_raw_lines **out, lt_error *err);
 void lt_raw_lines_free(lt_raw_lines *l);
 
 /* ---- line polygons (polygon.c) ----------------------------------------------------------- */
@@ -122,9 +154,10 @@ typedef struct lt_cut_node {
     int nchildren;
 } lt_cut_node;
 
-/* `c` (may be NULL) supplies the rules that separate columns and blocks. */
-int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, double text_height_px,
-              const lt_params *p, lt_cut_node **root, lt_error *err);
+/* `c` (may be NULL) supplies the rules and pictures, `seps` (may be NULL) the gutters that
+ * separate columns. */
+int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separators *seps,
+              double text_height_px, const lt_params *p, lt_cut_node **root, lt_error *err);
 void lt_cut_node_free(lt_cut_node *n);
 
 /* ---- regions, roles and reading order (regions.c, roles.c, order.c) -------------------- */

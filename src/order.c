@@ -249,32 +249,13 @@ static int narrow_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *
     return 0;
 }
 
-/* A block that looks like columns bridged by a few lines: some x between a fifth and four
- * fifths of its width is crossed by at least one and at most a sixth of its lines, while at
- * least a quarter of them lie wholly on each side. Such lines usually join two columns whose
- * gutter is narrow. */
-static int bridged_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *lines, double th)
+/* Whether a block holds pieces of a line that was cut where it ran across a gutter: its
+ * columns nearly touch, and the reading order deserves a look. */
+static int bridged_block(const lt_raw_block *blocks, int n, const lt_raw_lines *lines)
 {
-    for (int k = 0; k < n; k++) {
-        const lt_raw_block *b = &blocks[k];
-        if (b->nlines < 6 || b->table >= 0) continue;
-        const int w = b->box.right - b->box.left, step = th > 2 ? (int)(th / 2) : 1;
-        for (int x = b->box.left + w / 5; x <= b->box.right - w / 5; x += step) {
-            int across = 0, left = 0, right = 0;
-            for (int j = 0; j < b->nlines; j++) {
-                const lt_box *l = &lines->items[b->lines[j]].box;
-                if (l->right <= x)
-                    left++;
-                else if (l->left >= x)
-                    right++;
-                else
-                    across++;
-            }
-            if (across >= 1 && 6 * across <= b->nlines && 4 * left >= b->nlines &&
-                4 * right >= b->nlines)
-                return 1;
-        }
-    }
+    for (int k = 0; k < n; k++)
+        for (int j = 0; j < blocks[k].nlines; j++)
+            if (lines->items[blocks[k].lines[j]].bridged) return 1;
     return 0;
 }
 
@@ -415,7 +396,7 @@ int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_comp
                      &a->order_doubts))
         goto fail;
     if (narrow_gutter(tree_blocks, n, lines, th)) a->order_doubts |= LT_DOUBT_NARROW_GAP;
-    if (bridged_gutter(tree_blocks, n, lines, th)) a->order_doubts |= LT_DOUBT_BRIDGED;
+    if (bridged_block(tree_blocks, n, lines)) a->order_doubts |= LT_DOUBT_BRIDGED;
     int pos = 0;
     for (int i = 0; i < n; i++) {
         a->blocks[i] = tree_blocks[seq[i]];

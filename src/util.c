@@ -114,7 +114,7 @@ void lt_params_default(lt_params *p)
     p->speckle_max = 0.2;
     p->rule_min_aspect = 12;
     p->picture_min_height = 6;
-    p->link_max_gap = 3.5;
+    p->link_max_gap = 5;
     p->column_min_gap = 1.5;
     p->block_min_gap = 1.2;
     p->right_to_left = 0;

@@ -66,12 +66,25 @@ static void check_page(const page *p, uint64_t seed, const char *what)
     lt_params prm;
     lt_params_default(&prm);
     lt_error err = {0};
+    /* The separators stage sees each line as one component of text (its box). */
+    lt_component comp[MAX_LINES];
+    for (int i = 0; i < p->n; i++) {
+        const lt_box *b = &p->lines[i].box;
+        comp[i] = (lt_component){*b, (long)(b->right - b->left) * (b->bottom - b->top),
+                                 0.5 * (b->left + b->right), 0.5 * (b->top + b->bottom),
+                                 LT_COMP_TEXT};
+    }
+    const lt_components comps = {comp, p->n};
+    lt_separators *seps = NULL;
     lt_cut_node *root = NULL;
-    if (lt_xy_cut(&raw, NULL, TH, &prm, &root, &err)) {
-        tu_fail("%s: lt_xy_cut: %s", what, err.message);
+    if (lt_find_separators(&comps, TH, &seps, &err) ||
+        lt_xy_cut(&raw, NULL, seps, TH, &prm, &root, &err)) {
+        tu_fail("%s: separators or lt_xy_cut: %s", what, err.message);
+        lt_separators_free(seps);
         free(raw.items);
         return;
     }
+    lt_separators_free(seps);
     int page_h = 0; /* the page: the lines' hull and a margin of 150 px */
     for (int i = 0; i < p->n; i++) {
         if (p->lines[i].box.bottom + 150 > page_h) page_h = p->lines[i].box.bottom + 150;
@@ -296,7 +309,7 @@ static void roles_of_lines(const page *p, lt_components *comps, const int *want,
     lt_error err = {0};
     lt_cut_node *root = NULL;
     lt_arrangement *arr = NULL;
-    if (lt_xy_cut(&raw, comps, TH, &prm, &root, &err) ||
+    if (lt_xy_cut(&raw, comps, NULL, TH, &prm, &root, &err) ||
         lt_arrange(root, &raw, comps, TH, &prm, p->lines[p->n - 1].box.bottom + 150, &arr, &err)) {
         tu_fail("%s: %s", what, err.message);
     } else {
@@ -374,7 +387,7 @@ static void test_empty(void)
     lt_params_default(&prm);
     lt_error err = {0};
     lt_cut_node *root = (lt_cut_node *)&err;
-    CHECK_INT(lt_xy_cut(&raw, NULL, TH, &prm, &root, &err), 0, "empty page: lt_xy_cut");
+    CHECK_INT(lt_xy_cut(&raw, NULL, NULL, TH, &prm, &root, &err), 0, "empty page: lt_xy_cut");
     CHECK(root == NULL, "empty page: tree not NULL");
     lt_arrangement *arr = NULL;
     CHECK_INT(lt_arrange(NULL, &raw, NULL, TH, &prm, 1000, &arr, &err), 0,

@@ -70,6 +70,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     const double dpi = img->dpi > 0 && !p->force_dpi ? img->dpi : p->dpi;
     lt_image *ink_own = NULL, *rot_own = NULL;
     lt_components *comps = NULL;
+    lt_separators *seps = NULL;
     lt_raw_lines *raw = NULL;
     lt_cut_node *tree = NULL;
     lt_arrangement *arr = NULL;
@@ -107,11 +108,12 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     t_next = now_ms();
     stage_ms[ST_COMPONENTS] += t_next - t;
     t = t_next;
-    if ((rc = lt_build_lines(comps, text_height_px, p, &raw, err))) goto done;
+    if ((rc = lt_find_separators(comps, text_height_px, &seps, err))) goto done;
+    if ((rc = lt_build_lines(comps, text_height_px, seps, p, &raw, err))) goto done;
     t_next = now_ms();
     stage_ms[ST_LINES] += t_next - t;
     t = t_next;
-    if ((rc = lt_xy_cut(raw, comps, text_height_px, p, &tree, err))) goto done;
+    if ((rc = lt_xy_cut(raw, comps, seps, text_height_px, p, &tree, err))) goto done;
     if ((rc = lt_arrange(tree, raw, comps, text_height_px, p, page->height, &arr, err))) goto done;
     *nblocks = arr->nblocks;
     *nlines = raw->count;
@@ -120,6 +122,7 @@ done:
     lt_image_free(ink_own);
     lt_image_free(rot_own);
     lt_components_free(comps);
+    lt_separators_free(seps);
     lt_raw_lines_free(raw);
     lt_cut_node_free(tree);
     lt_arrangement_free(arr);

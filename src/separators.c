@@ -1,0 +1,516 @@
+/* separators.c — the obstacles that text lines, blocks and the reading order respect, found
+ * once: ruling lines (long, thin, straight components) and column gutters, the tall white
+ * rectangles of the text's occupancy (after Breuel 2002, "Two geometric algorithms for layout
+ * analysis": whitespace rectangles between columns), taken as gutters only where text borders
+ * them on both sides over a long stretch. */
+#include "internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Constants of the stage, in text heights (th) unless said otherwise. */
+static const double CELL_TH = 0.25;          /* side of an occupancy cell: fine enough for gaps */
+static const long MAX_CELLS = 1L << 24;      /* cells of the grid at most (the cell grows) */
+static const double GUTTER_MIN_WIDTH = 1.2;  /* narrowest gutter: wider than a word space */
+static const double GUTTER_MAX_WIDTH = 12.0; /* a wider white is a margin or an empty area */
+/* A column of short items (page numbers set flush right after a column of text, list labels,
+ * version numbers before their entries) belongs to the lines beside it: a gutter region with
+ * text reaching less than NARROW_COLUMN from it (text closer than NARROW_GAP, wider than the
+ * spacing of a leader's dots, counting as one) in all but NARROW_SHARE of its rows on one side
+ * and farther on the other separates no lines (it still separates columns for the blocks,
+ * as labels set apart in the white between two columns do). Two narrow columns side by side
+ * are the cells of a table. */
+static const double NARROW_COLUMN = 4.0;
+static const double NARROW_GAP = 2.0;
+static const double NARROW_SHARE = 0.25;
+/* Evidence for a gutter, in text heights of rows (a line of body text inks about two):
+ * rows with words on both sides of the white, more than one line's worth (the pair that asks
+ * may be one); rows with words beside it on either side, about four lines' worth: the white
+ * between words of two or three lines of a paragraph (a river) is shorter, while the strip
+ * after a column of list labels runs down beside every line of the items; and words aligned
+ * on one of its edges (the starts of a column's lines, or the ends of justified ones) in two
+ * lines' worth of rows: the white before page numbers set flush right has ragged ends on its
+ * left and ragged starts on its right. */
+static const double GUTTER_MIN_BORDERED = 3.0;
+static const double GUTTER_MIN_SIDED = 8.0;
+static const double GUTTER_MIN_ALIGNED = 4.0;
+static const double ALIGN_TOLERANCE = 0.5; /* edges this close line up */
+/* Words beside the white: the nearest ink is a body, or a mark (final punctuation) this
+ * close to a body. Leader dots alone do not border a gutter. */
+static const double WORD_REACH = 0.6;
+/* A gap this wide, wider than the widest stretched word space of a justified line, is refused
+ * also where a white strip (STRIP_MIN_WIDTH wide) through it runs through the line above or
+ * the line below (STRIP_REACH up or down) with text on both sides within STRIP_SIDE: the cells
+ * of a short table, a column of labels, a word set apart from its line by a wide white. */
+static const double LOCAL_STRIP_GAP = 3.0;
+/* Height of a line of body text (ascenders to descenders), in text heights: gap thresholds
+ * grow with a pair taller than that (the word spaces of large type are wide). */
+static const double LINE_HEIGHT = 2.0;
+static const double STRIP_MIN_WIDTH = 1.5;
+static const double STRIP_REACH = 5.0;
+static const double STRIP_SIDE = 4.0;
+static const double MIN_DOT_AREA = 0.02; /* text heights squared: the smallest dot of a leader */
+/* Marks in a gutter: a speck of noise here and there, but not a dot in every line (a leader
+ * runs through the white before its page numbers). */
+static const double MAX_DOTS_PER_LINE = 0.3;
+
+static int box_w(const lt_box *b)
+{
+    return b->right - b->left;
+}
+
+static int box_h(const lt_box *b)
+{
+    return b->bottom - b->top;
+}
+
+/* Marks the cells of the page's text in occ (cols x rows, row-major): 3 for bodies (letters,
+ * words), 2 for marks (punctuation, dots), 1 for specks the size of a small dot (a leader's
+ * dots at low resolution, or noise: white may hold a few of them). Smaller specks, rules and
+ * pictures are not text. */
+static void fill_occupancy(const lt_components *c, double th, double cell, int cols, int rows,
+                           uint8_t *occ)
+{
+    for (int i = 0; i < c->count; i++) {
+        const lt_component *k = &c->items[i];
+        const lt_box *b = &k->box;
+        uint8_t v;
+        if (k->kind == LT_COMP_TEXT)
+            v = box_h(b) >= 0.5 * th || box_w(b) >= th ? 3 : 2;
+        else if (k->kind == LT_COMP_SPECKLE && k->pixels >= fmax(3, MIN_DOT_AREA * th * th))
+            v = 1;
+        else
+            continue;
+        int x0 = (int)(b->left / cell), x1 = (int)((b->right - 1) / cell);
+        int y0 = (int)(b->top / cell), y1 = (int)((b->bottom - 1) / cell);
+        if (x1 >= cols) x1 = cols - 1;
+        if (y1 >= rows) y1 = rows - 1;
+        for (int y = y0; y <= y1; y++)
+            for (int x = x0; x <= x1; x++) {
+                uint8_t *o = occ + (size_t)y * cols + x;
+                if (*o < v) *o = v;
+            }
+    }
+}
+
+/* State of one window column while the rows are scanned top to bottom. */
+typedef struct run {
+    int first, last; /* first and last row with words beside the current white run, or -1 */
+    int bordered;    /* rows in it with words on both sides */
+    int sided;       /* rows in it with words on at least one side */
+    int aligned[2];  /* rows in it with words ending at its left edge, starting at its right */
+    int dots;        /* runs of rows with marks (dots, specks) in the window */
+    int dotted;      /* the previous row had marks in the window */
+} run;
+
+typedef struct evidence {
+    int width;        /* window, cells */
+    int max_gap;      /* widest white, cells, between the words of a bordered row */
+    int word_reach;   /* cells */
+    int min_bordered; /* rows */
+    int min_sided;    /* rows */
+    int min_aligned;  /* rows */
+    int line_rows;    /* rows a line of text inks */
+    int align_tolerance; /* cells */
+} evidence;
+
+/* Ends the white run of window cx: with enough evidence, its cells from the first to the last
+ * row with words beside it join the gutter mask. */
+static void close_run(run *r, int cx, const evidence *e, int cols, uint8_t *mask)
+{
+    if (r->bordered >= e->min_bordered && r->sided >= e->min_sided &&
+        (r->aligned[0] >= e->min_aligned || r->aligned[1] >= e->min_aligned) &&
+        r->dots * e->line_rows <= MAX_DOTS_PER_LINE * r->sided)
+        for (int y = r->first; y <= r->last; y++)
+            memset(mask + (size_t)y * cols + cx, 1, (size_t)e->width);
+    *r = (run){-1, -1, 0, 0, {0, 0}, 0, 0};
+}
+
+/* The gutter mask: the cells of every window e->width cells wide and white run of rows with
+ * enough evidence (see GUTTER_MIN_BORDERED). Rows with no words beside the window may lie in
+ * the run (the white between lines and paragraphs) but do not count. */
+static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evidence *e,
+                             uint8_t *mask)
+{
+    const size_t slots = (size_t)cols + 1;
+    int *sum = malloc(2 * slots * sizeof *sum); /* words, then marks, in cells left of x */
+    int *prev = malloc(4 * slots * sizeof *prev); /* last ink cell at or left of x */
+    run *runs = malloc(slots * sizeof *runs);
+    if (!sum || !prev || !runs) {
+        free(sum);
+        free(prev);
+        free(runs);
+        return LT_ENOMEM;
+    }
+    int *marks = sum + slots;
+    int *next = prev + slots;      /* first ink cell at or right of x */
+    int *prev_word = next + slots; /* the same for body cells */
+    int *next_word = prev_word + slots;
+    for (int x = 0; x < cols; x++)
+        runs[x] = (run){-1, -1, 0, 0, {0, 0}, 0, 0};
+    for (int y = 0; y < rows; y++) {
+        const uint8_t *row = occ + (size_t)y * cols;
+        sum[0] = marks[0] = 0;
+        for (int x = 0; x < cols; x++) {
+            sum[x + 1] = sum[x] + (row[x] >= 2);
+            marks[x + 1] = marks[x] + (row[x] == 1);
+        }
+        for (int x = 0, last = -1, word = -1; x < cols; x++) {
+            prev[x] = last = row[x] ? x : last;
+            prev_word[x] = word = row[x] == 3 ? x : word;
+        }
+        for (int x = cols - 1, first = -1, word = -1; x >= 0; x--) {
+            next[x] = first = row[x] ? x : first;
+            next_word[x] = word = row[x] == 3 ? x : word;
+        }
+        for (int x = 0; x + e->width <= cols; x++) {
+            run *r = &runs[x];
+            if (sum[x + e->width] - sum[x] > 0) { /* text in the window: the run ends */
+                close_run(r, x, e, cols, mask);
+                continue;
+            }
+            const int dotted = marks[x + e->width] - marks[x] > 0; /* leader dots, or noise */
+            r->dots += dotted && !r->dotted;
+            r->dotted = dotted;
+            if (dotted) continue;
+            const int left = x > 0 ? prev[x - 1] : -1;
+            const int right = x + e->width < cols ? next[x + e->width] : -1;
+            const int word_left = left >= 0 && prev_word[left] >= left - e->word_reach;
+            const int word_right = right >= 0 && next_word[right] >= 0 &&
+                                   next_word[right] <= right + e->word_reach;
+            const int near_left = word_left && x - left <= e->max_gap;
+            const int near_right = word_right && right - x - e->width <= e->max_gap;
+            if (!near_left && !near_right) continue;
+            if (r->first < 0) r->first = y;
+            r->last = y;
+            r->sided++;
+            r->bordered += near_left && near_right && right - left - 1 <= e->max_gap;
+            r->aligned[0] += near_left && x - left - 1 <= e->align_tolerance;
+            r->aligned[1] += near_right && right - x - e->width <= e->align_tolerance;
+        }
+    }
+    for (int x = 0; x + e->width <= cols; x++)
+        close_run(&runs[x], x, e, cols, mask);
+    free(sum);
+    free(prev);
+    free(runs);
+    return 0;
+}
+
+/* How far (cells) the text beside a gutter region reaches in cell row y, going `dir` (+1
+ * right, -1 left) from the cell column `from` (the first outside the region): from the first
+ * text within `skip` cells to the first white of `gap` cells after it, unless dots (marks or
+ * specks) follow that white within `far` cells: a leader leads on to its entry. 0 for no
+ * text. */
+static int reach_in_row(const uint8_t *occ, int cols, int y, int from, int dir, int skip, int gap,
+                        int far)
+{
+    const uint8_t *row = occ + (size_t)y * cols;
+    int x = from;
+    while (x >= 0 && x < cols && row[x] < 2 && dir * (x - from) < skip)
+        x += dir;
+    if (x < 0 || x >= cols || row[x] < 2) return 0;
+    const int start = x;
+    int end = x;
+    for (int white = 0; x >= 0 && x < cols; x += dir) {
+        if (row[x] != 0) {
+            end = x;
+            white = 0;
+            continue;
+        }
+        if (++white < gap) continue;
+        int k = x; /* white enough: go on only to dots (marks or specks) */
+        while (k >= 0 && k < cols && row[k] == 0 && dir * (k - x) < far)
+            k += dir;
+        if (k < 0 || k >= cols || row[k] == 0 || row[k] == 3) break;
+        x = k - dir;
+        white = 0;
+    }
+    return dir * (end - start) + 1;
+}
+
+/* Whether the text on one side of a gutter region (box in cells) is a column of short items,
+ * reaching less than `narrow` cells from it in most lines beside it (bands of rows with
+ * text; a band reaches as far as its farthest row): page numbers set flush right after a
+ * column of text, list labels, version numbers before their entries. */
+static int narrow_side(const uint8_t *occ, int cols, const lt_box *cellbox, int dir, int skip,
+                       int gap, int far, int narrow)
+{
+    int lines = 0, wide = 0, band = 0;
+    for (int y = cellbox->top; y <= cellbox->bottom; y++) {
+        const int r = y == cellbox->bottom ? 0
+                                            : reach_in_row(occ, cols, y,
+                                                           dir > 0 ? cellbox->right
+                                                                   : cellbox->left - 1,
+                                                           dir, skip, gap, far);
+        if (r > 0) {
+            band = r > band ? r : band;
+            continue;
+        }
+        if (band > 0) {
+            lines++;
+            wide += band >= narrow;
+        }
+        band = 0;
+    }
+    return wide < NARROW_SHARE * lines;
+}
+
+/* Bounding boxes (pixels) of the 4-connected regions of the mask, by row runs and
+ * union-find. */
+static int mask_regions(const uint8_t *mask, int cols, int rows, double cell, lt_box **boxes,
+                        int *count)
+{
+    *boxes = NULL;
+    *count = 0;
+    /* runs of each row: start, end, label */
+    size_t cap = 1024, n = 0;
+    int *rx0 = malloc(cap * sizeof *rx0), *rx1 = malloc(cap * sizeof *rx1);
+    int *ry = malloc(cap * sizeof *ry);
+    int *row_first = malloc(((size_t)rows + 1) * sizeof *row_first);
+    int rc = LT_ENOMEM;
+    int *parent = NULL;
+    lt_box *out = NULL;
+    if (!rx0 || !rx1 || !ry || !row_first) goto done;
+    for (int y = 0; y < rows; y++) {
+        row_first[y] = (int)n;
+        const uint8_t *row = mask + (size_t)y * cols;
+        for (int x = 0; x < cols;) {
+            if (!row[x]) {
+                x++;
+                continue;
+            }
+            int e = x;
+            while (e < cols && row[e])
+                e++;
+            if (n == cap) {
+                cap *= 2;
+                int *a = realloc(rx0, cap * sizeof *a);
+                if (a) rx0 = a;
+                int *b = realloc(rx1, cap * sizeof *b);
+                if (b) rx1 = b;
+                int *d = realloc(ry, cap * sizeof *d);
+                if (d) ry = d;
+                if (!a || !b || !d) goto done;
+            }
+            rx0[n] = x;
+            rx1[n] = e;
+            ry[n] = y;
+            n++;
+            x = e;
+        }
+    }
+    row_first[rows] = (int)n;
+    parent = malloc((n + 1) * sizeof *parent);
+    if (!parent) goto done;
+    for (size_t i = 0; i < n; i++)
+        parent[i] = (int)i;
+    for (int y = 1; y < rows; y++) /* runs overlapping a run of the row above */
+        for (int i = row_first[y], j = row_first[y - 1]; i < row_first[y + 1]; i++) {
+            while (j < row_first[y] && rx1[j] <= rx0[i])
+                j++;
+            for (int k = j; k < row_first[y] && rx0[k] < rx1[i]; k++)
+                lt_uf_unite(parent, i, k);
+        }
+    out = malloc((n + 1) * sizeof *out);
+    int *slot = malloc((n + 1) * sizeof *slot);
+    if (!out || !slot) {
+        free(slot);
+        goto done;
+    }
+    int m = 0;
+    for (size_t i = 0; i < n; i++) {
+        const int r = lt_uf_find(parent, (int)i);
+        const lt_box b = {(int)(rx0[i] * cell), (int)(ry[i] * cell), (int)ceil(rx1[i] * cell),
+                          (int)ceil((ry[i] + 1) * cell)};
+        if (r == (int)i) {
+            slot[i] = m;
+            out[m++] = b;
+            continue;
+        }
+        lt_box *o = &out[slot[r]];
+        if (b.left < o->left) o->left = b.left;
+        if (b.top < o->top) o->top = b.top;
+        if (b.right > o->right) o->right = b.right;
+        if (b.bottom > o->bottom) o->bottom = b.bottom;
+    }
+    free(slot);
+    *boxes = out;
+    *count = m;
+    out = NULL;
+    rc = 0;
+done:
+    free(rx0);
+    free(rx1);
+    free(ry);
+    free(row_first);
+    free(parent);
+    free(out);
+    return rc;
+}
+
+/* A summed-area table ((cols+1) x (rows+1)) of the cells of grid (cols x rows) holding at
+ * least min_value; NULL when out of memory. */
+static int32_t *summed(const uint8_t *grid, int cols, int rows, int min_value)
+{
+    const size_t stride = (size_t)cols + 1;
+    int32_t *sum = calloc(stride * ((size_t)rows + 1), sizeof *sum);
+    if (!sum) return NULL;
+    for (int y = 0; y < rows; y++)
+        for (int x = 0; x < cols; x++)
+            sum[(size_t)(y + 1) * stride + x + 1] = (grid[(size_t)y * cols + x] >= min_value) +
+                                                    sum[(size_t)y * stride + x + 1] +
+                                                    sum[(size_t)(y + 1) * stride + x] -
+                                                    sum[(size_t)y * stride + x];
+    return sum;
+}
+
+/* Cells counted by the summed-area table `sum` of s's grid in the cell rectangle [cx0, cx1) x
+ * [cy0, cy1), clipped to the grid. */
+static int cells(const lt_separators *s, const int32_t *sum, int cx0, int cy0, int cx1, int cy1)
+{
+    if (cx0 < 0) cx0 = 0;
+    if (cy0 < 0) cy0 = 0;
+    if (cx1 > s->cols) cx1 = s->cols;
+    if (cy1 > s->rows) cy1 = s->rows;
+    if (cx1 <= cx0 || cy1 <= cy0) return 0;
+    const size_t stride = (size_t)s->cols + 1;
+    return sum[(size_t)cy1 * stride + cx1] - sum[(size_t)cy0 * stride + cx1] -
+           sum[(size_t)cy1 * stride + cx0] + sum[(size_t)cy0 * stride + cx0];
+}
+
+int lt_find_separators(const lt_components *c, double text_height_px, lt_separators **out,
+                       lt_error *err)
+{
+    *out = NULL;
+    const double th = text_height_px > 0 ? text_height_px : 20;
+    lt_separators *s = calloc(1, sizeof *s);
+    if (!s) return lt_error_set(err, LT_ENOMEM, "separators: out of memory");
+    int maxx = 1, maxy = 1, nrules = 0;
+    for (int i = 0; i < c->count; i++) {
+        if (c->items[i].box.right > maxx) maxx = c->items[i].box.right;
+        if (c->items[i].box.bottom > maxy) maxy = c->items[i].box.bottom;
+        nrules += c->items[i].kind == LT_COMP_RULE;
+    }
+    /* Rules, vertical and horizontal. */
+    s->rules = malloc(((size_t)nrules + 1) * sizeof *s->rules);
+    if (!s->rules) goto nomem;
+    for (int i = 0; i < c->count; i++)
+        if (c->items[i].kind == LT_COMP_RULE) s->rules[s->nrules++] = c->items[i].box;
+    /* Gutters over a grid of cells a quarter text height wide (coarser on huge pages). */
+    double cell = fmax(1.0, CELL_TH * th);
+    while (((double)maxx / cell + 1) * ((double)maxy / cell + 1) > (double)MAX_CELLS)
+        cell *= 1.5;
+    s->cell_px = cell;
+    s->th = th;
+    s->cols = (int)(maxx / cell) + 1;
+    s->rows = (int)(maxy / cell) + 1;
+    const size_t ncell = (size_t)s->cols * s->rows;
+    uint8_t *occ = calloc(ncell, 1), *mask = calloc(ncell, 1);
+    if (!occ || !mask) {
+        free(occ);
+        free(mask);
+        goto nomem;
+    }
+    fill_occupancy(c, th, cell, s->cols, s->rows, occ);
+    const evidence e = {(int)ceil(GUTTER_MIN_WIDTH * th / cell), (int)(GUTTER_MAX_WIDTH * th / cell),
+                        (int)ceil(WORD_REACH * th / cell), (int)ceil(GUTTER_MIN_BORDERED * th / cell),
+                        (int)ceil(GUTTER_MIN_SIDED * th / cell),
+                        (int)ceil(GUTTER_MIN_ALIGNED * th / cell), (int)ceil(2 * th / cell),
+                        (int)(ALIGN_TOLERANCE * th / cell)};
+    int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
+    if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
+    for (int k = 0; !rc && k < s->ngutters; k++) {
+        const lt_box *g = &s->gutters[k];
+        const lt_box in_cells = {(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
+                                 (int)floor(g->right / cell + 0.5), (int)floor(g->bottom / cell + 0.5)};
+        const int narrow = (int)ceil(NARROW_COLUMN * th / cell);
+        const int gap = (int)ceil(NARROW_GAP * th / cell);
+        const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow),
+                  nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow);
+        if (nl == nr) continue;
+        /* the lines run on across it; the columns of text beside it stay columns */
+        for (int y = in_cells.top; y < in_cells.bottom; y++)
+            memset(mask + (size_t)y * s->cols + in_cells.left, 0,
+                   (size_t)(in_cells.right - in_cells.left));
+    }
+    if (!rc) {
+        s->sum = summed(mask, s->cols, s->rows, 1);
+        s->text_sum = summed(occ, s->cols, s->rows, 2);
+        if (!s->sum || !s->text_sum) rc = LT_ENOMEM;
+    }
+    free(occ);
+    free(mask);
+    if (rc) goto nomem;
+    *out = s;
+    return 0;
+nomem:
+    lt_separators_free(s);
+    return lt_error_set(err, LT_ENOMEM, "separators: out of memory");
+}
+
+int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, double y1)
+{
+    if (!s || !s->sum) return 0;
+    const double cell = s->cell_px;
+    return cells(s, s->sum, (int)ceil(x0 / cell), (int)ceil(y0 / cell), (int)floor(x1 / cell),
+                 (int)floor(y1 / cell)) > 0;
+}
+
+/* Whether text lines stand on both sides of a white strip through the gap [x0, x1) in the
+ * rows [y0, y1): the widest run of cell columns of the gap with no text in those rows is at
+ * least STRIP_MIN_WIDTH wide, and text lies within STRIP_SIDE of it on both sides. */
+static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0, double y1,
+                         double th)
+{
+    const double cell = s->cell_px;
+    const int cy0 = (int)floor(y0 / cell), cy1 = (int)ceil(y1 / cell);
+    const int min_cells = (int)ceil(STRIP_MIN_WIDTH * th / cell), side = (int)ceil(STRIP_SIDE * th / cell);
+    int best = 0, best_lo = 0, run = 0;
+    for (int cx = (int)ceil(x0 / cell); (cx + 1) * cell <= x1; cx++) {
+        run = cells(s, s->text_sum, cx, cy0, cx + 1, cy1) == 0 ? run + 1 : 0;
+        if (run > best) {
+            best = run;
+            best_lo = cx - run + 1;
+        }
+    }
+    return best >= min_cells && cells(s, s->text_sum, best_lo - side, cy0, best_lo, cy1) > 0 &&
+           cells(s, s->text_sum, best_lo + best, cy0, best_lo + best + side, cy1) > 0;
+}
+
+int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom)
+{
+    if (!s) return 0;
+    /* gaps judged against the pair's own size: the word spaces of a title are wide */
+    const double scale = fmax(1.0, (bottom - top) / (LINE_HEIGHT * s->th));
+    if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
+    if (lt_separator_between(s, x0, x1, top, bottom)) return 1;
+    if (!s->text_sum || x1 - x0 < LOCAL_STRIP_GAP * s->th * scale) return 0;
+    /* the rows of the line above and of the line below, not the pair's own */
+    const double reach = STRIP_REACH * s->th, cell = s->cell_px;
+    return strip_in_rows(s, x0, x1, top - reach, top - cell, s->th) ||
+           strip_in_rows(s, x0, x1, bottom + cell, bottom + reach, s->th);
+}
+
+int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1)
+{
+    if (!s) return 0;
+    for (int r = 0; r < s->nrules; r++) {
+        const lt_box *b = &s->rules[r];
+        if (box_h(b) > box_w(b) && b->left >= x0 - 1 && b->right <= x1 + 1 && b->top < y1 &&
+            b->bottom > y0)
+            return 1;
+    }
+    return lt_gutter_between(s, x0, x1, y0, y1);
+}
+
+void lt_separators_free(lt_separators *s)
+{
+    if (!s) return;
+    free(s->rules);
+    free(s->gutters);
+    free(s->sum);
+    free(s->text_sum);
+    free(s);
+}
