@@ -3,7 +3,6 @@
 #include "internal.h"
 
 #include <math.h>
-#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -169,10 +168,6 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     /* 4. Separators, 5. lines, 6. blocks, 7. tables, roles and reading order. */
     rc = lt_find_separators(comps, res->text_height_px, &seps, err);
     if (rc) goto done;
-    if (getenv("LT_DEBUG_GUTTERS"))
-        for (int k = 0; k < seps->ngutters; k++)
-            fprintf(stderr, "gutter %d %d %d %d\n", seps->gutters[k].left, seps->gutters[k].top,
-                    seps->gutters[k].right, seps->gutters[k].bottom);
     rc = lt_build_lines(comps, res->text_height_px, seps, params, &raw, err);
     if (rc) goto done;
     rc = lt_xy_cut(raw, comps, seps, res->text_height_px, params, &tree, err);

@@ -148,8 +148,9 @@ typedef struct lt_params {
     double speckle_max;         /* text units: components smaller in both sides are speckle (0.2) */
     double rule_min_aspect;     /* long side / short side of a rule (default 12) */
     double picture_min_height;  /* text units: taller components are non-text (default 6) */
-    double link_max_gap;        /* text units: widest gap bridged inside a line unless it lies
-                                   in a gutter (default 3.5: stretched spaces, leaders) */
+    double link_max_gap;        /* text units: widest gap bridged inside a line unless a
+                                   separator lies in it (default 5: stretched spaces, a
+                                   number after a leader, a label before its item) */
     double column_min_gap;      /* text units: narrowest gutter the XY-cut splits at (1.5) */
     double block_min_gap;       /* text units: narrowest vertical gap between blocks (1.2) */
     int right_to_left;          /* nonzero: columns, and pieces of a row, read right to left */

@@ -273,15 +273,11 @@ static void test_one_column(void)
 }
 
 /* Two columns: gutters of 3 text heights (the main case; wider than most word gaps) on
- * eight random pages, and of 2 text heights (narrower than lt_params' link_max_gap, still
- * wider than column_min_gap: lines must be kept apart by the gutter evidence, the white strip
- * that many rows share) on three. The left column is justified, so the gutter is straight,
- * but lines may end up to a few pixels short of it, and each paragraph's last line short.
- * KNOWN DEFECT (kept failing on purpose until lines.c is fixed): with link_max_gap 3.5 (wider than
- * these gutters) some rows are joined across the gutter, by a link or by join_rows, wherever the
- * gutter evidence is missing near them: the evidence wanted is text on both sides of the white
- * strip within 2 text heights, above or below the row, which is absent next to a neighbouring line
- * that ends short of the gutter or next to the end of a paragraph in the other column. */
+ * eight random pages, and of 2 text heights (narrower than lt_params' link_max_gap: lines must
+ * be kept apart by the gutter the separators stage finds, the white strip that many rows share
+ * with the column's lines starting along it) on three. The left column is justified, so the
+ * gutter is straight, but lines may end up to a few pixels short of it, and each paragraph's
+ * last line short. */
 static void test_two_columns(void)
 {
     const struct {
