@@ -13,6 +13,10 @@ static const double COLUMN_MIN_WIDTH = 10.0;
 /* Lines that may run across a gutter cut, per line beside it: an index entry run on into the
  * next column's white, an overfull line. */
 static const double MAX_CROSSING = 1.0 / 6;
+/* A separator (rule or gutter) cuts a node where it runs along this share of the node. */
+static const double SEPARATOR_MIN_COVER = 0.6;
+/* Each column of a gutter cut that lines run across holds this share of the lines. */
+static const double COLUMN_MIN_SHARE = 0.25;
 
 typedef struct span {
     int lo, hi, line;
@@ -144,7 +148,7 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
         const int lo = across ? nb->top : nb->left, hi = across ? nb->bottom : nb->right;
         const int r0 = across ? rb->top : rb->left, r1 = across ? rb->bottom : rb->right;
         const int run = (r1 < hi ? r1 : hi) - (r0 > lo ? r0 : lo);
-        if (10 * run < 6 * (hi - lo)) continue;
+        if (run < SEPARATOR_MIN_COVER * (hi - lo)) continue;
         const int at = across ? (rb->left + rb->right) / 2 : (rb->top + rb->bottom) / 2;
         int before = 0, beyond = 0, crossed = 0;
         for (int i = 0; i < n && !crossed; i++) {
@@ -226,9 +230,9 @@ static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box 
         }
         const int lines = count[0] + count[1];
         if (!count[0] || !count[1]) continue;
-        if (crossed == 0 ? 10 * run < 6 * (nb->bottom - nb->top)
-                         : MAX_CROSSING * lines < crossed || 4 * count[0] < lines ||
-                               4 * count[1] < lines || cross_lo <= top[0] ||
+        if (crossed == 0 ? run < SEPARATOR_MIN_COVER * (nb->bottom - nb->top)
+                         : MAX_CROSSING * lines < crossed || count[0] < COLUMN_MIN_SHARE * lines ||
+                               count[1] < COLUMN_MIN_SHARE * lines || cross_lo <= top[0] ||
                                cross_lo <= top[1] || cross_hi >= bottom[0] || cross_hi >= bottom[1])
             continue;
         *cut_at = next;

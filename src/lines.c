@@ -1,14 +1,25 @@
 /* lines.c — text lines by docstrum-style neighbour links (O'Gorman 1993): every text
  * component is linked to its nearest neighbour on each side whose direction lies near the
  * (removed) page skew, i.e. that overlaps it vertically, within a gap taken from the page's
- * text height; lines are the transitive closure of the links. Links that cross a column
- * gutter — a white vertical strip shared by the wide gaps of several rows — are dropped.
- * Small marks (dots, commas, hyphens, accents) join the line whose band holds them. */
+ * text height; lines are the transitive closure of the links. Links that cross a separator
+ * (a column gutter or a vertical rule, found by separators.c) are dropped. Small marks (dots,
+ * commas, hyphens, accents) join the line whose band holds them. */
 #include "internal.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+
+/* Constants of the stage, in text heights (th) unless said otherwise. */
+static const double MARK_HEIGHT = 0.5;   /* shorter (and narrower than 1 th): a mark, not a body */
+static const double DASH_HEIGHT = 0.3;   /* shorter (and narrower than 3 th): a dash, a mark */
+static const double DOT_AREA = 0.02;     /* th squared: smaller specks are noise, not dots */
+static const double MARK_ABOVE = 0.6;    /* a mark's middle at most this far above a line (accents) */
+static const double MARK_BELOW = 0.3;    /* ... and below its box (commas; specks: none) */
+static const double CUT_REACH = 1.5;     /* a gutter interrupted this close above and below a line */
+static const double BASELINE_SLACK = 0.15; /* letters standing on the baseline: bottoms this close */
+static const double TALL_LETTER = 1.25;  /* taller letters standing on it are not x-height ones */
+static const double LARGE_TYPE_RANK = 0.3; /* x-height of large type: this rank of the letters */
 
 typedef struct link {
     int a, b;        /* components, a left of b */
@@ -144,7 +155,8 @@ static double mark_fit(const lt_component *k, const lt_box *b, double th, int sp
 {
     double cy = 0.5 * (k->box.top + k->box.bottom), cx = k->cx;
     if (cx < b->left - reach_px || cx > b->right + reach_px) return -1;
-    if (cy < b->top - 0.6 * th || cy > b->bottom + (speckle ? 0.0 : 0.3 * th)) return -1;
+    if (cy < b->top - MARK_ABOVE * th || cy > b->bottom + (speckle ? 0.0 : MARK_BELOW * th))
+        return -1;
     const int right = k->box.left > b->right;
     if ((right || k->box.right < b->left) &&
         lt_link_blocked(seps, right ? b->right : k->box.right, right ? k->box.left : b->left,
@@ -342,7 +354,7 @@ static int cut_across_gutters(const lt_components *c, const uint8_t *body, int *
         side_root[2 * i] = side_root[2 * i + 1] = -1;
         cut_x[i] = 0;
         if (body[i] && root_of[i] == i && box_w(&boxes[i]) > 2 * th) {
-            cut_x[i] = interrupted_gutter(seps, &boxes[i], th, 1.5 * th);
+            cut_x[i] = interrupted_gutter(seps, &boxes[i], th, CUT_REACH * th);
             ncut += cut_x[i] > 0;
         }
     }
@@ -435,13 +447,12 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
     if (!body || !mark || !piece || !parent || !line_of || !links || !res) goto nomem;
 
     /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
-    const double mark_h = 0.5 * th; /* punctuation, dots, accents, dashes */
-    const long min_speckle_px = (long)fmax(3, 0.02 * th * th);
+    const long min_speckle_px = (long)fmax(3, DOT_AREA * th * th);
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
         if (k->kind == LT_COMP_TEXT) {
             const int kh = box_h(&k->box), kw = box_w(&k->box);
-            if ((kh < mark_h && kw < th) || (kh < 0.3 * th && kw < 3 * th))
+            if ((kh < MARK_HEIGHT * th && kw < th) || (kh < DASH_HEIGHT * th && kw < 3 * th))
                 mark[i] = 1;
             else
                 body[i] = 1;
@@ -569,22 +580,22 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
         int standing = 0, low = 0;
         for (int k = first[l]; k < first[l + 1]; k++) {
             const lt_box *b = &c->items[order[k]].box;
-            if (fabs(b->bottom - base) > 0.15 * th + 1) continue;
+            if (fabs(b->bottom - base) > BASELINE_SLACK * th + 1) continue;
             vals[standing++] = base - b->top;
         }
         for (int k = 0; k < standing; k++)
-            if (vals[k] <= 1.25 * th) low++;
+            if (vals[k] <= TALL_LETTER * th) low++;
         r->baseline_y = base;
         if (standing == 0) {
             r->xheight_px = th;
         } else if (3 * low >= standing) {
             m = 0;
             for (int k = 0; k < standing; k++)
-                if (vals[k] <= 1.25 * th) vals[m++] = vals[k];
+                if (vals[k] <= TALL_LETTER * th) vals[m++] = vals[k];
             r->xheight_px = lt_median(vals, m);
         } else {
             qsort(vals, (size_t)standing, sizeof *vals, lt_cmp_double);
-            r->xheight_px = vals[(int)(0.3 * (standing - 1))];
+            r->xheight_px = vals[(int)(LARGE_TYPE_RANK * (standing - 1))];
         }
     }
     free(vals);

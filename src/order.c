@@ -19,6 +19,13 @@
  * (pages of thousands of separate blocks are tables of numbers or noise). */
 #define MAX_ORDERED_UNITS 400
 
+/* Constants of the stage, in text heights (th) unless said otherwise. */
+static const double OVERLAP_TOLERANCE = 0.5;   /* boxes overlapping less are disjoint ... */
+static const double OVERLAP_SHARE = 0.1;       /* ... or by less than this share of the narrower */
+static const double NARROW_GUTTER = 2.5;       /* blocks closer side by side: a narrow gutter */
+static const double SAME_TYPE_SIZE = 0.15;     /* x-heights this close (share): one type size */
+static const double SHARED_BASELINE = 0.3;     /* baselines this close are shared */
+
 /* Leaves holding lines (a leaf of pictures alone holds none). */
 static void count_leaves(const lt_cut_node *n, int *count)
 {
@@ -96,7 +103,7 @@ static int precedes(const unit *u, int n, int a, int b, int rtl, double tol)
 {
     const lt_box *A = &u[a].box, *B = &u[b].box;
     const double narrower = fmin(A->right - A->left, B->right - B->left),
-                 t = fmax(tol, 0.1 * narrower);
+                 t = fmax(tol, OVERLAP_SHARE * narrower);
     if (overlap(A->left, A->right, B->left, B->right) > t) {
         const int ha = A->bottom - A->top, hb = B->bottom - B->top;
         if (2 * overlap(A->top, A->bottom, B->top, B->bottom) >= (ha < hb ? ha : hb))
@@ -235,14 +242,15 @@ static int narrow_gutter(const lt_raw_block *blocks, int n, const lt_raw_lines *
         for (int b = 0; b < n; b++) {
             const lt_raw_block *B = &blocks[b];
             if (b == a || B->role != LT_ROLE_BODY || B->nlines < 3 || B->table >= 0) continue;
-            if (B->box.left < A->box.right || B->box.left - A->box.right >= 2.5 * th) continue;
+            if (B->box.left < A->box.right || B->box.left - A->box.right >= NARROW_GUTTER * th)
+                continue;
             if (!side_by_side(&A->box, &B->box)) continue;
-            if (fabs(A->xheight_px - B->xheight_px) > 0.15 * A->xheight_px) continue;
+            if (fabs(A->xheight_px - B->xheight_px) > SAME_TYPE_SIZE * A->xheight_px) continue;
             int pairs = 0;
             for (int i = 0; i < A->nlines; i++)
                 for (int j = 0; j < B->nlines; j++)
                     pairs += fabs(lines->items[A->lines[i]].baseline_y -
-                                  lines->items[B->lines[j]].baseline_y) < 0.3 * th;
+                                  lines->items[B->lines[j]].baseline_y) < SHARED_BASELINE * th;
             if (pairs >= 3) return 1;
         }
     }
@@ -326,7 +334,7 @@ static int order_blocks(const lt_raw_block *blocks, int n, const lt_tables *tabl
         if (u[k].nmembers > 1) sort_table_members(blocks, u[k].members, u[k].nmembers, rtl);
     int *order_of_units = malloc(((size_t)nu + 1) * sizeof *order_of_units);
     if (!order_of_units) goto done;
-    if (sort_units(u, nu, rtl, 0.5 * th, order_of_units, doubts)) {
+    if (sort_units(u, nu, rtl, OVERLAP_TOLERANCE * th, order_of_units, doubts)) {
         free(order_of_units);
         goto done;
     }
