@@ -185,7 +185,8 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
     return (across ? b->left : b->top) < at;
 }
 
-/* A gutter that separates the lines idx[0..n) of a node with box `nb` into two columns, each
+/* A gutter (or a vertical rule) that separates the lines idx[0..n) of a node with box `nb`
+ * into two columns, each
  * holding at least `min_width` px of text beside it (narrower: labels, or the cells of a
  * table, which are read row by row). Either no line crosses the gutter's middle and gutters
  * run along at least 60 % of the node's height there, or a few lines cross it (at most
@@ -198,13 +199,15 @@ static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box 
                       double min_width, int *cut_at, int *width, int *crossing)
 {
     if (!x->seps) return 0;
-    for (int k = 0; k < x->seps->ngutters; k++) {
-        const lt_box *g = &x->seps->gutters[k];
+    const int ng = x->seps->ngutters, nr = x->seps->nrules;
+    for (int k = 0; k < ng + nr; k++) {
+        const lt_box *g = k < ng ? &x->seps->gutters[k] : &x->seps->rules[k - ng];
+        if (k >= ng && g->bottom - g->top <= g->right - g->left) continue; /* a horizontal rule */
         const int mid = (g->left + g->right) / 2;
         if (mid - nb->left < min_width || nb->right - mid < min_width) continue;
-        int run = 0; /* the node's rows that gutters hold at mid */
-        for (int j = 0; j < x->seps->ngutters; j++) {
-            const lt_box *h = &x->seps->gutters[j];
+        int run = 0; /* the node's rows that gutters and vertical rules hold at mid */
+        for (int j = 0; j < ng + nr; j++) {
+            const lt_box *h = j < ng ? &x->seps->gutters[j] : &x->seps->rules[j - ng];
             const int lo = h->top > nb->top ? h->top : nb->top;
             const int hi = h->bottom < nb->bottom ? h->bottom : nb->bottom;
             if (h->left <= mid && h->right > mid && hi > lo) run += hi - lo;
