@@ -460,7 +460,8 @@ static cJSON *line_record(const crop_options *opt, const lt_input *in, int page,
 /* ---- one page ---------------------------------------------------------------------------- */
 
 /* Writes `crop` as DIR/FILE through DIR/FILE.tmp (the same temporary name in every run, so
- * that what a killed run left is replaced). 0, or -1 with errno set. */
+ * that what a killed run left is replaced); the folders leading to it must exist. 0, or -1
+ * with errno set. */
 static int write_crop(const char *dir, const char *file, const lt_image *crop)
 {
     size_t n = strlen(dir) + strlen(file) + 8;
@@ -469,7 +470,7 @@ static int write_crop(const char *dir, const char *file, const lt_image *crop)
     if (path && tmp) {
         snprintf(path, n, "%s/%s", dir, file);
         snprintf(tmp, n, "%s/%s.tmp", dir, file);
-        rc = lt_make_parents(tmp) || write_png(tmp, crop) || rename(tmp, path) ? -1 : 0;
+        rc = write_png(tmp, crop) || rename(tmp, path) ? -1 : 0;
         if (rc) {
             int saved = errno;
             remove(tmp);
@@ -524,6 +525,21 @@ static int crop_page_record(void *ctx, const lt_input *in, int page, int pages, 
     }
     int status = append_record(&text, &len, head) ? -1 : 0;
     if (status) lt_error_set(err, LT_ENOMEM, "out of memory");
+    /* The crops of a page share one folder: made once, not once per crop. */
+    const size_t folder_size = strlen(opt->out_dir) + strlen(in->out_name) + 2;
+    char *folder = status ? NULL : malloc(folder_size);
+    if (folder) {
+        snprintf(folder, folder_size, "%s/%s", opt->out_dir, in->out_name);
+        const int made = lt_make_parents(folder);
+        if (made) {
+            lt_error_set(err, LT_EIO, "%s: cannot write: %s", opt->out_dir, strerror(made));
+            status = -2;
+        }
+        free(folder);
+    } else if (!status) {
+        lt_error_set(err, LT_ENOMEM, "out of memory");
+        status = -1;
+    }
     for (int k = 0; k < n && status == 0; k++) {
         lt_image *crop = NULL;
         cut_info info;
