@@ -1,0 +1,325 @@
+/* test_separators.c — checks the separators stage (lt_find_separators: column gutters as tall
+ * white strips of the text's occupancy with evidence from both sides) and what the line stage
+ * (lt_build_lines) makes of it, on pages drawn in memory (tests/textpage.h: text height 20 px,
+ * cells of 5 px). The truth of every page is its construction: where the columns, the white,
+ * the labels and the leaders were drawn. Each geometric threshold of the stage is tried just
+ * below and just above: the gutter width (1.2 text heights: a window of 5 cells), the rows
+ * of evidence beside it (8 text heights: 32 cell rows), the reach of a narrow column (4 text
+ * heights: 16 cells).
+ * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
+#include "textpage.h"
+
+#define CELL 5         /* px: a quarter of the text height (CELL_TH of the stage) */
+#define WINDOW 5       /* cells: the narrowest gutter, 1.2 text heights rounded up to cells */
+#define MIN_SIDED 32   /* cell rows with words beside a gutter: 8 text heights */
+#define NARROW 80      /* px: a column reaching less from a gutter is narrow (4 text heights) */
+#define MAX_GAP 240    /* px: words this close border a gutter (12 text heights) */
+#define COL_X0 150     /* left edge of the left column */
+#define COL_WIDTH 620  /* width of a column */
+#define FIRST_BASE 150 /* baseline of a page's first line */
+
+/* Gutters of res whose box overlaps the columns [x0, x1) horizontally. */
+static int gutters_in(const result *res, int x0, int x1)
+{
+    int n = 0;
+    for (int k = 0; res->seps && k < res->seps->ngutters; k++)
+        n += res->seps->gutters[k].left < x1 && res->seps->gutters[k].right > x0;
+    return n;
+}
+
+/* The first gutter of res overlapping [x0, x1) horizontally (an empty box when none). */
+static lt_box gutter_in(const result *res, int x0, int x1)
+{
+    for (int k = 0; res->seps && k < res->seps->ngutters; k++)
+        if (res->seps->gutters[k].left < x1 && res->seps->gutters[k].right > x0)
+            return res->seps->gutters[k];
+    return tu_box(0, 0, 0, 0);
+}
+
+/* The hull of the drawn lines [from, to) of p. */
+static lt_box hull_of(const page *p, int from, int to)
+{
+    lt_box h = tu_box(0, 0, 0, 0);
+    for (int i = from; i < to; i++)
+        tu_box_union(&h, p->line_box[i]);
+    return h;
+}
+
+/* Joins drawn line b of p (the last one) into line a: one line of the truth. */
+static void join_truth(page *p, int a, int b)
+{
+    if (b != p->nlines - 1) tu_die("join_truth: only the last line can be joined");
+    tu_box_union(&p->line_box[a], p->line_box[b]);
+    p->ncomp[a] += p->ncomp[b];
+    for (int m = 0; m < p->nmarks; m++)
+        if (p->mark_line[m] == b) p->mark_line[m] = a;
+    p->nlines--;
+}
+
+/* A column of `rows` lines from (x0, FIRST_BASE), COL_WIDTH wide: justified lines reaching
+ * the right edge alternate with lines ending 5.5 to 7.5 text heights short (ragged right, so
+ * that no white strip runs down the column's right side over two lines, and wider than the 5
+ * text heights of lt_params' link_max_gap, so that a short line is never linked across).
+ * Returns the first line. */
+static int draw_ragged_column(page *p, tu_rng *r, int x0, int rows)
+{
+    const int first = p->nlines;
+    for (int i = 0; i < rows; i++) {
+        const int shorter = i % 2 ? tu_range(r, 110, 150) : 0;
+        draw_line(p, r, x0, x0 + COL_WIDTH - shorter, FIRST_BASE + i * PITCH, !shorter,
+                  i == rows - 1);
+    }
+    return first;
+}
+
+/* The right end of the ink of the drawn lines [from, to). */
+static int ink_right(const page *p, int from, int to)
+{
+    return hull_of(p, from, to).right;
+}
+
+/* Grows *rows (top, bottom) to the pixel rows of p holding ink in the columns [x0, x1). */
+static void ink_rows(const page *p, int x0, int x1, int *top, int *bottom)
+{
+    for (int y = 0; y < p->img->height; y++)
+        for (int x = x0 < 0 ? 0 : x0; x < x1 && x < p->img->width; x++)
+            if (p->img->pixels[(size_t)y * p->img->width + x]) {
+                if (y < *top) *top = y;
+                if (y + 1 > *bottom) *bottom = y + 1;
+                break;
+            }
+}
+
+/* Checks the gutter of res between a left column whose ink ends at `left_ink` and a right
+ * column starting at x2, beside rows with baselines first_base to last_base: exactly the
+ * cells wholly white between the columns; from the first to the last cell row holding words
+ * within 12 text heights of the white, that is at least the x-height band of the first line
+ * and down to the last baseline, at most the ink within that reach (an i-dot or a comma alone
+ * beside the white is no word). */
+static void check_gutter(const result *res, const page *p, int left_ink, int x2, int first_base,
+                         int last_base, const char *what)
+{
+    int top = p->img->height, bottom = 0;
+    ink_rows(p, left_ink - MAX_GAP, left_ink, &top, &bottom);
+    ink_rows(p, x2, x2 + MAX_GAP, &top, &bottom);
+    const lt_box g = gutter_in(res, left_ink, x2);
+    CHECK_INT(g.left, ((left_ink - 1) / CELL + 1) * CELL, "%s: gutter left", what);
+    CHECK_INT(g.right, x2 / CELL * CELL, "%s: gutter right", what);
+    CHECK(g.top >= top / CELL * CELL && g.top <= (first_base - XH) / CELL * CELL,
+          "%s: gutter top %d outside [%d, %d]", what, g.top, top / CELL * CELL,
+          (first_base - XH) / CELL * CELL);
+    CHECK(g.bottom <= ((bottom - 1) / CELL + 1) * CELL &&
+              g.bottom >= ((last_base - 1) / CELL + 1) * CELL,
+          "%s: gutter bottom %d outside [%d, %d]", what, g.bottom,
+          ((last_base - 1) / CELL + 1) * CELL, ((bottom - 1) / CELL + 1) * CELL);
+}
+
+/* 1. Two columns of ragged-right text, 14 lines each. The gutter is measured from the left
+ * column's widest line to the right column's edge: 40 px (2 text heights) and 30 px (1.5:
+ * at least 5 white cells whatever the phase of the cell grid) give one gutter over the
+ * columns' rows (exact box) and no line across it; 23 px (just under the 1.2 text heights
+ * of the narrowest gutter, 4 white cells at most) gives none, and then the rows where the
+ * left line reaches the white are each read as one line (the gap is a wide word space to the
+ * line stage), the others (gaps wider than link_max_gap) as two. */
+static void test_two_columns(void)
+{
+    const int gaps[] = {40, 30, 23};
+    for (int gi = 0; gi < 3; gi++)
+        for (int seed = 1; seed <= 3; seed++) {
+            char what[64];
+            snprintf(what, sizeof what, "two columns, gap %d px, seed %d", gaps[gi], seed);
+            tu_rng r = {(uint64_t)(10 * gi + seed)};
+            page *p = page_new(1700, 1000);
+            const int rows = 14;
+            draw_ragged_column(p, &r, COL_X0, rows);
+            const int left_ink = ink_right(p, 0, rows), x2 = left_ink + gaps[gi];
+            draw_ragged_column(p, &r, x2, rows);
+            const lt_box hull = hull_of(p, 0, 2 * rows);
+            result res = run_stages(p, what);
+            const int found = gaps[gi] >= 30;
+            CHECK_INT(res.seps ? res.seps->ngutters : -1, found, "%s: gutters", what);
+            if (found) {
+                check_gutter(&res, p, left_ink, x2, FIRST_BASE, FIRST_BASE + (rows - 1) * PITCH,
+                             what);
+                CHECK_INT(lt_separator_between(res.seps, left_ink, x2, hull.top, hull.bottom), 1,
+                          "%s: separator between the columns", what);
+                compare_lines(p, &res, what);
+                CHECK_INT(lines_across(&res, left_ink, x2), 0, "%s: lines across", what);
+            } else {
+                CHECK_INT(lt_link_blocked(res.seps, left_ink, x2, FIRST_BASE - ASC,
+                                          FIRST_BASE + DESC),
+                          0, "%s: link over the gap of the first row blocked", what);
+                CHECK_INT(res.lines ? res.lines->count : -1, 3 * rows / 2, "%s: lines", what);
+                CHECK_INT(lines_across(&res, left_ink, x2), rows / 2, "%s: lines across", what);
+            }
+            result_free(&res);
+            page_free(p);
+        }
+}
+
+/* Ends line l of p exactly at x1 (its ink now ending at `from`): a word of x-height letters
+ * 10 px wide and 3 px apart from a word space after `from`, its first letter wider to fill
+ * the rest (to 22 px), when the room is at least a word space and a letter. */
+static void finish_at(page *p, int l, int from, int x1, int baseline)
+{
+    int x = from + WORD_GAP;
+    if (x1 - x < 10) return;
+    const int first = 10 + (x1 - x - 10) % 13;
+    draw_glyph(p, l, tu_box(x, baseline - XH, x + first, baseline), 0);
+    for (x += first + LETTER_GAP; x + 10 <= x1; x += 10 + LETTER_GAP)
+        draw_glyph(p, l, tu_box(x, baseline - XH, x + 10, baseline), 0);
+}
+
+/* 2. A justified paragraph of 9 lines, 1400 px wide, with a river: on `river_rows` rows from
+ * the fourth, one word space is stretched to 32 px (1.6 text heights, wider than the narrowest
+ * gutter) at the same place (the words before it end at x = 700, or at most 21 px before, and
+ * those after it start at 732), so that a white strip 32 px wide runs down those rows. Two and
+ * three rows of it are too few to be a gutter (the words beside it count fewer than 32 cell
+ * rows): none is found, no link over it is refused, and every row stays one line. Five rows
+ * of it are a gutter (just above the evidence threshold), and the line stage splits them: the
+ * stage cannot tell a long river from a column gutter by its height alone. */
+static void test_river(void)
+{
+    const int river_rows[] = {2, 3, 5};
+    for (int ri = 0; ri < 3; ri++)
+        for (int seed = 1; seed <= 3; seed++) {
+            char what[64];
+            const int n = river_rows[ri];
+            snprintf(what, sizeof what, "river of %d rows, seed %d", n, seed);
+            tu_rng r = {(uint64_t)(100 + 10 * n + seed)};
+            page *p = page_new(1700, 700);
+            const int x0 = COL_X0, x1 = x0 + 1400, river = 700, river_right = river + 32;
+            const int rows = 9;
+            int river_left = 0;
+            for (int i = 0; i < rows; i++) {
+                const int y = FIRST_BASE + i * PITCH;
+                if (i < 3 || i >= 3 + n) {
+                    draw_line(p, &r, x0, x1, y, i < rows - 1, i == rows - 1);
+                    continue;
+                }
+                const int a = draw_line(p, &r, x0, river, y, 1, 0);
+                finish_at(p, a, p->line_box[a].right, river, y);
+                if (p->line_box[a].right > river_left) river_left = p->line_box[a].right;
+                join_truth(p, a, draw_line(p, &r, river_right, x1, y, 1, 0));
+            }
+            result res = run_stages(p, what);
+            const int top = FIRST_BASE + 3 * PITCH - ASC, bottom = FIRST_BASE + (2 + n) * PITCH + DESC;
+            if (n < 5) {
+                CHECK_INT(res.seps ? res.seps->ngutters : -1, 0, "%s: gutters", what);
+                CHECK_INT(lt_link_blocked(res.seps, river_left, river_right, top, top + ASC + DESC),
+                          0, "%s: link over the river blocked", what);
+                compare_lines(p, &res, what);
+            } else {
+                CHECK_INT(res.seps ? res.seps->ngutters : -1, 1, "%s: gutters", what);
+                CHECK_INT(lt_gutter_between(res.seps, river_left, river_right, top, bottom), 1,
+                          "%s: gutter in the river", what);
+                CHECK_INT(res.lines ? res.lines->count : -1, rows + n, "%s: lines", what);
+                CHECK_INT(lines_across(&res, river_left, river_right), rows - n,
+                          "%s: lines across (the rows without the river)", what);
+            }
+            result_free(&res);
+            page_free(p);
+        }
+}
+
+/* A label like "[12]" at x on `baseline`, into line l: brackets (ascender to descender, 4 px)
+ * around `digits` old-style figures (x-height, 11 px, 3 px apart). Returns its right end. */
+static int draw_label(page *p, int l, int x, int baseline, int digits)
+{
+    draw_glyph(p, l, tu_box(x, baseline - ASC, x + 4, baseline + DESC), 0);
+    x += 4 + LETTER_GAP;
+    for (int k = 0; k < digits; k++, x += 11 + LETTER_GAP)
+        draw_glyph(p, l, tu_box(x, baseline - XH, x + 11, baseline), 0);
+    draw_glyph(p, l, tu_box(x, baseline - ASC, x + 4, baseline + DESC), 0);
+    return x + 4;
+}
+
+/* 3. An index in two columns: each entry of the left column (x = 150 to 900) runs on in a
+ * leader (dots 4 px square every 16 px, as leaders are set) that stops 2 text heights before
+ * its page numbers (one to four old-style figures set flush right at 900); the right column
+ * starts 2.5 text heights after 900 with short entries. The white before the numbers runs
+ * down the column like a gutter (with a dot in every row); the column gutter is found, every
+ * entry is one line with its numbers, and no line crosses from one column to the other. */
+static void test_index(void)
+{
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "index, seed %d", seed);
+        tu_rng r = {(uint64_t)(300 + seed)};
+        page *p = page_new(1500, 1000);
+        const int right = 900, x2 = right + 5 * XH / 2, rows = 16;
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH, digits = tu_range(&r, 1, 4);
+            const int number_left = right - 14 * digits + 3, dots_end = number_left - 2 * XH;
+            const int l = draw_line(p, &r, COL_X0, dots_end - tu_range(&r, 40, 100), y, 0, 0);
+            for (int x = (p->line_box[l].right / 16 + 1) * 16; x + 4 <= dots_end; x += 16)
+                draw_glyph(p, l, tu_box(x, y - 4, x + 4, y), 1);
+            for (int k = 0; k < digits; k++)
+                draw_glyph(p, l, tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y),
+                           0);
+            draw_line(p, &r, x2, x2 + tu_range(&r, 120, 190), y, 0, 0);
+        }
+        result res = run_stages(p, what);
+        CHECK_INT(gutters_in(&res, right, x2), 1, "%s: column gutters", what);
+        check_gutter(&res, p, right, x2, FIRST_BASE, FIRST_BASE + (rows - 1) * PITCH, what);
+        compare_lines(p, &res, what);
+        CHECK_INT(lines_across(&res, right, x2), 0, "%s: lines across the gutter", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
+/* 4. A list: labels "[12]"-like at x = 150, items of one to three lines indented to 260
+ * (hanging indent), so that the white between the labels and the items runs down the whole
+ * list beside the items' lines. With labels of 4 figures (67 px, narrower than the 4 text
+ * heights of a narrow column) the white is a gutter region, but the labels are a column of
+ * short items: it separates no lines (lt_gutter_between 0 over it) and each label is read
+ * with its item's first line. With labels of 6 figures (95 px, wider than a narrow column)
+ * the region stands between two columns and the labels are lines of their own. */
+static void test_list_labels(void)
+{
+    const int digits[] = {4, 6};
+    for (int di = 0; di < 2; di++)
+        for (int seed = 1; seed <= 3; seed++) {
+            char what[64];
+            snprintf(what, sizeof what, "list labels of %d figures, seed %d", digits[di], seed);
+            tu_rng r = {(uint64_t)(400 + 10 * di + seed)};
+            page *p = page_new(1200, 1200);
+            const int indent = COL_X0 + 11 + 14 * digits[di] + 30, x1 = 900, items = 8;
+            int label_right = 0, row = 0;
+            for (int k = 0; k < items; k++) {
+                const int n = 1 + k % 3;
+                for (int i = 0; i < n; i++, row++) {
+                    const int y = FIRST_BASE + row * PITCH;
+                    const int l = draw_line(p, &r, indent, x1, y, i < n - 1, i == n - 1);
+                    if (i > 0) continue;
+                    const int e = draw_label(p, l, COL_X0, y, digits[di]);
+                    if (e > label_right) label_right = e;
+                }
+            }
+            const int labels_alone = digits[di] == 6;
+            const int label_lines = labels_alone ? items : 0;
+            result res = run_stages(p, what);
+            CHECK_INT(gutters_in(&res, label_right, indent), 1, "%s: gutter regions", what);
+            CHECK_INT(lt_gutter_between(res.seps, label_right, indent, FIRST_BASE - ASC,
+                                        FIRST_BASE + row * PITCH),
+                      labels_alone, "%s: gutter between labels and items", what);
+            CHECK_INT(res.lines ? res.lines->count : -1, row + label_lines, "%s: lines", what);
+            CHECK_INT(lines_across(&res, label_right, indent), labels_alone ? 0 : items,
+                      "%s: lines from a label into its item", what);
+            if (!labels_alone) compare_lines(p, &res, what);
+            result_free(&res);
+            page_free(p);
+        }
+}
+
+int main(void)
+{
+    double t0 = tu_now_s();
+    test_two_columns();
+    test_river();
+    test_index();
+    test_list_labels();
+    printf("time %.2f s\n", tu_now_s() - t0);
+    return tu_summary("test_separators");
+}
