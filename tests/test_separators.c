@@ -1,18 +1,19 @@
 /* test_separators.c — checks the separators stage (lt_find_separators: column gutters as tall
- * white strips of the text's occupancy with evidence from both sides) and what the line stage
- * (lt_build_lines) makes of it, on pages drawn in memory (tests/textpage.h: text height 20 px,
- * cells of 5 px). The truth of every page is its construction: where the columns, the white,
- * the labels and the leaders were drawn. Each geometric threshold of the stage is tried just
- * below and just above: the gutter width (1.2 text heights: a window of 5 cells), the rows
- * of evidence beside it (8 text heights: 32 cell rows), the reach of a narrow column (4 text
- * heights: 16 cells).
+ * white strips of the text's occupancy with evidence from both sides; lt_separator_between,
+ * lt_gutter_between, lt_link_blocked) and what the line stage (lt_build_lines), and for one
+ * page lt_xy_cut with lt_arrange, make of it, on pages drawn in memory (tests/textpage.h: text
+ * height 20 px, so cells of 5 px). Every expectation is truth by construction: where the
+ * columns, the white, the labels and the leaders were drawn, counted in the stage's cells.
+ * Each geometric threshold of the stage is tried just below and just above: the gutter width
+ * (1.2 text heights: a window of 5 cells), the rows of words beside it (8 text heights: 32
+ * cell rows), the alignment of its edges (half a text height: 2 cells), the reach of a narrow
+ * column (4 text heights: 16 cells).
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "textpage.h"
 
 #define CELL 5         /* px: a quarter of the text height (CELL_TH of the stage) */
 #define WINDOW 5       /* cells: the narrowest gutter, 1.2 text heights rounded up to cells */
-#define MIN_SIDED 32   /* cell rows with words beside a gutter: 8 text heights */
-#define NARROW 80      /* px: a column reaching less from a gutter is narrow (4 text heights) */
+#define ALIGNED 2      /* cells: edges this close line up (half a text height) */
 #define MAX_GAP 240    /* px: words this close border a gutter (12 text heights) */
 #define COL_X0 150     /* left edge of the left column */
 #define COL_WIDTH 620  /* width of a column */
@@ -90,20 +91,26 @@ static void ink_rows(const page *p, int x0, int x1, int *top, int *bottom)
             }
 }
 
+/* The first cell column (px) wholly white right of ink ending at x (exclusive). */
+static int white_after(int x)
+{
+    return ((x - 1) / CELL + 1) * CELL;
+}
+
 /* Checks the gutter of res between a left column whose ink ends at `left_ink` and a right
- * column starting at x2, beside rows with baselines first_base to last_base: exactly the
- * cells wholly white between the columns; from the first to the last cell row holding words
- * within 12 text heights of the white, that is at least the x-height band of the first line
- * and down to the last baseline, at most the ink within that reach (an i-dot or a comma alone
- * beside the white is no word). */
-static void check_gutter(const result *res, const page *p, int left_ink, int x2, int first_base,
-                         int last_base, const char *what)
+ * column starting at x2, beside rows with baselines first_base to last_base: from `left`
+ * (the first white cell column when the left edge is aligned) to the cell of x2; from the first to
+ * the last cell row holding words within 12 text heights of the white, that is at least the
+ * x-height band of the first line and down to the last baseline, at most the ink within that reach
+ * (an i-dot or a comma alone beside the white is no word). */
+static void check_gutter(const result *res, const page *p, int left_ink, int x2, int left,
+                         int first_base, int last_base, const char *what)
 {
     int top = p->img->height, bottom = 0;
     ink_rows(p, left_ink - MAX_GAP, left_ink, &top, &bottom);
     ink_rows(p, x2, x2 + MAX_GAP, &top, &bottom);
     const lt_box g = gutter_in(res, left_ink, x2);
-    CHECK_INT(g.left, ((left_ink - 1) / CELL + 1) * CELL, "%s: gutter left", what);
+    CHECK_INT(g.left, left, "%s: gutter left", what);
     CHECK_INT(g.right, x2 / CELL * CELL, "%s: gutter right", what);
     CHECK(g.top >= top / CELL * CELL && g.top <= (first_base - XH) / CELL * CELL,
           "%s: gutter top %d outside [%d, %d]", what, g.top, top / CELL * CELL,
@@ -139,16 +146,16 @@ static void test_two_columns(void)
             const int found = gaps[gi] >= 30;
             CHECK_INT(res.seps ? res.seps->ngutters : -1, found, "%s: gutters", what);
             if (found) {
-                check_gutter(&res, p, left_ink, x2, FIRST_BASE, FIRST_BASE + (rows - 1) * PITCH,
-                             what);
+                check_gutter(&res, p, left_ink, x2, white_after(left_ink), FIRST_BASE,
+                             FIRST_BASE + (rows - 1) * PITCH, what);
                 CHECK_INT(lt_separator_between(res.seps, left_ink, x2, hull.top, hull.bottom), 1,
                           "%s: separator between the columns", what);
                 compare_lines(p, &res, what);
                 CHECK_INT(lines_across(&res, left_ink, x2), 0, "%s: lines across", what);
             } else {
-                CHECK_INT(lt_link_blocked(res.seps, left_ink, x2, FIRST_BASE - ASC,
-                                          FIRST_BASE + DESC),
-                          0, "%s: link over the gap of the first row blocked", what);
+                CHECK_INT(
+                    lt_link_blocked(res.seps, left_ink, x2, FIRST_BASE - ASC, FIRST_BASE + DESC), 0,
+                    "%s: link over the gap of the first row blocked", what);
                 CHECK_INT(res.lines ? res.lines->count : -1, 3 * rows / 2, "%s: lines", what);
                 CHECK_INT(lines_across(&res, left_ink, x2), rows / 2, "%s: lines across", what);
             }
@@ -203,7 +210,8 @@ static void test_river(void)
                 join_truth(p, a, draw_line(p, &r, river_right, x1, y, 1, 0));
             }
             result res = run_stages(p, what);
-            const int top = FIRST_BASE + 3 * PITCH - ASC, bottom = FIRST_BASE + (2 + n) * PITCH + DESC;
+            const int top = FIRST_BASE + 3 * PITCH - ASC,
+                      bottom = FIRST_BASE + (2 + n) * PITCH + DESC;
             if (n < 5) {
                 CHECK_INT(res.seps ? res.seps->ngutters : -1, 0, "%s: gutters", what);
                 CHECK_INT(lt_link_blocked(res.seps, river_left, river_right, top, top + ASC + DESC),
@@ -237,9 +245,11 @@ static int draw_label(page *p, int l, int x, int baseline, int digits)
 /* 3. An index in two columns: each entry of the left column (x = 150 to 900) runs on in a
  * leader (dots 4 px square every 16 px, as leaders are set) that stops 2 text heights before
  * its page numbers (one to four old-style figures set flush right at 900); the right column
- * starts 2.5 text heights after 900 with short entries. The white before the numbers runs
- * down the column like a gutter (with a dot in every row); the column gutter is found, every
- * entry is one line with its numbers, and no line crosses from one column to the other. */
+ * starts 2.5 text heights after 900 with short entries. The white between the leaders and
+ * the numbers runs down the column like a gutter, and is found as a gutter region too, but
+ * the numbers are a narrow column: no gutter white is left in the left column and no link
+ * from a leader to its numbers is refused. The column gutter is found, every entry is one
+ * line with its numbers, and no line crosses from one column to the other. */
 static void test_index(void)
 {
     for (int seed = 1; seed <= 3; seed++) {
@@ -248,20 +258,33 @@ static void test_index(void)
         tu_rng r = {(uint64_t)(300 + seed)};
         page *p = page_new(1500, 1000);
         const int right = 900, x2 = right + 5 * XH / 2, rows = 16;
+        int leader_end[16], numbers_left[16];
         for (int i = 0; i < rows; i++) {
             const int y = FIRST_BASE + i * PITCH, digits = tu_range(&r, 1, 4);
             const int number_left = right - 14 * digits + 3, dots_end = number_left - 2 * XH;
             const int l = draw_line(p, &r, COL_X0, dots_end - tu_range(&r, 40, 100), y, 0, 0);
-            for (int x = (p->line_box[l].right / 16 + 1) * 16; x + 4 <= dots_end; x += 16)
+            for (int x = (p->line_box[l].right / 16 + 1) * 16; x + 4 <= dots_end; x += 16) {
                 draw_glyph(p, l, tu_box(x, y - 4, x + 4, y), 1);
+                leader_end[i] = x + 4;
+            }
+            numbers_left[i] = number_left;
             for (int k = 0; k < digits; k++)
                 draw_glyph(p, l, tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y),
                            0);
             draw_line(p, &r, x2, x2 + tu_range(&r, 120, 190), y, 0, 0);
         }
         result res = run_stages(p, what);
+        const int last_base = FIRST_BASE + (rows - 1) * PITCH;
         CHECK_INT(gutters_in(&res, right, x2), 1, "%s: column gutters", what);
-        check_gutter(&res, p, right, x2, FIRST_BASE, FIRST_BASE + (rows - 1) * PITCH, what);
+        check_gutter(&res, p, right, x2, white_after(right), FIRST_BASE, last_base, what);
+        CHECK_INT(lt_gutter_between(res.seps, COL_X0, right, FIRST_BASE - ASC, last_base + DESC), 0,
+                  "%s: gutter white in the left column", what);
+        int refused = 0;
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            refused += lt_link_blocked(res.seps, leader_end[i], numbers_left[i], y - XH, y);
+        }
+        CHECK_INT(refused, 0, "%s: links from a leader to its numbers refused", what);
         compare_lines(p, &res, what);
         CHECK_INT(lines_across(&res, right, x2), 0, "%s: lines across the gutter", what);
         result_free(&res);
@@ -271,14 +294,15 @@ static void test_index(void)
 
 /* 4. A list: labels "[12]"-like at x = 150, items of one to three lines indented to 260
  * (hanging indent), so that the white between the labels and the items runs down the whole
- * list beside the items' lines. With labels of 4 figures (67 px, narrower than the 4 text
- * heights of a narrow column) the white is a gutter region, but the labels are a column of
- * short items: it separates no lines (lt_gutter_between 0 over it) and each label is read
- * with its item's first line. With labels of 6 figures (95 px, wider than a narrow column)
+ * list beside the items' lines, 1.5 text heights wide. With labels of 4 figures (67 px, 14
+ * cells: narrower than the 4 text heights, 16 cells, of a narrow column) the white is a
+ * gutter region, but the labels are a column of short items: it separates no lines
+ * (lt_gutter_between and lt_link_blocked 0 over it) and each label is read with its item's
+ * first line. With labels of 5 figures (81 px, 17 cells: just wider than a narrow column)
  * the region stands between two columns and the labels are lines of their own. */
 static void test_list_labels(void)
 {
-    const int digits[] = {4, 6};
+    const int digits[] = {4, 5};
     for (int di = 0; di < 2; di++)
         for (int seed = 1; seed <= 3; seed++) {
             char what[64];
@@ -297,13 +321,16 @@ static void test_list_labels(void)
                     if (e > label_right) label_right = e;
                 }
             }
-            const int labels_alone = digits[di] == 6;
+            const int labels_alone = digits[di] == 5;
             const int label_lines = labels_alone ? items : 0;
             result res = run_stages(p, what);
             CHECK_INT(gutters_in(&res, label_right, indent), 1, "%s: gutter regions", what);
             CHECK_INT(lt_gutter_between(res.seps, label_right, indent, FIRST_BASE - ASC,
                                         FIRST_BASE + row * PITCH),
                       labels_alone, "%s: gutter between labels and items", what);
+            CHECK_INT(
+                lt_link_blocked(res.seps, label_right, indent, FIRST_BASE - ASC, FIRST_BASE + DESC),
+                labels_alone, "%s: link from the first label to its item blocked", what);
             CHECK_INT(res.lines ? res.lines->count : -1, row + label_lines, "%s: lines", what);
             CHECK_INT(lines_across(&res, label_right, indent), labels_alone ? 0 : items,
                       "%s: lines from a label into its item", what);
@@ -313,6 +340,196 @@ static void test_list_labels(void)
         }
 }
 
+/* A new, empty line of the truth on `baseline`. */
+static int new_line(page *p, int baseline)
+{
+    const int l = p->nlines++;
+    if (l >= MAX_LINES) tu_die("too many lines");
+    p->line_box[l] = tu_box(0, 0, 0, 0);
+    p->baseline[l] = baseline;
+    p->ncomp[l] = 0;
+    return l;
+}
+
+/* Heights of a letter: x-height, ascender to descender, x-height with a descender. */
+enum { LETTER_X, LETTER_FULL, LETTER_DESC };
+
+/* A line of x-height letters (10 px, 3 px apart, in words of five, WORD_GAP apart) from x0
+ * to exactly x1 (its last letter wider), its first letter of the height `first`, its last of
+ * the height `last` (LETTER_*): a line whose rows beside the white at its ends are known to
+ * the cell. Returns the line. */
+static int draw_plain_line(page *p, int x0, int x1, int baseline, int first, int last)
+{
+    const int l = new_line(p, baseline);
+    for (int k = 0, x = x0;; k++) {
+        const int gap = k % 5 == 4 ? WORD_GAP : LETTER_GAP;
+        const int w = x + 10 + gap + 10 > x1 ? x1 - x : 10, end = x + w >= x1;
+        const int kind = end ? last : k == 0 ? first : LETTER_X;
+        draw_glyph(p, l,
+                   tu_box(x, baseline - (kind == LETTER_FULL ? ASC : XH), x + w,
+                          baseline + (kind == LETTER_X ? 0 : DESC)),
+                   0);
+        if (end) break;
+        x += w + gap;
+    }
+    return l;
+}
+
+/* 5. Two columns (gutter of 2 text heights) of three paragraphs of 5 lines each, the
+ * paragraphs of both columns set side by side, so that the white bands between them run
+ * across the page: one gutter from the first line to the last (the white bands do not end
+ * it), and lt_xy_cut with lt_arrange read the left column entirely before the right one (a
+ * reader's order: the gutter is cut before the bands). */
+static void test_aligned_breaks(void)
+{
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "paragraph breaks across the page, seed %d", seed);
+        tu_rng r = {(uint64_t)(500 + seed)};
+        page *p = page_new(1700, 1200);
+        const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH;
+        for (int x = COL_X0; x <= x2; x += x2 - COL_X0)
+            for (int k = 0, y = FIRST_BASE; k < 3; k++)
+                y = draw_paragraph(p, &r, x, x + COL_WIDTH, y, 5) + PITCH;
+        const int left_ink = ink_right(p, 0, 15), last_base = FIRST_BASE + 16 * PITCH;
+        result res = run_stages(p, what);
+        CHECK_INT(res.seps ? res.seps->ngutters : -1, 1, "%s: gutters", what);
+        check_gutter(&res, p, left_ink, x2, white_after(left_ink), FIRST_BASE, last_base, what);
+        compare_lines(p, &res, what);
+        lt_params prm;
+        lt_params_default(&prm);
+        lt_error err = {0};
+        lt_cut_node *root = NULL;
+        lt_arrangement *arr = NULL;
+        if (!res.lines || lt_xy_cut(res.lines, res.comps, res.seps, res.th, &prm, &root, &err) ||
+            lt_arrange(root, res.lines, res.comps, res.th, &prm, p->img->height, &arr, &err)) {
+            tu_fail("%s: blocks and order: %s", what, err.message);
+        } else {
+            CHECK_INT(arr->nlines, p->nlines, "%s: lines in the order", what);
+            int wrong = 0;
+            for (int i = 0; i < arr->nlines && i < p->nlines; i++)
+                wrong += tu_cmp_box(&res.lines->items[arr->order[i]].box, &p->line_box[i]) != 0;
+            CHECK_INT(wrong, 0, "%s: lines out of the drawing order (left column first)", what);
+            CHECK_INT(arr->nblocks, 6, "%s: blocks (one a paragraph)", what);
+        }
+        lt_arrangement_free(arr);
+        lt_cut_node_free(root);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
+/* 6. A key/value table of 6 rows: keys of one word (2 to 5 text heights long) at x = 150,
+ * values of one to three words aligned at x = 350, so the white between them is 5 to 8 text
+ * heights wide. Both sides are narrow columns (the cells of a table): the white is a gutter
+ * that separates lines, and each key and each value is a line of its own. Only the values'
+ * edge is aligned (the keys end ragged), so the gutter is the white within reach of it: the
+ * windows of 5 cells ending at most 2 cells before the values. */
+static void test_key_value(void)
+{
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "key/value table, seed %d", seed);
+        tu_rng r = {(uint64_t)(600 + seed)};
+        page *p = page_new(1000, 600);
+        const int values = COL_X0 + 200, rows = 6;
+        int key_right = 0;
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            const int k =
+                draw_plain_line(p, COL_X0, COL_X0 + tu_range(&r, 40, 100), y, LETTER_X, LETTER_X);
+            if (p->line_box[k].right > key_right) key_right = p->line_box[k].right;
+            draw_line(p, &r, values, values + tu_range(&r, 80, 250), y, 0, 0);
+        }
+        result res = run_stages(p, what);
+        CHECK_INT(res.seps ? res.seps->ngutters : -1, 1, "%s: gutters", what);
+        check_gutter(&res, p, key_right, values, values - (WINDOW + ALIGNED) * CELL, FIRST_BASE,
+                     FIRST_BASE + (rows - 1) * PITCH, what);
+        CHECK_INT(lt_gutter_between(res.seps, key_right, values, FIRST_BASE - XH, FIRST_BASE), 1,
+                  "%s: gutter between key and value", what);
+        compare_lines(p, &res, what);
+        CHECK_INT(lines_across(&res, key_right, values), 0, "%s: lines from a key to its value",
+                  what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
+/* 7. The evidence for a gutter: two columns of `rows` plain lines (x = 150 to 770 and 810 to
+ * 1430, a white of 2 text heights), baselines 50 px apart with the top of the ascenders on
+ * the cell grid, so that a line whose letters beside the white are of full height gives
+ * exactly 8 cell rows of words beside it, one whose letters there have descenders but no
+ * ascenders 7. Three lines (24 rows) are too few for the 32 rows of GUTTER_MIN_SIDED, four
+ * (32) and five (40) enough, four with one of those without ascenders (31) too few. Without the
+ * gutter every row is one line (the white is narrower than lt_params' link_max_gap and than the 3
+ * text heights from which a white strip through a neighbouring line refuses a link). */
+static void test_evidence(void)
+{
+    const struct {
+        int rows, short_row, found;
+    } cases[] = {{3, -1, 0}, {4, 2, 0}, {4, -1, 1}, {5, -1, 1}};
+    for (int ci = 0; ci < 4; ci++) {
+        char what[64];
+        snprintf(what, sizeof what, "evidence of %d lines%s", cases[ci].rows,
+                 cases[ci].short_row >= 0 ? ", one without ascenders" : "");
+        page *p = page_new(1600, 600);
+        const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH, first = 125 + ASC;
+        for (int i = 0; i < cases[ci].rows; i++) {
+            const int edge = i == cases[ci].short_row ? LETTER_DESC : LETTER_FULL;
+            draw_plain_line(p, COL_X0, x1, first + 50 * i, LETTER_X, edge);
+            draw_plain_line(p, x2, x2 + COL_WIDTH, first + 50 * i, edge, LETTER_X);
+        }
+        result res = run_stages(p, what);
+        const int found = cases[ci].found, rows = cases[ci].rows;
+        CHECK_INT(res.seps ? res.seps->ngutters : -1, found, "%s: gutters", what);
+        CHECK_INT(lt_separator_between(res.seps, x1, x2, first - ASC, first + 50 * (rows - 1)),
+                  found, "%s: separator between the columns", what);
+        if (found) {
+            CHECK_BOX(gutter_in(&res, x1, x2),
+                      tu_box(x1, first - ASC, x2, first - ASC + 50 * (rows - 1) + 8 * CELL),
+                      "%s: gutter box (8 cell rows a line)", what);
+            compare_lines(p, &res, what);
+        } else {
+            CHECK_INT(res.lines ? res.lines->count : -1, rows, "%s: lines", what);
+            CHECK_INT(lines_across(&res, x1, x2), rows, "%s: lines across", what);
+        }
+        result_free(&res);
+        page_free(p);
+    }
+}
+
+/* 8. Alignment: two columns of 6 plain lines (full-height letters beside the white) whose
+ * edges at the white are both staggered: the left column's line i ends `step` * i px before
+ * x = 770, the right column's starts `step` * (5 - i) px after 810. With steps of 10 px (2
+ * cells, within ALIGN_TOLERANCE of half a text height) two lines line up on each edge of the
+ * white (16 cell rows, the 4 text heights asked for): a gutter. With steps of 15 px (3
+ * cells) no two do: none, though the white is as tall. The lines are the same either way
+ * (gaps of 90 and 115 px: wider than the 3 text heights from which a white strip through the
+ * line above refuses a link, or than link_max_gap). */
+static void test_alignment(void)
+{
+    const int steps[] = {10, 15};
+    for (int si = 0; si < 2; si++) {
+        char what[64];
+        snprintf(what, sizeof what, "staggered edges, step %d px", steps[si]);
+        page *p = page_new(1600, 700);
+        const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH, first = 125 + ASC, rows = 6;
+        for (int i = 0; i < rows; i++) {
+            draw_plain_line(p, COL_X0, x1 - steps[si] * i, first + 50 * i, LETTER_X, LETTER_FULL);
+            draw_plain_line(p, x2 + steps[si] * (rows - 1 - i), x2 + COL_WIDTH, first + 50 * i,
+                            LETTER_FULL, LETTER_X);
+        }
+        result res = run_stages(p, what);
+        const int found = steps[si] == 10;
+        CHECK_INT(res.seps ? res.seps->ngutters : -1, found, "%s: gutters", what);
+        CHECK_INT(lt_separator_between(res.seps, x1, x2, first - ASC, first + 50 * (rows - 1)),
+                  found, "%s: separator between the columns", what);
+        compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -320,6 +537,10 @@ int main(void)
     test_river();
     test_index();
     test_list_labels();
+    test_aligned_breaks();
+    test_key_value();
+    test_evidence();
+    test_alignment();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_separators");
 }

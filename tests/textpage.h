@@ -93,7 +93,8 @@ static inline void make_word(tu_rng *r, int baseline, int comma, word *w)
 
 /* Draws one line of words from x0 on `baseline`, filling at most to x1 (justified towards x1
  * when `justify`), ending with a period when `period`. Returns the line. */
-static inline int draw_line(page *p, tu_rng *r, int x0, int x1, int baseline, int justify, int period)
+static inline int draw_line(page *p, tu_rng *r, int x0, int x1, int baseline, int justify,
+                            int period)
 {
     word words[64];
     int n = 0, width = 0;
