@@ -1,9 +1,9 @@
 /* test_lines.c — checks text-line building (lt_find_components + lt_text_height +
- * lt_classify_components + lt_build_lines, and the whole lt_analyze) on pages drawn here from
- * glyph-like boxes whose true lines are known by construction: x-height letters with
- * ascenders, descenders, i-dots, commas and periods; word gaps of 0.6 and line pitch of 2.4
- * text heights (common practice for book type: word space about a third of an em, leading
- * 120% of the body, from memory). Exact line count, boxes, baselines and x-heights.
+ * lt_classify_components + lt_build_lines, and the whole lt_analyze) on pages drawn by
+ * tests/textpage.h from glyph-like boxes whose true lines are known by construction: x-height
+ * letters with ascenders, descenders, i-dots, commas and periods; word gaps of 0.6 and line
+ * pitch of 2.4 text heights (common practice for book type: word space about a third of an em,
+ * leading 120% of the body, from memory). Exact line count, boxes, baselines and x-heights.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "textpage.h"
 
