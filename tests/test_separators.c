@@ -60,17 +60,14 @@ static void join_truth(page *p, int a, int b)
 /* A column of `rows` lines from (x0, FIRST_BASE), COL_WIDTH wide: justified lines reaching
  * the right edge alternate with lines ending 5.5 to 7.5 text heights short (ragged right, so
  * that no white strip runs down the column's right side over two lines, and wider than the 5
- * text heights of lt_params' link_max_gap, so that a short line is never linked across).
- * Returns the first line. */
-static int draw_ragged_column(page *p, tu_rng *r, int x0, int rows)
+ * text heights of lt_params' link_max_gap, so that a short line is never linked across). */
+static void draw_ragged_column(page *p, tu_rng *r, int x0, int rows)
 {
-    const int first = p->nlines;
     for (int i = 0; i < rows; i++) {
         const int shorter = i % 2 ? tu_range(r, 110, 150) : 0;
         draw_line(p, r, x0, x0 + COL_WIDTH - shorter, FIRST_BASE + i * PITCH, !shorter,
                   i == rows - 1);
     }
-    return first;
 }
 
 /* The right end of the ink of the drawn lines [from, to). */
@@ -124,10 +121,10 @@ static void check_gutter(const result *res, const page *p, int left_ink, int x2,
 /* 1. Two columns of ragged-right text, 14 lines each. The gutter is measured from the left
  * column's widest line to the right column's edge: 40 px (2 text heights) and 30 px (1.5:
  * at least 5 white cells whatever the phase of the cell grid) give one gutter over the
- * columns' rows (exact box) and no line across it; 23 px (just under the 1.2 text heights
- * of the narrowest gutter, 4 white cells at most) gives none, and then the rows where the
- * left line reaches the white are each read as one line (the gap is a wide word space to the
- * line stage), the others (gaps wider than link_max_gap) as two. */
+ * columns' rows (exactly the white cells across, see check_gutter down) and no line across it; 23
+ * px (just under the 1.2 text heights of the narrowest gutter, 4 white cells at most) gives none,
+ * and then the rows where the left line reaches the white are each read as one line (the gap is a
+ * wide word space to the line stage), the others (gaps wider than link_max_gap) as two. */
 static void test_two_columns(void)
 {
     const int gaps[] = {40, 30, 23};
