@@ -356,9 +356,9 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
     }
     for (int i = 0; i < n; i++)
         idx[i] = i;
-    const cut_context x = {boxes, lines->count, p->column_min_gap * th, p->block_min_gap * th,
-                           rules, nrules, seps, COLUMN_MIN_WIDTH * th, p->right_to_left,
-                           lines->items, spans};
+    const cut_context x = {
+        boxes, lines->count,          p->column_min_gap * th, p->block_min_gap * th, rules, nrules,
+        seps,  COLUMN_MIN_WIDTH * th, p->right_to_left,       lines->items,          spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

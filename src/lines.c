@@ -11,14 +11,15 @@
 #include <string.h>
 
 /* Constants of the stage, in text heights (th) unless said otherwise. */
-static const double MARK_HEIGHT = 0.5;   /* shorter (and narrower than 1 th): a mark, not a body */
-static const double DASH_HEIGHT = 0.3;   /* shorter (and narrower than 3 th): a dash, a mark */
-static const double DOT_AREA = 0.02;     /* th squared: smaller specks are noise, not dots */
-static const double MARK_ABOVE = 0.6;    /* a mark's middle at most this far above a line (accents) */
-static const double MARK_BELOW = 0.3;    /* ... and below its box (commas; specks: none) */
-static const double CUT_REACH = 1.5;     /* a gutter interrupted this close above and below a line */
-static const double BASELINE_SLACK = 0.15; /* letters standing on the baseline: bottoms this close */
-static const double TALL_LETTER = 1.25;  /* taller letters standing on it are not x-height ones */
+static const double MARK_HEIGHT = 0.5; /* shorter (and narrower than 1 th): a mark, not a body */
+static const double DASH_HEIGHT = 0.3; /* shorter (and narrower than 3 th): a dash, a mark */
+static const double DOT_AREA = 0.02;   /* th squared: smaller specks are noise, not dots */
+static const double MARK_ABOVE = 0.6;  /* a mark's middle at most this far above a line (accents) */
+static const double MARK_BELOW = 0.3;  /* ... and below its box (commas; specks: none) */
+static const double CUT_REACH = 1.5;   /* a gutter interrupted this close above and below a line */
+static const double BASELINE_SLACK =
+    0.15;                               /* letters standing on the baseline: bottoms this close */
+static const double TALL_LETTER = 1.25; /* taller letters standing on it are not x-height ones */
 static const double LARGE_TYPE_RANK = 0.3; /* x-height of large type: this rank of the letters */
 
 typedef struct link {
@@ -160,7 +161,7 @@ static double mark_fit(const lt_component *k, const lt_box *b, double th, int sp
     const int right = k->box.left > b->right;
     if ((right || k->box.right < b->left) &&
         lt_link_blocked(seps, right ? b->right : k->box.right, right ? k->box.left : b->left,
-                             fmin(b->top, k->box.top), fmax(b->bottom, k->box.bottom)))
+                        fmin(b->top, k->box.top), fmax(b->bottom, k->box.bottom)))
         return -1;
     return fabs(cy - 0.5 * (b->top + b->bottom)) + fmax(0.0, fmax(b->left - cx, cx - b->right));
 }
@@ -313,8 +314,7 @@ static double interrupted_gutter(const lt_separators *seps, const lt_box *b, dou
         if (above->bottom > b->bottom || above->bottom < b->top - reach) continue;
         for (int j = 0; j < seps->ngutters; j++) {
             const lt_box *below = &seps->gutters[j];
-            if (below->top < above->bottom || below->top < b->top ||
-                below->top > b->bottom + reach)
+            if (below->top < above->bottom || below->top < b->top || below->top > b->bottom + reach)
                 continue;
             const int lo = above->left > below->left ? above->left : below->left;
             const int hi = above->right < below->right ? above->right : below->right;
@@ -421,7 +421,7 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
             const int hmin = box_h(ba) < box_h(bb) ? box_h(ba) : box_h(bb);
             if (2 * (bottom - top) < hmin) continue;
             if (!lt_link_blocked(seps, ba->right, bb->left, ba->top < bb->top ? ba->top : bb->top,
-                                      ba->bottom > bb->bottom ? ba->bottom : bb->bottom))
+                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom))
                 lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
     }

@@ -20,11 +20,11 @@
 #define MAX_ORDERED_UNITS 400
 
 /* Constants of the stage, in text heights (th) unless said otherwise. */
-static const double OVERLAP_TOLERANCE = 0.5;   /* boxes overlapping less are disjoint ... */
-static const double OVERLAP_SHARE = 0.1;       /* ... or by less than this share of the narrower */
-static const double NARROW_GUTTER = 2.5;       /* blocks closer side by side: a narrow gutter */
-static const double SAME_TYPE_SIZE = 0.15;     /* x-heights this close (share): one type size */
-static const double SHARED_BASELINE = 0.3;     /* baselines this close are shared */
+static const double OVERLAP_TOLERANCE = 0.5; /* boxes overlapping less are disjoint ... */
+static const double OVERLAP_SHARE = 0.1;     /* ... or by less than this share of the narrower */
+static const double NARROW_GUTTER = 2.5;     /* blocks closer side by side: a narrow gutter */
+static const double SAME_TYPE_SIZE = 0.15;   /* x-heights this close (share): one type size */
+static const double SHARED_BASELINE = 0.3;   /* baselines this close are shared */
 
 /* Leaves holding lines (a leaf of pictures alone holds none). */
 static void count_leaves(const lt_cut_node *n, int *count)

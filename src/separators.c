@@ -1,8 +1,9 @@
 /* separators.c — the obstacles that text lines, blocks and the reading order respect, found
- * once: ruling lines (long, thin, straight components) and column gutters, the tall white
- * rectangles of the text's occupancy (after Breuel 2002, "Two geometric algorithms for layout
- * analysis": whitespace rectangles between columns), taken as gutters only where text borders
- * them on both sides over a long stretch. */
+ * once: ruling lines (rule components) and column gutters, tall strips of white in the text's
+ * occupancy (after Breuel 2002, "Two geometric algorithms for layout analysis": whitespace
+ * rectangles between columns, a few intruding components allowed), taken as gutters only on
+ * evidence from both sides: words beside the white over a long stretch, lined up along one of
+ * its edges. */
 #include "internal.h"
 
 #include <math.h>
@@ -40,9 +41,9 @@ static const double ALIGN_TOLERANCE = 0.5; /* edges this close line up */
  * close to a body. Leader dots alone do not border a gutter. */
 static const double WORD_REACH = 0.6;
 /* A gap this wide, wider than the widest stretched word space of a justified line, is refused
- * also where a white strip (STRIP_MIN_WIDTH wide) through it runs through the line above or
- * the line below (STRIP_REACH up or down) with text on both sides within STRIP_SIDE: the cells
- * of a short table, a column of labels, a word set apart from its line by a wide white. */
+ * also where a white strip (STRIP_MIN_WIDTH wide) through it runs through the two lines above
+ * or the two below (STRIP_REACH up or down) with text on both sides within STRIP_SIDE: the
+ * cells of a short table, a margin note, a word set apart from its line by a wide white. */
 static const double LOCAL_STRIP_GAP = 3.0;
 /* Height of a line of body text (ascenders to descenders), in text heights: gap thresholds
  * grow with a pair taller than that (the word spaces of large type are wide). */
@@ -105,13 +106,13 @@ typedef struct run {
 } run;
 
 typedef struct evidence {
-    int width;        /* window, cells */
-    int max_gap;      /* widest white, cells, between the words of a bordered row */
-    int word_reach;   /* cells */
-    int min_bordered; /* rows */
-    int min_sided;    /* rows */
-    int min_aligned;  /* rows */
-    int line_rows;    /* rows a line of text inks */
+    int width;           /* window, cells */
+    int max_gap;         /* widest white, cells, between the words of a bordered row */
+    int word_reach;      /* cells */
+    int min_bordered;    /* rows */
+    int min_sided;       /* rows */
+    int min_aligned;     /* rows */
+    int line_rows;       /* rows a line of text inks */
     int align_tolerance; /* cells */
 } evidence;
 
@@ -134,7 +135,7 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
                              uint8_t *mask)
 {
     const size_t slots = (size_t)cols + 1;
-    int *sum = malloc(2 * slots * sizeof *sum); /* words, then marks, in cells left of x */
+    int *sum = malloc(2 * slots * sizeof *sum);   /* words, then marks, in cells left of x */
     int *prev = malloc(4 * slots * sizeof *prev); /* last ink cell at or left of x */
     run *runs = malloc(slots * sizeof *runs);
     if (!sum || !prev || !runs) {
@@ -177,8 +178,8 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
             const int left = x > 0 ? prev[x - 1] : -1;
             const int right = x + e->width < cols ? next[x + e->width] : -1;
             const int word_left = left >= 0 && prev_word[left] >= left - e->word_reach;
-            const int word_right = right >= 0 && next_word[right] >= 0 &&
-                                   next_word[right] <= right + e->word_reach;
+            const int word_right =
+                right >= 0 && next_word[right] >= 0 && next_word[right] <= right + e->word_reach;
             const int near_left = word_left && x - left <= e->max_gap;
             const int near_right = word_right && right - x - e->width <= e->max_gap;
             if (!near_left && !near_right) continue;
@@ -239,11 +240,10 @@ static int narrow_side(const uint8_t *occ, int cols, const lt_box *cellbox, int 
 {
     int lines = 0, wide = 0, band = 0;
     for (int y = cellbox->top; y <= cellbox->bottom; y++) {
-        const int r = y == cellbox->bottom ? 0
-                                            : reach_in_row(occ, cols, y,
-                                                           dir > 0 ? cellbox->right
-                                                                   : cellbox->left - 1,
-                                                           dir, skip, gap, far);
+        const int r = y == cellbox->bottom
+                          ? 0
+                          : reach_in_row(occ, cols, y, dir > 0 ? cellbox->right : cellbox->left - 1,
+                                         dir, skip, gap, far);
         if (r > 0) {
             band = r > band ? r : band;
             continue;
@@ -359,10 +359,9 @@ static int32_t *summed(const uint8_t *grid, int cols, int rows, int min_value)
     if (!sum) return NULL;
     for (int y = 0; y < rows; y++)
         for (int x = 0; x < cols; x++)
-            sum[(size_t)(y + 1) * stride + x + 1] = (grid[(size_t)y * cols + x] >= min_value) +
-                                                    sum[(size_t)y * stride + x + 1] +
-                                                    sum[(size_t)(y + 1) * stride + x] -
-                                                    sum[(size_t)y * stride + x];
+            sum[(size_t)(y + 1) * stride + x + 1] =
+                (grid[(size_t)y * cols + x] >= min_value) + sum[(size_t)y * stride + x + 1] +
+                sum[(size_t)(y + 1) * stride + x] - sum[(size_t)y * stride + x];
     return sum;
 }
 
@@ -414,17 +413,21 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
         goto nomem;
     }
     fill_occupancy(c, th, cell, s->cols, s->rows, occ);
-    const evidence e = {(int)ceil(GUTTER_MIN_WIDTH * th / cell), (int)(GUTTER_MAX_WIDTH * th / cell),
-                        (int)ceil(WORD_REACH * th / cell), (int)ceil(GUTTER_MIN_BORDERED * th / cell),
+    const evidence e = {(int)ceil(GUTTER_MIN_WIDTH * th / cell),
+                        (int)(GUTTER_MAX_WIDTH * th / cell),
+                        (int)ceil(WORD_REACH * th / cell),
+                        (int)ceil(GUTTER_MIN_BORDERED * th / cell),
                         (int)ceil(GUTTER_MIN_SIDED * th / cell),
-                        (int)ceil(GUTTER_MIN_ALIGNED * th / cell), (int)ceil(2 * th / cell),
+                        (int)ceil(GUTTER_MIN_ALIGNED * th / cell),
+                        (int)ceil(2 * th / cell),
                         (int)(ALIGN_TOLERANCE * th / cell)};
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];
         const lt_box in_cells = {(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
-                                 (int)floor(g->right / cell + 0.5), (int)floor(g->bottom / cell + 0.5)};
+                                 (int)floor(g->right / cell + 0.5),
+                                 (int)floor(g->bottom / cell + 0.5)};
         const int narrow = (int)ceil(NARROW_COLUMN * th / cell);
         const int gap = (int)ceil(NARROW_GAP * th / cell);
         const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow),
@@ -450,6 +453,19 @@ nomem:
     return lt_error_set(err, LT_ENOMEM, "separators: out of memory");
 }
 
+/* Whether a vertical rule stands in [x0, x1) (a pixel of slack) over some of the rows
+ * [y0, y1). */
+static int rule_between(const lt_separators *s, double x0, double x1, double y0, double y1)
+{
+    for (int r = 0; r < s->nrules; r++) {
+        const lt_box *b = &s->rules[r];
+        if (box_h(b) > box_w(b) && b->left >= x0 - 1 && b->right <= x1 + 1 && b->top < y1 &&
+            b->bottom > y0)
+            return 1;
+    }
+    return 0;
+}
+
 int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, double y1)
 {
     if (!s || !s->sum) return 0;
@@ -466,7 +482,8 @@ static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0
 {
     const double cell = s->cell_px;
     const int cy0 = (int)floor(y0 / cell), cy1 = (int)ceil(y1 / cell);
-    const int min_cells = (int)ceil(STRIP_MIN_WIDTH * th / cell), side = (int)ceil(STRIP_SIDE * th / cell);
+    const int min_cells = (int)ceil(STRIP_MIN_WIDTH * th / cell),
+              side = (int)ceil(STRIP_SIDE * th / cell);
     int best = 0, best_lo = 0, run = 0;
     for (int cx = (int)ceil(x0 / cell); (cx + 1) * cell <= x1; cx++) {
         run = cells(s, s->text_sum, cx, cy0, cx + 1, cy1) == 0 ? run + 1 : 0;
@@ -482,10 +499,11 @@ static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0
 int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom)
 {
     if (!s) return 0;
+    if (rule_between(s, x0, x1, top, bottom)) return 1;
     /* gaps judged against the pair's own size: the word spaces of a title are wide */
     const double scale = fmax(1.0, (bottom - top) / (LINE_HEIGHT * s->th));
     if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
-    if (lt_separator_between(s, x0, x1, top, bottom)) return 1;
+    if (lt_gutter_between(s, x0, x1, top, bottom)) return 1;
     if (!s->text_sum || x1 - x0 < LOCAL_STRIP_GAP * s->th * scale) return 0;
     /* the rows of the line above and of the line below, not the pair's own */
     const double reach = STRIP_REACH * s->th, cell = s->cell_px;
@@ -495,14 +513,7 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
 
 int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1)
 {
-    if (!s) return 0;
-    for (int r = 0; r < s->nrules; r++) {
-        const lt_box *b = &s->rules[r];
-        if (box_h(b) > box_w(b) && b->left >= x0 - 1 && b->right <= x1 + 1 && b->top < y1 &&
-            b->bottom > y0)
-            return 1;
-    }
-    return lt_gutter_between(s, x0, x1, y0, y1);
+    return s && (rule_between(s, x0, x1, y0, y1) || lt_gutter_between(s, x0, x1, y0, y1));
 }
 
 void lt_separators_free(lt_separators *s)
