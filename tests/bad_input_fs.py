@@ -24,9 +24,9 @@ def check(ok, what):
     failed += not ok
 
 
-def page_png():
-    a = np.full((400, 600), 255, np.uint8)
-    for row in range(3):
+def page_png(rows=3):
+    a = np.full((max(400, 60 + 40 * rows), 600), 255, np.uint8)
+    for row in range(rows):
         y = 60 + row * 40
         for x in range(40, 540, 30):
             a[y:y + 18, x:x + 20] = 0
@@ -205,6 +205,34 @@ def unwritable_out_dir(tmp, nobody):
           "--out-dir read-only: the summary counts what was written, nothing stale (%s)" % err)
 
 
+def full_file_system(tmp):
+    """--out-dir on a full file system (a 48 KiB tmpfs, when this runs as root and may mount):
+    exit 3, each page that did not fit reported, the summary counting what was written."""
+    if os.geteuid() != 0:
+        return
+    mnt = os.path.join(tmp, "full")
+    os.makedirs(mnt)
+    if subprocess.run(["mount", "-t", "tmpfs", "-o", "size=48k", "tmpfs", mnt],
+                      capture_output=True).returncode != 0:
+        print("skip full file system: cannot mount a tmpfs")
+        return
+    try:
+        pages = []
+        for k in range(6):  # 60 lines each: some 19 KiB of JSON a page, 2 fit
+            pages.append(os.path.join(tmp, "full-%d.png" % k))
+            write(pages[-1], page_png(60))
+        r = run(["-j", "1", "--out-dir", os.path.join(mnt, "out")] + pages)
+        err = lines_of(r)
+        written = sum(len(fs) for _, _, fs in os.walk(mnt))
+        full = sum("No space left on device" in e for e in err)
+        check(r.returncode == 3 and full >= 1 and
+              any("%d pages done, %d failed" % (written, full) in e for e in err),
+              "--out-dir on a full file system: exit %d, %d written, %s" % (r.returncode,
+                                                                          written, err))
+    finally:
+        subprocess.run(["umount", mnt])
+
+
 def unreadable_subfolder(tmp, nobody):
     if not nobody:
         return
@@ -307,6 +335,7 @@ with tempfile.TemporaryDirectory() as tmp:
                        ("non-UTF-8 names", lambda: non_utf8_names(tmp)),
                        ("long path", lambda: long_path(tmp)),
                        ("unwritable --out-dir", lambda: unwritable_out_dir(tmp, nobody)),
+                       ("full file system", lambda: full_file_system(tmp)),
                        ("unreadable subfolder", lambda: unreadable_subfolder(tmp, nobody)),
                        ("signals", lambda: signals(tmp)), ("endless stdin", endless_stdin)):
         attempt(what, case)
