@@ -61,9 +61,9 @@ then
     exit 2
 fi
 
-# The library's sources: liblineate_la_SOURCES of Makefile.am when it can be read, else every
+# The library's sources: liblineate_core_la_SOURCES of Makefile.am when it can be read, else every
 # src/*.c but the command-line tool's (main.c, cmd_*.c, batch.c).
-sources=$(awk '/^liblineate_la_SOURCES *=/ { on = 1 }
+sources=$(awk '/^liblineate_core_la_SOURCES *=/ { on = 1 }
     on { for (i = 1; i <= NF; i++) if ($i ~ /^src\/.*\.c$/) print $i; if ($0 !~ /\\$/) exit }' \
     "$top/Makefile.am" 2>/dev/null)
 if [ -z "$sources" ]; then

@@ -53,12 +53,20 @@
 extern "C" {
 #endif
 
+/* Marks the functions liblineate.so exports; the library is built with every other symbol
+ * hidden, so an internal function cannot be reached or relied upon from outside. */
+#if defined(__GNUC__) && !defined(_WIN32)
+#define LT_API __attribute__((visibility("default")))
+#else
+#define LT_API
+#endif
+
 /* The version compiled against; lt_version() and lt_version_number() give the one loaded at
  * run time (they differ when a program runs with another build of the shared library). */
 #define LT_VERSION_STRING "1.0.0"
-#define LT_VERSION_NUMBER 10000 /* major * 10000 + minor * 100 + patch */
-const char *lt_version(void); /* a static string, LT_VERSION_STRING of the library's build */
-int lt_version_number(void);  /* LT_VERSION_NUMBER of the library's build */
+#define LT_VERSION_NUMBER 10000      /* major * 10000 + minor * 100 + patch */
+LT_API const char *lt_version(void); /* a static string, LT_VERSION_STRING of the library's build */
+LT_API int lt_version_number(void);  /* LT_VERSION_NUMBER of the library's build */
 /* Version of the JSON layout format written by lt_json_*; bumped on incompatible changes. */
 #define LT_FORMAT_NAME "lineate-layout-1"
 
@@ -79,7 +87,7 @@ typedef struct lt_error {
 } lt_error;
 
 /* Records the first failure only: later calls keep the original message. Returns `code`. */
-int lt_error_set(lt_error *err, int code, const char *fmt, ...)
+LT_API int lt_error_set(lt_error *err, int code, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 
 /* ---- limits (named, documented; each has a parameter to change it) ------------------- */
@@ -102,15 +110,15 @@ enum { LT_IMAGE_GRAY = 0, LT_IMAGE_INK = 1 };
 
 typedef struct lt_image {
     int width, height;
-    int kind;        /* LT_IMAGE_GRAY or LT_IMAGE_INK */
+    int kind;         /* LT_IMAGE_GRAY or LT_IMAGE_INK */
     double dpi;       /* resolution from the file, 0 when the file gives none or an
                          implausible one (outside LT_MIN_DPI..LT_MAX_DPI) */
     int dpi_rejected; /* 1 when the file gave a resolution outside that range (ignored) */
-    uint8_t *pixels; /* width * height bytes, owned by the image */
+    uint8_t *pixels;  /* width * height bytes, owned by the image */
 } lt_image;
 
-lt_image *lt_image_new(int width, int height, int kind); /* zero-filled; NULL on failure */
-void lt_image_free(lt_image *img);
+LT_API lt_image *lt_image_new(int width, int height, int kind); /* zero-filled; NULL on failure */
+LT_API void lt_image_free(lt_image *img);
 
 /* An opened image file (or memory buffer): one or more pages. */
 typedef struct lt_source lt_source;
@@ -118,18 +126,19 @@ typedef struct lt_source lt_source;
 /* Opens `path` ("-" reads standard input) and counts its pages. `name` in messages is `path`
  * ("stdin" for "-"). Fails with LT_EIO, LT_EFORMAT or LT_ELIMIT (too many pages, file too
  * large). */
-int lt_source_open(const char *path, long max_pages, lt_source **out, lt_error *err);
+LT_API int lt_source_open(const char *path, long max_pages, lt_source **out, lt_error *err);
 /* Same from a caller's buffer, which is copied. `name` is used in messages. */
-int lt_source_open_memory(const void *data, size_t size, const char *name, long max_pages,
-                          lt_source **out, lt_error *err);
-int lt_source_pages(const lt_source *src);
-const char *lt_source_name(const lt_source *src);
+LT_API int lt_source_open_memory(const void *data, size_t size, const char *name, long max_pages,
+                                 lt_source **out, lt_error *err);
+LT_API int lt_source_pages(const lt_source *src);
+LT_API const char *lt_source_name(const lt_source *src);
 /* Short format name of the file: "png", "tiff", "jpeg", "pnm", ... */
-const char *lt_source_format(const lt_source *src);
+LT_API const char *lt_source_format(const lt_source *src);
 /* Decodes page `index` (0-based) to 8-bit gray, or to an ink image when the page is 1-bit.
  * The page size is checked against `max_pixels` before the pixels are decoded. */
-int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out, lt_error *err);
-void lt_source_free(lt_source *src);
+LT_API int lt_source_read_page(lt_source *src, int index, long max_pixels, lt_image **out,
+                               lt_error *err);
+LT_API void lt_source_free(lt_source *src);
 
 /* ---- parameters ----------------------------------------------------------------------- */
 /* Sizes marked "text units" are multiples of the page's measured text height (the mode of
@@ -158,7 +167,7 @@ typedef struct lt_params {
     long max_components;        /* LT_DEFAULT_MAX_COMPONENTS */
 } lt_params;
 
-void lt_params_default(lt_params *p);
+LT_API void lt_params_default(lt_params *p);
 
 /* ---- geometry ------------------------------------------------------------------------- */
 typedef struct lt_box {
@@ -192,7 +201,7 @@ enum {
     LT_ROLE_COUNT
 };
 /* Name of a role as written in JSON ("body", "heading", "page-header", ...). */
-const char *lt_role_name(int role);
+LT_API const char *lt_role_name(int role);
 
 typedef struct lt_line {
     lt_box box;           /* axis-aligned hull of `quad`, original image pixels */
@@ -227,7 +236,7 @@ enum {
     LT_DOUBT_BRIDGED = 16    /* a few lines of a block run across what looks like a gutter */
 };
 /* Short English text of one LT_DOUBT_* bit; NULL for an unknown bit. */
-const char *lt_doubt_text(int bit);
+LT_API const char *lt_doubt_text(int bit);
 
 typedef struct lt_layout {
     int width, height;      /* of the analysed image */
@@ -243,37 +252,38 @@ typedef struct lt_layout {
     int nlines;
     lt_block *blocks; /* text blocks in reading order, then non-text blocks */
     int nblocks;
-    int order_doubts; /* LT_DOUBT_* bits, 0 when nothing calls the reading order in doubt */
+    int order_doubts;         /* LT_DOUBT_* bits, 0 when nothing calls the reading order in doubt */
     lt_point *polygon_points; /* storage of every line's polygon (owned by the layout) */
 } lt_layout;
 
 /* Analyses one page. `params` may be NULL for the defaults. On success *out holds a layout
  * the caller frees with lt_layout_free. */
-int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err);
+LT_API int lt_analyze(const lt_image *img, const lt_params *params, lt_layout **out, lt_error *err);
 /* As lt_analyze, taking ownership of *img: it is freed as soon as the analysis no longer needs
  * it (a gray page right after binarization, which lowers the peak memory of the analysis by
  * the size of the page), and in any case before return; *img is then NULL. */
-int lt_analyze_consume(lt_image **img, const lt_params *params, lt_layout **out, lt_error *err);
-void lt_layout_free(lt_layout *layout);
+LT_API int lt_analyze_consume(lt_image **img, const lt_params *params, lt_layout **out,
+                              lt_error *err);
+LT_API void lt_layout_free(lt_layout *layout);
 
 /* ---- output --------------------------------------------------------------------------- */
 /* The page as one JSON object (format LT_FORMAT_NAME, see schema/lineate-layout.schema.json):
  * a NUL-terminated string the caller frees with free(), on one line unless `pretty`.
  * `source` is the input's name, `page` counts from 1 of `pages`. NULL when out of memory. */
-char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, int pages,
-                        int pretty);
+LT_API char *lt_layout_to_json(const lt_layout *layout, const char *source, int page, int pages,
+                               int pretty);
 /* The page as one PAGE XML document (PAGE content schema 2019-07-15): text regions with their
  * role as region type, their lines with Coords (the line's polygon, else its quad) and
  * Baseline, the reading order as an OrderedGroup, tables, rules and pictures as TableRegion,
  * SeparatorRegion and ImageRegion. `created_utc` (seconds since 1970, UTC) is the time written
  * into the metadata. A NUL-terminated string without a final newline, freed with free();
  * NULL when out of memory. The mapping is documented in man/lineate.1. */
-char *lt_layout_to_page_xml(const lt_layout *layout, const char *source, int page, int pages,
-                            long long created_utc);
+LT_API char *lt_layout_to_page_xml(const lt_layout *layout, const char *source, int page, int pages,
+                                   long long created_utc);
 /* The page as one ALTO 4.4 document: pixel units, the resolution in the processing
  * settings, text blocks (roles as RoleTags) and lines in reading order, table cells in a
  * ComposedBlock, rules as GraphicalElements, pictures as Illustrations. As above. */
-char *lt_layout_to_alto(const lt_layout *layout, const char *source, int page, int pages);
+LT_API char *lt_layout_to_alto(const lt_layout *layout, const char *source, int page, int pages);
 
 /* ---- stages (each pure: inputs are not modified) ----------------------------------------
  * Exposed for tests, tools and embedders who need one step. */
@@ -290,16 +300,16 @@ char *lt_layout_to_alto(const lt_layout *layout, const char *source, int page, i
  * practice: 15..60 px at 200..400 dpi), at least 15 px, an odd multiple of 3 (51 px at 300
  * dpi, 33 at 200, 69 at 400), so that lt_binarize_sampled samples it. A dpi outside
  * LT_MIN_DPI..LT_MAX_DPI counts as 300. */
-int lt_sauvola_window_px(const lt_params *p, double dpi);
-int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
-                lt_error *err);
+LT_API int lt_sauvola_window_px(const lt_params *p, double dpi);
+LT_API int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
+                       lt_error *err);
 /* As lt_binarize, with the threshold computed exactly only at the centre of every 3 x 3 tile
  * and interpolated bilinearly between tile centres, when window_px is an odd multiple of 3 of
  * at least 27 (else exactly as lt_binarize). The threshold varies slowly, so the ink differs
  * from lt_binarize's on at most a few pixels in ten thousand, in under half the time. This is
  * what lt_analyze uses. */
-int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
-                        lt_error *err);
+LT_API int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r,
+                               lt_image **ink, lt_error *err);
 
 typedef struct lt_skew {
     double angle_deg;  /* 0 when confidence is 0 */
@@ -307,12 +317,12 @@ typedef struct lt_skew {
 } lt_skew;
 
 /* Projection-profile skew of an ink image in [-range, +range] degrees. */
-int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence, lt_skew *out,
-                     lt_error *err);
+LT_API int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence,
+                            lt_skew *out, lt_error *err);
 
 /* Rotates an ink image by -angle_deg (so text skewed by angle_deg becomes level), about its
  * centre, onto a canvas large enough to hold all of it (nearest-neighbour sampling). */
-int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, lt_error *err);
+LT_API int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, lt_error *err);
 
 typedef struct lt_component {
     lt_box box;
@@ -328,15 +338,15 @@ typedef struct lt_components {
 
 /* 8-connected components of an ink image, ordered by their first pixel in raster order.
  * Fails with LT_ELIMIT when there are more than max_components. */
-int lt_find_components(const lt_image *ink, long max_components, lt_components **out,
-                       lt_error *err);
-void lt_components_free(lt_components *c);
+LT_API int lt_find_components(const lt_image *ink, long max_components, lt_components **out,
+                              lt_error *err);
+LT_API void lt_components_free(lt_components *c);
 
 /* Text height of a page: mode of the heights of plausible character components
  * (0 when there are none). A dpi outside LT_MIN_DPI..LT_MAX_DPI counts as 300. */
-double lt_text_height(const lt_components *c, double dpi);
+LT_API double lt_text_height(const lt_components *c, double dpi);
 /* Sets kind of every component from its size relative to text_height_px. */
-void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p);
+LT_API void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p);
 
 #ifdef __cplusplus
 }

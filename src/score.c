@@ -466,7 +466,8 @@ int lt_cover_order_count(const lt_scored_line *truth, int ntruth, const lt_score
     const size_t nt = (size_t)(ntruth > 0 ? ntruth : 1);
     sorted_ref *ts = malloc(nt * sizeof *ts);
     int64_t *best_inter = malloc(nt * sizeof *best_inter);
-    int *best_pred = malloc(nt * sizeof *best_pred), *rank = malloc(nt * sizeof *rank);
+    int *best_pred = malloc(nt * sizeof *best_pred);
+    int *rank = calloc(nt, sizeof *rank); /* zeroed for -Wmaybe-uninitialized: the ranks fill it */
     cover_key *keys = malloc(nt * sizeof *keys);
     int rc = 0;
     if (!ts || !best_inter || !best_pred || !rank || !keys) {
