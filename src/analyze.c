@@ -2,6 +2,7 @@
  * the deskewed results are mapped back to the coordinates of the image as given. */
 #include "internal.h"
 
+#include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -83,6 +84,38 @@ static int assemble(lt_layout *out, const lt_raw_lines *raw, const lt_arrangemen
     return 0;
 }
 
+/* Checks every field of `p` against its range (given beside the field in lineate.h); the
+ * message names the first field outside it. The flags force_dpi and right_to_left take any
+ * value. */
+static int check_params(const lt_params *p, lt_error *err)
+{
+    const struct {
+        const char *name;
+        double value, min, max;
+    } fields[] = {
+        {"dpi", p->dpi, LT_MIN_DPI, LT_MAX_DPI},
+        {"sauvola_window_px", p->sauvola_window_px, 0, LT_MAX_WINDOW_PX},
+        {"sauvola_k", p->sauvola_k, 0, 1},
+        {"sauvola_r", p->sauvola_r, 1, 255},
+        {"skew_range_deg", p->skew_range_deg, 0, 45},
+        {"skew_min_confidence", p->skew_min_confidence, 0, 1},
+        {"deskew_min_deg", p->deskew_min_deg, 0, 45},
+        {"speckle_max", p->speckle_max, 0, LT_MAX_TEXT_UNITS},
+        {"rule_min_aspect", p->rule_min_aspect, 1, LT_MAX_TEXT_UNITS},
+        {"picture_min_height", p->picture_min_height, 0, LT_MAX_TEXT_UNITS},
+        {"link_max_gap", p->link_max_gap, 0, LT_MAX_TEXT_UNITS},
+        {"column_min_gap", p->column_min_gap, 0, LT_MAX_TEXT_UNITS},
+        {"block_min_gap", p->block_min_gap, 0, LT_MAX_TEXT_UNITS},
+        {"max_pixels", (double)p->max_pixels, 1, (double)LONG_MAX},
+        {"max_components", (double)p->max_components, 1, INT_MAX},
+    };
+    for (size_t i = 0; i < sizeof fields / sizeof *fields; i++)
+        if (!(fields[i].value >= fields[i].min && fields[i].value <= fields[i].max))
+            return lt_error_set(err, LT_EINVAL, "%s: %g is outside %g..%g", fields[i].name,
+                                fields[i].value, fields[i].min, fields[i].max);
+    return 0;
+}
+
 /* The analysis of img; when `consumed` is not NULL, it points to img, which is freed (and
  * *consumed set to NULL) as soon as it is no longer needed, and in any case before return. */
 static int analyze(const lt_image *img, lt_image **consumed, const lt_params *params,
@@ -96,19 +129,10 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     }
     if (!img || img->width <= 0 || img->height <= 0 || !img->pixels)
         return lt_error_set(err, LT_EINVAL, "analyze: no image");
+    if (check_params(params, err)) return LT_EINVAL;
     if ((double)img->width * img->height > (double)params->max_pixels)
         return lt_error_set(err, LT_ELIMIT, "%d x %d pixels, more than the limit of %ld",
                             img->width, img->height, params->max_pixels);
-    if (!lt_dpi_plausible(params->dpi))
-        return lt_error_set(err, LT_EINVAL, "resolution %g dpi outside %d..%d", params->dpi,
-                            LT_MIN_DPI, LT_MAX_DPI);
-    const double text_units[] = {params->speckle_max,        params->rule_min_aspect,
-                                 params->picture_min_height, params->link_max_gap,
-                                 params->column_min_gap,     params->block_min_gap};
-    for (size_t i = 0; i < sizeof text_units / sizeof *text_units; i++)
-        if (!(text_units[i] >= 0 && text_units[i] <= LT_MAX_TEXT_UNITS))
-            return lt_error_set(err, LT_EINVAL, "a size of %g text units outside 0..%g",
-                                text_units[i], LT_MAX_TEXT_UNITS);
     lt_layout *res = calloc(1, sizeof *res);
     if (!res) return lt_error_set(err, LT_ENOMEM, "out of memory");
     res->width = img->width;
@@ -164,6 +188,10 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     if (rc) goto done;
     res->ncomponents = comps->count;
     res->text_height_px = lt_text_height(comps, res->dpi);
+    if (res->text_height_px < 0) {
+        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+        goto done;
+    }
     lt_classify_components(comps, res->text_height_px, params);
     /* 4. Separators, 5. lines, 6. blocks, 7. tables, roles and reading order. */
     rc = lt_find_separators(comps, res->text_height_px, &seps, err);

@@ -16,7 +16,7 @@ double lt_text_height(const lt_components *c, double dpi)
     const int min_h = dpi / 50 > 3 ? (int)(dpi / 50) : 3;
     const int max_h = (int)(dpi / 3) > min_h + 1 ? (int)(dpi / 3) : min_h + 1;
     int *hist = calloc((size_t)max_h + 2, sizeof *hist);
-    if (!hist) return 0;
+    if (!hist) return -1;
     int n = 0;
     for (int i = 0; i < c->count; i++) {
         const lt_box *b = &c->items[i].box;

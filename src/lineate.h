@@ -143,19 +143,26 @@ LT_API void lt_source_free(lt_source *src);
 /* ---- parameters ----------------------------------------------------------------------- */
 /* Sizes marked "text units" are multiples of the page's measured text height (the mode of
  * component heights, close to the x-height for Latin scripts), so that a 200 dpi and a
- * 600 dpi scan of one page give the same lines. 0 for an "auto" field means: derive it. */
+ * 600 dpi scan of one page give the same lines. 0 for an "auto" field means: derive it.
+ * [min..max] is a field's range: lt_analyze refuses a value outside it (or NaN) before any
+ * work, with LT_EINVAL and a message naming the field ("sauvola_k: 7 is outside 0..1").
+ * Text units are at most LT_MAX_TEXT_UNITS. */
 typedef struct lt_params {
-    double dpi;                 /* resolution to assume when the file gives none (default 300),
-                                   LT_MIN_DPI..LT_MAX_DPI (else lt_analyze fails, LT_EINVAL) */
+    double dpi;                 /* resolution to assume when the file gives none (default 300)
+                                   [LT_MIN_DPI..LT_MAX_DPI] */
     int force_dpi;              /* nonzero: use `dpi` even when the file has one */
-    int sauvola_window_px;      /* Sauvola window side, odd; 0 = auto: 0.17 inch (51 px at 300) */
-    double sauvola_k;           /* Sauvola k (default 0.34; the paper uses 0.5 for clean scans) */
-    double sauvola_r;           /* Sauvola R, dynamic range of the deviation (default 128) */
-    double skew_range_deg;      /* search -range..+range (default 15) */
-    double skew_min_confidence; /* below this the page reports no estimate (default 0.05) */
-    double deskew_min_deg;      /* below this |skew| the page is analysed unrotated (0.05) */
+    int sauvola_window_px;      /* Sauvola window side, odd; 0 = auto: 0.17 inch (51 px at 300)
+                                   [0..LT_MAX_WINDOW_PX] */
+    double sauvola_k;           /* Sauvola k (default 0.34; the paper uses 0.5 for clean scans)
+                                   [0..1] */
+    double sauvola_r;           /* Sauvola R, dynamic range of the deviation (default 128; the
+                                   deviation of 8-bit gray is at most 127.5) [1..255] */
+    double skew_range_deg;      /* search -range..+range (default 15) [0..45] */
+    double skew_min_confidence; /* below this the page reports no estimate (0.05) [0..1] */
+    double deskew_min_deg;      /* below this |skew| the page is left unrotated (0.05) [0..45] */
     double speckle_max;         /* text units: components smaller in both sides are speckle (0.2) */
-    double rule_min_aspect;     /* long side / short side of a rule (default 12) */
+    double rule_min_aspect;     /* long side / short side of a rule (default 12)
+                                   [1..LT_MAX_TEXT_UNITS] */
     double picture_min_height;  /* text units: taller components are non-text (default 6) */
     double link_max_gap;        /* text units: widest gap bridged inside a line unless a
                                    separator lies in it (default 5: stretched spaces, a
@@ -163,8 +170,8 @@ typedef struct lt_params {
     double column_min_gap;      /* text units: narrowest gutter the XY-cut splits at (1.5) */
     double block_min_gap;       /* text units: narrowest vertical gap between blocks (1.2) */
     int right_to_left;          /* nonzero: columns, and pieces of a row, read right to left */
-    long max_pixels;            /* LT_DEFAULT_MAX_PIXELS */
-    long max_components;        /* LT_DEFAULT_MAX_COMPONENTS */
+    long max_pixels;            /* LT_DEFAULT_MAX_PIXELS [1..LONG_MAX] */
+    long max_components;        /* LT_DEFAULT_MAX_COMPONENTS [1..INT_MAX] */
 } lt_params;
 
 LT_API void lt_params_default(lt_params *p);
@@ -343,7 +350,7 @@ LT_API int lt_find_components(const lt_image *ink, long max_components, lt_compo
 LT_API void lt_components_free(lt_components *c);
 
 /* Text height of a page: mode of the heights of plausible character components
- * (0 when there are none). A dpi outside LT_MIN_DPI..LT_MAX_DPI counts as 300. */
+ * (0 when there are none, -1 when out of memory). A dpi outside LT_MIN_DPI..LT_MAX_DPI counts as 300. */
 LT_API double lt_text_height(const lt_components *c, double dpi);
 /* Sets kind of every component from its size relative to text_height_px. */
 LT_API void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p);

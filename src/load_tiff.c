@@ -130,12 +130,14 @@ int lt_tiff_count_pages(const uint8_t *data, size_t size, const char *name, int 
     return 0;
 }
 
-/* Unpacks the 1-bit strips of the current directory to ink; 0 on success. */
+/* Unpacks the 1-bit strips of the current directory to ink; 0 on success, LT_ENOMEM, or -1
+ * when the page cannot be decoded. */
 static int read_bilevel(TIFF *tif, int min_is_white, lt_image *img)
 {
     tmsize_t line = TIFFScanlineSize(tif);
     uint8_t *buf = malloc(line > 0 ? (size_t)line : 1);
-    if (!buf || line < (img->width + 7) / 8) {
+    if (!buf) return LT_ENOMEM;
+    if (line < (img->width + 7) / 8) {
         free(buf);
         return -1;
     }
@@ -155,11 +157,12 @@ static int read_bilevel(TIFF *tif, int min_is_white, lt_image *img)
 }
 
 /* Reads the current directory through the RGBA reader into 8-bit gray (luminance by the
- * ITU-R BT.601 weights, alpha composited over white); 0 on success. */
+ * ITU-R BT.601 weights, alpha composited over white); 0 on success, LT_ENOMEM, or -1 when the
+ * page cannot be decoded. */
 static int read_rgba(TIFF *tif, lt_image *img)
 {
     uint32_t *raster = lt_alloc_array((size_t)img->width * img->height, sizeof *raster);
-    if (!raster) return -1;
+    if (!raster) return LT_ENOMEM;
     if (!TIFFReadRGBAImageOriented(tif, (uint32_t)img->width, (uint32_t)img->height, raster,
                                    ORIENTATION_TOPLEFT, 1)) {
         free(raster);
@@ -211,6 +214,11 @@ int lt_tiff_read_page(const uint8_t *data, size_t size, const char *name, int in
     }
     int bad = bilevel ? read_bilevel(tif, photometric == PHOTOMETRIC_MINISWHITE, img)
                       : read_rgba(tif, img);
+    if (bad == LT_ENOMEM) {
+        lt_image_free(img);
+        rc = lt_error_set(err, LT_ENOMEM, "%s: page %d: out of memory", name, index + 1);
+        goto done;
+    }
     if (bad || in.message[0]) { /* an error libtiff reported but read through counts too */
         lt_image_free(img);
         rc = lt_error_set(err, LT_EFORMAT, "%s: page %d: cannot decode (%s)", name, index + 1,

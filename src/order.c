@@ -11,6 +11,7 @@
  * every label of a definition list before its descriptions; the cut tree does not.) */
 #include "internal.h"
 
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -172,11 +173,11 @@ static int topological(const unit *u, int n, const uint8_t *rel, int kinds, int 
 }
 
 /* Whether two orders of the units put two paragraphs (units of body text of three lines or
- * more) in different relative order. */
+ * more) in different relative order: 1 or 0, LT_ENOMEM when out of memory. */
 static int disagree(const unit *u, int n, const int *x, const int *y)
 {
     int *rank = malloc(((size_t)n + 1) * sizeof *rank);
-    if (!rank) return 0;
+    if (!rank) return LT_ENOMEM;
     for (int k = 0; k < n; k++)
         rank[y[k]] = k;
     int last = -1, out_of_order = 0;
@@ -212,7 +213,8 @@ static int sort_units(const unit *u, int n, int rtl, double tol, int *seq, int *
             if (a != b) rel[(size_t)a * n + b] = (uint8_t)precedes(u, n, a, b, rtl, tol);
     int rc = topological(u, n, rel, ABOVE, seq);
     int rc_full = rc < 0 ? rc : topological(u, n, rel, ABOVE | EARLIER_COLUMN, full);
-    if (rc < 0 || rc_full < 0) {
+    const int disagreement = rc < 0 || rc_full < 0 ? 0 : disagree(u, n, seq, full);
+    if (rc < 0 || rc_full < 0 || disagreement < 0) {
         free(rel);
         free(full);
         return LT_ENOMEM;
@@ -220,7 +222,7 @@ static int sort_units(const unit *u, int n, int rtl, double tol, int *seq, int *
     if (rc_full) *doubts |= LT_DOUBT_CYCLE;
     /* Disagreement about paragraphs only: short label and description rows, and margin notes,
      * are what the column rule gets wrong. */
-    if (disagree(u, n, seq, full)) *doubts |= LT_DOUBT_DISAGREE;
+    if (disagreement) *doubts |= LT_DOUBT_DISAGREE;
     for (int a = 0; a < n; a++)
         for (int b = a + 1; b < n; b++)
             if (u[a].body && u[b].body && !rel[(size_t)a * n + b] && !rel[(size_t)b * n + a] &&
@@ -418,10 +420,7 @@ int lt_arrange(const lt_cut_node *root, const lt_raw_lines *lines, const lt_comp
     a->nlines = pos;
     free(tree_blocks);
     free(seq);
-    if (pos != lines->count) {
-        lt_arrangement_free(a);
-        return lt_error_set(err, LT_EINVAL, "reading order lost lines (internal error)");
-    }
+    assert(pos == lines->count); /* every line is in exactly one block */
     *out = a;
     return 0;
 fail:

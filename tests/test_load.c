@@ -630,6 +630,69 @@ static void test_implausible_resolution(void)
     lt_image_free(img);
 }
 
+/* Every field of lt_params outside its range (lineate.h) is refused before any work, with
+ * LT_EINVAL and a message that starts with the field's name; NaN too. The values inside are
+ * the defaults, which the analysis of a blank page accepts. */
+static void test_param_ranges(void)
+{
+    lt_image *img = lt_image_new(64, 64, LT_IMAGE_GRAY);
+    if (!img) return tu_fail("param ranges: out of memory");
+    memset(img->pixels, 255, 64 * 64);
+    const struct {
+        const char *field;
+        size_t offset;
+        int is_long, is_int;
+        double below, above;
+    } cases[] = {
+        {"dpi", offsetof(lt_params, dpi), 0, 0, LT_MIN_DPI - 1, LT_MAX_DPI + 1},
+        {"sauvola_window_px", offsetof(lt_params, sauvola_window_px), 0, 1, -1, LT_MAX_WINDOW_PX + 2},
+        {"sauvola_k", offsetof(lt_params, sauvola_k), 0, 0, -0.1, 7},
+        {"sauvola_r", offsetof(lt_params, sauvola_r), 0, 0, 0, 256},
+        {"skew_range_deg", offsetof(lt_params, skew_range_deg), 0, 0, -1, 46},
+        {"skew_min_confidence", offsetof(lt_params, skew_min_confidence), 0, 0, -0.5, 1.5},
+        {"deskew_min_deg", offsetof(lt_params, deskew_min_deg), 0, 0, -0.05, 90},
+        {"speckle_max", offsetof(lt_params, speckle_max), 0, 0, -1, 1e300},
+        {"rule_min_aspect", offsetof(lt_params, rule_min_aspect), 0, 0, 0.5, 1e6},
+        {"picture_min_height", offsetof(lt_params, picture_min_height), 0, 0, -6, 1001},
+        {"link_max_gap", offsetof(lt_params, link_max_gap), 0, 0, -5, 1e300},
+        {"column_min_gap", offsetof(lt_params, column_min_gap), 0, 0, -1.5, 1e4},
+        {"block_min_gap", offsetof(lt_params, block_min_gap), 0, 0, -1.2, 1e4},
+        {"max_pixels", offsetof(lt_params, max_pixels), 1, 0, 0, 0},
+        {"max_components", offsetof(lt_params, max_components), 1, 0, -1, 0},
+    };
+    lt_params p;
+    for (size_t i = 0; i < sizeof cases / sizeof *cases; i++) {
+        for (int side = 0; side < 3; side++) {
+            if (side == 2 && (cases[i].is_long || cases[i].is_int)) continue; /* no NaN */
+            if (side == 1 && cases[i].is_long) continue; /* LONG_MAX is in range */
+            const double value = side == 0 ? cases[i].below : side == 1 ? cases[i].above : NAN;
+            lt_params_default(&p);
+            char *field = (char *)&p + cases[i].offset;
+            if (cases[i].is_long)
+                *(long *)field = (long)value;
+            else if (cases[i].is_int)
+                *(int *)field = (int)value;
+            else
+                *(double *)field = value;
+            lt_layout *layout = NULL;
+            lt_error err = {0};
+            const int rc = lt_analyze(img, &p, &layout, &err);
+            CHECK(rc == LT_EINVAL && !layout, "%s = %g: code %d", cases[i].field, value, rc);
+            const size_t n = strlen(cases[i].field);
+            CHECK(strncmp(err.message, cases[i].field, n) == 0 && err.message[n] == ':' &&
+                      strstr(err.message, " is outside "),
+                  "%s = %g: message \"%s\"", cases[i].field, value, err.message);
+            lt_layout_free(layout);
+        }
+    }
+    lt_params_default(&p);
+    lt_layout *layout = NULL;
+    lt_error err = {0};
+    CHECK_INT(lt_analyze(img, &p, &layout, &err), 0, "param ranges: the defaults refused");
+    lt_layout_free(layout);
+    lt_image_free(img);
+}
+
 /* Standard error of this process goes to a file from begin_quiet() to end_quiet(), which
  * returns what was written there (the library must never print), NUL-terminated. */
 static int saved_stderr = -1;
@@ -796,6 +859,7 @@ int main(void)
     test_tiff();
     test_resolution();
     test_implausible_resolution();
+    test_param_ranges();
     test_cmyk_jpeg();
     test_bad_input();
     test_version();
