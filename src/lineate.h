@@ -16,8 +16,7 @@
  * its own is a once-flag and a per-thread buffer for leptonica's last message (below), with
  * no caches and no locks held across calls. So several threads may run any calls at once on
  * different pages: lt_source_open*, lt_source_read_page, lt_analyze*, the stage functions,
- * the writers lt_layout_to_* (libxml2 set up first, below), and the readers and scorer of
- * score.h, each with its own lt_error.
+ * and the writers lt_layout_to_* (libxml2 set up first, below), each with its own lt_error.
  * Objects a call takes as const (an image, lt_params, a layout) may be shared by threads that
  * only read them; an object that a call writes or frees belongs to one thread at a time.
  * lt_source_read_page leaves its source unchanged and decodes with a decoder of its own over
