@@ -636,7 +636,10 @@ static void test_implausible_resolution(void)
 static void test_param_ranges(void)
 {
     lt_image *img = lt_image_new(64, 64, LT_IMAGE_GRAY);
-    if (!img) return tu_fail("param ranges: out of memory");
+    if (!img) {
+        tu_fail("param ranges: out of memory");
+        return;
+    }
     memset(img->pixels, 255, 64 * 64);
     const struct {
         const char *field;
