@@ -104,6 +104,10 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     t = t_next;
     if ((rc = lt_find_components(page, p->max_components, &comps, err))) goto done;
     double text_height_px = lt_text_height(comps, dpi);
+    if (text_height_px < 0) { /* as lt_analyze reports it */
+        rc = lt_error_set(err, LT_ENOMEM, "text height: out of memory");
+        goto done;
+    }
     lt_classify_components(comps, text_height_px, p);
     t_next = now_ms();
     stage_ms[ST_COMPONENTS] += t_next - t;
