@@ -6,7 +6,7 @@ set -u
 corpus=$1
 top_srcdir=${top_srcdir:-.}
 top_builddir=${top_builddir:-.}
-standards="$top_srcdir/../shared/standards"
+standards="${LT_SHARED_DIR:-$top_srcdir/../shared}/standards"
 xmllint=${XMLLINT:-$(command -v xmllint)}
 [ -f "$standards/page-2019-07-15/pagecontent.xsd" ] ||
     { echo "validate-corpus: $standards (the PAGE and ALTO schemas) is absent"; exit 2; }

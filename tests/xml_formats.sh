@@ -10,7 +10,7 @@ test_modules=xml.etree.ElementTree
 test_timeout=300
 . "${top_srcdir:-.}/tests/harness.sh"
 
-standards="$srcdir/../shared/standards"
+standards="${LT_SHARED_DIR:-$srcdir/../shared}/standards"
 xmllint=${XMLLINT:-$(command -v xmllint)}
 if [ ! -f "$standards/page-2019-07-15/pagecontent.xsd" ]; then
     echo "SKIP: $standards (the published PAGE and ALTO schemas) is absent"

@@ -14,7 +14,7 @@ test_timeout=600
 . "${top_srcdir:-.}/tests/harness.sh"
 
 corpus=${1:-$testdata/corpus}
-standards="$srcdir/../shared/standards"
+standards="${LT_SHARED_DIR:-$srcdir/../shared}/standards"
 xmllint=${XMLLINT:-$(command -v xmllint)}
 
 mkdir -p pred page alto
