@@ -2,10 +2,49 @@
 #include "cli.h"
 
 #include <signal.h>
+#include <stdio.h>
 #include <string.h>
+#include <sys/stat.h>
 #ifdef __GLIBC__
 #include <malloc.h>
 #endif
+
+static const char *const COMMANDS[] = {"score", "draw", "crop"};
+
+/* Edit distance of a and b with adjacent transpositions counting one (optimal string
+ * alignment, Damerau 1964), for words of at most 15 characters; larger for longer ones. */
+static int edit_distance(const char *a, const char *b)
+{
+    const size_t la = strlen(a), lb = strlen(b);
+    if (la > 15 || lb > 15) return 99;
+    int d[16][16];
+    for (size_t i = 0; i <= la; i++)
+        d[i][0] = (int)i;
+    for (size_t j = 0; j <= lb; j++)
+        d[0][j] = (int)j;
+    for (size_t i = 1; i <= la; i++)
+        for (size_t j = 1; j <= lb; j++) {
+            int best = d[i - 1][j - 1] + (a[i - 1] != b[j - 1]);
+            if (d[i - 1][j] + 1 < best) best = d[i - 1][j] + 1;
+            if (d[i][j - 1] + 1 < best) best = d[i][j - 1] + 1;
+            if (i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] &&
+                d[i - 2][j - 2] + 1 < best)
+                best = d[i - 2][j - 2] + 1;
+            d[i][j] = best;
+        }
+    return d[la][lb];
+}
+
+/* The subcommand `word` is a slip for (at most two edits away), or NULL: only for a first
+ * argument that names no file and looks like a word, not a path or an option. */
+static const char *mistyped_command(const char *word)
+{
+    struct stat st;
+    if (word[0] == '-' || strpbrk(word, "./") || stat(word, &st) == 0) return NULL;
+    for (size_t k = 0; k < sizeof COMMANDS / sizeof *COMMANDS; k++)
+        if (edit_distance(word, COMMANDS[k]) <= 2) return COMMANDS[k];
+    return NULL;
+}
 
 int main(int argc, char **argv)
 {
@@ -20,5 +59,10 @@ int main(int argc, char **argv)
     if (argc >= 2 && strcmp(argv[1], "score") == 0) return lt_cmd_score(argc - 1, argv + 1);
     if (argc >= 2 && strcmp(argv[1], "draw") == 0) return lt_cmd_draw(argc - 1, argv + 1);
     if (argc >= 2 && strcmp(argv[1], "crop") == 0) return lt_cmd_crop(argc - 1, argv + 1);
+    const char *meant = argc >= 2 ? mistyped_command(argv[1]) : NULL;
+    if (meant) {
+        fprintf(stderr, "lineate: unknown command '%s' (did you mean '%s'?)\n", argv[1], meant);
+        return 2;
+    }
     return lt_cmd_analyze(argc, argv);
 }

@@ -335,7 +335,13 @@ done <<'EOF'
 --max-pixels 0 in/good.png|--max-pixels
 |input
 --pretty|input
+scroe a b|unknown command 'scroe' (did you mean 'score'?)
+crpo in/good.png|did you mean 'crop'
 EOF
+: >drwa # a file named like a slip of a command is an input, not a command
+run drwa
+check "a file named 'drwa' is analysed as an input, not taken for 'draw'" \
+    test "$rc" -eq 1 -a "$(grep -c 'unknown command' err)" -eq 0
 $limit "$lineate" score --no-such-option a b >out 2>err
 check "score with an unknown option exits 2 and names it" \
     test "$?" -eq 2 -a ! -s out -a "$(grep -c -e '--no-such-option' err)" -ge 1
