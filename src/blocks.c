@@ -122,11 +122,9 @@ static lt_cut_node *node_new(const lt_box *boxes, const int *idx, int n)
 }
 
 typedef struct cut_context {
-    const lt_box *boxes;     /* the lines' boxes, then the obstacles' (pictures) */
-    int nreal;               /* number of lines */
-    double col_gap, row_gap; /* px */
-    const lt_box *rules;     /* vertical and horizontal rules */
-    int nrules;
+    const lt_box *boxes;       /* the lines' boxes, then the obstacles' (pictures) */
+    int nreal;                 /* number of lines */
+    double col_gap, row_gap;   /* px */
     const lt_separators *seps; /* may be NULL */
     double column_min_width;   /* px: narrowest column of text a gutter cut makes */
     int rtl;
@@ -141,8 +139,8 @@ typedef struct cut_context {
 static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *nb, int across,
                     int *cut_at)
 {
-    for (int r = 0; r < x->nrules; r++) {
-        const lt_box *rb = &x->rules[r];
+    for (int r = 0; x->seps && r < x->seps->nrules; r++) {
+        const lt_box *rb = &x->seps->rules[r];
         const int vertical = rb->bottom - rb->top > rb->right - rb->left;
         if (vertical != across) continue;
         const int lo = across ? nb->top : nb->left, hi = across ? nb->bottom : nb->right;
@@ -327,21 +325,17 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
     *root = NULL;
     if (lines->count == 0) return 0;
     const double th = text_height_px > 0 ? text_height_px : 20;
-    int nrules = 0, npictures = 0;
-    for (int i = 0; c && i < c->count; i++) {
-        nrules += c->items[i].kind == LT_COMP_RULE;
+    int npictures = 0;
+    for (int i = 0; c && i < c->count; i++)
         npictures += c->items[i].kind == LT_COMP_PICTURE;
-    }
     const int n = lines->count + npictures;
     int *idx = malloc((size_t)n * sizeof *idx);
     span *spans = malloc((size_t)n * sizeof *spans);
     lt_box *boxes = malloc((size_t)n * sizeof *boxes);
-    lt_box *rules = malloc(((size_t)nrules + 1) * sizeof *rules);
-    if (!idx || !spans || !boxes || !rules) {
+    if (!idx || !spans || !boxes) {
         free(idx);
         free(spans);
         free(boxes);
-        free(rules);
         return lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
     }
     /* Pictures take part in the cuts as obstacles, so that a figure breaking a column does
@@ -349,21 +343,18 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
     int k = 0;
     for (int i = 0; i < lines->count; i++)
         boxes[k++] = lines->items[i].box;
-    nrules = 0;
-    for (int i = 0; c && i < c->count; i++) {
-        if (c->items[i].kind == LT_COMP_RULE) rules[nrules++] = c->items[i].box;
+    for (int i = 0; c && i < c->count; i++)
         if (c->items[i].kind == LT_COMP_PICTURE) boxes[k++] = c->items[i].box;
-    }
     for (int i = 0; i < n; i++)
         idx[i] = i;
     const cut_context x = {
-        boxes, lines->count,          p->column_min_gap * th, p->block_min_gap * th, rules, nrules,
-        seps,  COLUMN_MIN_WIDTH * th, p->right_to_left,       lines->items,          spans};
+        boxes, lines->count,          p->column_min_gap * th, p->block_min_gap * th,
+        seps,  COLUMN_MIN_WIDTH * th, p->right_to_left,       lines->items,
+        spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);
     free(boxes);
-    free(rules);
     return *root ? 0 : lt_error_set(err, LT_ENOMEM, "blocks: out of memory");
 }
 

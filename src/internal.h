@@ -17,6 +17,16 @@ int lt_cmp_double(const void *a, const void *b);
  * smallest member, so results do not depend on the order of unions. */
 int lt_uf_find(int *parent, int i);
 void lt_uf_unite(int *parent, int a, int b);
+static inline int lt_box_width(const lt_box *b)
+{
+    return b->right - b->left;
+}
+
+static inline int lt_box_height(const lt_box *b)
+{
+    return b->bottom - b->top;
+}
+
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
 double lt_median(double *v, int n);
 /* Copies text into dst (size bytes with the NUL); text that does not fit loses a part of
@@ -154,8 +164,8 @@ typedef struct lt_cut_node {
     int nchildren;
 } lt_cut_node;
 
-/* `c` (may be NULL) supplies the rules and pictures, `seps` (may be NULL) the gutters that
- * separate columns. */
+/* `c` (may be NULL) supplies the pictures, `seps` (may be NULL) the rules and gutters that
+ * separate columns and blocks. */
 int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separators *seps,
               double text_height_px, const lt_params *p, lt_cut_node **root, lt_error *err);
 void lt_cut_node_free(lt_cut_node *n);

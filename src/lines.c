@@ -35,16 +35,6 @@ typedef struct index_grid {
     int *items; /* component indices, by cell */
 } index_grid;
 
-static int box_w(const lt_box *b)
-{
-    return b->right - b->left;
-}
-
-static int box_h(const lt_box *b)
-{
-    return b->bottom - b->top;
-}
-
 /* Grid of the components in `use` (by centroid) for neighbour queries. */
 static int grid_build(const lt_components *c, const uint8_t *use, double cell_px, index_grid *g)
 {
@@ -93,11 +83,11 @@ static void grid_free(index_grid *g)
 static int same_row(const lt_component *a, const lt_component *b)
 {
     const lt_box *small = &a->box, *large = &b->box;
-    if (box_h(small) > box_h(large)) {
+    if (lt_box_height(small) > lt_box_height(large)) {
         small = &b->box;
         large = &a->box;
     }
-    const int hmin = box_h(small), hmax = box_h(large);
+    const int hmin = lt_box_height(small), hmax = lt_box_height(large);
     if (hmax > 4 * hmin) return 0;
     if (10 * hmin <= 7 * hmax) {
         double cy = 0.5 * (small->top + small->bottom);
@@ -353,7 +343,7 @@ static int cut_across_gutters(const lt_components *c, const uint8_t *body, int *
         root_of[i] = lt_uf_find(parent, i);
         side_root[2 * i] = side_root[2 * i + 1] = -1;
         cut_x[i] = 0;
-        if (body[i] && root_of[i] == i && box_w(&boxes[i]) > 2 * th) {
+        if (body[i] && root_of[i] == i && lt_box_width(&boxes[i]) > 2 * th) {
             cut_x[i] = interrupted_gutter(seps, &boxes[i], th, CUT_REACH * th);
             ncut += cut_x[i] > 0;
         }
@@ -387,10 +377,10 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
     for (int a = 0; a < nr && nr <= 5000; a++) {
         const lt_box *g = &boxes[roots[a].index];
         const double cx = 0.5 * (g->left + g->right), cy = 0.5 * (g->top + g->bottom);
-        const int h = box_h(g);
+        const int h = lt_box_height(g);
         for (int b = 0; b < nr; b++) {
             const lt_box *host = &boxes[roots[b].index];
-            if (b == a || box_h(host) < 2 * h) continue;
+            if (b == a || lt_box_height(host) < 2 * h) continue;
             if (cx >= host->left && cx < host->right && cy >= host->top - 0.5 * h &&
                 cy < host->bottom) {
                 lt_uf_unite(parent, roots[a].index, roots[b].index);
@@ -418,7 +408,8 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
             const lt_box *bb = &boxes[roots[b].index];
             const int top = ba->top > bb->top ? ba->top : bb->top;
             const int bottom = ba->bottom < bb->bottom ? ba->bottom : bb->bottom;
-            const int hmin = box_h(ba) < box_h(bb) ? box_h(ba) : box_h(bb);
+            const int hmin =
+                lt_box_height(ba) < lt_box_height(bb) ? lt_box_height(ba) : lt_box_height(bb);
             if (2 * (bottom - top) < hmin) continue;
             if (!lt_link_blocked(seps, ba->right, bb->left, ba->top < bb->top ? ba->top : bb->top,
                                  ba->bottom > bb->bottom ? ba->bottom : bb->bottom))
@@ -451,7 +442,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
         if (k->kind == LT_COMP_TEXT) {
-            const int kh = box_h(&k->box), kw = box_w(&k->box);
+            const int kh = lt_box_height(&k->box), kw = lt_box_width(&k->box);
             if ((kh < MARK_HEIGHT * th && kw < th) || (kh < DASH_HEIGHT * th && kw < 3 * th))
                 mark[i] = 1;
             else

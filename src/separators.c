@@ -56,16 +56,6 @@ static const double MIN_DOT_AREA = 0.02; /* text heights squared: the smallest d
  * runs through the white before its page numbers). */
 static const double MAX_DOTS_PER_LINE = 0.3;
 
-static int box_w(const lt_box *b)
-{
-    return b->right - b->left;
-}
-
-static int box_h(const lt_box *b)
-{
-    return b->bottom - b->top;
-}
-
 /* Marks the cells of the page's text in occ (cols x rows, row-major): 3 for bodies (letters,
  * words), 2 for marks (punctuation, dots), 1 for specks the size of a small dot (a leader's
  * dots at low resolution, or noise: white may hold a few of them). Smaller specks, rules and
@@ -78,7 +68,7 @@ static void fill_occupancy(const lt_components *c, double th, double cell, int c
         const lt_box *b = &k->box;
         uint8_t v;
         if (k->kind == LT_COMP_TEXT)
-            v = box_h(b) >= 0.5 * th || box_w(b) >= th ? 3 : 2;
+            v = lt_box_height(b) >= 0.5 * th || lt_box_width(b) >= th ? 3 : 2;
         else if (k->kind == LT_COMP_SPECKLE && k->pixels >= fmax(3, MIN_DOT_AREA * th * th))
             v = 1;
         else
@@ -257,97 +247,30 @@ static int narrow_side(const uint8_t *occ, int cols, const lt_box *cellbox, int 
     return wide < NARROW_SHARE * lines;
 }
 
-/* Bounding boxes (pixels) of the 4-connected regions of the mask, by row runs and
- * union-find. */
-static int mask_regions(const uint8_t *mask, int cols, int rows, double cell, lt_box **boxes,
-                        int *count)
+/* Bounding boxes (pixels) of the connected regions of the mask (cols x rows cells of `cell`
+ * px), found by the components stage run on the mask as an ink image. */
+static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box **boxes, int *count)
 {
     *boxes = NULL;
     *count = 0;
-    /* runs of each row: start, end, label */
-    size_t cap = 1024, n = 0;
-    int *rx0 = malloc(cap * sizeof *rx0), *rx1 = malloc(cap * sizeof *rx1);
-    int *ry = malloc(cap * sizeof *ry);
-    int *row_first = malloc(((size_t)rows + 1) * sizeof *row_first);
-    int rc = LT_ENOMEM;
-    int *parent = NULL;
-    lt_box *out = NULL;
-    if (!rx0 || !rx1 || !ry || !row_first) goto done;
-    for (int y = 0; y < rows; y++) {
-        row_first[y] = (int)n;
-        const uint8_t *row = mask + (size_t)y * cols;
-        for (int x = 0; x < cols;) {
-            if (!row[x]) {
-                x++;
-                continue;
-            }
-            int e = x;
-            while (e < cols && row[e])
-                e++;
-            if (n == cap) {
-                cap *= 2;
-                int *a = realloc(rx0, cap * sizeof *a);
-                if (a) rx0 = a;
-                int *b = realloc(rx1, cap * sizeof *b);
-                if (b) rx1 = b;
-                int *d = realloc(ry, cap * sizeof *d);
-                if (d) ry = d;
-                if (!a || !b || !d) goto done;
-            }
-            rx0[n] = x;
-            rx1[n] = e;
-            ry[n] = y;
-            n++;
-            x = e;
-        }
+    const lt_image grid = {cols, rows, LT_IMAGE_INK, 0, 0, mask};
+    lt_components *regions = NULL;
+    lt_error ignored;
+    const int rc = lt_find_components(&grid, (long)cols * rows, &regions, &ignored);
+    if (rc) return rc;
+    *boxes = malloc(((size_t)regions->count + 1) * sizeof **boxes);
+    if (!*boxes) {
+        lt_components_free(regions);
+        return LT_ENOMEM;
     }
-    row_first[rows] = (int)n;
-    parent = malloc((n + 1) * sizeof *parent);
-    if (!parent) goto done;
-    for (size_t i = 0; i < n; i++)
-        parent[i] = (int)i;
-    for (int y = 1; y < rows; y++) /* runs overlapping a run of the row above */
-        for (int i = row_first[y], j = row_first[y - 1]; i < row_first[y + 1]; i++) {
-            while (j < row_first[y] && rx1[j] <= rx0[i])
-                j++;
-            for (int k = j; k < row_first[y] && rx0[k] < rx1[i]; k++)
-                lt_uf_unite(parent, i, k);
-        }
-    out = malloc((n + 1) * sizeof *out);
-    int *slot = malloc((n + 1) * sizeof *slot);
-    if (!out || !slot) {
-        free(slot);
-        goto done;
+    for (int k = 0; k < regions->count; k++) {
+        const lt_box *b = &regions->items[k].box;
+        (*boxes)[k] = (lt_box){(int)(b->left * cell), (int)(b->top * cell),
+                               (int)ceil(b->right * cell), (int)ceil(b->bottom * cell)};
     }
-    int m = 0;
-    for (size_t i = 0; i < n; i++) {
-        const int r = lt_uf_find(parent, (int)i);
-        const lt_box b = {(int)(rx0[i] * cell), (int)(ry[i] * cell), (int)ceil(rx1[i] * cell),
-                          (int)ceil((ry[i] + 1) * cell)};
-        if (r == (int)i) {
-            slot[i] = m;
-            out[m++] = b;
-            continue;
-        }
-        lt_box *o = &out[slot[r]];
-        if (b.left < o->left) o->left = b.left;
-        if (b.top < o->top) o->top = b.top;
-        if (b.right > o->right) o->right = b.right;
-        if (b.bottom > o->bottom) o->bottom = b.bottom;
-    }
-    free(slot);
-    *boxes = out;
-    *count = m;
-    out = NULL;
-    rc = 0;
-done:
-    free(rx0);
-    free(rx1);
-    free(ry);
-    free(row_first);
-    free(parent);
-    free(out);
-    return rc;
+    *count = regions->count;
+    lt_components_free(regions);
+    return 0;
 }
 
 /* A summed-area table ((cols+1) x (rows+1)) of the cells of grid (cols x rows) holding at
@@ -459,8 +382,8 @@ static int rule_between(const lt_separators *s, double x0, double x1, double y0,
 {
     for (int r = 0; r < s->nrules; r++) {
         const lt_box *b = &s->rules[r];
-        if (box_h(b) > box_w(b) && b->left >= x0 - 1 && b->right <= x1 + 1 && b->top < y1 &&
-            b->bottom > y0)
+        if (lt_box_height(b) > lt_box_width(b) && b->left >= x0 - 1 && b->right <= x1 + 1 &&
+            b->top < y1 && b->bottom > y0)
             return 1;
     }
     return 0;

@@ -70,9 +70,9 @@ static void check_page(const page *p, uint64_t seed, const char *what)
     lt_component comp[MAX_LINES];
     for (int i = 0; i < p->n; i++) {
         const lt_box *b = &p->lines[i].box;
-        comp[i] = (lt_component){*b, (long)(b->right - b->left) * (b->bottom - b->top),
-                                 0.5 * (b->left + b->right), 0.5 * (b->top + b->bottom),
-                                 LT_COMP_TEXT};
+        comp[i] =
+            (lt_component){*b, (long)(b->right - b->left) * (b->bottom - b->top),
+                           0.5 * (b->left + b->right), 0.5 * (b->top + b->bottom), LT_COMP_TEXT};
     }
     const lt_components comps = {comp, p->n};
     lt_separators *seps = NULL;
@@ -309,7 +309,9 @@ static void roles_of_lines(const page *p, lt_components *comps, const int *want,
     lt_error err = {0};
     lt_cut_node *root = NULL;
     lt_arrangement *arr = NULL;
-    if (lt_xy_cut(&raw, comps, NULL, TH, &prm, &root, &err) ||
+    lt_separators *seps = NULL; /* the rules among comps (none without them) */
+    if ((comps && lt_find_separators(comps, TH, &seps, &err)) ||
+        lt_xy_cut(&raw, comps, seps, TH, &prm, &root, &err) ||
         lt_arrange(root, &raw, comps, TH, &prm, p->lines[p->n - 1].box.bottom + 150, &arr, &err)) {
         tu_fail("%s: %s", what, err.message);
     } else {
@@ -319,6 +321,7 @@ static void roles_of_lines(const page *p, lt_components *comps, const int *want,
     }
     lt_arrangement_free(arr);
     lt_cut_node_free(root);
+    lt_separators_free(seps);
 }
 
 /* The rule that opens footnotes is short against the block under it: two columns, the left
