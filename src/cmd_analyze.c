@@ -6,7 +6,6 @@
 #include "cli.h"
 
 #include <errno.h>
-#include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -31,13 +30,21 @@ static const char usage_text[] =
     "      --format FORMAT   json (the default), page (PAGE XML) or alto (ALTO 4.4): one\n"
     "                        document per page; files NAME.json, NAME.page.xml, NAME.alto.xml\n"
     LT_CLI_ANALYSIS_HELP
-    "  -h, --help            show this help and exit\n"
-    "  -V, --version         show the version and exit\n"
+    LT_CLI_HELP_VERSION_HELP
     "\n"
+    "Each command takes --help: lineate score --help, lineate draw --help, lineate crop --help.\n"
     "Exit status: 0 all pages analysed, 1 some input failed (the others are written),\n"
     "2 bad command line, 3 the output could not be written.\n";
 
 enum { OPT_PRETTY = 256, OPT_OUT_DIR, OPT_RESUME, OPT_FORMAT };
+
+static const lt_cli_option analyze_options[] = {{"output", 'o', 1},
+                                                {"pretty", OPT_PRETTY, 0},
+                                                {"out-dir", OPT_OUT_DIR, 1},
+                                                {"resume", OPT_RESUME, 0},
+                                                {"format", OPT_FORMAT, 1},
+                                                {NULL, 0, 0}};
+static const lt_cli_command analyze_command = {"lineate", usage_text, analyze_options};
 
 /* The time written into PAGE metadata: SOURCE_DATE_EPOCH when set (reproducible output, as
  * the reproducible-builds convention has it), else now. */
@@ -52,70 +59,40 @@ static long long creation_time(void)
 
 int lt_cmd_analyze(int argc, char **argv)
 {
-    static const struct option longopts[] = {
-        {"output", required_argument, NULL, 'o'},
-        {"pretty", no_argument, NULL, OPT_PRETTY},
-        {"out-dir", required_argument, NULL, OPT_OUT_DIR},
-        {"resume", no_argument, NULL, OPT_RESUME},
-        {"format", required_argument, NULL, OPT_FORMAT},
-        LT_CLI_ANALYSIS_LONGOPTS,
-        {"help", no_argument, NULL, 'h'},
-        {"version", no_argument, NULL, 'V'},
-        {NULL, 0, NULL, 0}};
     lt_cli_analysis an;
     lt_cli_analysis_default(&an);
-    const char *output = NULL, *out_dir = NULL;
-    int pretty = 0, resume = 0, format = LT_OUTPUT_JSON, c, taken;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":o:j:hV", longopts, NULL)) != -1) {
-        if ((taken = lt_cli_analysis_option(&an, c, optarg, "lineate: "))) {
-            if (taken < 0) return LT_EXIT_USAGE;
-            continue;
-        }
+    const char *output = NULL, *out_dir = NULL, *arg;
+    int pretty = 0, resume = 0, format = LT_OUTPUT_JSON, c;
+    lt_cli_parser p;
+    lt_cli_begin(&p, &analyze_command, &an, argc, argv);
+    while ((c = lt_cli_next(&p, &arg)) > 0) {
         switch (c) {
-        case 'o': output = optarg; break;
-        case OPT_OUT_DIR: out_dir = optarg; break;
+        case 'o': output = arg; break;
+        case OPT_OUT_DIR: out_dir = arg; break;
         case OPT_RESUME: resume = 1; break;
         case OPT_PRETTY: pretty = 1; break;
         case OPT_FORMAT:
-            if (strcmp(optarg, "json") == 0)
+            if (strcmp(arg, "json") == 0)
                 format = LT_OUTPUT_JSON;
-            else if (strcmp(optarg, "page") == 0)
+            else if (strcmp(arg, "page") == 0)
                 format = LT_OUTPUT_PAGE;
-            else if (strcmp(optarg, "alto") == 0)
+            else if (strcmp(arg, "alto") == 0)
                 format = LT_OUTPUT_ALTO;
-            else {
-                fprintf(stderr, "lineate: --format: '%s' is not json, page or alto\n", optarg);
-                return LT_EXIT_USAGE;
-            }
+            else
+                return lt_cli_usage_error(&analyze_command,
+                                          "--format: '%s' is not json, page or alto", arg);
             break;
-        case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;
-        case 'V': printf("lineate %s\n", lt_version()); return LT_EXIT_OK;
-        case ':':
-            fprintf(stderr, "lineate: option '%s' needs a value (see lineate --help)\n",
-                    argv[optind - 1]);
-            return LT_EXIT_USAGE;
-        default:
-            fprintf(stderr, "lineate: unknown option '%s' (see lineate --help)\n",
-                    argv[optind - 1]);
-            return LT_EXIT_USAGE;
         }
     }
-    if (optind >= argc && !an.from) {
-        fprintf(stderr, "lineate: no input image (see lineate --help)\n");
-        return LT_EXIT_USAGE;
-    }
-    if (out_dir && output) {
-        fprintf(stderr, "lineate: -o and --out-dir exclude each other (see lineate --help)\n");
-        return LT_EXIT_USAGE;
-    }
-    if (resume && !out_dir) {
-        fprintf(stderr, "lineate: --resume needs --out-dir (see lineate --help)\n");
-        return LT_EXIT_USAGE;
-    }
+    if (c < 0) return p.status;
+    const int first = p.operands;
+    if (first >= argc && !an.from) return lt_cli_usage_error(&analyze_command, "no input image");
+    if (out_dir && output)
+        return lt_cli_usage_error(&analyze_command, "-o and --out-dir exclude each other");
+    if (resume && !out_dir) return lt_cli_usage_error(&analyze_command, "--resume needs --out-dir");
     lt_inputs inputs = {0};
     int status = LT_EXIT_OK;
-    for (int i = optind; i < argc; i++)
+    for (int i = first; i < argc; i++)
         if (lt_inputs_add_arg(&inputs, argv[i])) status = LT_EXIT_FAILED;
     if (an.from && lt_inputs_add_list(&inputs, an.from)) status = LT_EXIT_FAILED;
     if (out_dir && lt_inputs_check_out_names(&inputs, out_dir,

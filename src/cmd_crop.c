@@ -14,7 +14,6 @@
 
 #include <cjson/cJSON.h>
 #include <errno.h>
-#include <getopt.h>
 #include <math.h>
 #include <png.h>
 #include <stdatomic.h>
@@ -49,13 +48,23 @@ static const char usage_text[] =
     "      --binary          black and white crops from Sauvola binarization of the page\n"
     "      --margin PX       grow every crop by PX pixels (default: 0.25 x-height, >= 2)\n"
     LT_CLI_ANALYSIS_HELP
-    "  -h, --help            show this help and exit\n"
+    LT_CLI_HELP_VERSION_HELP
     "\n"
     "Exit status: 0 every page cropped, 1 some input failed (the others are written),\n"
     "2 bad command line, 3 DIR or a file in it could not be written.\n";
 /* clang-format on */
 
 enum { OPT_OUT_DIR = 256, OPT_RESUME, OPT_LAYOUT, OPT_RECTIFY, OPT_BINARY, OPT_MARGIN };
+
+static const lt_cli_option crop_options_list[] = {{"out-dir", OPT_OUT_DIR, 1},
+                                                  {"resume", OPT_RESUME, 0},
+                                                  {"layout", OPT_LAYOUT, 1},
+                                                  {"rectify", OPT_RECTIFY, 0},
+                                                  {"binary", OPT_BINARY, 0},
+                                                  {"margin", OPT_MARGIN, 1},
+                                                  {NULL, 0, 0}};
+static const lt_cli_command crop_command = {"lineate crop", usage_text, crop_options_list};
+#define PREFIX "lineate crop: "
 
 typedef struct crop_options {
     const char *out_dir;
@@ -629,73 +638,43 @@ static int page_manifest_complete(void *ctx, const char *content)
 /* ---- the command ---------------------------------------------------------------------- */
 
 /* Parses the command line into `opt` and `in`; 0, or the exit status to stop with (-1:
- * --help was shown). An argument that lists no input (a folder without images or that cannot
- * be read) is reported on stderr and makes the exit status 1 (*status). */
+ * --help or --version was shown). An argument that lists no input (a folder without images or
+ * that cannot be read) is reported on stderr and makes the exit status 1 (*status). */
 static int parse_args(int argc, char **argv, crop_options *opt, lt_inputs *in, int *status)
 {
-    static const struct option longopts[] = {{"out-dir", required_argument, NULL, OPT_OUT_DIR},
-                                             {"resume", no_argument, NULL, OPT_RESUME},
-                                             {"layout", required_argument, NULL, OPT_LAYOUT},
-                                             {"rectify", no_argument, NULL, OPT_RECTIFY},
-                                             {"binary", no_argument, NULL, OPT_BINARY},
-                                             {"margin", required_argument, NULL, OPT_MARGIN},
-                                             LT_CLI_ANALYSIS_LONGOPTS,
-                                             {"help", no_argument, NULL, 'h'},
-                                             {NULL, 0, NULL, 0}};
+    lt_cli_parser p;
+    const char *arg;
     double v;
-    int c, taken;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":j:h", longopts, NULL)) != -1) {
-        if ((taken = lt_cli_analysis_option(&opt->an, c, optarg, "lineate: "))) {
-            if (taken < 0) return LT_EXIT_USAGE;
-            continue;
-        }
+    int c;
+    lt_cli_begin(&p, &crop_command, &opt->an, argc, argv);
+    while ((c = lt_cli_next(&p, &arg)) > 0) {
         switch (c) {
-        case OPT_OUT_DIR: opt->out_dir = optarg; break;
+        case OPT_OUT_DIR: opt->out_dir = arg; break;
         case OPT_RESUME: opt->resume = 1; break;
-        case OPT_LAYOUT: opt->layout_path = optarg; break;
+        case OPT_LAYOUT: opt->layout_path = arg; break;
         case OPT_RECTIFY: opt->rectify = 1; break;
         case OPT_BINARY: opt->binary = 1; break;
         case OPT_MARGIN:
-            if (lt_cli_number("lineate: ", "--margin", optarg, 0, MAX_MARGIN_PX, &v))
+            if (lt_cli_number(&crop_command, "--margin", arg, 0, MAX_MARGIN_PX, 1, &v))
                 return LT_EXIT_USAGE;
-            if (v != floor(v)) {
-                fprintf(stderr, "lineate: --margin: '%s' is not a whole number of pixels\n",
-                        optarg);
-                return LT_EXIT_USAGE;
-            }
             opt->margin_px = (int)v;
             break;
-        case 'h': fputs(usage_text, stdout); return -1;
-        case ':':
-            fprintf(stderr, "lineate: option '%s' needs a value (see lineate crop --help)\n",
-                    argv[optind - 1]);
-            return LT_EXIT_USAGE;
-        default:
-            fprintf(stderr, "lineate: unknown option '%s' (see lineate crop --help)\n",
-                    argv[optind - 1]);
-            return LT_EXIT_USAGE;
         }
     }
-    if (optind >= argc && !opt->an.from) {
-        fprintf(stderr, "lineate: crop: no input image (see lineate crop --help)\n");
-        return LT_EXIT_USAGE;
-    }
-    if (!opt->out_dir || !*opt->out_dir) {
-        fprintf(stderr, "lineate: crop: --out-dir DIR is required (see lineate crop --help)\n");
-        return LT_EXIT_USAGE;
-    }
+    if (c < 0) return p.status == LT_EXIT_OK ? -1 : p.status;
+    if (p.operands >= argc && !opt->an.from)
+        return lt_cli_usage_error(&crop_command, "no input image");
+    if (!opt->out_dir || !*opt->out_dir)
+        return lt_cli_usage_error(&crop_command, "--out-dir DIR is required");
     int stdin_inputs = opt->an.from && strcmp(opt->an.from, "-") == 0;
-    for (int i = optind; i < argc; i++) {
+    for (int i = p.operands; i < argc; i++) {
         stdin_inputs |= strcmp(argv[i], "-") == 0;
         if (lt_inputs_add_arg(in, argv[i])) *status = LT_EXIT_FAILED;
     }
     if (opt->an.from && lt_inputs_add_list(in, opt->an.from)) *status = LT_EXIT_FAILED;
-    if (opt->layout_path && strcmp(opt->layout_path, "-") == 0 && stdin_inputs) {
-        fprintf(stderr, "lineate: crop: --layout - and an input from standard input exclude "
-                        "each other\n");
-        return LT_EXIT_USAGE;
-    }
+    if (opt->layout_path && strcmp(opt->layout_path, "-") == 0 && stdin_inputs)
+        return lt_cli_usage_error(&crop_command,
+                                  "--layout - and an input from standard input exclude each other");
     if (lt_inputs_check_out_names(in, opt->out_dir, "." PAGE_MANIFEST_SUFFIX)) return LT_EXIT_USAGE;
     return 0;
 }
@@ -725,25 +704,25 @@ int lt_cmd_crop(int argc, char **argv)
     }
     lt_error err = {0};
     if (opt.layout_path && lt_layout_file_read(opt.layout_path, &opt.layouts, &err)) {
-        fprintf(stderr, "lineate: %s\n", err.message);
+        fprintf(stderr, PREFIX "%s\n", err.message);
         status = LT_EXIT_FAILED;
         goto done;
     }
     manifest = join_path(opt.out_dir, MANIFEST_NAME);
     manifest_tmp = manifest ? join_path(opt.out_dir, MANIFEST_NAME ".tmp") : NULL;
     if (!manifest_tmp) {
-        fprintf(stderr, "lineate: out of memory\n");
+        fprintf(stderr, PREFIX "out of memory\n");
         status = LT_EXIT_OUTPUT;
         goto done;
     }
     if (mkdir(opt.out_dir, 0777) != 0 && errno != EEXIST) {
-        fprintf(stderr, "lineate: %s: %s\n", opt.out_dir, strerror(errno));
+        fprintf(stderr, PREFIX "%s: %s\n", opt.out_dir, strerror(errno));
         status = LT_EXIT_OUTPUT;
         goto done;
     }
     FILE *out = fopen(manifest_tmp, "wb");
     if (!out) {
-        fprintf(stderr, "lineate: %s: cannot write: %s\n", opt.out_dir, strerror(errno));
+        fprintf(stderr, PREFIX "%s: cannot write: %s\n", opt.out_dir, strerror(errno));
         status = LT_EXIT_OUTPUT;
         goto done;
     }
@@ -772,7 +751,7 @@ int lt_cmd_crop(int argc, char **argv)
     if (fclose(out) != 0) write_failed = 1;
     if (!write_failed && rename(manifest_tmp, manifest) != 0) write_failed = 1;
     if (write_failed) {
-        fprintf(stderr, "lineate: %s: not written: %s\n", manifest,
+        fprintf(stderr, PREFIX "%s: not written: %s\n", manifest,
                 errno ? strerror(errno) : "an output file could not be written");
         remove(manifest_tmp);
     }

@@ -9,7 +9,6 @@
 
 #include <cjson/cJSON.h>
 #include <errno.h>
-#include <getopt.h>
 #include <math.h>
 #include <png.h>
 #include <setjmp.h>
@@ -35,12 +34,19 @@ static const char usage_text[] =
     "      --scale F         picture size / page size, 0.1 to 1 (default 0.5 for pages wider\n"
     "                        than 2000 pixels, else 1)\n"
     "      --no-order        leave out the reading-order arrows and line numbers\n"
-    "  -h, --help            show this help and exit\n"
+    LT_CLI_HELP_VERSION_HELP
     "\n"
     "Exit status: 0 picture written, 1 an input could not be read, 2 bad command line,\n"
     "3 the picture could not be written.\n";
 
 enum { OPT_PAGE = 256, OPT_SCALE, OPT_NO_ORDER };
+
+static const lt_cli_option draw_options[] = {{"output", 'o', 1},
+                                             {"page", OPT_PAGE, 1},
+                                             {"scale", OPT_SCALE, 1},
+                                             {"no-order", OPT_NO_ORDER, 0},
+                                             {NULL, 0, 0}};
+static const lt_cli_command draw_command = {"lineate draw", usage_text, draw_options};
 
 /* ---- layout JSON -> lt_draw_layout ------------------------------------------------------- */
 
@@ -328,58 +334,37 @@ static int write_output(const char *path, const lt_canvas *c, double dpi)
 
 int lt_cmd_draw(int argc, char **argv)
 {
-    static const struct option longopts[] = {{"output", required_argument, NULL, 'o'},
-                                             {"page", required_argument, NULL, OPT_PAGE},
-                                             {"scale", required_argument, NULL, OPT_SCALE},
-                                             {"no-order", no_argument, NULL, OPT_NO_ORDER},
-                                             {"help", no_argument, NULL, 'h'},
-                                             {NULL, 0, NULL, 0}};
-    const char *output = NULL;
+    const char *output = NULL, *arg;
     double page_d = 1, scale = 0;
     int show_order = 1, c;
-    opterr = 0;
-    optind = 1;
-    while ((c = getopt_long(argc, argv, ":o:h", longopts, NULL)) != -1) {
+    lt_cli_parser p;
+    lt_cli_begin(&p, &draw_command, NULL, argc, argv);
+    while ((c = lt_cli_next(&p, &arg)) > 0) {
         switch (c) {
-        case 'o': output = optarg; break;
+        case 'o': output = arg; break;
         case OPT_PAGE:
-            if (lt_cli_number(PREFIX, "--page", optarg, 1, LT_DEFAULT_MAX_PAGES, &page_d) ||
-                page_d != floor(page_d)) {
-                if (page_d != floor(page_d))
-                    fprintf(stderr, PREFIX "--page: '%s' is not a whole number\n", optarg);
+            if (lt_cli_number(&draw_command, "--page", arg, 1, LT_DEFAULT_MAX_PAGES, 1, &page_d))
                 return LT_EXIT_USAGE;
-            }
             break;
         case OPT_SCALE:
-            if (lt_cli_number(PREFIX, "--scale", optarg, 0.1, 1, &scale)) return LT_EXIT_USAGE;
+            if (lt_cli_number(&draw_command, "--scale", arg, 0.1, 1, 0, &scale))
+                return LT_EXIT_USAGE;
             break;
         case OPT_NO_ORDER: show_order = 0; break;
-        case 'h': fputs(usage_text, stdout); return LT_EXIT_OK;
-        case ':':
-            fprintf(stderr, PREFIX "option '%s' needs a value (see lineate draw --help)\n",
-                    argv[optind - 1]);
-            return LT_EXIT_USAGE;
-        default:
-            fprintf(stderr, PREFIX "unknown option '%s' (see lineate draw --help)\n",
-                    argv[optind - 1]);
-            return LT_EXIT_USAGE;
         }
     }
-    int nargs = argc - optind;
-    if (nargs < 1 || nargs > 2) {
-        fprintf(stderr, PREFIX "%s (see lineate draw --help)\n",
-                nargs < 1 ? "no input image" : "more than one image and one layout given");
-        return LT_EXIT_USAGE;
-    }
-    if (!output) {
-        fprintf(stderr, PREFIX "no output file: give -o OUT.png (see lineate draw --help)\n");
-        return LT_EXIT_USAGE;
-    }
-    const char *image_path = argv[optind], *layout_path = nargs == 2 ? argv[optind + 1] : NULL;
-    if (layout_path && strcmp(image_path, "-") == 0 && strcmp(layout_path, "-") == 0) {
-        fprintf(stderr, PREFIX "the image and the layout cannot both be standard input\n");
-        return LT_EXIT_USAGE;
-    }
+    if (c < 0) return p.status;
+    const int nargs = argc - p.operands;
+    if (nargs < 1 || nargs > 2)
+        return lt_cli_usage_error(&draw_command, "%s",
+                                  nargs < 1 ? "no input image"
+                                            : "more than one image and one layout given");
+    if (!output) return lt_cli_usage_error(&draw_command, "no output file: give -o OUT.png");
+    const char *image_path = argv[p.operands];
+    const char *layout_path = nargs == 2 ? argv[p.operands + 1] : NULL;
+    if (layout_path && strcmp(image_path, "-") == 0 && strcmp(layout_path, "-") == 0)
+        return lt_cli_usage_error(&draw_command,
+                                  "the image and the layout cannot both be standard input");
     const int page = (int)page_d;
 
     lt_error err = {0};

@@ -61,7 +61,7 @@
  *   Fractions are rounded to 6 decimals.
  *
  * Exit status: 0 when scoring ran (whatever the scores), 1 when a file could not be read
- * (message "lineate: FILE: reason" on stderr), 2 on a bad command line, 3 when the output
+ * (message "lineate score: FILE: reason" on stderr), 2 on a bad command line, 3 when the output
  * could not be written. */
 #include "cli.h"
 #include "score.h"
@@ -75,7 +75,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#define USAGE "usage: lineate score [--json] [--per-page] [--match box|ink [--images DIR]] TRUTH PRED"
+#define PREFIX "lineate score: "
 
 enum { ST_SCORED = 0, ST_MISSING, ST_FAILED, ST_UNREADABLE, ST_SKIPPED };
 static const char *const status_names[] = {"scored", "missing", "failed", "unreadable", "skipped"};
@@ -284,7 +284,7 @@ static int score_pages(results *r, const char *name, const lt_scored_page *truth
         e->columns = t->columns;
         if (status == ST_SKIPPED) continue;
         if (pred && !p->failed && (p->width != t->width || p->height != t->height))
-            fprintf(stderr, "lineate: warning: %s: predicted page is %dx%d, truth %dx%d\n", e->name,
+            fprintf(stderr, PREFIX "warning: %s: predicted page is %dx%d, truth %dx%d\n", e->name,
                     p->width, p->height, t->width, t->height);
         lt_error why = {0};
         lt_ink_table *ink = NULL;
@@ -704,7 +704,7 @@ static int run_files(const char *truth_path, const char *pred_path, results *r)
     lt_scored_pages_free(tp, nt);
     lt_scored_pages_free(pp, np);
     if (rc) {
-        fprintf(stderr, "lineate: %s\n", err.message);
+        fprintf(stderr, PREFIX "%s\n", err.message);
         r->read_failures++;
         return rc;
     }
@@ -748,13 +748,13 @@ static int list_tree(const char *top, const char *rel, int depth, const char *co
     char *dir = *rel ? join_path(top, rel) : strdup(top);
     if (!dir) goto oom_nodir;
     if (depth > MAX_FOLDER_DEPTH) {
-        fprintf(stderr, "lineate: %s: folders nested too deep\n", dir);
+        fprintf(stderr, PREFIX "%s: folders nested too deep\n", dir);
         free(dir);
         return -1;
     }
     DIR *d = opendir(dir);
     if (!d) {
-        fprintf(stderr, "lineate: %s: cannot open the folder: %s\n", dir, strerror(errno));
+        fprintf(stderr, PREFIX "%s: cannot open the folder: %s\n", dir, strerror(errno));
         free(dir);
         return -1;
     }
@@ -809,7 +809,7 @@ oom:
     closedir(d);
     free(dir);
 oom_nodir:
-    fprintf(stderr, "lineate: out of memory\n");
+    fprintf(stderr, PREFIX "out of memory\n");
     return -1;
 }
 
@@ -867,7 +867,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
         if (list_dir(truth_dir, own_suffix, 5, &names)) return LT_EIO;
     }
     if (names.count == 0) {
-        fprintf(stderr, "lineate: %s: no *.gt.json, *.json or *.xml files in the folder\n",
+        fprintf(stderr, PREFIX "%s: no *.gt.json, *.json or *.xml files in the folder\n",
                 truth_dir);
         names_free(&names);
         return LT_EIO;
@@ -877,12 +877,12 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
         const char *stem = names.items[i];
         char *tpath = join_path(truth_dir, item_file(stem));
         if (!tpath) {
-            fprintf(stderr, "lineate: out of memory\n");
+            fprintf(stderr, PREFIX "out of memory\n");
             rc = LT_ENOMEM;
             break;
         }
         if (i > 0 && strcmp(names.items[i - 1], stem) == 0) {
-            fprintf(stderr, "lineate: %s: another truth file has the same name, ignored\n", tpath);
+            fprintf(stderr, PREFIX "%s: another truth file has the same name, ignored\n", tpath);
             r->read_failures++;
             free(tpath);
             continue;
@@ -892,7 +892,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
         int nt = 0, np = 0;
         r->truth_path = tpath;
         if (lt_scored_pages_read(tpath, &tp, &nt, &err)) {
-            fprintf(stderr, "lineate: %s\n", err.message);
+            fprintf(stderr, PREFIX "%s\n", err.message);
             r->read_failures++;
             free(tpath);
             continue;
@@ -909,7 +909,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
                 prc = lt_error_set(&err, LT_EPARSE, "%s: %d page%s, but %s has %d", ppath, np,
                                    np == 1 ? "" : "s", tpath, nt);
             if (prc) {
-                fprintf(stderr, "lineate: %s\n", err.message);
+                fprintf(stderr, PREFIX "%s\n", err.message);
                 r->read_failures++;
                 memset(&err, 0, sizeof err);
                 rc = score_pages(r, stem, tp, nt, NULL, ST_UNREADABLE, nt > 1, &err);
@@ -917,7 +917,7 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
                 rc = score_pages(r, stem, tp, nt, pp, ST_SCORED, nt > 1, &err);
             }
         }
-        if (rc && err.code) fprintf(stderr, "lineate: %s\n", err.message);
+        if (rc && err.code) fprintf(stderr, PREFIX "%s\n", err.message);
         lt_scored_pages_free(tp, nt);
         lt_scored_pages_free(pp, np);
         free(ppath);
@@ -930,99 +930,76 @@ static int run_dirs(const char *truth_dir, const char *pred_dir, results *r)
 
 /* ---- entry point ------------------------------------------------------------------------- */
 
-static void usage_error(const char *fmt, const char *arg)
-{
-    fputs("lineate score: ", stderr);
-    fprintf(stderr, fmt, arg);
-    fputs("\n" USAGE " (see lineate score --help)\n", stderr);
-}
+/* clang-format off */
+static const char usage_text[] =
+    "Usage: lineate score [OPTIONS] TRUTH PRED\n"
+    "Compare predicted text lines with ground truth.\n"
+    "\n"
+    "TRUTH and PRED are two files (pages paired in order; '-' reads standard input)\n"
+    "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, .jsonl,\n"
+    ".gt.json, .page.xml, .alto.xml or .xml; without *.gt.json files, TRUTH/NAME\n"
+    "in lineate's JSON, PAGE XML or ALTO). Files hold lineate JSON, corpus ground\n"
+    "truth, PAGE XML or ALTO (lines from polygons or positions, order from\n"
+    "ReadingOrder where present, else document order).\n"
+    "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
+    "decreasing IoU); reading order is Kendall's tau-a over matched lines, and\n"
+    "the order of every truth line placed at the prediction covering most of it\n"
+    "(at least 25%): the share of lines out of place (1 - longest increasing\n"
+    "subsequence / lines covered), backward steps, and lines no prediction covers.\n"
+    "\n"
+    "Options:\n"
+    "      --per-page        also print one row per page\n"
+    "      --match MODE      box (the default): match lines on the areas of their boxes;\n"
+    "                        ink: on the ink their boxes hold in the truth's page image\n"
+    "                        (IoU of ink pixels), for truth drawn loosely around the text\n"
+    "      --images DIR      with --match ink: the page images are DIR/NAME (NAME the\n"
+    "                        truth's image file name); default: beside the truth file\n"
+    "      --json            print the results as one JSON object\n"
+    LT_CLI_HELP_VERSION_HELP
+    "\n"
+    "Exit status: 0 scored, 1 a file could not be read, 2 bad command line,\n"
+    "3 the output could not be written.\n";
+/* clang-format on */
 
-static void print_help(void)
-{
-    fputs(USAGE "\n"
-                "Compare predicted text lines with ground truth.\n"
-                "\n"
-                "TRUTH and PRED are two files (pages paired in order; '-' reads standard input)\n"
-                "or two folders (TRUTH/NAME.gt.json paired with PRED/NAME.json, .jsonl,\n"
-                ".gt.json, .page.xml, .alto.xml or .xml; without *.gt.json files, TRUTH/NAME\n"
-                "in lineate's JSON, PAGE XML or ALTO). Files hold lineate JSON, corpus ground\n"
-                "truth, PAGE XML or ALTO (lines from polygons or positions, order from\n"
-                "ReadingOrder where present, else document order).\n"
-                "Lines match one to one by intersection over union (IoU >= 0.5, greedy by\n"
-                "decreasing IoU); reading order is Kendall's tau-a over matched lines, and\n"
-                "the order of every truth line placed at the prediction covering most of it\n"
-                "(at least 25%): the share of lines out of place (1 - longest increasing\n"
-                "subsequence / lines covered), backward steps, and lines no prediction covers.\n"
-                "\n"
-                "  --per-page   also print one row per page\n"
-                "  --match ink  match lines on the ink their boxes hold in the truth's page\n"
-                "               image (IoU of ink pixels), not on box areas; for truth\n"
-                "               drawn loosely around the text (--match box: the default)\n"
-                "  --images DIR with --match ink: the page images are DIR/NAME (NAME the\n"
-                "               truth's image file name); default: beside the truth file\n"
-                "  --json       print the results as one JSON object\n"
-                "  --help       print this help and exit\n"
-                "\n"
-                "Exit status: 0 scored, 1 a file could not be read, 2 bad command line,\n"
-                "3 the output could not be written.\n",
-          stdout);
-}
+enum { OPT_JSON = 256, OPT_PER_PAGE, OPT_MATCH, OPT_IMAGES };
+
+static const lt_cli_option score_options[] = {{"json", OPT_JSON, 0},
+                                              {"per-page", OPT_PER_PAGE, 0},
+                                              {"match", OPT_MATCH, 1},
+                                              {"images", OPT_IMAGES, 1},
+                                              {NULL, 0, 0}};
+static const lt_cli_command score_command = {"lineate score", usage_text, score_options};
 
 int lt_cmd_score(int argc, char **argv)
 {
-    int json = 0, per_page = 0, npos = 0, opts_done = 0, match_ink = 0;
-    const char *pos[2] = {NULL, NULL}, *images = NULL;
-    for (int i = 1; i < argc; i++) {
-        const char *a = argv[i];
-        if (!opts_done && a[0] == '-' && a[1] != '\0') {
-            if (strcmp(a, "--") == 0)
-                opts_done = 1;
-            else if (strcmp(a, "--json") == 0)
-                json = 1;
-            else if (strcmp(a, "--per-page") == 0)
-                per_page = 1;
-            else if (strcmp(a, "--match") == 0 || strcmp(a, "--images") == 0) {
-                if (i + 1 >= argc) {
-                    usage_error("option '%s' needs a value", a);
-                    return LT_EXIT_USAGE;
-                }
-                const char *v = argv[++i];
-                if (a[2] == 'i') {
-                    images = v;
-                } else if (strcmp(v, "box") == 0 || strcmp(v, "ink") == 0) {
-                    match_ink = v[0] == 'i';
-                } else {
-                    usage_error("--match: '%s' is not box or ink", v);
-                    return LT_EXIT_USAGE;
-                }
-            }
-            else if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) {
-                print_help();
-                return fflush(stdout) == 0 && !ferror(stdout) ? LT_EXIT_OK : LT_EXIT_OUTPUT;
-            } else {
-                usage_error("unknown option '%s'", a);
-                return LT_EXIT_USAGE;
-            }
-            continue;
+    int json = 0, per_page = 0, match_ink = 0, c;
+    const char *images = NULL, *arg;
+    lt_cli_parser p;
+    lt_cli_begin(&p, &score_command, NULL, argc, argv);
+    while ((c = lt_cli_next(&p, &arg)) > 0) {
+        switch (c) {
+        case OPT_JSON: json = 1; break;
+        case OPT_PER_PAGE: per_page = 1; break;
+        case OPT_IMAGES: images = arg; break;
+        case OPT_MATCH:
+            if (strcmp(arg, "box") != 0 && strcmp(arg, "ink") != 0)
+                return lt_cli_usage_error(&score_command, "--match: '%s' is not box or ink", arg);
+            match_ink = arg[0] == 'i';
+            break;
         }
-        if (npos == 2) {
-            usage_error("unexpected argument '%s'", a);
-            return LT_EXIT_USAGE;
-        }
-        pos[npos++] = a;
     }
-    if (npos < 2) {
-        usage_error("%s", npos == 0 ? "missing TRUTH and PRED" : "missing PRED");
-        return LT_EXIT_USAGE;
-    }
-    if (images && !match_ink) {
-        usage_error("%s", "--images goes with --match ink");
-        return LT_EXIT_USAGE;
-    }
-    if (strcmp(pos[0], "-") == 0 && strcmp(pos[1], "-") == 0) {
-        usage_error("%s", "TRUTH and PRED cannot both be standard input");
-        return LT_EXIT_USAGE;
-    }
+    if (c < 0) return p.status;
+    const int npos = argc - p.operands;
+    if (npos != 2)
+        return lt_cli_usage_error(&score_command, "%s",
+                                  npos == 0   ? "missing TRUTH and PRED"
+                                  : npos == 1 ? "missing PRED"
+                                              : "more than TRUTH and PRED given");
+    const char *pos[2] = {argv[p.operands], argv[p.operands + 1]};
+    if (images && !match_ink)
+        return lt_cli_usage_error(&score_command, "--images goes with --match ink");
+    if (strcmp(pos[0], "-") == 0 && strcmp(pos[1], "-") == 0)
+        return lt_cli_usage_error(&score_command, "TRUTH and PRED cannot both be standard input");
     int is_dir[2];
     for (int k = 0; k < 2; k++) {
         struct stat st;
@@ -1031,15 +1008,14 @@ int lt_cmd_score(int argc, char **argv)
             continue;
         }
         if (stat(pos[k], &st) != 0) {
-            fprintf(stderr, "lineate: %s: cannot open: %s\n", pos[k], strerror(errno));
+            fprintf(stderr, PREFIX "%s: cannot open: %s\n", pos[k], strerror(errno));
             return LT_EXIT_FAILED;
         }
         is_dir[k] = S_ISDIR(st.st_mode) ? 1 : 0;
     }
-    if (is_dir[0] != is_dir[1]) {
-        usage_error("%s", "TRUTH and PRED must both be files or both be folders");
-        return LT_EXIT_USAGE;
-    }
+    if (is_dir[0] != is_dir[1])
+        return lt_cli_usage_error(&score_command,
+                                  "TRUTH and PRED must both be files or both be folders");
 
     results r = {0};
     r.match_ink = match_ink;
@@ -1051,7 +1027,7 @@ int lt_cmd_score(int argc, char **argv)
     }
     double *scratch = malloc((size_t)(r.count > 0 ? r.count : 1) * sizeof *scratch);
     if (!scratch) {
-        fprintf(stderr, "lineate: out of memory\n");
+        fprintf(stderr, PREFIX "out of memory\n");
         results_free(&r);
         return LT_EXIT_FAILED;
     }
@@ -1061,11 +1037,11 @@ int lt_cmd_score(int argc, char **argv)
     int failures = r.read_failures;
     results_free(&r);
     if (rc) {
-        fprintf(stderr, "lineate: out of memory\n");
+        fprintf(stderr, PREFIX "out of memory\n");
         return LT_EXIT_FAILED;
     }
     if (fflush(stdout) != 0 || ferror(stdout)) {
-        fprintf(stderr, "lineate: cannot write the output: %s\n", strerror(errno));
+        fprintf(stderr, PREFIX "cannot write the output: %s\n", strerror(errno));
         return LT_EXIT_OUTPUT;
     }
     return failures ? LT_EXIT_FAILED : LT_EXIT_OK;

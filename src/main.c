@@ -9,7 +9,12 @@
 #include <malloc.h>
 #endif
 
-static const char *const COMMANDS[] = {"score", "draw", "crop"};
+/* The subcommands; any other first argument starts the default analyse command. */
+static const struct {
+    const char *name;
+    int (*run)(int argc, char **argv);
+} COMMANDS[] = {{"score", lt_cmd_score}, {"draw", lt_cmd_draw}, {"crop", lt_cmd_crop}};
+#define N_COMMANDS (sizeof COMMANDS / sizeof *COMMANDS)
 
 /* Edit distance of a and b with adjacent transpositions counting one (optimal string
  * alignment, Damerau 1964), for words of at most 15 characters; larger for longer ones. */
@@ -41,8 +46,8 @@ static const char *mistyped_command(const char *word)
 {
     struct stat st;
     if (word[0] == '-' || strpbrk(word, "./") || stat(word, &st) == 0) return NULL;
-    for (size_t k = 0; k < sizeof COMMANDS / sizeof *COMMANDS; k++)
-        if (edit_distance(word, COMMANDS[k]) <= 2) return COMMANDS[k];
+    for (size_t k = 0; k < N_COMMANDS; k++)
+        if (edit_distance(word, COMMANDS[k].name) <= 2) return COMMANDS[k].name;
     return NULL;
 }
 
@@ -56,13 +61,12 @@ int main(int argc, char **argv)
     mallopt(M_MMAP_THRESHOLD, 64 * 1024 * 1024);
     mallopt(M_TRIM_THRESHOLD, 512 * 1024 * 1024);
 #endif
-    if (argc >= 2 && strcmp(argv[1], "score") == 0) return lt_cmd_score(argc - 1, argv + 1);
-    if (argc >= 2 && strcmp(argv[1], "draw") == 0) return lt_cmd_draw(argc - 1, argv + 1);
-    if (argc >= 2 && strcmp(argv[1], "crop") == 0) return lt_cmd_crop(argc - 1, argv + 1);
+    for (size_t k = 0; argc >= 2 && k < N_COMMANDS; k++)
+        if (strcmp(argv[1], COMMANDS[k].name) == 0) return COMMANDS[k].run(argc - 1, argv + 1);
     const char *meant = argc >= 2 ? mistyped_command(argv[1]) : NULL;
     if (meant) {
         fprintf(stderr, "lineate: unknown command '%s' (did you mean '%s'?)\n", argv[1], meant);
-        return 2;
+        return LT_EXIT_USAGE;
     }
     return lt_cmd_analyze(argc, argv);
 }

@@ -1,7 +1,9 @@
 #!/bin/sh
 # cli.sh: automake test of the lineate command line: --help and --version against the man page,
-# usage errors, a table of bad inputs (exit status and the one message each must give), stdin,
-# -o, write errors, determinism, multi-page TIFF, --pretty, score, and the man page's EXAMPLES.
+# the option parser every command shares (--help, --version, abbreviations of long options,
+# ambiguous ones refused), usage errors, a table of bad inputs (exit status and the one message
+# each must give), stdin, -o, write errors, determinism, multi-page TIFF, --pretty, score, and
+# the man page's EXAMPLES.
 # Environment (set by `make check`): top_srcdir, top_builddir, PYTHON3; defaults ., . and
 # /usr/bin/python3. Exit status: 0 pass, 1 fail, 77 skip (no python3 with PIL).
 #
@@ -239,7 +241,52 @@ def cmd_identity(score_json):
     if got != want:
         die("truth scored against itself: %r" % got)
 
-cmds = {"count": cmd_count, "same": cmd_same, "multipage": cmd_multipage,
+def cmd_prefixes(lineate, command, help_path):
+    """Every prefix of every long option in a command's --help, given alone: where it starts
+    one option only, it is taken as that option (a flag given "=x" is told it takes no value,
+    a valued option given none is told it needs one, both messages naming the full option);
+    where it starts several, it is refused as ambiguous, the message listing exactly those.
+    Each refusal: exit 2, nothing on stdout, one stderr line 'lineate[ COMMAND]: '."""
+    import subprocess
+    opts = {}
+    for l in open(help_path):
+        m = re.match(r"\s+(?:-[A-Za-z], )?--([a-z][a-z-]*)( [A-Z]+)?\s", l)
+        if m:
+            opts[m.group(1)] = bool(m.group(2))
+    if len(opts) < 4 or "help" not in opts or "version" not in opts:
+        die("%s: the options of --help: %r" % (command or "lineate", opts))
+    name = "lineate" + (" " + command if command else "")
+    base = [lineate] + ([command] if command else [])
+    runs = 0
+    for opt, takes in sorted(opts.items()):
+        for n in range(1, len(opt) + 1):
+            prefix = opt[:n]
+            fits = sorted(o for o in opts if o.startswith(prefix))
+            exact = prefix in opts
+            arg = "--" + prefix + ("" if takes or (len(fits) > 1 and not exact) else "=x")
+            r = subprocess.run(base + [arg], stdin=subprocess.DEVNULL, capture_output=True,
+                               text=True, timeout=30)
+            runs += 1
+            err = r.stderr.splitlines()
+            what = "%s %s: exit %d, stdout %r, stderr %r" % (name, arg, r.returncode,
+                                                              r.stdout[:60], err)
+            if r.returncode != 2 or r.stdout or len(err) != 1 or \
+                    not err[0].startswith(name + ": "):
+                die(what)
+            if len(fits) > 1 and not exact:
+                m = re.search(r"is ambiguous: (.*) \(see ", err[0])
+                named = sorted(w.strip()[2:] for w in m.group(1).split(",")) if m else None
+                if named != fits:
+                    die("%s: should name %r as ambiguous" % (what, fits))
+            else:
+                full = prefix if exact else fits[0]
+                want = "option '--%s' %s" % (full, "needs a value" if takes else
+                                             "takes no value")
+                if want not in err[0]:
+                    die("%s: should say %r" % (what, want))
+    print("%s: %d options, %d prefixes tried" % (name, len(opts), runs))
+
+cmds = {"prefixes": cmd_prefixes, "count": cmd_count, "same": cmd_same, "multipage": cmd_multipage,
         "pretty": cmd_pretty, "schema": cmd_schema, "fields": cmd_fields,
         "options": cmd_options, "man-options": cmd_man_options, "examples": cmd_examples,
         "score": cmd_score, "identity": cmd_identity}
@@ -313,6 +360,58 @@ if command -v groff >/dev/null 2>&1; then
 else
     echo "note: groff not found, man page formatting not checked"
 fi
+
+# ---- one option parser for every command ----------------------------------------------------
+# Each command takes --help and -h (its own help: exit 0, nothing on stderr), --version and -V
+# (the version of configure.ac), and every prefix of a long option that starts no other one;
+# a prefix several options start is refused naming them (py prefixes, above). An abbreviated
+# command line gives the output of the full one.
+for cmd in "" score draw crop; do
+    tag=${cmd:-lineate}
+    # shellcheck disable=SC2086 # an empty $cmd is the analyse command
+    run $cmd --help
+    check "$tag --help: exit 0, its usage on stdout, nothing on stderr" \
+        test "$rc" -eq 0 -a ! -s err -a "$(grep -c "^Usage: lineate${cmd:+ $cmd} " out)" -eq 1
+    cp out "help-$tag.txt"
+    # shellcheck disable=SC2086
+    run $cmd -h
+    check "$tag -h prints the same as --help" cmp -s out "help-$tag.txt"
+    for v in --version -V --vers; do
+        # shellcheck disable=SC2086
+        run $cmd $v
+        check "$tag $v prints 'lineate $version'" \
+            test "$rc" -eq 0 -a "$(cat out)" = "lineate $version" -a ! -s err
+    done
+    # shellcheck disable=SC2086
+    run $cmd --no-such-option x
+    check "$tag --no-such-option: exit 2, one line 'lineate${cmd:+ $cmd}: unknown option ...'" \
+        test "$rc" -eq 2 -a ! -s out -a "$(nlines err)" -eq 1 -a \
+        "$(grep -c "^lineate${cmd:+ $cmd}: unknown option '--no-such-option' (see lineate${cmd:+ $cmd} --help)$" err)" -eq 1
+    check "$tag: every unambiguous prefix of each option is that option, an ambiguous one refused" \
+        py prefixes "$lineate" "$cmd" "help-$tag.txt"
+done
+run --pre --for=page --max-sk 3 "$good"
+cp out abbrev.xml
+run --pretty --format=page --max-skew 3 "$good"
+check "lineate --pre --for=page --max-sk 3: the output of the full options" \
+    test "$rc" -eq 0 -a -s out && cmp -s out abbrev.xml
+truth="$testdata/corpus/ulthese_ulthese_p002.gt.json"
+run score --js --per "$truth" "$truth"
+cp out abbrev.json
+run score --json --per-page "$truth" "$truth"
+check "lineate score --js --per: the output of --json --per-page" \
+    test "$rc" -eq 0 -a -s out && cmp -s out abbrev.json
+run draw --no --sc 0.5 -o abbrev.png in/page1.png
+run draw --no-order --scale 0.5 -o full.png in/page1.png
+check "lineate draw --no --sc 0.5: the picture of --no-order --scale 0.5" \
+    test "$rc" -eq 0 -a -s full.png && cmp -s full.png abbrev.png
+run crop --rec --marg 3 --out abbrev-crops "$good"
+run crop --rectify --margin 3 --out-dir full-crops "$good"
+check "lineate crop --rec --marg 3 --out: the crops and manifests of the full options" \
+    test "$rc" -eq 0 -a -n "$(ls full-crops)" && diff -r full-crops abbrev-crops
+run --max 3 "$good"
+check "an ambiguous prefix is refused before any work: exit 2, nothing written" \
+    test "$rc" -eq 2 -a ! -s out
 
 # ---- usage errors: exit 2, one line on stderr, nothing on stdout ----------------------------
 # Each row: the arguments, and a word the message must contain.
