@@ -109,8 +109,11 @@ int lt_separator_between(const lt_separators *s, double x0, double x1, double y0
 /* Whether a link between two pieces of text on one row, with the gap [x0, x1) between them
  * and their rows [top, bottom), is refused: a separator lies in the gap, or the gap is wider
  * than a stretched word space and a white strip through it has text on both sides in the
- * line above or below. */
-int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom);
+ * line above or below. Gap widths are judged against `height`, the smaller of the two
+ * pieces' heights (px): the word spaces of large type are wide, while a piece that spans two
+ * touching lines is no larger type. */
+int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
+                    double height);
 /* The same for gutter white alone. */
 int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, double y1);
 void lt_separators_free(lt_separators *s);

@@ -26,6 +26,7 @@ typedef struct link {
     int a, b;        /* components, a left of b */
     int x0, x1;      /* the white gap between them, [x0, x1) */
     int top, bottom; /* vertical extent of the pair */
+    double height;   /* the smaller of the two heights, px */
 } link;
 
 typedef struct index_grid {
@@ -151,7 +152,8 @@ static double mark_fit(const lt_component *k, const lt_box *b, double th, int sp
     const int right = k->box.left > b->right;
     if ((right || k->box.right < b->left) &&
         lt_link_blocked(seps, right ? b->right : k->box.right, right ? k->box.left : b->left,
-                        fmin(b->top, k->box.top), fmax(b->bottom, k->box.bottom)))
+                        fmin(b->top, k->box.top), fmax(b->bottom, k->box.bottom),
+                        fmin(lt_box_height(b), lt_box_height(&k->box))))
         return -1;
     return fabs(cy - 0.5 * (b->top + b->bottom)) + fmax(0.0, fmax(b->left - cx, cx - b->right));
 }
@@ -412,7 +414,7 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                 lt_box_height(ba) < lt_box_height(bb) ? lt_box_height(ba) : lt_box_height(bb);
             if (2 * (bottom - top) < hmin) continue;
             if (!lt_link_blocked(seps, ba->right, bb->left, ba->top < bb->top ? ba->top : bb->top,
-                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom))
+                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom, hmin))
                 lt_uf_unite(parent, roots[a].index, roots[b].index);
         }
     }
@@ -472,11 +474,13 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
                                                                : c->items[b].box.top;
             l->bottom = c->items[a].box.bottom > c->items[b].box.bottom ? c->items[a].box.bottom
                                                                         : c->items[b].box.bottom;
+            l->height = fmin(lt_box_height(&c->items[a].box), lt_box_height(&c->items[b].box));
         }
     }
     /* A link is refused only where it crosses a separator (a gutter or a vertical rule). */
     for (int i = 0; i < nlinks; i++)
-        if (!lt_link_blocked(seps, links[i].x0, links[i].x1, links[i].top, links[i].bottom))
+        if (!lt_link_blocked(seps, links[i].x0, links[i].x1, links[i].top, links[i].bottom,
+                             links[i].height))
             lt_uf_unite(parent, links[i].a, links[i].b);
 
     /* Marks join groups; groups that marks bring within reach of each other join. */

@@ -51,6 +51,9 @@ static const double LINE_HEIGHT = 2.0;
 static const double STRIP_MIN_WIDTH = 1.5;
 static const double STRIP_REACH = 5.0;
 static const double STRIP_SIDE = 4.0;
+/* Text on a side of the strip stands in rows as tall as a letter, not only in the few of a
+ * descender's tip reaching into the rows looked at. */
+static const double STRIP_SIDE_LETTER = 0.75;
 static const double MIN_DOT_AREA = 0.02; /* text heights squared: the smallest dot of a leader */
 /* Marks in a gutter: a speck of noise here and there, but not a dot in every line (a leader
  * runs through the white before its page numbers). */
@@ -397,6 +400,15 @@ int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, d
                  (int)floor(y1 / cell)) > 0;
 }
 
+/* Cell rows of [cy0, cy1) with text in the cell columns [cx0, cx1). */
+static int rows_with_text(const lt_separators *s, int cx0, int cy0, int cx1, int cy1)
+{
+    int n = 0;
+    for (int y = cy0; y < cy1; y++)
+        n += cells(s, s->text_sum, cx0, y, cx1, y + 1) > 0;
+    return n;
+}
+
 /* Whether text lines stand on both sides of a white strip through the gap [x0, x1) in the
  * rows [y0, y1): the widest run of cell columns of the gap with no text in those rows is at
  * least STRIP_MIN_WIDTH wide, and text lies within STRIP_SIDE of it on both sides. */
@@ -415,16 +427,19 @@ static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0
             best_lo = cx - run + 1;
         }
     }
-    return best >= min_cells && cells(s, s->text_sum, best_lo - side, cy0, best_lo, cy1) > 0 &&
-           cells(s, s->text_sum, best_lo + best, cy0, best_lo + best + side, cy1) > 0;
+    if (best < min_cells) return 0;
+    const int letter = (int)ceil(STRIP_SIDE_LETTER * th / cell);
+    return rows_with_text(s, best_lo - side, cy0, best_lo, cy1) >= letter &&
+           rows_with_text(s, best_lo + best, cy0, best_lo + best + side, cy1) >= letter;
 }
 
-int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom)
+int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
+                    double height)
 {
     if (!s) return 0;
     if (rule_between(s, x0, x1, top, bottom)) return 1;
     /* gaps judged against the pair's own size: the word spaces of a title are wide */
-    const double scale = fmax(1.0, (bottom - top) / (LINE_HEIGHT * s->th));
+    const double scale = fmax(1.0, height / (LINE_HEIGHT * s->th));
     if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
     if (lt_gutter_between(s, x0, x1, top, bottom)) return 1;
     if (!s->text_sum || x1 - x0 < LOCAL_STRIP_GAP * s->th * scale) return 0;

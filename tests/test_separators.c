@@ -151,7 +151,8 @@ static void test_two_columns(void)
                 CHECK_INT(lines_across(&res, left_ink, x2), 0, "%s: lines across", what);
             } else {
                 CHECK_INT(
-                    lt_link_blocked(res.seps, left_ink, x2, FIRST_BASE - ASC, FIRST_BASE + DESC), 0,
+                    lt_link_blocked(res.seps, left_ink, x2, FIRST_BASE - ASC, FIRST_BASE + DESC,
+                                    ASC + DESC), 0,
                     "%s: link over the gap of the first row blocked", what);
                 CHECK_INT(res.lines ? res.lines->count : -1, 3 * rows / 2, "%s: lines", what);
                 CHECK_INT(lines_across(&res, left_ink, x2), rows / 2, "%s: lines across", what);
@@ -211,7 +212,8 @@ static void test_river(void)
                       bottom = FIRST_BASE + (2 + n) * PITCH + DESC;
             if (n < 5) {
                 CHECK_INT(res.seps ? res.seps->ngutters : -1, 0, "%s: gutters", what);
-                CHECK_INT(lt_link_blocked(res.seps, river_left, river_right, top, top + ASC + DESC),
+                CHECK_INT(lt_link_blocked(res.seps, river_left, river_right, top, top + ASC + DESC,
+                                          ASC + DESC),
                           0, "%s: link over the river blocked", what);
                 compare_lines(p, &res, what);
             } else {
@@ -279,7 +281,7 @@ static void test_index(void)
         int refused = 0;
         for (int i = 0; i < rows; i++) {
             const int y = FIRST_BASE + i * PITCH;
-            refused += lt_link_blocked(res.seps, leader_end[i], numbers_left[i], y - XH, y);
+            refused += lt_link_blocked(res.seps, leader_end[i], numbers_left[i], y - XH, y, XH);
         }
         CHECK_INT(refused, 0, "%s: links from a leader to its numbers refused", what);
         compare_lines(p, &res, what);
@@ -326,7 +328,8 @@ static void test_list_labels(void)
                                         FIRST_BASE + row * PITCH),
                       labels_alone, "%s: gutter between labels and items", what);
             CHECK_INT(
-                lt_link_blocked(res.seps, label_right, indent, FIRST_BASE - ASC, FIRST_BASE + DESC),
+                lt_link_blocked(res.seps, label_right, indent, FIRST_BASE - ASC, FIRST_BASE + DESC,
+                                ASC + DESC),
                 labels_alone, "%s: link from the first label to its item blocked", what);
             CHECK_INT(res.lines ? res.lines->count : -1, row + label_lines, "%s: lines", what);
             CHECK_INT(lines_across(&res, label_right, indent), labels_alone ? 0 : items,
@@ -527,6 +530,73 @@ static void test_alignment(void)
     }
 }
 
+/* 9. Two columns of 10 plain lines, a gutter of 2 text heights, and in the left column the
+ * last letters of lines 4 and 5 touching (a descender run into the ascender below, as in
+ * close-set old type): one piece of text two lines tall beside the gutter. Its gap to the
+ * right column is judged by the smaller piece's height (a body line), so the gutter refuses
+ * the link and no line runs across it; judged by the pair's joint height (about 3.4 text
+ * heights, a scale of 1.7: a threshold of 41 px) the 40 px gap would be a large type's word
+ * space. lt_link_blocked over that gap: refused for pieces of body height, let through for
+ * a height of three lines. */
+static void test_touching_lines(void)
+{
+    const char *what = "lines touching beside a gutter";
+    page *p = page_new(1600, 800);
+    const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH, first = 125 + ASC, rows = 10;
+    int left[10];
+    for (int i = 0; i < rows; i++) {
+        left[i] = draw_plain_line(p, COL_X0, x1, first + PITCH * i, LETTER_X, LETTER_FULL);
+        draw_plain_line(p, x2, x2 + COL_WIDTH, first + PITCH * i, LETTER_FULL, LETTER_X);
+    }
+    const int touch = 4, base = first + PITCH * touch;
+    draw_glyph(p, left[touch], tu_box(x1 - 8, base, x1, base + PITCH - ASC + 1), 0);
+    result res = run_stages(p, what);
+    CHECK_INT(res.seps ? res.seps->ngutters : -1, 1, "%s: gutters", what);
+    CHECK_INT(lines_across(&res, x1, x2), 0, "%s: lines across", what);
+    CHECK_INT(res.lines ? res.lines->count : -1, 2 * rows - 1, "%s: lines", what);
+    const int top = base - ASC, bottom = base + PITCH + DESC;
+    CHECK_INT(lt_link_blocked(res.seps, x1, x2, top, bottom, ASC + DESC), 1,
+              "%s: link of body height refused", what);
+    CHECK_INT(lt_link_blocked(res.seps, x1, x2, top, bottom, 3 * PITCH), 0,
+              "%s: link of three lines' height let through", what);
+    result_free(&res);
+    page_free(p);
+}
+
+/* 10. A gap of 3.5 text heights (70 px, wider than LOCAL_STRIP_GAP) between two words of a
+ * line, with a white strip through the same columns in the line above, of two lines only (no
+ * gutter: too little evidence). With words on both sides of the strip above, the link over
+ * the gap is refused (a short table, a margin note); with a row of marks 8 px tall (0.4 text
+ * heights: two cell rows, like the tip of a descender or heavy leader dots) on its right side
+ * instead, the strip has text on one side only and the link stands: such marks are not as
+ * tall as a letter (STRIP_SIDE_LETTER, three cell rows). */
+static void test_strip_sides(void)
+{
+    for (int dots = 0; dots <= 1; dots++) {
+        char what[64];
+        snprintf(what, sizeof what, "white strip above with %s on its right",
+                 dots ? "leader dots" : "words");
+        page *p = page_new(1400, 400);
+        const int x1 = 500, x2 = x1 + 70, above = 150, base = above + PITCH;
+        draw_plain_line(p, COL_X0, x1, above, LETTER_X, LETTER_X);
+        if (dots) {
+            const int l = new_line(p, above);
+            for (int x = x2; x + 6 <= x2 + 200; x += 12)
+                draw_glyph(p, l, tu_box(x, above - 8, x + 6, above), 1);
+        } else {
+            draw_plain_line(p, x2, x2 + 200, above, LETTER_X, LETTER_X);
+        }
+        draw_plain_line(p, COL_X0, x1, base, LETTER_X, LETTER_X);
+        draw_plain_line(p, x2, x2 + 200, base, LETTER_X, LETTER_X);
+        result res = run_stages(p, what);
+        CHECK_INT(res.seps ? res.seps->ngutters : -1, 0, "%s: gutters", what);
+        CHECK_INT(lt_link_blocked(res.seps, x1, x2, base - XH, base, XH), !dots,
+                  "%s: link over the gap refused", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -538,6 +608,8 @@ int main(void)
     test_key_value();
     test_evidence();
     test_alignment();
+    test_touching_lines();
+    test_strip_sides();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_separators");
 }

@@ -4,6 +4,8 @@
  *                                          lt_binarize, or lt_binarize_sampled with "sampled"
  *   tool_stage skew IN                     prints "angle_deg confidence"
  *   tool_stage components IN              prints "count", then "left top right bottom pixels"
+ *   tool_stage separators IN               prints the text height, then "rule|gutter left top
+ *                                          right bottom" in the deskewed frame
  *   tool_stage time IN [REPEAT]            best-of-REPEAT times in ms of decoding, of each stage
  *                                          (run in the order src/analyze.c runs them) and of
  *                                          lt_analyze as a whole, on one line of "key value" */
@@ -64,6 +66,9 @@ static const char *const stage_names[ST_COUNT] = {"decode",     "binarize", "ske
  * "components" includes the text height and the classification; "blocks" is the XY-cut and
  * the reading order (the final mapping to image coordinates is lt_analyze's own, and only in
  * the whole-analysis time). Sets *nlines and *nblocks (text blocks). Returns 0 or LT_E*. */
+/* When set, run_stages prints the separators it finds here (tool_stage separators). */
+static FILE *separators_out;
+
 static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[ST_COUNT],
                       int *nlines, int *nblocks, lt_error *err)
 {
@@ -113,6 +118,15 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     stage_ms[ST_COMPONENTS] += t_next - t;
     t = t_next;
     if ((rc = lt_find_separators(comps, text_height_px, &seps, err))) goto done;
+    if (separators_out) {
+        fprintf(separators_out, "text_height %.2f skew %.3f\n", text_height_px, skew.angle_deg);
+        for (int i = 0; i < seps->nrules; i++)
+            fprintf(separators_out, "rule %d %d %d %d\n", seps->rules[i].left, seps->rules[i].top,
+                    seps->rules[i].right, seps->rules[i].bottom);
+        for (int i = 0; i < seps->ngutters; i++)
+            fprintf(separators_out, "gutter %d %d %d %d\n", seps->gutters[i].left,
+                    seps->gutters[i].top, seps->gutters[i].right, seps->gutters[i].bottom);
+    }
     if ((rc = lt_build_lines(comps, text_height_px, seps, p, &raw, err))) goto done;
     t_next = now_ms();
     stage_ms[ST_LINES] += t_next - t;
@@ -258,10 +272,22 @@ int main(int argc, char **argv)
         lt_image_free(ink);
         return 0;
     }
+    if (argc >= 3 && strcmp(argv[1], "separators") == 0) {
+        lt_image *img = load(argv[2]);
+        lt_params params;
+        lt_params_default(&params);
+        double stage_ms[ST_COUNT] = {0};
+        int nlines, nblocks;
+        separators_out = stdout;
+        int rc = run_stages(img, &params, stage_ms, &nlines, &nblocks, &err);
+        lt_image_free(img);
+        if (rc) return fprintf(stderr, "tool_stage: %s\n", err.message), 1;
+        return 0;
+    }
     if (argc >= 3 && strcmp(argv[1], "time") == 0) {
         int repeat = argc >= 4 ? atoi(argv[3]) : 3;
         return time_page(argv[2], repeat > 0 ? repeat : 1);
     }
-    fprintf(stderr, "usage: tool_stage binarize|skew|components|time IN ...\n");
+    fprintf(stderr, "usage: tool_stage binarize|skew|components|separators|time IN ...\n");
     return 2;
 }
