@@ -8,18 +8,49 @@
 #include "internal.h" /* lt_json_add_source, lt_utf8_clean */
 
 #include <cjson/cJSON.h>
-#include <libxml/parser.h>
 #include <dirent.h>
 #include <errno.h>
+#include <libxml/parser.h>
 #include <pthread.h>
 #include <signal.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
+#include <sys/ioctl.h>
 #include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
+
+/* ---- messages on standard error ------------------------------------------------------- */
+
+/* The live progress bar of a run on a terminal: one row drawn again in place ("\r", no
+ * newline) as inputs are done. */
+enum { BAR_GAUGE_MAX = 30, BAR_GAUGE_MIN = 5 }; /* characters of the bar's gauge */
+typedef struct progress_bar {
+    int shown;     /* the row is on screen, the cursor at its end */
+    char row[256]; /* its text, to draw it again */
+} progress_bar;
+
+/* Every message of the batch machinery goes out here: one line on standard error, "COMMAND: "
+ * (NULL: "lineate") and the formatted text. With the live bar on screen (`bar` not NULL), its
+ * row is cleared first ("\r" then ESC [ K, erase to the end of the line, ECMA-48), so that the
+ * message takes the row alone, and the bar is drawn again on the row below. Only the main
+ * thread writes on standard error: the workers keep their messages in their results. */
+static void say(progress_bar *bar, const char *command, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+static void say(progress_bar *bar, const char *command, const char *fmt, ...)
+{
+    const int redraw = bar && bar->shown;
+    if (redraw) fputs("\r\033[K", stderr);
+    fprintf(stderr, "%s: ", command ? command : "lineate");
+    va_list ap;
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    va_end(ap);
+    fputc('\n', stderr);
+    if (redraw) fputs(bar->row, stderr);
+}
 
 /* ---- inputs --------------------------------------------------------------------------- */
 
@@ -151,11 +182,11 @@ static int walk_enter(walk *w, const struct stat *st)
 
 /* The sorted names in `dir` but the hidden ones (and "." and ".."); NULL with a message on
  * stderr when the folder cannot be read. */
-static char **folder_names(const char *dir, size_t *count)
+static char **folder_names(const lt_inputs *in, const char *dir, size_t *count)
 {
     DIR *d = opendir(dir);
     if (!d) {
-        fprintf(stderr, "lineate: %s: %s\n", dir, strerror(errno));
+        say(NULL, in->command, "%s: %s", dir, strerror(errno));
         return NULL;
     }
     char **names = NULL;
@@ -188,7 +219,7 @@ static char **folder_names(const char *dir, size_t *count)
     if (!failure && !names && !(names = malloc(sizeof *names))) /* an empty folder */
         failure = "out of memory";
     if (failure) {
-        fprintf(stderr, "lineate: %s: %s\n", dir, failure);
+        say(NULL, in->command, "%s: %s", dir, failure);
         for (size_t i = 0; i < n; i++)
             free(names[i]);
         free(names);
@@ -207,19 +238,19 @@ static int add_folder(lt_inputs *in, walk *w, const char *dir, const struct stat
                       const char *rel, int depth)
 {
     if (depth > 64) {
-        fprintf(stderr, "lineate: %s: folders nested too deep\n", dir);
+        say(NULL, in->command, "%s: folders nested too deep", dir);
         return -1;
     }
     const int entered = walk_enter(w, st);
     if (entered <= 0) {
         if (entered == 0)
-            fprintf(stderr, "lineate: %s: skipped, a folder searched already (a link)\n", dir);
+            say(NULL, in->command, "%s: skipped, a folder searched already (a link)", dir);
         else
-            fprintf(stderr, "lineate: %s: out of memory\n", dir);
+            say(NULL, in->command, "%s: out of memory", dir);
         return entered == 0 ? 0 : -1;
     }
     size_t n = 0;
-    char **names = folder_names(dir, &n);
+    char **names = folder_names(in, dir, &n);
     if (!names) return -1;
     int rc = 0;
     for (size_t i = 0; i < n; i++) {
@@ -227,7 +258,7 @@ static int add_folder(lt_inputs *in, walk *w, const char *dir, const struct stat
         char *path = malloc(lp), *sub = malloc(lr);
         struct stat est;
         if (!path || !sub) {
-            fprintf(stderr, "lineate: %s: out of memory\n", dir);
+            say(NULL, in->command, "%s: out of memory", dir);
             rc = -1;
         } else {
             snprintf(path, lp, "%s/%s", dir, names[i]);
@@ -238,9 +269,9 @@ static int add_folder(lt_inputs *in, walk *w, const char *dir, const struct stat
             } else if (!is_image_name(names[i])) {
                 /* not taken */
             } else if (found && !S_ISREG(est.st_mode)) {
-                fprintf(stderr, "lineate: %s: skipped, not a regular file\n", path);
+                say(NULL, in->command, "%s: skipped, not a regular file", path);
             } else if (push_input(in, path, sub)) { /* a broken link fails when opened */
-                fprintf(stderr, "lineate: %s: out of memory\n", path);
+                say(NULL, in->command, "%s: out of memory", path);
                 rc = -1;
             }
         }
@@ -267,7 +298,7 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg)
         int rc = add_folder(in, &w, dir, &st, "", 0);
         free(w.slots);
         if (rc == 0 && in->count == before) {
-            fprintf(stderr, "lineate: %s: no image files in this folder\n", dir);
+            say(NULL, in->command, "%s: no image files in this folder", dir);
             rc = -1;
         }
         free(dir);
@@ -276,7 +307,7 @@ int lt_inputs_add_arg(lt_inputs *in, const char *arg)
     char *name = strcmp(arg, "-") == 0 ? strdup("stdin") : mirrored_name(arg);
     if (!name || push_input(in, arg, name)) {
         free(name);
-        fprintf(stderr, "lineate: out of memory\n");
+        say(NULL, in->command, "out of memory");
         return -1;
     }
     free(name);
@@ -287,7 +318,7 @@ int lt_inputs_add_list(lt_inputs *in, const char *list_path)
 {
     FILE *fp = strcmp(list_path, "-") == 0 ? stdin : fopen(list_path, "r");
     if (!fp) {
-        fprintf(stderr, "lineate: %s: %s\n", list_path, strerror(errno));
+        say(NULL, in->command, "%s: %s", list_path, strerror(errno));
         return -1;
     }
     char *line = NULL;
@@ -300,7 +331,7 @@ int lt_inputs_add_list(lt_inputs *in, const char *list_path)
         if (len > 0) rc = lt_inputs_add_arg(in, line);
     }
     if (rc == 0 && ferror(fp)) {
-        fprintf(stderr, "lineate: %s: read error\n", list_path);
+        say(NULL, in->command, "%s: read error", list_path);
         rc = -1;
     }
     free(line);
@@ -345,7 +376,7 @@ int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const ch
 {
     const lt_input **sorted = malloc(((size_t)in->count + 1) * sizeof *sorted);
     if (!sorted) {
-        fprintf(stderr, "lineate: out of memory\n");
+        say(NULL, in->command, "out of memory");
         return -1;
     }
     for (int k = 0; k < in->count; k++)
@@ -354,10 +385,10 @@ int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const ch
     int rc = 0;
     for (int k = 1; k < in->count && rc == 0; k++)
         if (strcmp(sorted[k - 1]->out_name, sorted[k]->out_name) == 0) {
-            fprintf(stderr,
-                    "lineate: %s and %s would both write %s/%s%s: give inputs of the same name "
-                    "in different folders, or run them apart\n",
-                    sorted[k - 1]->path, sorted[k]->path, out_dir, sorted[k]->out_name, suffix);
+            say(NULL, in->command,
+                "%s and %s would both write %s/%s%s: give inputs of the same name "
+                "in different folders, or run them apart",
+                sorted[k - 1]->path, sorted[k]->path, out_dir, sorted[k]->out_name, suffix);
             rc = -1;
         }
     for (int k = 0; k < in->count && rc == 0; k++) { /* NAME.pN beside the pages of NAME */
@@ -367,10 +398,10 @@ int lt_inputs_check_out_names(const lt_inputs *in, const char *out_dir, const ch
         char *stem = strndup(name, (size_t)(dot - name));
         const lt_input *other = stem ? find_out_name(sorted, in->count, stem) : NULL;
         if (other) {
-            fprintf(stderr,
-                    "lineate: %s and %s would both write %s/%s%s when %s has several pages: "
-                    "rename one or run them apart\n",
-                    other->path, sorted[k]->path, out_dir, name, suffix, other->path);
+            say(NULL, in->command,
+                "%s and %s would both write %s/%s%s when %s has several pages: "
+                "rename one or run them apart",
+                other->path, sorted[k]->path, out_dir, name, suffix, other->path);
             rc = -1;
         }
         free(stem);
@@ -502,7 +533,7 @@ void lt_batch_stream_temp(const char *path)
 
 typedef struct result {
     text records;  /* JSON lines for the stream */
-    text messages; /* lines for stderr */
+    text messages; /* lines for stderr, without the command's name */
     long done, failed, skipped;
     int write_failed;
     int finished;
@@ -647,7 +678,7 @@ static int emit(result *r, const lt_batch_options *opt, const lt_input *in, int 
     char *path = page_file(opt, in->out_name, page, pages);
     const int bad = path ? write_page_file(path, json) : ENOMEM;
     if (bad) {
-        text_printf(&r->messages, "lineate: %s: cannot write: %s\n", path ? path : opt->out_dir,
+        text_printf(&r->messages, "%s: cannot write: %s\n", path ? path : opt->out_dir,
                     strerror(bad));
         r->write_failed = 1;
     }
@@ -658,7 +689,7 @@ static int emit(result *r, const lt_batch_options *opt, const lt_input *in, int 
 static void fail_page(result *r, const lt_batch_options *opt, const lt_input *in, int page,
                       int pages, const char *message)
 {
-    text_printf(&r->messages, "lineate: %s\n", message);
+    text_printf(&r->messages, "%s\n", message);
     char *rec = opt->task                     ? error_record(opt->task->format_name, in->path, page,
                                                              pages, message)
                 : opt->format == LT_OUTPUT_JSON ? error_record(LT_FORMAT_NAME, in->path, page, pages,
@@ -701,7 +732,7 @@ static void run_task(const lt_input *in, const lt_batch_options *opt, const char
     }
     if (rc) {
         lt_page_message(msg, sizeof msg, name, page, err.message[0] ? err.message : "failed");
-        text_printf(&r->messages, "lineate: %s\n", msg);
+        text_printf(&r->messages, "%s\n", msg);
         if (!record) {
             char *rec = error_record(opt->task->format_name, in->path, page, pages, msg);
             if (rec) emit(r, opt, in, page, pages, rec);
@@ -875,36 +906,60 @@ static double now_s(void)
     return ts.tv_sec + ts.tv_nsec * 1e-9;
 }
 
-static void report_progress(const lt_batch_options *opt, const lt_batch_totals *t, int inputs_done,
-                            int inputs, double elapsed_s, long *last_line)
+/* Reports the progress after `inputs_done` of the `inputs`: with opt->progress 2 the live bar
+ * (fitted to the terminal's width, so that "\r" returns to its start; a new line under it once
+ * every input is done), with 1 a line every 50 pages and at the end. */
+static void report_progress(const lt_batch_options *opt, progress_bar *bar,
+                            const lt_batch_totals *t, int inputs_done, int inputs, double elapsed_s,
+                            long *last_line)
 {
     const long pages = t->done + t->failed + t->skipped;
     const double rate = elapsed_s > 0 ? (t->done + t->failed) / elapsed_s : 0;
     if (opt->progress == 2) {
-        const int width = 30, filled = inputs ? (int)((long)width * inputs_done / inputs) : width;
-        double eta = inputs_done > 0 ? elapsed_s * (inputs - inputs_done) / inputs_done : 0;
-        fprintf(stderr, "\r[%.*s%*s] %d/%d files, %ld pages, %.1f pages/s, ETA %.0f s ", filled,
-                "##############################", width - filled, "", inputs_done, inputs, pages,
-                rate, eta);
-        if (inputs_done == inputs) fputc('\n', stderr);
+        char counts[160];
+        const double eta = inputs_done > 0 ? elapsed_s * (inputs - inputs_done) / inputs_done : 0;
+        snprintf(counts, sizeof counts, "%d/%d files, %ld pages, %.1f pages/s, ETA %.0f s",
+                 inputs_done, inputs, pages, rate, eta);
+        /* the row fits the terminal (a wrapped row would not go back under "\r"): the gauge
+         * narrows, then goes, then the counts are cut */
+        struct winsize ws;
+        const int columns =
+            ioctl(STDERR_FILENO, TIOCGWINSZ, &ws) == 0 && ws.ws_col > 1 ? ws.ws_col : 80;
+        int gauge = columns - 1 - (int)strlen(counts) - 3;
+        gauge = gauge > BAR_GAUGE_MAX ? BAR_GAUGE_MAX : gauge;
+        if (gauge >= BAR_GAUGE_MIN) {
+            const int filled = inputs ? (int)((long)gauge * inputs_done / inputs) : gauge;
+            snprintf(bar->row, sizeof bar->row, "[%.*s%*s] %s", filled,
+                     "##############################", gauge - filled, "", counts);
+        } else {
+            snprintf(bar->row, sizeof bar->row, "%s", counts);
+        }
+        if ((int)strlen(bar->row) >= columns) bar->row[columns - 1] = '\0';
+        fprintf(stderr, "\r%s\033[K", bar->row);
+        bar->shown = 1;
+        if (inputs_done == inputs) {
+            fputc('\n', stderr);
+            bar->shown = 0;
+        }
     } else if (opt->progress == 1 && (pages / 50 > *last_line / 50 || inputs_done == inputs)) {
-        fprintf(stderr, "lineate: progress: %d/%d files, %ld pages, %.1f pages/s\n", inputs_done,
-                inputs, pages, rate);
+        say(NULL, opt->command, "progress: %d/%d files, %ld pages, %.1f pages/s", inputs_done,
+            inputs, pages, rate);
         *last_line = pages;
     }
 }
 
 /* Copies the file of a page, done or skipped, to the merged stream. 0, or -1 with a message
  * on stderr. */
-static int merge_page_file(const lt_batch_options *opt, const lt_input *in, int page, int pages)
+static int merge_page_file(const lt_batch_options *opt, progress_bar *bar, const lt_input *in,
+                           int page, int pages)
 {
     char *path = page_file(opt, in->out_name, page, pages);
     text t = {0};
     if (path) read_text_file(path, &t);
     int bad = !path || t.failed || !t.data;
     if (bad)
-        fprintf(stderr, "lineate: %s: cannot read back: %s\n", path ? path : opt->out_dir,
-                strerror(errno ? errno : ENOMEM));
+        say(bar, opt->command, "%s: cannot read back: %s", path ? path : opt->out_dir,
+            strerror(errno ? errno : ENOMEM));
     else if (fwrite(t.data, 1, t.len, opt->out) != t.len)
         bad = 1; /* the caller reports the stream */
     free(t.data);
@@ -929,7 +984,7 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     if (!p.inputs || !threads) {
         free(p.inputs);
         free(threads);
-        fprintf(stderr, "lineate: out of memory\n");
+        say(NULL, opt->command, "out of memory");
         return -1;
     }
     for (int k = 0; k < in->count; k++)
@@ -943,6 +998,7 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     }
     const double t0 = now_s();
     long last_line = 0;
+    progress_bar bar = {0};
     int stop = 0;
     for (int k = 0; k < in->count && !stop; k++) {
         input_state *st = &p.inputs[k];
@@ -951,7 +1007,7 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
             pthread_cond_wait(&p.changed, &p.lock);
         pthread_mutex_unlock(&p.lock);
         if (!st->results) { /* out of memory when it was opened */
-            fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
+            say(&bar, opt->command, "%s: out of memory", in->items[k].path);
             totals->failed++;
             pthread_mutex_lock(&p.lock);
             p.in_flight--;
@@ -971,13 +1027,17 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
                 totals->stream_errno = errno ? errno : EIO;
             }
             if (r->records.failed || r->messages.failed) {
-                fprintf(stderr, "lineate: %s: out of memory\n", in->items[k].path);
+                say(&bar, opt->command, "%s: out of memory", in->items[k].path);
                 r->failed++;
             }
             if (opt->merge && !r->write_failed && !totals->write_failed &&
-                merge_page_file(opt, &in->items[k], i + 1, st->pages))
+                merge_page_file(opt, &bar, &in->items[k], i + 1, st->pages))
                 totals->write_failed = 1;
-            if (r->messages.len) fputs(r->messages.data, stderr);
+            for (const char *line = r->messages.data; line && *line;) { /* one message a line */
+                const size_t len = strcspn(line, "\n");
+                say(&bar, opt->command, "%.*s", (int)len, line);
+                line += len + (line[len] == '\n');
+            }
             totals->done += r->done;
             totals->failed += r->failed;
             totals->skipped += r->skipped;
@@ -992,8 +1052,10 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
             pthread_cond_broadcast(&p.changed);
             pthread_mutex_unlock(&p.lock);
         }
-        if (opt->progress) report_progress(opt, totals, k + 1, in->count, now_s() - t0, &last_line);
+        if (opt->progress)
+            report_progress(opt, &bar, totals, k + 1, in->count, now_s() - t0, &last_line);
     }
+    if (bar.shown) fputc('\n', stderr); /* stopped early: what follows starts a row of its own */
     for (int i = 0; i < started; i++)
         pthread_join(threads[i], NULL);
     for (int k = 0; k < in->count; k++) { /* what is left after a write failure */
@@ -1009,11 +1071,11 @@ int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_tota
     }
     const double elapsed = now_s() - t0;
     if (opt->summary)
-        fprintf(stderr,
-                "lineate: %ld pages done, %ld failed, %ld skipped, %.2f pages/s, %d thread%s\n",
-                totals->done, totals->failed, totals->skipped,
-                elapsed > 0 ? (totals->done + totals->failed) / elapsed : 0.0, started ? started : 1,
-                started > 1 ? "s" : "");
+        say(NULL, opt->command,
+            "%ld pages done, %ld failed, %ld skipped, %.2f pages/s, %d thread%s", totals->done,
+            totals->failed, totals->skipped,
+            elapsed > 0 ? (totals->done + totals->failed) / elapsed : 0.0, started ? started : 1,
+            started > 1 ? "s" : "");
     free(threads);
     free(p.inputs);
     return 0;

@@ -16,6 +16,7 @@ typedef struct lt_input {
 typedef struct lt_inputs {
     lt_input *items;
     int count, cap;
+    const char *command; /* begins the messages: "lineate crop"; NULL: "lineate" */
 } lt_inputs;
 
 /* Adds a command-line argument: a file (or "-"), or a folder whose image files (by
@@ -75,6 +76,7 @@ typedef struct lt_batch_options {
     long long created_utc; /* time written into PAGE metadata (seconds since 1970, UTC) */
     const lt_page_task *task; /* NULL: the analysis, written in `format` */
     int merge; /* with out_dir: every page's file also copied to `out`, in input and page order */
+    const char *command; /* begins the messages: "lineate crop"; NULL: "lineate" */
 } lt_batch_options;
 
 typedef struct lt_batch_totals {
@@ -85,8 +87,8 @@ typedef struct lt_batch_totals {
 
 /* Analyses every page of every input with opt->jobs threads. Each page gives one record: its
  * layout or an error record (`error` field), in input order; errors are also reported on
- * stderr, one line each. In the XML formats a failed page gives no document (its message on
- * stderr and the exit status tell). */
+ * stderr, one line each, never on the row of the live progress bar (opt->progress 2). In the XML
+ * formats a failed page gives no document (its message on stderr and the exit status tell). */
 int lt_batch_run(const lt_inputs *in, const lt_batch_options *opt, lt_batch_totals *totals);
 
 /* From now on SIGINT, SIGTERM and SIGHUP end the process only once no page file is half

@@ -150,7 +150,8 @@ int lt_cmd_analyze(int argc, char **argv)
                             format,
                             creation_time(),
                             NULL,
-                            0};
+                            0,
+                            analyze_command.name};
     lt_batch_totals totals;
     if (lt_batch_run(&inputs, &opt, &totals) != 0) status = LT_EXIT_FAILED;
     lt_inputs_free(&inputs);

@@ -696,6 +696,7 @@ int lt_cmd_crop(int argc, char **argv)
     lt_cli_analysis_default(&opt.an);
     atomic_init(&opt.crops_written, 0);
     lt_inputs inputs = {0};
+    inputs.command = crop_command.name;
     int status = LT_EXIT_OK, stop = parse_args(argc, argv, &opt, &inputs, &status);
     char *manifest = NULL, *manifest_tmp = NULL;
     if (stop) {
@@ -743,7 +744,8 @@ int lt_cmd_crop(int argc, char **argv)
                              LT_OUTPUT_JSON,
                              0,
                              &task,
-                             1};
+                             1,
+                             crop_command.name};
     lt_batch_totals totals;
     int write_failed = lt_batch_run(&inputs, &bopt, &totals) != 0 || totals.write_failed;
     errno = 0;
@@ -755,7 +757,7 @@ int lt_cmd_crop(int argc, char **argv)
                 errno ? strerror(errno) : "an output file could not be written");
         remove(manifest_tmp);
     }
-    fprintf(stderr, "lineate: %ld line images written\n", atomic_load(&opt.crops_written));
+    fprintf(stderr, PREFIX "%ld line images written\n", atomic_load(&opt.crops_written));
     status = write_failed ? LT_EXIT_OUTPUT : totals.failed ? LT_EXIT_FAILED : status;
 done:
     free(manifest);

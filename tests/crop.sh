@@ -424,8 +424,8 @@ crop "$news" --out-dir plain
 check "crop: exit 0, nothing on stdout, a summary on stderr" quiet
 n_lines=$("$python" -c 'import json, sys; print(len(json.load(open(sys.argv[1]))["lines"]))' news.json)
 check "crop: the summary counts the page and its $n_lines line images" \
-    test -n "$(grep '^lineate: 1 pages done, 0 failed, 0 skipped' err)" -a \
-    -n "$(grep "^lineate: $n_lines line images written" err)"
+    test -n "$(grep '^lineate crop: 1 pages done, 0 failed, 0 skipped' err)" -a \
+    -n "$(grep "^lineate crop: $n_lines line images written" err)"
 check "crop: one PNG per line of 'lineate FILE', records in reading order, default margins" \
     py layout plain news.json "$news" newsletter auto
 check "crop: every crop decodes with PIL at its manifest size and equals PIL's crop of the page" \
