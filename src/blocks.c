@@ -4,6 +4,7 @@
  * block. Children are in reading order: left to right, top to bottom. */
 #include "internal.h"
 
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -17,6 +18,12 @@ static const double MAX_CROSSING = 1.0 / 6;
 static const double SEPARATOR_MIN_COVER = 0.6;
 /* Each column of a gutter cut that lines run across holds this share of the lines. */
 static const double COLUMN_MIN_SHARE = 0.25;
+/* Pairs of lines compared to find labels beside a gap, at most (bounds the time on pages of
+ * many thousand lines; past it the gap is cut as any other). */
+static const long MAX_ROW_TESTS = 4000000;
+/* Lines whose baselines differ by at most this, in text heights, share a row (a label and its
+ * item, the cells of a table row): half an x-height, as baselines found on real scans wander. */
+static const double BASELINE_TOLERANCE = 0.5;
 
 typedef struct span {
     int lo, hi, line;
@@ -129,6 +136,7 @@ typedef struct cut_context {
     double column_min_width;   /* px: narrowest column of text a gutter cut makes */
     int rtl;
     const lt_raw_line *lines; /* the lines (boxes[0..nreal)) */
+    double baseline_tolerance; /* px: lines on one baseline differ by at most this */
     span *spans;              /* scratch room for all lines */
 } cut_context;
 
@@ -189,8 +197,9 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
  * table, which are read row by row). Either no line crosses the gutter's middle and gutters
  * run along at least 60 % of the node's height there, or a few lines cross it (at most
  * MAX_CROSSING of the others: lines run on across the gutter, which go with the column they
- * start in), standing between lines of both columns above and below them, and each column
- * holds at least a quarter of the lines. The pieces of a line cut at a gutter go by their
+ * start in), standing among the lines of both columns (neither all above nor all below the
+ * lines of either: a heading or a footer spans the columns), and each column holds at least
+ * a quarter of the lines. The pieces of a line cut at a gutter go by their
  * centre. Returns 1 with the cut coordinate (lines starting at or after it lie beyond), the
  * gutter's width and the number of lines that cross it. */
 static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box *nb,
@@ -233,13 +242,48 @@ static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box 
         if (!count[0] || !count[1]) continue;
         if (crossed == 0 ? run < SEPARATOR_MIN_COVER * (nb->bottom - nb->top)
                          : MAX_CROSSING * lines < crossed || count[0] < COLUMN_MIN_SHARE * lines ||
-                               count[1] < COLUMN_MIN_SHARE * lines || cross_lo <= top[0] ||
-                               cross_lo <= top[1] || cross_hi >= bottom[0] || cross_hi >= bottom[1])
+                               count[1] < COLUMN_MIN_SHARE * lines || cross_hi <= top[0] ||
+                               cross_hi <= top[1] || cross_lo >= bottom[0] || cross_lo >= bottom[1])
             continue;
         *cut_at = next;
         *width = next - reach;
         *crossing = crossed;
         return 1;
+    }
+    return 0;
+}
+
+/* Whether the lines beside the gap [at - gap, at) on one side of a node with box nb make a
+ * column narrower than column_min_width, at least half of them sharing a row with a line on
+ * the other side (standing on its baseline, and at most twice as tall as it; margin notes
+ * beside a paragraph have a pitch of their own):
+ * labels and their items, the cells of a table. A gap wider than such a column is a margin's
+ * white, and pieces that share no row (the bits of a scan's dark border) are no such column. */
+static int labels_beside_gap(const cut_context *x, const int *idx, int n, const lt_box *nb,
+                             int at, int gap)
+{
+    if (gap > x->column_min_width) return 0; /* a margin's white, not a label's */
+    for (int side = 0; side < 2; side++) {
+        const int width = side == 0 ? at - gap - nb->left : nb->right - at;
+        if (width >= x->column_min_width) continue;
+        int narrow = 0, in_rows = 0;
+        for (int i = 0; i < n && (long)narrow * n <= MAX_ROW_TESTS; i++) {
+            if (idx[i] >= x->nreal) continue; /* a picture */
+            const lt_raw_line *a = &x->lines[idx[i]];
+            if ((a->box.left < at) != (side == 0)) continue;
+            narrow++;
+            for (int j = 0; j < n; j++) {
+                if (idx[j] >= x->nreal) continue;
+                const lt_raw_line *b = &x->lines[idx[j]];
+                if ((b->box.left < at) == (side == 0)) continue;
+                if (fabs(a->baseline_y - b->baseline_y) <= x->baseline_tolerance &&
+                    lt_box_height(&a->box) <= 2 * lt_box_height(&b->box)) {
+                    in_rows++;
+                    break;
+                }
+            }
+        }
+        if ((long)narrow * n <= MAX_ROW_TESTS && 2 * in_rows >= narrow) return 1;
     }
     return 0;
 }
@@ -270,6 +314,10 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
         gy = widest_gap(spans, n, &y_cut);
     }
     double sx = gx / x->col_gap, sy = gy / x->row_gap;
+    /* A gap that leaves a column narrower than a few words beside it, its lines standing in
+     * the rows of the lines across the gap, parts labels from their items or the cells of a
+     * table: those are read row by row. */
+    if (gx > 0 && sx >= 1 && labels_beside_gap(x, idx, n, &node->box, x_cut, gx)) sx = 0;
     /* A separating rule counts as a gap twice the narrowest one. */
     if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
     if (n > 1 && sy < 2 && rule_cut(x, idx, n, &node->box, 0, &y_cut)) sy = 2;
@@ -350,7 +398,7 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
     const cut_context x = {
         boxes, lines->count,          p->column_min_gap * th, p->block_min_gap * th,
         seps,  COLUMN_MIN_WIDTH * th, p->right_to_left,       lines->items,
-        spans};
+        BASELINE_TOLERANCE * th, spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

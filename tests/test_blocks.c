@@ -296,6 +296,67 @@ static void test_row_pieces(void)
     check_page(&p, 61, "row pieces");
 }
 
+/* Two columns whose gutter (2 text heights) the first and the third lines of the left column
+ * run across, at the top of the page (index entries run on into the next column): the
+ * crossings stand among the first lines of both columns, not all above them (which a heading
+ * over the columns would), so the gutter is still cut; the crossing lines go with the left
+ * column, where they start. */
+static void test_crossed_at_top(void)
+{
+    page p = {0};
+    tu_rng r = {17};
+    for (int i = 0; i < 12; i++)
+        add_line(&p, 150, i == 0 || i == 2 ? 1380 : 760 - tu_range(&r, 0, 40), 200 + i * PITCH);
+    p.nblocks++;
+    for (int i = 1; i < 12; i++) {
+        if (i == 2) continue;
+        add_line(&p, 800, 1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
+        if (i == 1 || i == 11) p.nblocks++; /* the white of row 2 parts the right column */
+    }
+    check_page(&p, 83, "a gutter crossed at the top");
+}
+
+/* Numbered lines of a listing: numbers (1.5 text heights wide) before their lines of code,
+ * with a gap of 2 text heights, and of 12 (wider than column_min_width, 10 text heights: a
+ * margin, not a label's white). Beside the narrow gap the numbers are labels, sharing the
+ * rows of their lines: the listing is one block read row by row, number then code. Beside
+ * the wide one they are a column of their own, read before the code. Three rows (eight for
+ * the narrow gap): too few for the separators to take the wide white for a gutter (fewer
+ * than 8 text heights of rows beside it), so the gap alone decides. */
+static void test_labels(void)
+{
+    for (int wide = 0; wide <= 1; wide++) {
+        page p = {0};
+        tu_rng r = {19};
+        const int code = wide ? 420 : 220, rows = wide ? 3 : 8;
+        for (int i = 0; i < rows; i++) {
+            add_line(&p, 150, 180, 200 + i * PITCH);
+            if (wide) continue;
+            add_line(&p, code, 1200 - tu_range(&r, 0, 400), 200 + i * PITCH);
+        }
+        p.nblocks++;
+        for (int i = 0; wide && i < rows; i++)
+            add_line(&p, code, 1200 - tu_range(&r, 0, 400), 200 + i * PITCH);
+        p.nblocks += wide;
+        check_page(&p, 89, wide ? "numbers a margin away from their lines" : "numbered lines");
+    }
+}
+
+/* A paragraph of six lines with three margin notes beside it (2.5 text heights to its right,
+ * 7 wide, a pitch of their own: 40 px against 48, their baselines 20 px, a text height, below
+ * the paragraph's): the notes share no baseline with the paragraph's lines, so they are no
+ * labels but a column of their own, read after the paragraph. */
+static void test_margin_notes(void)
+{
+    page p = {0};
+    tu_rng r = {23};
+    add_block(&p, &r, 150, 900, 200, 6);
+    for (int i = 0; i < 3; i++)
+        add_line(&p, 950, 1090, 220 + 40 * i);
+    p.nblocks++;
+    check_page(&p, 97, "margin notes beside a paragraph");
+}
+
 /* Arranges the lines of p (in page order) with the components `comps` (rules) and stores the
  * role of the block holding line want[k] in role[k] (-1 when it failed). */
 static void roles_of_lines(const page *p, lt_components *comps, const int *want, int *role,
@@ -411,6 +472,9 @@ int main(void)
     test_bridged_columns();
     test_overhanging_block();
     test_block_beside_a_run_on();
+    test_crossed_at_top();
+    test_labels();
+    test_margin_notes();
     test_footnote_rule();
     test_two_line_head();
     test_empty();
