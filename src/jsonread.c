@@ -1,7 +1,7 @@
 /* jsonread.c — reads files of one or more JSON page objects (lineate's layout format or the
- * corpus ground truth) into lt_scored_page arrays for the scorer. Parsing is cJSON's; objects
- * are walked with cJSON_ParseWithLengthOpts and its parse-end pointer (RFC 8259 JSON texts,
- * concatenated or one per line as in JSON Lines). */
+ * corpus ground truth; RFC 8259 JSON texts, concatenated or one per line as in JSON Lines)
+ * into lt_scored_page arrays for the scorer. The text is checked and walked in place, and only
+ * the few values the scorer reads are parsed, by cJSON, so no tree of a whole page is built. */
 #include "score.h"
 
 #include <cJSON.h>
@@ -148,6 +148,232 @@ static int syntax_error(const char *name, int k, const char *data, size_t size, 
                         col);
 }
 
+/* ---- skimming: JSON checked in place, without a tree ------------------------------------
+ * A page object is walked byte by byte by the grammar of RFC 8259 (sections 2 to 7), and only
+ * the values the scorer reads go to cJSON, each on its own: a few members of the page, and the
+ * "box", "quad" and "in_order" of each line. A tree of a whole page would take about 20 times
+ * its bytes; this way memory stays within the file and the array of lines, and the line limit
+ * is checked while the lines are counted, before any of them is read. */
+
+#define MAX_NESTING 1000   /* arrays and objects one inside another (cJSON's own limit) */
+#define MAX_NUMBER_CHARS 63 /* cJSON reads no longer number; the skim refuses one, as it did */
+/* Longest value handed to cJSON: the members read are numbers, names, a box or a quad; a path
+ * is at most 4096 bytes, each escaped in at most 6. */
+#define MAX_READ_VALUE_BYTES 65536
+
+enum { SKIM_SYNTAX = -1, SKIM_TOO_MANY = -2 };
+
+typedef struct skim {
+    const char *data;
+    size_t size;
+    size_t pos; /* the next byte; after a failure, the byte that breaks the grammar */
+} skim;
+
+typedef struct span { /* a member's key or value: data[start, end) */
+    size_t start, end;
+    int present;
+} span;
+
+/* The next byte, or -1 at the end of the data. */
+static int peek(const skim *s)
+{
+    return s->pos < s->size ? (unsigned char)s->data[s->pos] : -1;
+}
+
+static void skip_space(skim *s)
+{
+    while (s->pos < s->size && is_json_space(s->data[s->pos]))
+        s->pos++;
+}
+
+static int is_digit(int c)
+{
+    return c >= '0' && c <= '9';
+}
+
+static int hex_value(int c)
+{
+    return is_digit(c) ? c - '0' : c >= 'a' && c <= 'f' ? c - 'a' + 10 : c >= 'A' && c <= 'F' ? c - 'A' + 10 : -1;
+}
+
+/* The 4 hex digits of a \u escape, s at the 'u'; -1 when they are not. */
+static long skim_code_unit(skim *s)
+{
+    long unit = 0;
+    for (int i = 0; i < 4; i++) {
+        s->pos++;
+        const int h = hex_value(peek(s));
+        if (h < 0) return -1;
+        unit = unit * 16 + h;
+    }
+    s->pos++;
+    return unit;
+}
+
+/* A string, s at its opening quote: no raw control character, the escapes of RFC 8259
+ * section 7, and UTF-16 surrogates only in pairs (which cJSON, reading the string, needs). */
+static int skim_string(skim *s)
+{
+    s->pos++;
+    for (;;) {
+        const int c = peek(s);
+        if (c == '"') {
+            s->pos++;
+            return 0;
+        }
+        if (c < 0x20) return SKIM_SYNTAX; /* a control character, or the end of the data */
+        if (c != '\\') {
+            s->pos++;
+            continue;
+        }
+        s->pos++;
+        const int e = peek(s);
+        if (e != 'u') {
+            if (e < 0 || !strchr("\"\\/bfnrt", e)) return SKIM_SYNTAX;
+            s->pos++;
+            continue;
+        }
+        const long unit = skim_code_unit(s);
+        if (unit < 0 || (unit >= 0xDC00 && unit <= 0xDFFF)) return SKIM_SYNTAX;
+        if (unit >= 0xD800 && unit <= 0xDBFF) { /* a high surrogate: its low half follows */
+            if (peek(s) != '\\') return SKIM_SYNTAX;
+            s->pos++;
+            if (peek(s) != 'u') return SKIM_SYNTAX;
+            const long low = skim_code_unit(s);
+            if (low < 0xDC00 || low > 0xDFFF) return SKIM_SYNTAX;
+        }
+    }
+}
+
+/* One or more digits. */
+static int skim_digits(skim *s)
+{
+    if (!is_digit(peek(s))) return SKIM_SYNTAX;
+    while (is_digit(peek(s)))
+        s->pos++;
+    return 0;
+}
+
+/* -? (0 | [1-9][0-9]*) (. [0-9]+)? ([eE] [+-]? [0-9]+)?, at most MAX_NUMBER_CHARS long. */
+static int skim_number(skim *s)
+{
+    const size_t start = s->pos;
+    if (peek(s) == '-') s->pos++;
+    if (peek(s) == '0')
+        s->pos++;
+    else if (skim_digits(s))
+        return SKIM_SYNTAX;
+    if (peek(s) == '.') {
+        s->pos++;
+        if (skim_digits(s)) return SKIM_SYNTAX;
+    }
+    if (peek(s) == 'e' || peek(s) == 'E') {
+        s->pos++;
+        if (peek(s) == '+' || peek(s) == '-') s->pos++;
+        if (skim_digits(s)) return SKIM_SYNTAX;
+    }
+    if (s->pos - start > MAX_NUMBER_CHARS) {
+        s->pos = start + MAX_NUMBER_CHARS;
+        return SKIM_SYNTAX;
+    }
+    return 0;
+}
+
+static int skim_word(skim *s, const char *word)
+{
+    const size_t n = strlen(word);
+    if (s->size - s->pos < n || memcmp(s->data + s->pos, word, n) != 0) return SKIM_SYNTAX;
+    s->pos += n;
+    return 0;
+}
+
+/* Steps to the next item of an array (close ']') or object (close '}') whose opening bracket s
+ * has passed (*first set, cleared here) or whose last item s has passed. Returns 1 with s at
+ * the item's value (for an object past its key and colon, the key's bytes in *key), 0 with s
+ * past the closing bracket, or SKIM_SYNTAX. */
+static int next_item(skim *s, int close, int *first, span *key)
+{
+    skip_space(s);
+    if (peek(s) == close) {
+        s->pos++;
+        return 0;
+    }
+    if (!*first) {
+        if (peek(s) != ',') return SKIM_SYNTAX;
+        s->pos++;
+        skip_space(s);
+    }
+    *first = 0;
+    if (close == '}') {
+        if (peek(s) != '"') return SKIM_SYNTAX;
+        key->start = s->pos + 1;
+        if (skim_string(s)) return SKIM_SYNTAX;
+        key->end = s->pos - 1;
+        skip_space(s);
+        if (peek(s) != ':') return SKIM_SYNTAX;
+        s->pos++;
+        skip_space(s);
+    }
+    return 1;
+}
+
+/* Any value, s at its first byte; `depth` arrays and objects hold it. */
+static int skim_value(skim *s, int depth)
+{
+    const int c = peek(s);
+    if (c == '{' || c == '[') {
+        if (depth >= MAX_NESTING) return SKIM_SYNTAX;
+        s->pos++;
+        int first = 1, more;
+        span key;
+        while ((more = next_item(s, c == '{' ? '}' : ']', &first, &key)) == 1)
+            if (skim_value(s, depth + 1)) return SKIM_SYNTAX;
+        return more;
+    }
+    if (c == '"') return skim_string(s);
+    if (c == 't') return skim_word(s, "true");
+    if (c == 'f') return skim_word(s, "false");
+    if (c == 'n') return skim_word(s, "null");
+    if (c == '-' || is_digit(c)) return skim_number(s);
+    return SKIM_SYNTAX;
+}
+
+/* 1 when the key's bytes are `name` (escapes are not decoded). */
+static int key_is(const skim *s, span key, const char *name)
+{
+    const size_t n = strlen(name);
+    return key.end - key.start == n && memcmp(s->data + key.start, name, n) == 0;
+}
+
+/* A cJSON object of the members of page k that the skim found (names[i] when found[i] is
+ * present, each value parsed on its own, none longer than MAX_READ_VALUE_BYTES), in place of
+ * the whole page's tree; *out is NULL on failure. The values were skimmed, so cJSON fails on
+ * them only for want of memory. */
+static int shallow_object(const skim *s, const char *const *names, int nnames, const span *found,
+                          const char *name, int k, cJSON **out, lt_error *err)
+{
+    *out = cJSON_CreateObject();
+    if (!*out) return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+    for (int i = 0; i < nnames; i++) {
+        if (!found[i].present) continue;
+        const size_t len = found[i].end - found[i].start;
+        if (len > MAX_READ_VALUE_BYTES) {
+            cJSON_Delete(*out);
+            *out = NULL;
+            return lt_error_set(err, LT_EPARSE, "%s: page %d: \"%s\" is longer than %d bytes",
+                                name, k, names[i], MAX_READ_VALUE_BYTES);
+        }
+        cJSON *value = cJSON_ParseWithLength(s->data + found[i].start, len);
+        if (!value || !cJSON_AddItemToObject(*out, names[i], value)) {
+            cJSON_Delete(value);
+            cJSON_Delete(*out);
+            *out = NULL;
+            return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
+        }
+    }
+    return 0;
+}
+
 /* Reads an integer member into *out. Returns 1 when present and a whole number in
  * [lo, hi], 0 when absent, -1 when present but not such a number. */
 static int get_int(const cJSON *obj, const char *key, long lo, long hi, int *out)
@@ -159,51 +385,6 @@ static int get_int(const cJSON *obj, const char *key, long lo, long hi, int *out
     if (!isfinite(d) || d != floor(d) || d < (double)lo || d > (double)hi) return -1;
     *out = (int)d;
     return 1;
-}
-
-/* Reads quad [[x, y] x 4] from a JSON array: finite numbers within +-LT_SCORE_MAX_COORD.
- * Returns NULL, or what is wrong with it. */
-static const char *parse_quad(const cJSON *arr, lt_point quad[4])
-{
-    if (!cJSON_IsArray(arr) || cJSON_GetArraySize(arr) != 4)
-        return "\"quad\" is not an array of 4 points";
-    int n = 0;
-    for (const cJSON *pt = arr->child; pt; pt = pt->next, n++) {
-        if (!cJSON_IsArray(pt) || cJSON_GetArraySize(pt) != 2 || !cJSON_IsNumber(pt->child) ||
-            !cJSON_IsNumber(pt->child->next))
-            return "\"quad\" holds a point that is not 2 numbers";
-        const double x = pt->child->valuedouble, y = pt->child->next->valuedouble;
-        if (!isfinite(x) || !isfinite(y) || fabs(x) > LT_SCORE_MAX_COORD ||
-            fabs(y) > LT_SCORE_MAX_COORD)
-            return "\"quad\" coordinate is out of range";
-        quad[n].x = x;
-        quad[n].y = y;
-    }
-    return NULL;
-}
-
-/* Reads box [l, t, r, b] from a JSON array: 4 whole numbers within +-LT_SCORE_MAX_COORD,
- * left <= right, top <= bottom. Returns NULL on success or a static reason. */
-static const char *parse_box(const cJSON *arr, lt_box *box)
-{
-    if (!cJSON_IsArray(arr)) return "\"box\" is not an array of 4 integers";
-    int v[4], n = 0;
-    for (const cJSON *it = arr->child; it; it = it->next) {
-        if (n == 4) return "\"box\" has more than 4 numbers";
-        if (!cJSON_IsNumber(it)) return "\"box\" holds a value that is not a number";
-        double d = it->valuedouble;
-        if (!isfinite(d) || d != floor(d)) return "\"box\" holds a number that is not whole";
-        if (fabs(d) > LT_SCORE_MAX_COORD) return "\"box\" coordinate is out of range";
-        v[n++] = (int)d;
-    }
-    if (n != 4) return "\"box\" does not have 4 numbers";
-    if (v[2] < v[0]) return "\"box\" has right < left";
-    if (v[3] < v[1]) return "\"box\" has bottom < top";
-    box->left = v[0];
-    box->top = v[1];
-    box->right = v[2];
-    box->bottom = v[3];
-    return NULL;
 }
 
 static char *dup_string(const char *s)
@@ -235,18 +416,246 @@ static void page_clear(lt_scored_page *pg)
     memset(pg, 0, sizeof *pg);
 }
 
-/* Converts one parsed object (the k-th of the file, from 1) into *pg, which starts zeroed.
- * On failure pg is cleared and the message names the file and k. */
-static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_page *pg,
-                        lt_error *err)
+/* ---- lines, read from their bytes ------------------------------------------------------------
+ * The line readers walk the bytes once, checking the grammar as the skim does (SKIM_SYNTAX
+ * when it breaks), and always move past the value they were given: a value they refuse is
+ * skimmed to its end and what is wrong with it is left in *why. The depths below count the
+ * arrays and objects that hold a value (the page object, "lines", a line, a quad). */
+enum { LINE_DEPTH = 2, MEMBER_DEPTH = 3, POINT_DEPTH = 4 };
+
+/* The lines of a page as they are read. */
+typedef struct line_array {
+    lt_scored_line *items;
+    long count, cap;
+    lt_error refused; /* the first line that could not be read; code 0 when none */
+} line_array;
+
+static int is_number_start(int c)
+{
+    return c == '-' || is_digit(c);
+}
+
+/* The number at s into *v, as cJSON reads it: a whole number of at most 15 digits exactly (a
+ * double holds it), any other by strtod. */
+static int read_number(skim *s, double *v)
+{
+    const size_t start = s->pos;
+    if (skim_number(s)) return SKIM_SYNTAX;
+    const char *p = s->data + start;
+    const size_t len = s->pos - start;
+    const size_t minus = *p == '-';
+    double whole = 0;
+    size_t i = minus;
+    while (i < len && is_digit(p[i]))
+        whole = whole * 10 + (p[i++] - '0');
+    if (i == len && len - minus <= 15) {
+        *v = minus ? -whole : whole;
+        return 0;
+    }
+    char text[MAX_NUMBER_CHARS + 1];
+    memcpy(text, p, len);
+    text[len] = '\0';
+    *v = strtod(text, NULL);
+    return 0;
+}
+
+/* Records `reason` in *why and moves past the value that starts at `start`, at `depth`. */
+static int refuse(skim *s, size_t start, int depth, const char *reason, const char **why)
+{
+    *why = reason;
+    s->pos = start;
+    return skim_value(s, depth);
+}
+
+/* A box [l, t, r, b]: 4 whole numbers within +-LT_SCORE_MAX_COORD, left <= right,
+ * top <= bottom. */
+static int read_box(skim *s, lt_box *box, const char **why)
+{
+    const size_t start = s->pos;
+    if (peek(s) != '[')
+        return refuse(s, start, MEMBER_DEPTH, "\"box\" is not an array of 4 integers", why);
+    s->pos++;
+    int v[4], n = 0, first = 1, more;
+    span unused;
+    while ((more = next_item(s, ']', &first, &unused)) == 1) {
+        if (n == 4) return refuse(s, start, MEMBER_DEPTH, "\"box\" has more than 4 numbers", why);
+        if (!is_number_start(peek(s)))
+            return refuse(s, start, MEMBER_DEPTH, "\"box\" holds a value that is not a number",
+                          why);
+        double d;
+        if (read_number(s, &d)) return SKIM_SYNTAX;
+        if (!isfinite(d) || d != floor(d))
+            return refuse(s, start, MEMBER_DEPTH, "\"box\" holds a number that is not whole", why);
+        if (fabs(d) > LT_SCORE_MAX_COORD)
+            return refuse(s, start, MEMBER_DEPTH, "\"box\" coordinate is out of range", why);
+        v[n++] = (int)d;
+    }
+    if (more) return SKIM_SYNTAX;
+    if (n != 4)
+        *why = "\"box\" does not have 4 numbers";
+    else if (v[2] < v[0])
+        *why = "\"box\" has right < left";
+    else if (v[3] < v[1])
+        *why = "\"box\" has bottom < top";
+    else
+        *box = (lt_box){v[0], v[1], v[2], v[3]};
+    return 0;
+}
+
+/* A point [x, y] of a quad: 2 finite numbers within +-LT_SCORE_MAX_COORD. */
+static int read_point(skim *s, lt_point *point, const char **why)
+{
+    static const char *const not_two = "\"quad\" holds a point that is not 2 numbers";
+    const size_t start = s->pos;
+    if (peek(s) != '[') return refuse(s, start, POINT_DEPTH, not_two, why);
+    s->pos++;
+    double xy[2];
+    int n = 0, first = 1, more;
+    span unused;
+    while ((more = next_item(s, ']', &first, &unused)) == 1) {
+        if (n == 2 || !is_number_start(peek(s))) return refuse(s, start, POINT_DEPTH, not_two, why);
+        if (read_number(s, &xy[n++])) return SKIM_SYNTAX;
+    }
+    if (more) return SKIM_SYNTAX;
+    if (n != 2)
+        *why = not_two;
+    else if (!isfinite(xy[0]) || !isfinite(xy[1]) || fabs(xy[0]) > LT_SCORE_MAX_COORD ||
+             fabs(xy[1]) > LT_SCORE_MAX_COORD)
+        *why = "\"quad\" coordinate is out of range";
+    else
+        *point = (lt_point){xy[0], xy[1]};
+    return 0;
+}
+
+/* A quad [[x, y] x 4]. One of another length is refused as such before any of its points. */
+static int read_quad(skim *s, lt_point quad[4], const char **why)
+{
+    static const char *const not_four = "\"quad\" is not an array of 4 points";
+    const size_t start = s->pos;
+    if (peek(s) != '[') return refuse(s, start, MEMBER_DEPTH, not_four, why);
+    s->pos++;
+    const char *point_why = NULL;
+    int n = 0, first = 1, more;
+    span unused;
+    while ((more = next_item(s, ']', &first, &unused)) == 1) {
+        const int rc = n < 4 && !point_why ? read_point(s, &quad[n], &point_why)
+                                           : skim_value(s, POINT_DEPTH);
+        if (rc) return SKIM_SYNTAX;
+        n++;
+    }
+    if (more) return SKIM_SYNTAX;
+    *why = n != 4 ? not_four : point_why;
+    return 0;
+}
+
+/* Reads line i of page k, the value at s, into *line. Its first "box", "quad" and "in_order"
+ * count, the rest is skimmed; what is wrong is told in that order of precedence, in *refused
+ * (naming the file, k and i). */
+static int read_line(skim *s, const char *name, int k, long i, lt_scored_line *line,
+                     lt_error *refused)
+{
+    if (peek(s) != '{') {
+        lt_error_set(refused, LT_EPARSE, "%s: page %d: lines[%ld] is not an object", name, k, i);
+        return skim_value(s, LINE_DEPTH);
+    }
+    s->pos++;
+    const char *box_why = "missing \"box\"", *quad_why = NULL, *order_why = NULL;
+    int seen_box = 0, seen_order = 0, first = 1, more, rc = 0;
+    span key;
+    line->has_quad = 0;
+    line->in_order = 1;
+    while (!rc && (more = next_item(s, '}', &first, &key)) == 1) {
+        if (!seen_box && key_is(s, key, "box")) {
+            seen_box = 1;
+            box_why = NULL;
+            rc = read_box(s, &line->box, &box_why);
+        } else if (!line->has_quad && key_is(s, key, "quad")) {
+            line->has_quad = 1;
+            rc = read_quad(s, line->quad, &quad_why);
+        } else if (!seen_order && key_is(s, key, "in_order")) {
+            seen_order = 1;
+            const int c = peek(s);
+            if (c == 't' || c == 'f')
+                line->in_order = c == 't';
+            else
+                order_why = "\"in_order\" is not true or false";
+            rc = skim_value(s, MEMBER_DEPTH);
+        } else {
+            rc = skim_value(s, MEMBER_DEPTH);
+        }
+    }
+    if (rc || more) return SKIM_SYNTAX;
+    const char *why = box_why ? box_why : quad_why ? quad_why : order_why;
+    if (why) lt_error_set(refused, LT_EPARSE, "%s: page %d: lines[%ld]: %s", name, k, i, why);
+    return 0;
+}
+
+/* Reads the array of lines at s into *a, keeping the first refusal in a->refused (the lines
+ * after it are only skimmed). Its item LT_SCORE_MAX_LINES + 1 stops it with SKIM_TOO_MANY
+ * before it is looked at. */
+static int read_lines(skim *s, const char *name, int k, line_array *a)
+{
+    s->pos++;
+    int first = 1, more;
+    span unused;
+    long n = 0;
+    while ((more = next_item(s, ']', &first, &unused)) == 1) {
+        if (n++ == LT_SCORE_MAX_LINES) return SKIM_TOO_MANY;
+        if (!a->refused.code && a->count == a->cap) {
+            const long cap = a->cap ? (a->cap < LT_SCORE_MAX_LINES / 2 ? 2 * a->cap
+                                                                       : LT_SCORE_MAX_LINES)
+                                    : 64;
+            lt_scored_line *items = realloc(a->items, (size_t)cap * sizeof *items);
+            if (items) {
+                a->items = items;
+                a->cap = cap;
+            } else {
+                lt_error_set(&a->refused, LT_ENOMEM, "%s: out of memory", name);
+            }
+        }
+        const int rc = a->refused.code
+                           ? skim_value(s, LINE_DEPTH)
+                           : read_line(s, name, k, a->count, &a->items[a->count], &a->refused);
+        if (rc) return SKIM_SYNTAX;
+        a->count++;
+    }
+    return more;
+}
+
+/* Skims the page object at s to its end: records in found[i] the value of the first member
+ * named keys[i], and reads the lines of the first "lines" (keys[nkeys - 1]) into *lines when
+ * it is an array. */
+static int skim_page(skim *s, const char *name, int k, const char *const *keys, int nkeys,
+                     span *found, line_array *lines)
+{
+    s->pos++;
+    int first = 1, more;
+    span key;
+    while ((more = next_item(s, '}', &first, &key)) == 1) {
+        int which = -1;
+        for (int i = 0; i < nkeys && which < 0; i++)
+            if (!found[i].present && key_is(s, key, keys[i])) which = i;
+        const size_t start = s->pos;
+        const int rc = which == nkeys - 1 && peek(s) == '[' ? read_lines(s, name, k, lines)
+                                                            : skim_value(s, 1);
+        if (rc) return rc;
+        if (which >= 0) found[which] = (span){start, s->pos, 1};
+    }
+    return more;
+}
+
+/* Converts the k-th page object of the file (from 1) into *pg, which starts zeroed: `obj`
+ * holds the members it reads but its lines, which were read into *lines; `lines_value` is the
+ * first byte of its "lines" (NULL when it has none). On success pg takes the lines (not those
+ * of an error record); on failure pg is cleared and the message names the file and k. */
+static int convert_page(const cJSON *obj, const char *lines_value, line_array *lines,
+                        const char *name, int k, lt_scored_page *pg, lt_error *err)
 {
 #define FAIL(code, ...)                                                                            \
     do {                                                                                           \
         page_clear(pg);                                                                            \
         return lt_error_set(err, code, __VA_ARGS__);                                               \
     } while (0)
-    if (!cJSON_IsObject(obj)) FAIL(LT_EPARSE, "%s: page %d: not a JSON object", name, k);
-
     const cJSON *errv = cJSON_GetObjectItemCaseSensitive(obj, "error");
     const cJSON *fmtv = cJSON_GetObjectItemCaseSensitive(obj, "format");
     if (fmtv && !cJSON_IsString(fmtv))
@@ -308,41 +717,40 @@ static int convert_page(const cJSON *obj, const char *name, int k, lt_scored_pag
         pg->has_skew = 1;
     }
 
-    const cJSON *lines = cJSON_GetObjectItemCaseSensitive(obj, "lines");
-    if (!lines) FAIL(LT_EPARSE, "%s: page %d: missing \"lines\"", name, k);
-    if (!cJSON_IsArray(lines)) FAIL(LT_EPARSE, "%s: page %d: \"lines\" is not an array", name, k);
-    long n = 0;
-    for (const cJSON *it = lines->child; it; it = it->next)
-        n++;
-    if (n > LT_SCORE_MAX_LINES)
-        FAIL(LT_ELIMIT, "%s: page %d: %ld lines, more than the limit of %d", name, k, n,
-             LT_SCORE_MAX_LINES);
-    pg->lines = malloc((size_t)(n > 0 ? n : 1) * sizeof *pg->lines);
-    if (!pg->lines) FAIL(LT_ENOMEM, "%s: out of memory", name);
-    long i = 0;
-    for (const cJSON *it = lines->child; it; it = it->next, i++) {
-        if (!cJSON_IsObject(it))
-            FAIL(LT_EPARSE, "%s: page %d: lines[%ld] is not an object", name, k, i);
-        const cJSON *box = cJSON_GetObjectItemCaseSensitive(it, "box");
-        if (!box) FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: missing \"box\"", name, k, i);
-        const char *why = parse_box(box, &pg->lines[i].box);
-        if (why) FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: %s", name, k, i, why);
-        const cJSON *quad = cJSON_GetObjectItemCaseSensitive(it, "quad");
-        pg->lines[i].has_quad = quad != NULL;
-        if (quad && (why = parse_quad(quad, pg->lines[i].quad)))
-            FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: %s", name, k, i, why);
-        pg->lines[i].in_order = 1;
-        const cJSON *io = cJSON_GetObjectItemCaseSensitive(it, "in_order");
-        if (io) {
-            if (!cJSON_IsBool(io))
-                FAIL(LT_EPARSE, "%s: page %d: lines[%ld]: \"in_order\" is not true or false", name,
-                     k, i);
-            pg->lines[i].in_order = cJSON_IsTrue(io) ? 1 : 0;
-        }
-    }
-    pg->nlines = (int)n;
+    if (!lines_value) FAIL(LT_EPARSE, "%s: page %d: missing \"lines\"", name, k);
+    if (*lines_value != '[') FAIL(LT_EPARSE, "%s: page %d: \"lines\" is not an array", name, k);
+    if (lines->refused.code) FAIL(lines->refused.code, "%s", lines->refused.message);
+    pg->lines = lines->items;
+    pg->nlines = (int)lines->count;
+    lines->items = NULL;
     return 0;
 #undef FAIL
+}
+
+/* Reads the value at s, page k of the file, into *pg (zeroed) as convert_page does. */
+static int read_page(skim *s, const char *name, int k, lt_scored_page *pg, lt_error *err)
+{
+    static const char *const keys[] = {"format", "error", "source", "image", "variant", "columns",
+                                       "page",   "width", "height", "skew_deg", "lines"};
+    enum { NKEYS = sizeof keys / sizeof *keys, LINES = NKEYS - 1 };
+    const size_t start = s->pos;
+    span found[NKEYS] = {{0}};
+    line_array lines = {0};
+    int rc = peek(s) == '{' ? skim_page(s, name, k, keys, NKEYS, found, &lines) : skim_value(s, 0);
+    cJSON *obj = NULL;
+    if (rc == SKIM_TOO_MANY)
+        rc = lt_error_set(err, LT_ELIMIT, "%s: page %d: more than %d lines, the limit of one page",
+                          name, k, LT_SCORE_MAX_LINES);
+    else if (rc)
+        rc = syntax_error(name, k, s->data, s->size, start, s->pos, err);
+    else if (s->data[start] != '{')
+        rc = lt_error_set(err, LT_EPARSE, "%s: page %d: not a JSON object", name, k);
+    else if (!(rc = shallow_object(s, keys, LINES, found, name, k, &obj, err)))
+        rc = convert_page(obj, found[LINES].present ? s->data + found[LINES].start : NULL, &lines,
+                          name, k, pg, err);
+    cJSON_Delete(obj);
+    free(lines.items);
+    return rc;
 }
 
 int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_scored_page **pages,
@@ -354,37 +762,21 @@ int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_sc
     if (!data) return lt_error_set(err, LT_EINVAL, "%s: no data", name);
     lt_scored_page *arr = NULL;
     int n = 0, cap = 0;
-    size_t pos = 0;
     int rc = 0;
+    skim s = {data, size, 0};
     /* A UTF-8 byte order mark at the start is allowed (cJSON skips it too). */
-    if (size >= 3 && memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
+    if (size >= 3 && memcmp(data, "\xEF\xBB\xBF", 3) == 0) s.pos = 3;
     for (;;) {
-        while (pos < size && is_json_space(data[pos]))
-            pos++;
-        if (pos >= size) break;
-        const char *end = NULL;
-        cJSON *obj = cJSON_ParseWithLengthOpts(data + pos, size - pos, &end, 0);
-        if (!obj) {
-            size_t at = end ? (size_t)(end - data) : pos;
-            rc = syntax_error(name, n + 1, data, size, pos, at, err);
-            goto fail;
-        }
-        size_t next = (size_t)(end - data);
-        if (next <= pos || next > size) { /* cannot happen with cJSON; guards the loop */
-            cJSON_Delete(obj);
-            rc = lt_error_set(err, LT_EPARSE, "%s: cannot find the end of page %d", name, n + 1);
-            goto fail;
-        }
+        skip_space(&s);
+        if (s.pos >= size) break;
         if (n == cap) {
             if (cap >= INT32_MAX / 2) {
-                cJSON_Delete(obj);
                 rc = lt_error_set(err, LT_ELIMIT, "%s: too many pages", name);
                 goto fail;
             }
             int ncap = cap ? cap * 2 : 4;
             lt_scored_page *narr = realloc(arr, (size_t)ncap * sizeof *narr);
             if (!narr) {
-                cJSON_Delete(obj);
                 rc = lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
                 goto fail;
             }
@@ -392,11 +784,9 @@ int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_sc
             cap = ncap;
         }
         memset(&arr[n], 0, sizeof arr[n]);
-        rc = convert_page(obj, name, n + 1, &arr[n], err);
-        cJSON_Delete(obj);
+        rc = read_page(&s, name, n + 1, &arr[n], err);
         if (rc) goto fail;
         n++;
-        pos = next;
     }
     if (n == 0) {
         rc = lt_error_set(err, LT_EPARSE, "%s: no JSON object (the file is empty)", name);
