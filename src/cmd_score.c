@@ -699,7 +699,11 @@ static int run_files(const char *truth_path, const char *pred_path, results *r)
                           strcmp(truth_path, "-") ? truth_path : "stdin", nt);
     for (int i = 0; !rc && i < nt; i++) {
         const char *src = tp[i].source ? base_name(tp[i].source) : "page";
-        rc = score_pages(r, src, &tp[i], 1, &pp[i], ST_SCORED, nt > 1, &err);
+        lt_error why = {0};
+        rc = score_pages(r, src, &tp[i], 1, &pp[i], ST_SCORED, nt > 1, &why);
+        if (rc) /* the message names the page; the files are named here */
+            lt_error_set(&err, rc, "%s against %s: %s", strcmp(pred_path, "-") ? pred_path : "stdin",
+                         strcmp(truth_path, "-") ? truth_path : "stdin", why.message);
     }
     lt_scored_pages_free(tp, nt);
     lt_scored_pages_free(pp, np);

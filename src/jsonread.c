@@ -155,7 +155,7 @@ static int syntax_error(const char *name, int k, const char *data, size_t size, 
  * its bytes; this way memory stays within the file and the array of lines, and the line limit
  * is checked while the lines are counted, before any of them is read. */
 
-#define MAX_NESTING 1000   /* arrays and objects one inside another (cJSON's own limit) */
+#define MAX_NESTING 1000    /* arrays and objects one inside another (cJSON's own limit) */
 #define MAX_NUMBER_CHARS 63 /* cJSON reads no longer number; the skim refuses one, as it did */
 /* Longest value handed to cJSON: the members read are numbers, names, a box or a quad; a path
  * is at most 4096 bytes, each escaped in at most 6. */
@@ -193,7 +193,10 @@ static int is_digit(int c)
 
 static int hex_value(int c)
 {
-    return is_digit(c) ? c - '0' : c >= 'a' && c <= 'f' ? c - 'a' + 10 : c >= 'A' && c <= 'F' ? c - 'A' + 10 : -1;
+    return is_digit(c)            ? c - '0'
+           : c >= 'a' && c <= 'f' ? c - 'a' + 10
+           : c >= 'A' && c <= 'F' ? c - 'A' + 10
+                                  : -1;
 }
 
 /* The 4 hex digits of a \u escape, s at the 'u'; -1 when they are not. */
@@ -360,8 +363,8 @@ static int shallow_object(const skim *s, const char *const *names, int nnames, c
         if (len > MAX_READ_VALUE_BYTES) {
             cJSON_Delete(*out);
             *out = NULL;
-            return lt_error_set(err, LT_EPARSE, "%s: page %d: \"%s\" is longer than %d bytes",
-                                name, k, names[i], MAX_READ_VALUE_BYTES);
+            return lt_error_set(err, LT_EPARSE, "%s: page %d: \"%s\" is longer than %d bytes", name,
+                                k, names[i], MAX_READ_VALUE_BYTES);
         }
         cJSON *value = cJSON_ParseWithLength(s->data + found[i].start, len);
         if (!value || !cJSON_AddItemToObject(*out, names[i], value)) {
@@ -538,8 +541,8 @@ static int read_quad(skim *s, lt_point quad[4], const char **why)
     int n = 0, first = 1, more;
     span unused;
     while ((more = next_item(s, ']', &first, &unused)) == 1) {
-        const int rc = n < 4 && !point_why ? read_point(s, &quad[n], &point_why)
-                                           : skim_value(s, POINT_DEPTH);
+        const int rc =
+            n < 4 && !point_why ? read_point(s, &quad[n], &point_why) : skim_value(s, POINT_DEPTH);
         if (rc) return SKIM_SYNTAX;
         n++;
     }
@@ -602,9 +605,8 @@ static int read_lines(skim *s, const char *name, int k, line_array *a)
     while ((more = next_item(s, ']', &first, &unused)) == 1) {
         if (n++ == LT_SCORE_MAX_LINES) return SKIM_TOO_MANY;
         if (!a->refused.code && a->count == a->cap) {
-            const long cap = a->cap ? (a->cap < LT_SCORE_MAX_LINES / 2 ? 2 * a->cap
-                                                                       : LT_SCORE_MAX_LINES)
-                                    : 64;
+            const long cap =
+                a->cap ? (a->cap < LT_SCORE_MAX_LINES / 2 ? 2 * a->cap : LT_SCORE_MAX_LINES) : 64;
             lt_scored_line *items = realloc(a->items, (size_t)cap * sizeof *items);
             if (items) {
                 a->items = items;
@@ -636,8 +638,8 @@ static int skim_page(skim *s, const char *name, int k, const char *const *keys, 
         for (int i = 0; i < nkeys && which < 0; i++)
             if (!found[i].present && key_is(s, key, keys[i])) which = i;
         const size_t start = s->pos;
-        const int rc = which == nkeys - 1 && peek(s) == '[' ? read_lines(s, name, k, lines)
-                                                            : skim_value(s, 1);
+        const int rc =
+            which == nkeys - 1 && peek(s) == '[' ? read_lines(s, name, k, lines) : skim_value(s, 1);
         if (rc) return rc;
         if (which >= 0) found[which] = (span){start, s->pos, 1};
     }
@@ -730,8 +732,9 @@ static int convert_page(const cJSON *obj, const char *lines_value, line_array *l
 /* Reads the value at s, page k of the file, into *pg (zeroed) as convert_page does. */
 static int read_page(skim *s, const char *name, int k, lt_scored_page *pg, lt_error *err)
 {
-    static const char *const keys[] = {"format", "error", "source", "image", "variant", "columns",
-                                       "page",   "width", "height", "skew_deg", "lines"};
+    static const char *const keys[] = {"format",  "error",    "source", "image",
+                                       "variant", "columns",  "page",   "width",
+                                       "height",  "skew_deg", "lines"};
     enum { NKEYS = sizeof keys / sizeof *keys, LINES = NKEYS - 1 };
     const size_t start = s->pos;
     span found[NKEYS] = {{0}};

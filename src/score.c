@@ -250,7 +250,9 @@ static long find_candidates(const lt_scored_line *truth, int ntruth, const lt_sc
             int64_t uni = at + ap - inter;
             if (inter == 0 || 2 * inter < uni) continue;
             if (ncand == LT_SCORE_MAX_CANDIDATES)
-                return lt_error_set(err, LT_ELIMIT, "match: more than %d box pairs with IoU >= 0.5",
+                return lt_error_set(err, LT_ELIMIT,
+                                    "match: more than %d box pairs with IoU >= 0.5, the limit of "
+                                    "one page",
                                     LT_SCORE_MAX_CANDIDATES);
             if (out) out[ncand] = (candidate){t, p, inter, uni};
             ncand++;

@@ -1,7 +1,7 @@
 """Table of bad inputs: each case is a file built here, the exit status lineate must give and a
 fragment its one-line message must contain. Every case must finish within 10 s; in one batch
 run of all cases, every good page still comes out. Run by tests/bad_input.sh."""
-import io, json, os, resource, struct, subprocess, sys, tempfile, zlib
+import io, json, os, resource, struct, subprocess, sys, tempfile, time, zlib
 
 import numpy as np
 from PIL import Image
@@ -10,6 +10,9 @@ LINEATE = sys.argv[1]
 SRC = sys.argv[2]
 TIMEOUT_S = 10
 LIMIT_BYTES = 2 << 30  # 2 GiB of address space per run (skipped under sanitizers)
+PILE_LINES = 1000000  # lines of each of the two piles `lineate score` is given
+PILE_SECONDS = 5
+PILE_MEMORY_BYTES = 1 << 30  # address space (not under sanitizers) and peak resident memory
 
 
 def png_bytes(img):
@@ -170,6 +173,34 @@ def run(args):
                           preexec_fn=limit_memory)
 
 
+def run_measured(args, seconds, limit_bytes):
+    """Runs lineate under RLIMIT_AS limit_bytes (not under sanitizers); None when it takes more
+    than `seconds`, else its exit status, stderr lines, time in seconds and peak resident
+    memory in bytes (getrusage of that child)."""
+    def limit():
+        if not os.environ.get("LT_SANITIZED"):
+            resource.setrlimit(resource.RLIMIT_AS, (limit_bytes, limit_bytes))
+    t0 = time.monotonic()
+    with tempfile.TemporaryFile() as err:
+        p = subprocess.Popen([LINEATE] + args, stdout=subprocess.DEVNULL, stderr=err,
+                             preexec_fn=limit)
+        while True:
+            pid, status, usage = os.wait4(p.pid, os.WNOHANG)
+            if pid:
+                break
+            if time.monotonic() - t0 > seconds:
+                p.kill()
+                os.wait4(p.pid, 0)
+                p.returncode = -9
+                return None
+            time.sleep(0.01)
+        elapsed = time.monotonic() - t0
+        p.returncode = os.waitstatus_to_exitcode(status)
+        err.seek(0)
+        lines = err.read().decode(errors="replace").splitlines()
+    return p.returncode, lines, elapsed, usage.ru_maxrss * 1024
+
+
 failed = 0
 
 
@@ -265,4 +296,32 @@ with tempfile.TemporaryDirectory() as tmp:
         err = r.stderr.decode(errors="replace").splitlines()
         check(r.returncode in (0, 1) and len(err) <= 1,
               "score regression %s: exit %d, %d stderr line(s)" % (fname, r.returncode, len(err)))
+    # Two layouts of 1,000,000 lines piled on one box, a ground truth and a lineate layout of
+    # about 70 and 130 MB (10^12 box pairs with IoU >= 0.5): `lineate score` refuses them by
+    # the candidate limit, with one line naming both files, in seconds and in bounded memory
+    # (reading them into cJSON trees took 2.5 GB and 20 s before the limit was reached).
+    box = [100, 100, 1100, 140]
+    quad = [[100, 100], [1100, 100], [1100, 140], [100, 140]]
+    pile_truth, pile_layout = os.path.join(tmp, "pile.gt.json"), os.path.join(tmp, "pile.json")
+    for path, head, line in (
+            (pile_truth, {"format": "lineseg-gt-1", "image": "pile.png", "width": 2000,
+                          "height": 3000}, {"box": box, "quad": quad, "in_order": True}),
+            (pile_layout, {"format": "lineate-layout-1", "source": "pile.png", "page": 1,
+                           "pages": 1, "width": 2000, "height": 3000, "skew_deg": 0},
+             {"box": box, "quad": quad, "baseline": [[100, 132], [1100, 132]],
+              "xheight_px": 20, "block": 0})):
+        with open(path, "w") as f:
+            f.write(json.dumps(head)[:-1] + ', "lines": [' +
+                    ", ".join([json.dumps(line)] * PILE_LINES) + "]}\n")
+    r = run_measured(["score", pile_truth, pile_layout], PILE_SECONDS, PILE_MEMORY_BYTES)
+    if r is None:
+        check(False, "score of two 1,000,000-line piles: finishes within %d s" % PILE_SECONDS)
+    else:
+        status, err, seconds, peak = r
+        one = (len(err) == 1 and pile_truth in err[0] and pile_layout in err[0] and
+               "more than 4000000 box pairs" in err[0])
+        check(status == 1 and one, "score of two 1,000,000-line piles: exit %d, %s" %
+              (status, err[:2]))
+        check(peak < PILE_MEMORY_BYTES, "score of two 1,000,000-line piles: %.1f s, peak %d MB "
+              "(at most %d)" % (seconds, peak >> 20, PILE_MEMORY_BYTES >> 20))
 sys.exit(1 if failed else 0)
