@@ -443,21 +443,23 @@ static int is_number_start(int c)
 static int read_number(skim *s, double *v)
 {
     const size_t start = s->pos;
-    if (skim_number(s)) return SKIM_SYNTAX;
-    const char *p = s->data + start;
-    const size_t len = s->pos - start;
-    const size_t minus = *p == '-';
+    const int minus = peek(s) == '-';
+    s->pos += (size_t)minus;
     double whole = 0;
-    size_t i = minus;
-    while (i < len && is_digit(p[i]))
-        whole = whole * 10 + (p[i++] - '0');
-    if (i == len && len - minus <= 15) {
+    int digits = 0;
+    for (int c; is_digit(c = peek(s)); s->pos++, digits++)
+        whole = whole * 10 + (c - '0');
+    const int next = peek(s);
+    const int leading_zero = digits > 1 && s->data[start + (size_t)minus] == '0';
+    if (digits >= 1 && digits <= 15 && !leading_zero && next != '.' && next != 'e' && next != 'E') {
         *v = minus ? -whole : whole;
         return 0;
     }
+    s->pos = start;
+    if (skim_number(s)) return SKIM_SYNTAX;
     char text[MAX_NUMBER_CHARS + 1];
-    memcpy(text, p, len);
-    text[len] = '\0';
+    memcpy(text, s->data + start, s->pos - start);
+    text[s->pos - start] = '\0';
     *v = strtod(text, NULL);
     return 0;
 }
