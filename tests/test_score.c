@@ -4,6 +4,7 @@
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "score.h"
 
+#include <cJSON.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -1121,6 +1122,135 @@ static void test_reader(void)
     }
 }
 
+/* lt_scored_pages_parse on `text`: its return code, with *pg / *n set (the caller frees). */
+static int parse_text(const char *text, lt_scored_page **pg, int *n, lt_error *err)
+{
+    *err = (lt_error){0};
+    return lt_scored_pages_parse(text, strlen(text), "mem.json", pg, n, err);
+}
+
+/* `depth` arrays one inside another, as a member "deep" of a layout page. */
+static char *nested_page(int depth)
+{
+    const char *head = LAYOUT_HEAD "\"page\":1,\"width\":9,\"height\":9,\"lines\":[],\"deep\":";
+    char *text = malloc(strlen(head) + 2 * (size_t)depth + 2);
+    if (!text) return NULL;
+    char *p = stpcpy(text, head);
+    memset(p, '[', (size_t)depth);
+    memset(p + depth, ']', (size_t)depth);
+    strcpy(p + 2 * depth, "}");
+    return text;
+}
+
+/* The reader walks the text without a tree: the line limit is counted before a line is read,
+ * the members it reads are the first of their name, those it does not read may hold anything
+ * well-formed, and what is well-formed is what cJSON itself parses (nesting, surrogates). */
+static void test_reader_walk(void)
+{
+    lt_scored_page *pg;
+    int n;
+    lt_error err;
+    /* the limit: 1,000,000 lines are read; one more is refused before it is looked at (the
+     * lines are empty objects, which reading would refuse for want of a box) */
+    const char *head = LAYOUT_HEAD "\"page\":1,\"width\":9,\"height\":9,\"lines\":[";
+    const char *good = "{\"box\":[0,0,1,1]},", *empty = "{},";
+    const size_t lines = LT_SCORE_MAX_LINES;
+    char *text = malloc(strlen(head) + (lines + 1) * strlen(good) + 4);
+    if (!text) {
+        fail("out of memory");
+        return;
+    }
+    char *p = stpcpy(text, head);
+    for (size_t i = 0; i < lines; i++)
+        p = stpcpy(p, good);
+    strcpy(p - 1, "]}");
+    if (parse_text(text, &pg, &n, &err) == 0) {
+        CHECK(n == 1 && pg[0].nlines == LT_SCORE_MAX_LINES, "a page at the line limit: %d lines",
+              n == 1 ? pg[0].nlines : -1);
+        lt_scored_pages_free(pg, n);
+    } else {
+        fail("a page at the line limit: %s", err.message);
+    }
+    p = stpcpy(text, head);
+    for (size_t i = 0; i <= lines; i++)
+        p = stpcpy(p, empty);
+    strcpy(p - 1, "]}");
+    CHECK(parse_text(text, &pg, &n, &err) == LT_ELIMIT && strstr(err.message, "mem.json: page 1") &&
+              strstr(err.message, "more than 1000000 lines"),
+          "a line over the limit: %s", err.message);
+    free(text);
+
+    /* the first member of a name counts, as cJSON_GetObjectItem finds it */
+    if (parse_text(LAYOUT_HEAD "\"page\":1,\"width\":9,\"height\":7,\"width\":\"x\",\"lines\":["
+                   "{\"box\":[1,2,3,4],\"in_order\":false,\"box\":\"x\",\"in_order\":1}],"
+                   "\"lines\":7}",
+                   &pg, &n, &err) == 0) {
+        CHECK(pg[0].width == 9 && pg[0].nlines == 1 && pg[0].lines[0].box.right == 3 &&
+                  pg[0].lines[0].in_order == 0,
+              "repeated members: the first counts");
+        lt_scored_pages_free(pg, n);
+    } else {
+        fail("repeated members: %s", err.message);
+    }
+
+    /* members not read hold anything well-formed, at any size */
+    const size_t big = 1 << 20;
+    text = malloc(big + 256);
+    if (text) {
+        p = stpcpy(text, LAYOUT_HEAD "\"page\":1,\"width\":9,\"height\":9,\"lines\":[{\"box\":"
+                                     "[1,2,3,4],\"text\":\"");
+        memset(p, 'x', big);
+        strcpy(p + big, "\",\"polygon\":[[1e400,-0.5E-3],{\"a\":[true,null]}]}]}");
+        CHECK(parse_text(text, &pg, &n, &err) == 0, "a line with a 1 MB text: %s", err.message);
+        lt_scored_pages_free(pg, n);
+        /* a member the reader parses is refused past 64 KiB */
+        p = stpcpy(text, "{\"format\":\"lineate-layout-1\",\"page\":1,\"width\":9,\"height\":9,"
+                         "\"lines\":[],\"source\":\"");
+        memset(p, 'x', big);
+        strcpy(p + big, "\"}");
+        CHECK(parse_text(text, &pg, &n, &err) == LT_EPARSE &&
+                  strstr(err.message, "\"source\" is longer than 65536 bytes"),
+              "a 1 MB source: %s", err.message);
+        free(text);
+    }
+
+    /* nesting and surrogates: refused exactly when cJSON_Parse (cJSON 1.7) refuses them */
+    for (int depth = 998; depth <= 1000; depth++) {
+        text = nested_page(depth);
+        if (!text) continue;
+        cJSON *tree = cJSON_Parse(text);
+        const int rc = parse_text(text, &pg, &n, &err);
+        CHECK((rc == 0) == (tree != NULL), "%d arrays deep: cJSON %s, the reader %d (%s)", depth,
+              tree ? "parses it" : "refuses it", rc, err.message);
+        CHECK(rc == 0 || strstr(err.message, "not valid JSON"), "%d deep: %s", depth, err.message);
+        cJSON_Delete(tree);
+        lt_scored_pages_free(pg, n);
+        free(text);
+    }
+    static const char *const strings[] = {"\\ud83d\\ude00", "\\ud800", "\\udc00x",
+                                          "\\ud800\\u0041", "\\u00e9\\n\\/"};
+    for (size_t i = 0; i < sizeof strings / sizeof *strings; i++) {
+        char page[256];
+        snprintf(page, sizeof page,
+                 LAYOUT_HEAD "\"page\":1,\"width\":9,\"height\":9,\"lines\":[],\"note\":\"%s\"}",
+                 strings[i]);
+        cJSON *tree = cJSON_Parse(page);
+        const int rc = parse_text(page, &pg, &n, &err);
+        CHECK((rc == 0) == (tree != NULL), "the string \"%s\": cJSON %s, the reader %d (%s)",
+              strings[i], tree ? "parses it" : "refuses it", rc, err.message);
+        cJSON_Delete(tree);
+        lt_scored_pages_free(pg, n);
+    }
+
+    /* a syntax error is placed at the first byte that no JSON text can continue with */
+    CHECK(parse_text(LAYOUT_HEAD "\"page\":1 x}", &pg, &n, &err) == LT_EPARSE &&
+              strstr(err.message, "line 1, column 59: not valid JSON"),
+          "syntax error: %s", err.message);
+    CHECK(parse_text(LAYOUT_HEAD "\n\"page\":01}", &pg, &n, &err) == LT_EPARSE &&
+              strstr(err.message, "line 2, column 9: not valid JSON"),
+          "leading zero: %s", err.message);
+}
+
 /* Reader and scorer together on a ground-truth page and a prediction of it. */
 static void test_end_to_end(void)
 {
@@ -1214,6 +1344,7 @@ int main(void)
     test_longest_increasing();
     test_cover_brute_force();
     test_reader();
+    test_reader_walk();
     test_end_to_end();
     cleanup();
     if (failures) {
