@@ -66,8 +66,12 @@ int lt_read_whole_file(const char *path, size_t max_bytes, char **data, size_t *
  * simply concatenated, separated by white space) into *pages / *npages, in file order. Each
  * object is a lineate layout page or a ground-truth page (told apart by "format"), or an
  * error record (an object with a string "error", kept as a failed page with no lines).
- * Malformed input fails with LT_EPARSE and the one-line message "NAME: reason"; on failure
- * *pages is NULL and *npages 0. */
+ * The text must follow RFC 8259; it is checked and read in place, without a tree of the page,
+ * so memory beyond `data` is the pages' lines; the first of repeated members counts. Malformed
+ * input fails with LT_EPARSE and the one-line message "NAME: reason" (a syntax error placed
+ * at the first byte no JSON text continues with), a page of more than LT_SCORE_MAX_LINES
+ * lines with LT_ELIMIT before the next line is read; on failure *pages is NULL and *npages
+ * 0. */
 int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_scored_page **pages,
                           int *npages, lt_error *err);
 
