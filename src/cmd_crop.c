@@ -11,11 +11,11 @@
 #include "crop.h"
 #include "internal.h" /* lt_json_add_source, lt_source_bytes_decode */
 #include "layoutfile.h"
+#include "pngwrite.h"
 
 #include <cjson/cJSON.h>
 #include <errno.h>
 #include <math.h>
-#include <png.h>
 #include <stdatomic.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -85,76 +85,23 @@ typedef struct crop_line {
 
 /* ---- PNG ----------------------------------------------------------------------------- */
 
-static void png_write_fail(png_structp png, png_const_charp msg)
-{
-    (void)msg;
-    png_longjmp(png, 1);
-}
-
-static void png_write_warning(png_structp png, png_const_charp msg)
-{
-    (void)png;
-    (void)msg;
-}
-
-/* Writes an 8-bit gray image as a PNG file at `path`, with its resolution (pHYs) when known.
- * 0, or -1 with errno set (EIO when libpng failed); a failed file is removed. */
+/* Writes an 8-bit gray image as a PNG file at `path` (src/pngwrite.c), with its resolution
+ * when known. 0, or -1 with errno set; a failed file is removed. */
 static int write_png(const char *path, const lt_image *img)
 {
-    FILE *volatile fp = fopen(path, "wb");
+    FILE *fp = fopen(path, "wb");
     if (!fp) return -1;
-    png_structp png =
-        png_create_write_struct(PNG_LIBPNG_VER_STRING, NULL, png_write_fail, png_write_warning);
-    png_infop info = png ? png_create_info_struct(png) : NULL;
-    if (!png || !info) {
-        png_destroy_write_struct(png ? &png : NULL, NULL);
-        fclose(fp);
-        remove(path);
-        errno = ENOMEM;
-        return -1;
+    int rc = lt_png_write(fp, img->pixels, img->width, img->height, 1, img->dpi);
+    int saved = errno;
+    if (fclose(fp) != 0 && rc == 0) {
+        saved = errno ? errno : EIO;
+        rc = -1;
     }
-    if (setjmp(png_jmpbuf(png))) {
-        int saved = errno ? errno : EIO;
-        png_destroy_write_struct(&png, &info);
-        fclose(fp);
+    if (rc) {
         remove(path);
         errno = saved;
-        return -1;
     }
-    png_init_io(png, fp);
-    /* Measured on the crops of the newsletter test page (libpng 1.6.39, zlib 1.2.13): no row
-     * filter and zlib level 3 cost a quarter of the instructions of libpng's default (adaptive
-     * filters) and give smaller files for these two-tone text images; level 6 saves another
-     * 14% of bytes for three times the time. */
-    png_set_filter(png, 0, PNG_FILTER_NONE);
-    png_set_compression_level(png, 3);
-    png_set_IHDR(png, info, (png_uint_32)img->width, (png_uint_32)img->height, 8,
-                 PNG_COLOR_TYPE_GRAY, PNG_INTERLACE_NONE, PNG_COMPRESSION_TYPE_DEFAULT,
-                 PNG_FILTER_TYPE_DEFAULT);
-    if (img->dpi > 0) {
-        png_uint_32 ppm = (png_uint_32)lround(img->dpi / 0.0254);
-        png_set_pHYs(png, info, ppm, ppm, PNG_RESOLUTION_METER);
-    }
-    png_write_info(png, info);
-    for (int y = 0; y < img->height; y++)
-        png_write_row(png, img->pixels + (size_t)y * (size_t)img->width);
-    png_write_end(png, info);
-    png_destroy_write_struct(&png, &info);
-    errno = 0;
-    if (fflush(fp) != 0 || ferror(fp)) {
-        int saved = errno ? errno : EIO;
-        fclose(fp);
-        remove(path);
-        errno = saved;
-        return -1;
-    }
-    if (fclose(fp) != 0) {
-        int saved = errno ? errno : EIO;
-        remove(path);
-        errno = saved;
-        return -1;
-    }
-    return 0;
+    return rc;
 }
 
 /* ---- the manifest's values ------------------------------------------------------------ */

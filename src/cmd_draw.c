@@ -1,17 +1,16 @@
 /* cmd_draw.c — `lineate draw IMAGE [LAYOUT] -o OUT.png`: reads one page of an image and its
  * layout (a saved JSON page object, or the analysis of the page when no LAYOUT is given), and
- * writes the audit picture of src/draw.c as an RGB PNG (libpng) under a temporary name in the
+ * writes the audit picture of src/draw.c as an RGB PNG (src/pngwrite.c) under a temporary name in the
  * output's folder, renamed into place once complete, so a failed run leaves no file. */
 #include "cli.h"
 #include "draw.h"
 #include "layoutfile.h"
+#include "pngwrite.h"
 #include "score.h" /* lt_read_whole_file and the reader's limits */
 
 #include <cjson/cJSON.h>
 #include <errno.h>
 #include <math.h>
-#include <png.h>
-#include <setjmp.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -195,89 +194,20 @@ static int analyse_layout(const lt_image *img, const char *name, int page, int p
 
 /* ---- PNG writing ---------------------------------------------------------------------------- */
 
-typedef struct png_failure {
-    char message[200];
-    FILE *fp;
-} png_failure;
-
-static void png_fail(png_structp png, png_const_charp msg)
+/* Writes the picture to fp as an 8-bit RGB PNG (src/pngwrite.c); the resolution, when dpi > 0,
+ * goes into pHYs. Returns 0, or -1 with the reason in why. */
+static int write_png(FILE *fp, const lt_picture *p, double dpi, char *why, size_t why_size)
 {
-    png_failure *f = png_get_error_ptr(png);
-    if (!f->message[0]) snprintf(f->message, sizeof f->message, "%s", msg);
-    png_longjmp(png, 1);
-}
-
-/* libpng's output: the stdio stream, with the system's reason kept when a write fails. */
-static void png_put(png_structp png, png_bytep bytes, size_t n)
-{
-    png_failure *f = png_get_error_ptr(png);
-    if (fwrite(bytes, 1, n, f->fp) != n) {
-        snprintf(f->message, sizeof f->message, "%s", strerror(errno ? errno : EIO));
-        png_error(png, "write error");
-    }
-}
-
-static void png_flush_stream(png_structp png)
-{
-    png_failure *f = png_get_error_ptr(png);
-    if (fflush(f->fp) != 0) {
-        snprintf(f->message, sizeof f->message, "%s", strerror(errno ? errno : EIO));
-        png_error(png, "write error");
-    }
-}
-
-static void png_quiet(png_structp png, png_const_charp msg)
-{
-    (void)png;
-    (void)msg;
-}
-
-/* Writes the canvas to fp as an 8-bit RGB PNG; the resolution, when dpi > 0, goes into pHYs.
- * Returns 0, or -1 with the reason in why (errno's text when a write failed). */
-static int write_png(FILE *fp, const lt_canvas *c, double dpi, char *why, size_t why_size)
-{
-    png_failure fail = {"", fp};
-    png_structp png = png_create_write_struct(PNG_LIBPNG_VER_STRING, &fail, png_fail, png_quiet);
-    png_infop info = png ? png_create_info_struct(png) : NULL;
-    if (!info) {
-        png_destroy_write_struct(&png, NULL);
-        snprintf(why, why_size, "out of memory");
-        return -1;
-    }
-    if (setjmp(png_jmpbuf(png))) {
-        png_destroy_write_struct(&png, &info);
-        snprintf(why, why_size, "%s", fail.message);
-        return -1;
-    }
-    errno = 0;
-    png_set_write_fn(png, NULL, png_put, png_flush_stream);
-    /* zlib level 3 with the "up" filter: a page of flat paper and thin strokes compresses
-     * well, at a few times the speed of the default level (measured on the test pages). */
-    png_set_compression_level(png, 3);
-    png_set_filter(png, 0, PNG_FILTER_UP);
-    png_set_IHDR(png, info, (png_uint_32)c->width, (png_uint_32)c->height, 8, PNG_COLOR_TYPE_RGB,
-                 PNG_INTERLACE_NONE, PNG_COMPRESSION_TYPE_DEFAULT, PNG_FILTER_TYPE_DEFAULT);
-    if (dpi > 0 && dpi < 1e6) {
-        png_uint_32 ppm = (png_uint_32)lround(dpi / 0.0254);
-        png_set_pHYs(png, info, ppm, ppm, PNG_RESOLUTION_METER);
-    }
-    png_write_info(png, info);
-    for (int y = 0; y < c->height; y++)
-        png_write_row(png, c->rgb + (size_t)y * (size_t)c->width * 3);
-    png_write_end(png, info);
-    png_destroy_write_struct(&png, &info);
-    if (fflush(fp) != 0 || ferror(fp)) {
-        snprintf(why, why_size, "%s", strerror(errno ? errno : EIO));
-        return -1;
-    }
-    return 0;
+    if (lt_png_write(fp, p->rgb, p->width, p->height, 3, dpi) == 0) return 0;
+    snprintf(why, why_size, "%s", strerror(errno));
+    return -1;
 }
 
 /* Writes the picture to `path`: "-" is standard output; an existing file that is not a
  * regular file (a device, a pipe) is written in place; anything else goes to PATH.tmp.PID in
  * the same folder, renamed to PATH when complete and removed when not. Prints the message
  * and returns LT_EXIT_OUTPUT on failure. */
-static int write_output(const char *path, const lt_canvas *c, double dpi)
+static int write_output(const char *path, const lt_picture *c, double dpi)
 {
     char why[256] = "";
     if (strcmp(path, "-") == 0) {
@@ -371,7 +301,8 @@ int lt_cmd_draw(int argc, char **argv)
     lt_source *src = NULL;
     lt_image *img = NULL;
     lt_draw_layout *lay = NULL;
-    lt_canvas *canvas = NULL;
+    lt_draw_font *font = NULL;
+    lt_picture *picture = NULL;
     int status = LT_EXIT_FAILED;
     if (lt_source_open(image_path, LT_DEFAULT_MAX_PAGES, &src, &err)) goto fail;
     const char *name = lt_source_name(src);
@@ -397,19 +328,22 @@ int lt_cmd_draw(int argc, char **argv)
                            : img->width > DEFAULT_SCALE_ABOVE_PX ? 0.5
                                                                  : 1,
                            show_order};
-    if (lt_draw_page(img, lay, &opt, &canvas, &err)) {
+    if (lt_draw_font_open(NULL, &font, &err)) goto fail;
+    if (lt_draw_page(img, lay, &opt, font, &picture, &err)) {
         char msg[sizeof err.message];
         snprintf(msg, sizeof msg, "%s", err.message);
         err.code = 0;
         lt_error_set(&err, LT_EINVAL, "%s: %s", name, msg);
         goto fail;
     }
-    status = write_output(output, canvas, img->dpi > 0 ? img->dpi * opt.scale : 0);
+    status = write_output(output, picture, img->dpi > 0 ? img->dpi * opt.scale : 0);
     goto done;
 fail:
     fprintf(stderr, PREFIX "%s\n", err.message[0] ? err.message : "failed");
 done:
-    lt_canvas_free(canvas);
+    lt_picture_free(picture);
+    lt_draw_font_close(font);
+    lt_draw_release_caches();
     lt_draw_layout_free(lay);
     lt_image_free(img);
     lt_source_free(src);

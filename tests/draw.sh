@@ -7,12 +7,15 @@
 #
 # References outside lineate: every PNG is decoded by PIL (python3-pil), the independent
 # decoder; the gray page is compared with PIL's own box reduction (Image.reduce); tints are
-# compared with the "over" operator of Porter & Duff (1984): out = dst (1 - a) + colour a.
-# The colours named below are the palette of src/draw.c (this project's own choice): line
-# outline (25, 30, 95), ordinary step (20, 90, 230), jump (230, 30, 30), legend frame
-# (70, 70, 70); roles body (46, 160, 120), heading (236, 150, 20), caption (230, 100, 160);
-# picture (200, 60, 200), table (40, 100, 170); tint opacity 70/255; the page's gray g is
-# shown as 150 + round(105 g / 255).
+# compared with the "multiply" blend mode of the PDF specification (ISO 32000-1, sec. 11.3.5):
+# out = page x tint / 255. The colours named below are those of src/draw.c: line outline
+# (0, 0, 0), ordinary step (0, 114, 178), jump (213, 94, 0) (Okabe & Ito); the role colours of
+# Paul Tol's "muted" scheme, body (136, 204, 238), heading (204, 102, 119), caption
+# (221, 204, 119), as tints of strength 180/255 (tint = 255 - round((255 - c) 180 / 255));
+# rules, pictures and tables (85, 85, 85); the legend panel (238, 238, 238) and the line at its
+# left edge (136, 136, 136).
+# The page's gray g is shown as 150 + round(105 g / 255). The legend's place, its colours
+# under colour-vision simulations and its letters are checked by tests/draw_picture.sh.
 
 test_name=draw test_modules="PIL.Image, numpy" test_timeout=120
 . "$(cd "${top_srcdir:-.}" && pwd)/tests/harness.sh"
@@ -28,10 +31,11 @@ import json, sys
 import numpy as np
 from PIL import Image
 
-OUTLINE, STEP, JUMP, FRAME = (25, 30, 95), (20, 90, 230), (230, 30, 30), (70, 70, 70)
-ROLES = {"body": (46, 160, 120), "heading": (236, 150, 20), "caption": (230, 100, 160)}
-PICTURE, TABLE = (200, 60, 200), (40, 100, 170)
-TINT = 70
+OUTLINE, STEP, JUMP = (0, 0, 0), (0, 114, 178), (213, 94, 0)
+RIM, PANEL = (136, 136, 136), (238, 238, 238)
+ROLES = {"body": (136, 204, 238), "heading": (204, 102, 119), "caption": (221, 204, 119)}
+KIND = (85, 85, 85)
+STRENGTH = 180
 
 def die(msg):
     print(msg)
@@ -51,52 +55,57 @@ def gray_page(path, factor):
     g = np.asarray(g, dtype=np.int32)
     return 150 + (g * 105 + 127) // 255
 
-def legend_box(a):
-    """Bounding box (x0, y0, x1, y1) of the legend frame colour, which nothing else uses."""
-    ys, xs = np.nonzero(np.all(a == FRAME, axis=2))
-    if len(xs) == 0:
-        die("no legend frame found")
-    return xs.min() - 2, ys.min() - 2, xs.max() + 3, ys.max() + 3
+def page_width(a):
+    """Width of the page area: the first column wholly of the rim colour (the panel's edge)."""
+    rim = np.all(np.all(a == RIM, axis=2), axis=0)
+    if not rim.any():
+        die("no legend panel edge found")
+    return int(np.argmax(rim))
 
-def inside(box, x, y):
-    return box[0] <= x < box[2] and box[1] <= y < box[3]
+def near(a, colour, tol=30):
+    return np.abs(a - np.array(colour)).max(axis=-1) <= tol
 
 def cmd_size(path, w, h):
+    """The page area is w x h, the legend panel right of it; when the legend is taller than
+    the page, the picture is as tall as the legend and the page area's columns below the
+    page are of the panel's colour."""
     a = rgb(path)
-    if a.shape != (int(h), int(w), 3):
-        die("%s: %dx%d, expected %sx%s" % (path, a.shape[1], a.shape[0], w, h))
+    w, h = int(w), int(h)
+    if page_width(a) != w or a.shape[0] < h or a.shape[1] <= w:
+        die("%s: %dx%d with the page area %d wide, expected a page area of %dx%d" %
+            (path, a.shape[1], a.shape[0], page_width(a), w, h))
+    if not np.all(a[h:, :w] == PANEL):
+        die("%s: below the page area, something other than the panel's colour" % path)
 
 def cmd_same(a, b):
     if not np.array_equal(rgb(a), rgb(b)):
         die("%s and %s differ" % (a, b))
 
 def cmd_outlines(png, layout, scale, min_share):
-    """Points on the top and bottom edge of every line quad have the outline colour; the
-    centre of every quad does not (it shows the tinted page)."""
+    """Just outside the top and bottom edge of every line quad (within 3 pixels) a pixel has
+    the outline colour; the centre of every quad does not (it shows the tinted page)."""
     a, k = rgb(png), float(scale)
-    leg = legend_box(a)
     lines = json.load(open(layout))["lines"]
     hits = total = 0
     for ln in lines:
         q = ln["quad"]
-        for p0, p1 in ((q[0], q[1]), (q[3], q[2])):
+        for (p0, p1), side in (((q[0], q[1]), -1), ((q[3], q[2]), 1)):
             for t in (0.3, 0.5, 0.7):
                 x = int((p0[0] + t * (p1[0] - p0[0])) * k)
                 y = int((p0[1] + t * (p1[1] - p0[1])) * k)
-                if inside(leg, x, y):
-                    continue
+                ys = range(y - 3, y + 1) if side < 0 else range(y, y + 4)
                 total += 1
-                hits += tuple(a[y, x]) == OUTLINE
+                hits += any(tuple(a[yy, x]) == OUTLINE for yy in ys)
         cx = int(sum(p[0] for p in q) / 4 * k)
         cy = int(sum(p[1] for p in q) / 4 * k)
-        if not inside(leg, cx, cy) and tuple(a[cy, cx]) == OUTLINE:
+        if tuple(a[cy, cx]) == OUTLINE:
             die("centre of line %r has the outline colour" % ln["box"])
     if total < 100 or hits < float(min_share) * total:
         die("%d of %d edge points have the outline colour" % (hits, total))
     print("%d of %d edge points have the outline colour" % (hits, total))
 
-def over(dst, colour, alpha):
-    return (dst * (255 - alpha) + colour * alpha + 127) // 255
+def tint(c):
+    return 255 - ((255 - c) * STRENGTH + 127) // 255
 
 def cmd_tints(png, source):
     """Hand-made blocks: heading, no role, an unknown role, caption (tint.json)."""
@@ -105,49 +114,56 @@ def cmd_tints(png, source):
             (900, 1000): "caption"}
     for (x, y), role in want.items():
         got = a[y - 20:y + 20, x - 20:x + 20]
-        exp = np.stack([over(ref[y - 20:y + 20, x - 20:x + 20], c, TINT) for c in ROLES[role]],
-                       axis=2)
+        exp = np.stack([(ref[y - 20:y + 20, x - 20:x + 20] * tint(c) + 127) // 255
+                        for c in ROLES[role]], axis=2)
         if np.abs(got - exp).max() > 1: # one unit for the rounding of the blend
             die("block at (%d, %d): not tinted %s (max error %d)" %
                 (x, y, role, np.abs(got - exp).max()))
         if (got.max(axis=2) - got.min(axis=2)).mean() < 15:
             die("block at (%d, %d) is not coloured" % (x, y))
-    # Away from the blocks and the legend the page is the plain gray page, exactly: PIL's
-    # reduce rounds the box mean half up, as lineate does (measured identical on this page).
-    leg = legend_box(a)
+    # Away from the blocks the page area is the plain gray page, exactly: PIL's reduce rounds
+    # the box mean half up, as lineate does (measured identical on this page).
+    w = page_width(a)
+    if ref.shape != (a.shape[0], w):
+        die("page area %dx%d, PIL's reduction %dx%d" % (w, a.shape[0], ref.shape[1], ref.shape[0]))
+    page = a[:, :w]
     mask = np.ones(ref.shape, bool)
     for x0, y0, x1, y1 in ((97, 597, 503, 803), (697, 597, 1103, 803), (97, 897, 503, 1103),
                            (697, 897, 1103, 1103), (1197, 897, 1203, 1103),
                            (697, 1247, 903, 1353), (947, 1247, 1153, 1353)):
         mask[y0:y1, x0:x1] = False
-    mask[leg[1]:leg[3], leg[0]:leg[2]] = False
     for ch in range(3):
-        d = np.abs(a[:, :, ch] - ref)[mask]
+        d = np.abs(page[:, :, ch] - ref)[mask]
         if d.max() > 0:
             die("plain page differs from PIL's reduction by up to %d" % d.max())
     print("plain page matches PIL's reduction on %d pixels" % mask.sum())
 
 def cmd_kinds(png):
-    """Hand-made picture and table blocks (tint.json) are hatched in their colours."""
+    """Hand-made picture and table blocks (tint.json): hatched, diagonals for the picture
+    (no row of the inside dark from end to end), a grid for the table (such rows)."""
     a = rgb(png)
-    for (x0, y0, x1, y1), colour, name in (((700, 1250, 900, 1350), PICTURE, "picture"),
-                                           ((950, 1250, 1150, 1350), TABLE, "table")):
-        cell = a[y0 + 10:y1 - 10, x0 + 10:x1 - 10]
-        share = np.all(cell == colour, axis=2).mean()
-        if not 0.05 < share < 0.6:
-            die("%s block: %.2f of its inside has its colour, expected a hatch" % (name, share))
+    for (x0, y0, x1, y1), grid, name in (((700, 1250, 900, 1350), False, "picture"),
+                                         ((950, 1250, 1150, 1350), True, "table")):
+        cell = near(a[y0 + 10:y1 - 10, x0 + 10:x1 - 10], KIND, 60)
+        share, full_rows = cell.mean(), int(np.all(cell, axis=1).sum())
+        if not 0.05 < share < 0.6 or (full_rows > 0) != grid:
+            die("%s block: %.2f of its inside has its colour, %d full rows" %
+                (name, share, full_rows))
 
 def cmd_pixel(png, x, y, colour):
+    """The pixel or one of its neighbours (5 x 5) is within 30 of the colour per channel."""
     a = rgb(png)
     want = {"jump": JUMP, "step": STEP}[colour]
-    got = tuple(int(v) for v in a[int(y), int(x)])
-    if got != want:
-        die("pixel (%s, %s) is %r, expected the %s colour %r" % (x, y, got, colour, want))
+    x, y = int(x), int(y)
+    if not near(a[y - 2:y + 3, x - 2:x + 3], want).any():
+        die("pixel (%d, %d) is %r, expected the %s colour %r" %
+            (x, y, tuple(a[y, x]), colour, want))
 
 def cmd_count(png, colour, x0, y0, x1, y1, op, n):
+    """Pixels within 30 of the colour per channel in the box [x0, x1) x [y0, y1)."""
     a = rgb(png)[int(y0):int(y1), int(x0):int(x1)]
     want = {"jump": JUMP, "step": STEP}[colour]
-    c = int(np.all(a == want, axis=2).sum())
+    c = int(near(a, want).sum())
     if not (c > int(n) if op == "gt" else c == int(n)):
         die("%d pixels of the %s colour in the box, expected %s %s" % (c, colour, op, n))
 
@@ -206,11 +222,11 @@ $limit "$lineate" "$page" >news.json 2>err
 check "the newsletter is analysed (its saved layout for the tests)" test "$?" -eq 0 -a -s news.json
 draw "$page" news.json -o news.png
 check "draw from the saved JSON: exit 0, nothing printed" test "$rc" -eq 0 -a ! -s out -a ! -s err
-check "from the JSON: a 1275x1650 RGB PNG (half of 2550x3300, the default above 2000 px)" \
+check "from the JSON: an RGB PNG with a page area of 1275x1650 (half of 2550x3300, the default above 2000 px)" \
     py size news.png 1275 1650
 draw "$page" -o alone.png
 check "draw from the image alone: exit 0" test "$rc" -eq 0 -a ! -s err
-check "from the image alone: a 1275x1650 RGB PNG" py size alone.png 1275 1650
+check "from the image alone: a page area of 1275x1650" py size alone.png 1275 1650
 check "the image alone (analysed) and its saved JSON give the same picture" \
     py same news.png alone.png
 draw "$page" news.json -o again.png
@@ -225,26 +241,27 @@ cp out stdout.png
 check "-o - writes the PNG to standard output" test "$rc" -eq 0 -a -s stdout.png -a ! -s err
 check "-o - gives the same picture" py same news.png stdout.png
 draw "$page" news.json --scale 1 -o full.png
-check "--scale 1: 2550x3300" py size full.png 2550 3300
+check "--scale 1: a page area of 2550x3300" py size full.png 2550 3300
 draw "$page" news.json --scale 0.3 -o small.png
-check "--scale 0.3: 765x990" py size small.png 765 990
+check "--scale 0.3: a page area of 765x990" py size small.png 765 990
 
-# Line outlines: points on each quad edge, taken from the saved JSON and scaled, are read back
-# by PIL and must have the outline colour; the quad's centre must not.
+# Line outlines: beside points on each quad edge (outside it, within 3 pixels), taken from the
+# saved JSON and scaled, PIL must read the outline colour; at the quad's centre it must not.
 draw "$page" news.json --no-order -o plain.png
-check "--no-order: every edge point of every line quad has the outline colour" \
+check "--no-order: beside every edge point of every line quad, the outline colour" \
     py outlines plain.png news.json 0.5 1.0
-check "with the order drawn: at least 85% of the edge points keep the outline colour" \
-    py outlines news.png news.json 0.5 0.85
+check "with the order drawn: beside at least 80% of the edge points, the outline colour" \
+    py outlines news.png news.json 0.5 0.80
 draw "$page" news.json --no-order --scale 1 -o plain1.png
-check "--no-order at full size: every edge point has the outline colour" \
+check "--no-order at full size: beside every edge point, the outline colour" \
     py outlines plain1.png news.json 1 1.0
 
 # ---- hand-made layouts ----------------------------------------------------------------------
-# Tints: PIL's Image.reduce(2) box average of the page, lightened, then Porter & Duff's "over"
-# with each role's colour, against the pixels PIL decodes; the rest of the page equals the
-# lightened reduction. Arrows: the midpoint of the segment between the two quads' edge centres
-# (arithmetic on the hand-made coordinates) must have the jump or step colour in PIL's pixels.
+# Tints: PIL's Image.reduce(2) box average of the page, lightened, then multiplied by each
+# role's tint, against the pixels PIL decodes; the rest of the page area equals the lightened
+# reduction. Arrows: at the midpoint of the segment between the two quads' edge centres
+# (arithmetic on the hand-made coordinates) PIL must read the jump or step colour (within 30
+# per channel, 2 pixels around: the strokes are antialiased).
 draw "$page" tint.json --no-order -o tint.png
 check "hand-made blocks: exit 0" test "$rc" -eq 0 -a ! -s err
 check "text blocks tinted by role (none or unknown: body), the page elsewhere plain gray" \
@@ -264,12 +281,13 @@ check "back along one row: the arrow's midpoint has the jump colour" \
     py pixel backrow.png 600 615 jump
 draw "$page" forward.json --no-order -o forward-plain.png
 check "--no-order: no arrow and no line number" \
-    py count forward-plain.png step 0 0 1275 1650 eq 0
+    py count forward-plain.png step 0 0 1275 1650 eq 0 # the page area
 draw "$page" review.json --no-order -o review.png
-check "order review needed: its reasons are written in red" \
-    py count review.png jump 0 0 1275 1650 gt 50
+check "order review needed: its reasons are written in the jump colour, in the legend panel" \
+    py count review.png jump 1276 0 3000 1650 gt 50
 draw "$page" noreview.json --no-order -o noreview.png
-check "order review not needed: nothing red" py count noreview.png jump 0 0 1275 1650 eq 0
+check "order review not needed: nothing in the jump colour" \
+    py count noreview.png jump 0 0 3000 1650 eq 0
 
 # ---- multi-page images and JSON Lines -------------------------------------------------------
 # PIL writes the two-page TIFF (pages of known sizes) and decodes the pictures.
@@ -285,7 +303,8 @@ EOF
 $limit "$lineate" two.tif >two.jsonl 2>/dev/null
 draw two.tif two.jsonl --page 2 -o p2.png
 check "--page 2 of a two-page TIFF with its JSON Lines layout: exit 0" test "$rc" -eq 0
-check "--page 2: the size of page 2 at half size (1275x425)" py size p2.png 1275 425
+check "--page 2: a page area of page 2 at half size (1275x425), the legend taller than it" \
+    py size p2.png 1275 425
 draw two.tif --page 2 -o p2-alone.png
 check "--page 2 analysed from the image alone: the same picture" py same p2.png p2-alone.png
 
@@ -330,19 +349,22 @@ check "two layouts of page 1 without a source: refused as ambiguous, exit 1" \
 from PIL import Image
 Image.open('$page').convert('L').resize((2481, 3508)).save('a4.png', dpi=(300, 300))"
 $limit "$lineate" a4.png >a4.json 2>/dev/null
+# The processor time (user + system, getrusage of the child) is checked, not the wall-clock
+# time: on a machine shared with other jobs the latter measures the others as well.
 best=""
 for _ in 1 2 3; do
-    t0=$(date +%s%N)
-    "$lineate" draw a4.png a4.json --scale 1 -o a4-draw.png 2>/dev/null
-    t1=$(date +%s%N)
-    ms=$(((t1 - t0) / 1000000))
+    ms=$("$python" -c "
+import resource, subprocess, sys
+subprocess.run(sys.argv[1:], stderr=subprocess.DEVNULL)
+r = resource.getrusage(resource.RUSAGE_CHILDREN)
+print(int((r.ru_utime + r.ru_stime) * 1000))" "$lineate" draw a4.png a4.json --scale 1 -o a4-draw.png)
     if [ -z "$best" ] || [ "$ms" -lt "$best" ]; then best=$ms; fi
 done
-echo "note: an A4 page at 300 dpi, decoded, drawn at full size and written: best of 3 ${best} ms"
+echo "note: an A4 page at 300 dpi, decoded, drawn at full size and written: best of 3 ${best} ms of processor time"
 if [ -n "${LT_SANITIZED:-}" ]; then
     echo "note: sanitized build, the time is not checked"
 else
-    check "an A4 page (2481x3508) is read, drawn and written in under a second" \
+    check "an A4 page (2481x3508) is read, drawn and written in under a second of processor time" \
         test "$best" -lt 1000
 fi
 
