@@ -61,8 +61,8 @@ static const rgb color_rim = {136, 136, 136};   /* line between the page and the
 #define LABEL_ALPHA 0.8    /* opacity of the backdrop of a line number */
 #define PAGE_INK_GRAY 150  /* black ink is shown as this gray ... */
 #define PAGE_PAPER_GRAY 255 /* ... and white paper stays white */
-#define LEGEND_MAX_ROWS 60 /* rows of the review note beyond this are left out */
-#define LEGEND_MIN_FONT_PX 12.0 /* legend letters: page area width / 72, at least this */
+#define LEGEND_MAX_ROWS 60 /* rows of the legend; review reasons beyond them are left out */
+#define LEGEND_MIN_FONT_PX 12.0 /* legend letters: page area's shorter side / 72, at least this */
 #define LABEL_MIN_FONT_PX 8.0   /* line numbers: 0.55 x the median line height, at least this */
 
 /* The tint of a role colour as it appears on white paper. */
@@ -489,16 +489,16 @@ static void legend_free(legend *g)
         free(g->rows[i].text);
 }
 
-/* Appends a row holding a copy of bytes [text, text + len); 0, or LT_ENOMEM. Rows beyond
- * LEGEND_MAX_ROWS are dropped. */
-static int add_row(legend *g, int swatch, int value, const char *text, size_t len, int gap)
+/* Appends a row holding a copy of `text`; 0, or LT_ENOMEM. Rows beyond LEGEND_MAX_ROWS are
+ * dropped. */
+static int add_row(legend *g, int swatch, int value, const char *text, int gap, int note)
 {
     if (g->n >= LEGEND_MAX_ROWS) return 0;
+    size_t len = strlen(text);
     char *copy = malloc(len + 1);
     if (!copy) return LT_ENOMEM;
-    memcpy(copy, text, len);
-    copy[len] = '\0';
-    g->rows[g->n++] = (legend_row){swatch, value, copy, 0, gap, 0};
+    memcpy(copy, text, len + 1);
+    g->rows[g->n++] = (legend_row){swatch, value, copy, 0, gap, note};
     return 0;
 }
 
@@ -567,17 +567,23 @@ static size_t fitting_prefix(cairo_t *cr, const char *s, size_t len, double max_
 
 /* Appends the words of the (showable) text `s` as rows of the review note, each at most
  * max_px wide, words too long for a row cut; the first row starts with `bullet`, the others
- * are indented by its width. */
-static int add_wrapped(legend *g, cairo_t *cr, const char *bullet, const char *s, double max_px)
+ * are indented by its width. Stops when the legend has max_rows rows; *complete tells whether
+ * the whole text found room. 0, or LT_ENOMEM. */
+static int add_wrapped(legend *g, cairo_t *cr, const char *bullet, const char *s, double max_px,
+                       int max_rows, int *complete)
 {
     const double indent = text_width(cr, bullet, strlen(bullet));
     const size_t blen = strlen(bullet);
     size_t pos = 0, len = strlen(s);
     int first = 1;
-    while (g->n < LEGEND_MAX_ROWS) {
+    *complete = 0;
+    for (;;) {
         while (pos < len && s[pos] == ' ')
             pos++;
         if (pos >= len) break;
+        if (g->n >= max_rows) return 0;
+        while (pos < len && s[pos] == ' ')
+            pos++;
         /* Take words while the row fits. */
         size_t end = pos, best = 0;
         while (end < len) {
@@ -604,12 +610,14 @@ static int add_wrapped(legend *g, cairo_t *cr, const char *bullet, const char *s
         pos = best;
         first = 0;
     }
+    *complete = 1;
     return 0;
 }
 
 /* Lays the legend out for letters of size em (cr has the font): one row per role, per
  * non-text kind, the line outline and (with the order) the two arrow styles; then, when the
- * layout asks for it, the review note and its reasons. Sets the panel's size. */
+ * layout asks for it, the review note and its reasons, as many as LEGEND_MAX_ROWS allow, and a
+ * last row saying that there are more when some are left out. Sets the panel's size. */
 static int legend_build(legend *g, cairo_t *cr, double em, const lt_draw_layout *lay,
                         int show_order)
 {
@@ -618,31 +626,29 @@ static int legend_build(legend *g, cairo_t *cr, double em, const lt_draw_layout 
     g->em = em;
     cairo_set_font_size(cr, em);
     int rc = 0;
-    for (int r = LT_ROLE_BODY; r < LT_ROLE_COUNT && !rc; r++) {
-        const char *name = lt_role_name(r);
-        rc = add_row(g, SWATCH_ROLE, r, name, strlen(name), 0);
-    }
+    for (int r = LT_ROLE_BODY; r < LT_ROLE_COUNT && !rc; r++)
+        rc = add_row(g, SWATCH_ROLE, r, lt_role_name(r), 0, 0);
     for (int k = LT_DRAW_RULE; k <= LT_DRAW_TABLE && !rc; k++)
-        rc = add_row(g, SWATCH_KIND, k, kind_labels[k], strlen(kind_labels[k]),
-                     k == LT_DRAW_RULE);
-    if (!rc) rc = add_row(g, SWATCH_LINE, 0, "text line", 9, 1);
-    if (!rc && show_order) rc = add_row(g, SWATCH_STEP, 0, "next line", 9, 0);
-    if (!rc && show_order) rc = add_row(g, SWATCH_JUMP, 0, "order jump", 10, 0);
+        rc = add_row(g, SWATCH_KIND, k, kind_labels[k], k == LT_DRAW_RULE, 0);
+    if (!rc) rc = add_row(g, SWATCH_LINE, 0, "text line", 1, 0);
+    if (!rc && show_order) rc = add_row(g, SWATCH_STEP, 0, "next line", 0, 0);
+    if (!rc && show_order) rc = add_row(g, SWATCH_JUMP, 0, "order jump", 0, 0);
     double label_w = 0;
     for (int i = 0; i < g->n; i++)
         label_w = fmax(label_w, text_width(cr, g->rows[i].text, strlen(g->rows[i].text)));
     /* Padding 1 em, swatch 2.4 em, gap 0.6 em, the longest label, padding; at least 13 em. */
     g->width_px = ceil(fmax(em * 4 + label_w + em, 13 * em));
     if (!rc && lay->review_needed) {
-        static const char heading[] = "review the order:";
-        rc = add_row(g, SWATCH_NONE, 0, heading, sizeof heading - 1, 1);
-        if (!rc) g->rows[g->n - 1].note = 1;
-        for (int i = 0; i < lay->nreasons && !rc; i++) {
+        rc = add_row(g, SWATCH_NONE, 0, "review the order:", 1, 1);
+        int complete = 1;
+        for (int i = 0; i < lay->nreasons && complete && !rc; i++) {
             char *text = showable_utf8(lay->reasons[i]);
-            rc = text ? add_wrapped(g, cr, "\xe2\x80\x93 ", text, g->width_px - 2 * em)
-                      : LT_ENOMEM; /* "– ", an en dash */
+            rc = text ? add_wrapped(g, cr, "\xe2\x80\x93 ", text, g->width_px - 2 * em,
+                                    LEGEND_MAX_ROWS - 1, &complete) /* "– ", an en dash */
+                      : LT_ENOMEM;
             free(text);
         }
+        if (!rc && !complete) rc = add_row(g, SWATCH_NONE, 0, "(more in the layout)", 0, 1);
     }
     int gaps = 0;
     for (int i = 0; i < g->n; i++)
@@ -839,7 +845,7 @@ int lt_draw_page(const lt_image *page, const lt_draw_layout *lay, const lt_draw_
     x.width_px = fmax(1, round(w / 800.0));
     x.line_px = fmax(1, round(w / 1600.0));
     x.hatch_px = 8 * x.width_px;
-    x.font_px = fmax(LEGEND_MIN_FONT_PX, round(w / 72.0));
+    x.font_px = fmax(LEGEND_MIN_FONT_PX, round((w < h ? w : h) / 72.0));
     double med_h = median_line_height(&x, lay);
     if (med_h < 0) return lt_error_set(err, LT_ENOMEM, "out of memory");
     x.label_px = fmin(fmax(LABEL_MIN_FONT_PX, round(0.55 * med_h)), x.font_px);
