@@ -1,7 +1,7 @@
 /* cmd_draw.c — `lineate draw IMAGE [LAYOUT] -o OUT.png`: reads one page of an image and its
  * layout (a saved JSON page object, or the analysis of the page when no LAYOUT is given), and
- * writes the audit picture of src/draw.c as an RGB PNG (src/pngwrite.c) under a temporary name in the
- * output's folder, renamed into place once complete, so a failed run leaves no file. */
+ * writes the audit picture of src/draw.c as an RGB PNG (src/pngwrite.c) under a temporary name
+ * in the output's folder, renamed into place once complete, so a failed run leaves no file. */
 #include "cli.h"
 #include "draw.h"
 #include "layoutfile.h"

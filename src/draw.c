@@ -46,22 +46,22 @@ static const rgb role_colors[LT_ROLE_COUNT] = {
     {17, 119, 51},   /* footnote: green */
     {136, 34, 85},   /* margin-note: wine */
 };
-static const rgb color_kind = {85, 85, 85};    /* rules, pictures, tables, other blocks */
-static const rgb color_line = {0, 0, 0};       /* line outlines: Okabe-Ito black */
-static const rgb color_step = {0, 114, 178};   /* ordinary order step: Okabe-Ito blue */
-static const rgb color_jump = {213, 94, 0};    /* jumps and the review note: vermillion */
+static const rgb color_kind = {85, 85, 85};     /* rules, pictures, tables, other blocks */
+static const rgb color_line = {0, 0, 0};        /* line outlines: Okabe-Ito black */
+static const rgb color_step = {0, 114, 178};    /* ordinary order step: Okabe-Ito blue */
+static const rgb color_jump = {213, 94, 0};     /* jumps and the review note: vermillion */
 static const rgb color_white = {255, 255, 255}; /* arrow casing, label backdrop */
-static const rgb color_text = {34, 34, 34};    /* legend labels */
+static const rgb color_text = {34, 34, 34};     /* legend labels */
 static const rgb color_panel = {238, 238, 238}; /* legend panel background */
 static const rgb color_rim = {136, 136, 136};   /* line between the page and the panel */
 
-#define TINT_STRENGTH 180  /* of 255: tint = white + TINT_STRENGTH/255 (colour - white) */
-#define RULE_ALPHA 0.6     /* opacity of a rule's fill */
-#define CASING_ALPHA 0.85  /* opacity of the white casing under arrows */
-#define LABEL_ALPHA 0.8    /* opacity of the backdrop of a line number */
-#define PAGE_INK_GRAY 150  /* black ink is shown as this gray ... */
-#define PAGE_PAPER_GRAY 255 /* ... and white paper stays white */
-#define LEGEND_MAX_ROWS 60 /* rows of the legend; review reasons beyond them are left out */
+#define TINT_STRENGTH 180       /* of 255: tint = white + TINT_STRENGTH/255 (colour - white) */
+#define RULE_ALPHA 0.6          /* opacity of a rule's fill */
+#define CASING_ALPHA 0.85       /* opacity of the white casing under arrows */
+#define LABEL_ALPHA 0.8         /* opacity of the backdrop of a line number */
+#define PAGE_INK_GRAY 150       /* black ink is shown as this gray ... */
+#define PAGE_PAPER_GRAY 255     /* ... and white paper stays white */
+#define LEGEND_MAX_ROWS 60      /* rows of the legend; review reasons beyond them are left out */
 #define LEGEND_MIN_FONT_PX 12.0 /* legend letters: page area's shorter side / 72, at least this */
 #define LABEL_MIN_FONT_PX 8.0   /* line numbers: 0.55 x the median line height, at least this */
 
@@ -124,8 +124,7 @@ int lt_draw_font_open(const char *path, lt_draw_font **out, lt_error *err)
         FT_Done_FreeType(h->library);
         free(f);
         free(h);
-        return lt_error_set(err, LT_EIO, "%s: cannot read the font (FreeType error %d)", path,
-                            fe);
+        return lt_error_set(err, LT_EIO, "%s: cannot read the font (FreeType error %d)", path, fe);
     }
     f->face = cairo_ft_font_face_create_for_ft_face(h->face, 0);
     if (cairo_font_face_status(f->face) ||
@@ -455,8 +454,8 @@ static void draw_label(const ctx *x, lt_point start, int number, rgb color)
     double left = start.x - gap - e.x_advance;
     if (left - pad < 0) left = start.x + gap;
     double baseline = start.y - (e.y_bearing + e.height / 2);
-    cairo_rectangle(cr, left + e.x_bearing - pad, baseline + e.y_bearing - pad,
-                    e.width + 2 * pad, e.height + 2 * pad);
+    cairo_rectangle(cr, left + e.x_bearing - pad, baseline + e.y_bearing - pad, e.width + 2 * pad,
+                    e.height + 2 * pad);
     set_color(cr, color_white, LABEL_ALPHA);
     cairo_fill(cr);
     set_color(cr, color, 1);
@@ -522,7 +521,8 @@ static char *showable_utf8(const char *s)
                           : len == 3 ? (c & 0x0f) << 12 | (p[i + 1] & 0x3f) << 6 | (p[i + 2] & 0x3f)
                                      : (c & 0x07) << 18 | (p[i + 1] & 0x3f) << 12 |
                                            (p[i + 2] & 0x3f) << 6 | (p[i + 3] & 0x3f);
-            ok = (len == 2 && cp >= 0x80) || (len == 3 && cp >= 0x800 && (cp < 0xd800 || cp > 0xdfff)) ||
+            ok = (len == 2 && cp >= 0x80) ||
+                 (len == 3 && cp >= 0x800 && (cp < 0xd800 || cp > 0xdfff)) ||
                  (len == 4 && cp >= 0x10000 && cp <= 0x10ffff);
         }
         if (!ok) {

@@ -44,8 +44,7 @@ static void flush(png_structp png)
     }
 }
 
-int lt_png_write(FILE *fp, const uint8_t *pixels, int width, int height, int channels,
-                 double dpi)
+int lt_png_write(FILE *fp, const uint8_t *pixels, int width, int height, int channels, double dpi)
 {
     if (!fp || !pixels || width <= 0 || height <= 0 || (channels != 1 && channels != 3)) {
         errno = EINVAL;

@@ -10,7 +10,6 @@
  * of width x channels bytes one after the other, as a PNG to fp, and flushes fp; dpi > 0 goes
  * into the pHYs chunk. Returns 0, or -1 with errno set: the system's reason when a write
  * failed, ENOMEM, EINVAL for bad arguments, EIO when libpng failed otherwise. fp stays open. */
-int lt_png_write(FILE *fp, const uint8_t *pixels, int width, int height, int channels,
-                 double dpi);
+int lt_png_write(FILE *fp, const uint8_t *pixels, int width, int height, int channels, double dpi);
 
 #endif
