@@ -6,7 +6,9 @@
  * group, have no place in the order), else from document order. */
 #include "score.h"
 
+#include <libxml/SAX2.h>
 #include <libxml/parser.h>
+#include <libxml/parserInternals.h>
 #include <libxml/tree.h>
 #include <math.h>
 #include <stdlib.h>
@@ -63,7 +65,7 @@ typedef struct xline {
 } xline;
 
 typedef struct idref {
-    const char *id; /* the element's id (owned by the tree) */
+    char *id;       /* the element's id */
     int first, end; /* the lines of its subtree: lines[first .. end) */
 } idref;
 
@@ -137,7 +139,9 @@ done:
 static int add_line(reader *r, const xline *ln)
 {
     if (r->nlines >= LT_SCORE_MAX_LINES)
-        return fail(r, LT_ELIMIT, "more text lines than the limit", NULL);
+        return lt_error_set(r->err, LT_ELIMIT,
+                            "%s: document %d: more than %d text lines, the limit of one document",
+                            r->name, r->doc, LT_SCORE_MAX_LINES);
     if (r->nlines == r->cap) {
         int ncap = r->cap ? 2 * r->cap : 256;
         xline *n = realloc(r->lines, (size_t)ncap * sizeof *n);
@@ -215,32 +219,188 @@ static int alto_line(reader *r, xmlNodePtr tl, int page, double skew_deg)
     return add_line(r, &ln);
 }
 
-/* Collects the lines under n in document order, and the line range of every element with an
- * id. `page` is the index of the page being read. */
-static int collect(reader *r, xmlNodePtr n, int page, double skew_deg, int depth)
+/* Notes the identifier of element n, if it has one, with the lines it holds: lines[first ..
+ * nlines). */
+static int note_id(reader *r, xmlNodePtr n, int first)
 {
-    if (depth > 256) return fail(r, LT_ELIMIT, "elements nested too deeply", NULL);
-    for (xmlNodePtr c = n->children; c; c = c->next) {
-        if (c->type != XML_ELEMENT_NODE) continue;
-        int first = r->nlines, rc;
-        if (is_named(c, "TextLine"))
-            rc = r->is_alto ? alto_line(r, c, page, skew_deg) : page_line(r, c, page, skew_deg);
-        else
-            rc = collect(r, c, page, skew_deg, depth + 1);
-        if (rc) return rc;
-        xmlAttrPtr id = xmlHasProp(c, BAD_CAST(r->is_alto ? "ID" : "id"));
-        if (id && id->children && id->children->content) {
-            if (r->nids == r->idcap) {
-                int ncap = r->idcap ? 2 * r->idcap : 256;
-                idref *ni = realloc(r->ids, (size_t)ncap * sizeof *ni);
-                if (!ni) return fail(r, LT_ENOMEM, "out of memory", NULL);
-                r->ids = ni;
-                r->idcap = ncap;
-            }
-            r->ids[r->nids++] = (idref){(const char *)id->children->content, first, r->nlines};
+    xmlAttrPtr id = xmlHasProp(n, BAD_CAST(r->is_alto ? "ID" : "id"));
+    if (!id || !id->children || !id->children->content) return 0;
+    if (r->nids == r->idcap) {
+        int ncap = r->idcap ? 2 * r->idcap : 256;
+        idref *ni = realloc(r->ids, (size_t)ncap * sizeof *ni);
+        if (!ni) return fail(r, LT_ENOMEM, "out of memory", NULL);
+        r->ids = ni;
+        r->idcap = ncap;
+    }
+    char *copy = strdup((const char *)id->children->content);
+    if (!copy) return fail(r, LT_ENOMEM, "out of memory", NULL);
+    r->ids[r->nids++] = (idref){copy, first, r->nlines};
+    return 0;
+}
+
+/* ---- reading while parsing ------------------------------------------------------------------
+ * The document is not kept whole. libxml2 builds the tree through its SAX2 handlers, and as an
+ * element inside a page ends, what it brings is taken and the element freed: a TextLine read as
+ * a line (from its subtree, freed with it), an identifier noted with the lines it holds. What
+ * is read after the parse stays: the root, the pages' elements (PAGE's first Page, the Page
+ * elements of ALTO's first Layout) and, whole, the first ReadingOrder and ALTO's first
+ * Description; text only inside these two. A tree took about 15 times the document; now memory
+ * is the lines and what stays. Lines are taken in document order, as a walk of the tree would
+ * take them, and the first failure is kept with the page where it happened, to be told when
+ * that page is read after the parse (after the checks of the page's own attributes). */
+
+typedef struct open_element {
+    int first_line; /* the reader's line count when it started */
+    int kept;       /* it stays in the tree */
+} open_element;
+
+typedef struct stream {
+    reader *r;
+    int kind;           /* of the root: 1 PAGE (PcGts), 2 ALTO (alto), 0 neither */
+    lt_error error;     /* the first failure while reading lines */
+    int error_page;     /* the page it happened on */
+    open_element *open; /* the open elements, from the root (depth 1) */
+    int depth, cap;
+    int layout_depth; /* ALTO: depth of the first Layout while it is open, else 0 */
+    int page_depth;   /* depth of the page element being read, else 0 */
+    int page;         /* that page's index in the document */
+    double skew_deg;  /* its angle (0 when it has none or not a valid one) */
+    int npages;       /* page elements started */
+    int line_depth;   /* depth of the TextLine being read, else 0 */
+    int keep_depth;   /* depth of the subtree kept whole that is open, else 0 */
+    int seen_page, seen_layout, seen_description, seen_order; /* the first of each found */
+} stream;
+
+/* The page's angle attribute `key` as page_skew reads it; 0 when absent or not valid (which
+ * page_skew reports after the parse). */
+static double page_angle(xmlNodePtr page, const char *key)
+{
+    double a;
+    return attr_number(page, key, &a) == 1 && fabs(a) <= LT_SCORE_MAX_SKEW_DEG ? a : 0;
+}
+
+/* Records a failure of the stream itself (out of memory) and stops the parse. */
+static void stream_stop(xmlParserCtxtPtr ctxt, stream *st)
+{
+    if (!st->error.code) {
+        fail(st->r, LT_ENOMEM, "out of memory", NULL);
+        st->error_page = st->page;
+    }
+    xmlStopParser(ctxt);
+}
+
+/* Whether the element `name` that starts at depth d (> 1, outside the subtrees kept whole)
+ * stays in the tree; notes the pages and kept subtrees it starts. */
+static int starts_kept(stream *st, xmlNodePtr node, const char *name, int d)
+{
+    const int page = st->kind == 1, alto = st->kind == 2;
+    if (page && d == 2 && !st->seen_page && strcmp(name, "Page") == 0) {
+        st->seen_page = 1;
+        st->page_depth = d;
+        st->page = st->npages++;
+        st->skew_deg = page_angle(node, "orientation");
+    } else if (alto && d == 3 && st->layout_depth == 2 && strcmp(name, "Page") == 0) {
+        st->page_depth = d;
+        st->page = st->npages++;
+        st->skew_deg = page_angle(node, "ROTATION");
+    } else if (alto && d == 2 && !st->seen_layout && strcmp(name, "Layout") == 0) {
+        st->seen_layout = 1;
+        st->layout_depth = d;
+    } else if (((page && d == 3 && st->page_depth == 2) || (alto && d == 2)) && !st->seen_order &&
+               strcmp(name, "ReadingOrder") == 0) {
+        st->seen_order = 1;
+        st->keep_depth = d;
+    } else if (alto && d == 2 && !st->seen_description && strcmp(name, "Description") == 0) {
+        st->seen_description = 1;
+        st->keep_depth = d;
+    } else {
+        return 0;
+    }
+    return 1;
+}
+
+static void stream_start(void *ctx, const xmlChar *localname, const xmlChar *prefix,
+                         const xmlChar *uri, int nb_namespaces, const xmlChar **namespaces,
+                         int nb_attributes, int nb_defaulted, const xmlChar **attributes)
+{
+    xmlParserCtxtPtr ctxt = ctx;
+    stream *st = ctxt->_private;
+    xmlNodePtr parent = ctxt->node;
+    xmlSAX2StartElementNs(ctx, localname, prefix, uri, nb_namespaces, namespaces, nb_attributes,
+                          nb_defaulted, attributes);
+    xmlNodePtr node = ctxt->node;
+    if (node == parent) return; /* libxml2 ran out of memory and stops */
+    if (st->depth == st->cap) {
+        const int ncap = st->cap ? 2 * st->cap : 64;
+        open_element *grown = realloc(st->open, (size_t)ncap * sizeof *grown);
+        if (!grown) {
+            stream_stop(ctxt, st);
+            return;
+        }
+        st->open = grown;
+        st->cap = ncap;
+    }
+    const int d = ++st->depth;
+    const char *name = (const char *)localname;
+    int kept = 1;
+    if (d == 1) {
+        st->kind = strcmp(name, "PcGts") == 0 ? 1 : strcmp(name, "alto") == 0 ? 2 : 0;
+        st->r->is_alto = st->kind == 2;
+    } else if (!st->keep_depth) {
+        kept = starts_kept(st, node, name, d);
+    }
+    if (st->page_depth && d > st->page_depth && !st->line_depth && strcmp(name, "TextLine") == 0)
+        st->line_depth = d;
+    st->open[d - 1] = (open_element){st->r->nlines, kept};
+}
+
+static void stream_end(void *ctx, const xmlChar *localname, const xmlChar *prefix,
+                       const xmlChar *uri)
+{
+    xmlParserCtxtPtr ctxt = ctx;
+    stream *st = ctxt->_private;
+    xmlNodePtr node = ctxt->node;
+    xmlSAX2EndElementNs(ctx, localname, prefix, uri);
+    if (st->depth < 1 || !node) return; /* cannot happen: every end has its start */
+    const int d = st->depth--;
+    const open_element e = st->open[d - 1];
+    reader *r = st->r;
+    /* inside a page, an element not inside a TextLine: its line, if it is one, and its id */
+    if (st->page_depth && d > st->page_depth && (!st->line_depth || d == st->line_depth) &&
+        !st->error.code) {
+        int rc = 0;
+        if (d == st->line_depth)
+            rc = r->is_alto ? alto_line(r, node, st->page, st->skew_deg)
+                            : page_line(r, node, st->page, st->skew_deg);
+        if (!rc) rc = note_id(r, node, e.first_line);
+        if (rc) {
+            st->error_page = st->page;
+            if (rc == LT_ELIMIT || rc == LT_ENOMEM) xmlStopParser(ctxt);
         }
     }
-    return 0;
+    if (d == st->line_depth) st->line_depth = 0;
+    if (d == st->page_depth) st->page_depth = 0;
+    if (d == st->layout_depth) st->layout_depth = 0;
+    if (d == st->keep_depth) st->keep_depth = 0;
+    if (!e.kept && !(st->line_depth && d > st->line_depth)) {
+        xmlUnlinkNode(node);
+        xmlFreeNode(node);
+    }
+}
+
+/* Text is kept only inside the subtrees kept whole: it is read nowhere else. */
+static void stream_characters(void *ctx, const xmlChar *ch, int len)
+{
+    xmlParserCtxtPtr ctxt = ctx;
+    const stream *st = ctxt->_private;
+    if (st->keep_depth) xmlSAX2Characters(ctx, ch, len);
+}
+
+/* The lines of page `page` read while parsing: 0, or the failure that happened on it. */
+static int stream_page(reader *r, const stream *st, int page)
+{
+    if (!st->error.code || st->error_page != page) return 0;
+    return lt_error_set(r->err, st->error.code, "%s", st->error.message);
 }
 
 static int cmp_idref(const void *a, const void *b)
@@ -248,12 +408,17 @@ static int cmp_idref(const void *a, const void *b)
     return strcmp(((const idref *)a)->id, ((const idref *)b)->id);
 }
 
+/* bsearch's comparison of an identifier with an idref. */
+static int cmp_id_idref(const void *id, const void *ref)
+{
+    return strcmp(id, ((const idref *)ref)->id);
+}
+
 /* Places the lines of the element with identifier `id` that are not placed yet. */
 static int place(reader *r, const char *id, int in_order)
 {
-    idref key = {id, 0, 0};
     const idref *e =
-        r->nids > 0 ? bsearch(&key, r->ids, (size_t)r->nids, sizeof *r->ids, cmp_idref) : NULL;
+        r->nids > 0 ? bsearch(id, r->ids, (size_t)r->nids, sizeof *r->ids, cmp_id_idref) : NULL;
     if (!e) return fail(r, LT_EPARSE, "the reading order refers to a missing element: ", id);
     for (int i = e->first; i < e->end; i++) {
         if (r->lines[i].placed) continue;
@@ -400,8 +565,9 @@ static int dup_source(reader *r, const char *s, lt_scored_page *pg)
     return pg->source ? 0 : fail(r, LT_ENOMEM, "out of memory", NULL);
 }
 
-/* A PAGE document (root PcGts): one page. */
-static int read_page_doc(reader *r, xmlNodePtr root, lt_scored_page **pages, int *npages)
+/* A PAGE document (root PcGts): one page; its lines were read while parsing (st). */
+static int read_page_doc(reader *r, const stream *st, xmlNodePtr root, lt_scored_page **pages,
+                         int *npages)
 {
     xmlNodePtr page = first_child(root, "Page");
     if (!page) return fail(r, LT_EPARSE, "PcGts has no Page", NULL);
@@ -416,14 +582,15 @@ static int read_page_doc(reader *r, xmlNodePtr root, lt_scored_page **pages, int
     /* orientation: degrees clockwise that correct the skew, the same sign as skew_deg */
     if (!rc) rc = page_size(r, page, "imageWidth", "imageHeight", pg);
     if (!rc) rc = page_skew(r, page, "orientation", pg);
-    if (!rc) rc = collect(r, page, 0, pg->has_skew ? pg->skew_deg : 0, 0);
+    if (!rc) rc = stream_page(r, st, 0);
     xmlNodePtr ro = first_child(page, "ReadingOrder");
     if (!rc) rc = finish_pages(r, ro, pg, 1);
     return rc;
 }
 
-/* An ALTO document: each Layout/Page is a page. */
-static int read_alto_doc(reader *r, xmlNodePtr root, lt_scored_page **pages, int *npages)
+/* An ALTO document: each Layout/Page is a page; their lines were read while parsing (st). */
+static int read_alto_doc(reader *r, const stream *st, xmlNodePtr root, lt_scored_page **pages,
+                         int *npages)
 {
     xmlNodePtr desc = first_child(root, "Description");
     xmlChar *unit = xmlNodeGetContent(first_child(desc, "MeasurementUnit"));
@@ -461,7 +628,7 @@ static int read_alto_doc(reader *r, xmlNodePtr root, lt_scored_page **pages, int
         rc = dup_source(r, (const char *)file, &pg[k]);
         if (!rc) rc = page_size(r, c, "WIDTH", "HEIGHT", &pg[k]);
         if (!rc) rc = page_skew(r, c, "ROTATION", &pg[k]); /* counter-clockwise, as skew_deg */
-        if (!rc) rc = collect(r, c, k, pg[k].has_skew ? pg[k].skew_deg : 0, 0);
+        if (!rc) rc = stream_page(r, st, k);
         k++;
     }
     xmlFree(file);
@@ -477,12 +644,34 @@ static int read_document(const char *data, size_t size, const char *name, int do
     *npages = 0;
     if (size > (size_t)INT32_MAX)
         return lt_error_set(err, LT_ELIMIT, "%s: document %d is too large", name, doc);
-    xmlParserCtxtPtr ctxt = xmlNewParserCtxt();
+    xmlParserCtxtPtr ctxt = xmlCreateMemoryParserCtxt(data, (int)size);
     if (!ctxt) return lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);
-    xmlDocPtr xdoc = xmlCtxtReadMemory(ctxt, data, (int)size, name, NULL,
-                                       XML_PARSE_NONET | XML_PARSE_NOERROR | XML_PARSE_NOWARNING |
-                                           XML_PARSE_NOCDATA);
-    if (!xdoc) {
+    xmlCtxtUseOptions(ctxt, XML_PARSE_NONET | XML_PARSE_NOERROR | XML_PARSE_NOWARNING |
+                                XML_PARSE_NOCDATA);
+    reader r = {.name = name, .doc = doc, .err = err};
+    stream st = {.r = &r};
+    r.err = &st.error; /* failures while parsing are told when their page is read */
+    ctxt->_private = &st;
+    ctxt->sax->startElementNs = stream_start;
+    ctxt->sax->endElementNs = stream_end;
+    ctxt->sax->characters = stream_characters;
+    ctxt->sax->ignorableWhitespace = stream_characters;
+    ctxt->sax->comment = NULL;
+    ctxt->sax->processingInstruction = NULL;
+    xmlParseDocument(ctxt);
+    r.err = err;
+    xmlDocPtr xdoc = ctxt->myDoc;
+    ctxt->myDoc = NULL;
+    if (xdoc && !ctxt->wellFormed) {
+        xmlFreeDoc(xdoc);
+        xdoc = NULL;
+    }
+    int rc;
+    if (st.error.code == LT_ELIMIT || st.error.code == LT_ENOMEM) { /* the parse was stopped */
+        rc = lt_error_set(err, st.error.code, "%s", st.error.message);
+    } else if (!xdoc && ctxt->errNo == XML_ERR_NO_MEMORY) {
+        rc = lt_error_set(err, LT_ENOMEM, "%s: document %d: out of memory", name, doc);
+    } else if (!xdoc) {
         const xmlError *e = xmlCtxtGetLastError(ctxt);
         char msg[200] = "not well-formed XML";
         if (e && e->message) {
@@ -491,29 +680,28 @@ static int read_document(const char *data, size_t size, const char *name, int do
             while (len > 0 && (msg[len - 1] == '\n' || msg[len - 1] == ' '))
                 msg[--len] = '\0';
         }
-        int rc = lt_error_set(err, LT_EPARSE, "%s: document %d, line %d: not valid XML: %s", name,
-                              doc, e ? e->line : 0, msg);
-        xmlFreeParserCtxt(ctxt);
-        return rc;
-    }
-    reader r = {.name = name, .doc = doc, .err = err};
-    xmlNodePtr root = xmlDocGetRootElement(xdoc);
-    int rc;
-    if (is_named(root, "PcGts")) {
-        rc = read_page_doc(&r, root, pages, npages);
-    } else if (is_named(root, "alto")) {
-        r.is_alto = 1;
-        rc = read_alto_doc(&r, root, pages, npages);
+        rc = lt_error_set(err, LT_EPARSE, "%s: document %d, line %d: not valid XML: %s", name, doc,
+                          e ? e->line : 0, msg);
     } else {
-        rc = lt_error_set(err, LT_EPARSE,
-                          "%s: document %d: root element <%.40s> is neither PAGE (PcGts) nor "
-                          "ALTO (alto)",
-                          name, doc, root ? (const char *)root->name : "");
+        xmlNodePtr root = xmlDocGetRootElement(xdoc);
+        if (st.kind == 1) {
+            rc = read_page_doc(&r, &st, root, pages, npages);
+        } else if (st.kind == 2) {
+            rc = read_alto_doc(&r, &st, root, pages, npages);
+        } else {
+            rc = lt_error_set(err, LT_EPARSE,
+                              "%s: document %d: root element <%.40s> is neither PAGE (PcGts) nor "
+                              "ALTO (alto)",
+                              name, doc, root ? (const char *)root->name : "");
+        }
     }
     free(r.lines);
+    for (int i = 0; i < r.nids; i++)
+        free(r.ids[i].id);
     free(r.ids);
     free(r.order);
     free(r.in_order);
+    free(st.open);
     xmlFreeDoc(xdoc);
     xmlFreeParserCtxt(ctxt);
     if (rc) {
