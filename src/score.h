@@ -92,8 +92,10 @@ int lt_json_cut_short(const char *data, size_t n);
  * document order (ALTO), each reference placing the lines of the element it names (a
  * region, a block, a line) that are not placed yet; lines reached only through an unordered
  * group, or not at all, are not in_order (the latter follow in document order). Without
- * ReadingOrder, document order, every line in_order. Fails with LT_EPARSE ("NAME: document
- * D[, line L]: reason"), LT_ELIMIT or LT_ENOMEM. */
+ * ReadingOrder, document order, every line in_order. The lines are read as the document is
+ * parsed, without keeping its tree, and a document of more than LT_SCORE_MAX_LINES lines is
+ * refused when the next one ends. Fails with LT_EPARSE ("NAME: document D[, line L]:
+ * reason"), LT_ELIMIT or LT_ENOMEM. */
 int lt_scored_pages_parse_xml(const char *data, size_t size, const char *name,
                               lt_scored_page **pages, int *npages, lt_error *err);
 

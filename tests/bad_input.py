@@ -15,7 +15,9 @@ PILE_LINES = 1000000  # lines of each of the two piles `lineate score` is given
 # sanitizers take 4 times as long. The wall clock only stops a run that hangs.
 PILE_CPU_SECONDS = 20 if os.environ.get("LT_SANITIZED") else 5
 PILE_WALL_SECONDS = 120
-PILE_MEMORY_BYTES = 1 << 30  # address space (not under sanitizers) and peak resident memory
+# Address space (not under the sanitizers) and peak resident memory; the sanitizers' red zones
+# and quarantine of freed memory double it.
+PILE_MEMORY_BYTES = (2 << 30) if os.environ.get("LT_SANITIZED") else (1 << 30)
 
 
 def png_bytes(img):
