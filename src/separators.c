@@ -55,6 +55,15 @@ static const double STRIP_SIDE = 4.0;
  * descender's tip reaching into the rows looked at. */
 static const double STRIP_SIDE_LETTER = 0.75;
 static const double MIN_DOT_AREA = 0.02; /* text heights squared: the smallest dot of a leader */
+/* A gutter interrupted by a few lines printed across it (overfull lines run on into the next
+ * column) goes on below them: two stretches of gutter white one over the other, at most
+ * BRIDGE_MAX_ROWS apart, are one gutter where a line that keeps to the columns (white as
+ * wide as a gutter at that place in all its rows, text on both sides, at least
+ * BRIDGE_MIN_OPEN tall: a letter's height) stands between any two lines across it. A heading
+ * over both columns between two sections of them keeps to no columns; two listings whose
+ * number columns line up, with a paragraph between, have no line keeping to both sides. */
+static const double BRIDGE_MAX_ROWS = 16.0;
+static const double BRIDGE_MIN_OPEN = 0.75;
 /* Marks in a gutter: a speck of noise here and there, but not a dot in every line (a leader
  * runs through the white before its page numbers). */
 static const double MAX_DOTS_PER_LINE = 0.3;
@@ -107,6 +116,8 @@ typedef struct evidence {
     int min_aligned;     /* rows */
     int line_rows;       /* rows a line of text inks */
     int align_tolerance; /* cells */
+    int bridge_rows;     /* rows */
+    int bridge_open;     /* rows */
 } evidence;
 
 /* Ends the white run of window cx: with enough evidence, its cells from the first to the last
@@ -190,6 +201,66 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
     free(prev);
     free(runs);
     return 0;
+}
+
+/* What row y of occ holds around cell column cx, within `reach` cells: bits ROW_TEXT (any
+ * text), ROW_ACROSS (the white at cx is narrower than `width` cells, or there is none: a line
+ * runs across), ROW_LEFT and ROW_RIGHT (text at the end of that white on the left, right). */
+enum { ROW_TEXT = 1, ROW_ACROSS = 2, ROW_LEFT = 4, ROW_RIGHT = 8 };
+
+static int row_at(const uint8_t *occ, int cols, int y, int cx, int width, int reach)
+{
+    const uint8_t *row = occ + (size_t)y * cols;
+    if (row[cx] != 0) return ROW_TEXT | ROW_ACROSS;
+    int l = cx, r = cx;
+    while (l > 0 && row[l - 1] == 0 && cx - l < reach)
+        l--;
+    while (r + 1 < cols && row[r + 1] == 0 && r - cx < reach)
+        r++;
+    const int left = l > 0 && row[l - 1] != 0, right = r + 1 < cols && row[r + 1] != 0;
+    return (left || right ? ROW_TEXT : 0) | (r - l + 1 < width ? ROW_ACROSS : 0) |
+           (left ? ROW_LEFT : 0) | (right ? ROW_RIGHT : 0);
+}
+
+/* Joins the stretches of gutter white of every cell column of the mask that lie at most
+ * e->bridge_rows apart, where the lines between them (bands of rows with text near the
+ * column) alternate: a line keeping to the columns (white as wide as a gutter in all its
+ * rows, text on both sides, e->bridge_open rows tall at least) stands between the stretches
+ * and between any two lines across. The cells between, in white as wide as a gutter, become
+ * gutter (not a word space of a line across; see BRIDGE_MAX_ROWS). */
+static void bridge_gutters(const uint8_t *occ, int cols, int rows, const evidence *e,
+                           uint8_t *mask)
+{
+    for (int cx = 0; cx < cols; cx++) {
+        int last = -1; /* the last gutter row of the column so far */
+        for (int y = 0; y < rows; y++) {
+            if (!mask[(size_t)y * cols + cx]) continue;
+            if (last >= 0 && y - last > 1 && y - last <= e->bridge_rows) {
+                int keeping = 0, after_keeping = 1, alternate = 1, band = 0, seen = 0;
+                for (int k = last + 1; k <= y && alternate; k++) {
+                    const int bits = k < y ? row_at(occ, cols, k, cx, e->width, e->max_gap) : 0;
+                    if (bits & ROW_TEXT) { /* the band goes on */
+                        band++;
+                        seen |= bits;
+                        continue;
+                    }
+                    if (band == 0) continue;
+                    if (seen & ROW_ACROSS) {
+                        alternate = after_keeping;
+                        after_keeping = 0;
+                    } else if ((seen & ROW_LEFT) && (seen & ROW_RIGHT) && band >= e->bridge_open) {
+                        keeping++;
+                        after_keeping = 1;
+                    }
+                    band = seen = 0;
+                }
+                for (int k = last + 1; keeping && alternate && k < y; k++)
+                    if (!(row_at(occ, cols, k, cx, e->width, e->max_gap) & ROW_ACROSS))
+                        mask[(size_t)k * cols + cx] = 1;
+            }
+            last = y;
+        }
+    }
 }
 
 /* How far (cells) the text beside a gutter region reaches in cell row y, going `dir` (+1
@@ -346,8 +417,11 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                         (int)ceil(GUTTER_MIN_SIDED * th / cell),
                         (int)ceil(GUTTER_MIN_ALIGNED * th / cell),
                         (int)ceil(2 * th / cell),
-                        (int)(ALIGN_TOLERANCE * th / cell)};
+                        (int)(ALIGN_TOLERANCE * th / cell),
+                        (int)(BRIDGE_MAX_ROWS * th / cell),
+                        (int)ceil(BRIDGE_MIN_OPEN * th / cell)};
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
+    if (!rc) bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];

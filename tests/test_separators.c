@@ -597,6 +597,43 @@ static void test_strip_sides(void)
     }
 }
 
+/* 11. Two columns of 16 plain lines with a gutter of 2 text heights, where lines of the left
+ * column run on across the gutter into the right column's measure (their rows hold nothing
+ * else). Rows 6 and 8 across, row 7 keeping to the columns between them: the gutter goes on
+ * through rows 6 to 8 (BRIDGE_MAX_ROWS), so both lines across are cut at it and no line
+ * crosses it: 32 lines. Rows 6, 8 and 9 across (8 and 9 one after the other, as a paragraph
+ * set across the columns): the gutter stops above row 6 and starts again at row 10, and the
+ * four lines between stand whole (row 7's gap, beside no gutter, is a wide word space to the
+ * line stage): 28 lines, 4 across. */
+static void test_bridged_gutter(void)
+{
+    for (int in_a_row = 0; in_a_row <= 1; in_a_row++) {
+        char what[64];
+        snprintf(what, sizeof what, "lines across a gutter, %s",
+                 in_a_row ? "two of them in a row" : "lines keeping between them");
+        page *p = page_new(1600, 1000);
+        const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH, first = 125 + ASC, rows = 16;
+        for (int i = 0; i < rows; i++) {
+            const int across = i == 6 || i == 8 || (in_a_row && i == 9);
+            const int base = first + PITCH * i;
+            if (across) {
+                draw_plain_line(p, COL_X0, x2 + COL_WIDTH, base, LETTER_X, LETTER_X);
+                continue;
+            }
+            draw_plain_line(p, COL_X0, x1, base, LETTER_X, LETTER_FULL);
+            draw_plain_line(p, x2, x2 + COL_WIDTH, base, LETTER_FULL, LETTER_X);
+        }
+        result res = run_stages(p, what);
+        const int row7 = first + PITCH * 7;
+        CHECK_INT(lt_gutter_between(res.seps, x1, x2, row7 - XH, row7), !in_a_row,
+                  "%s: gutter beside row 7", what);
+        CHECK_INT(lines_across(&res, x1, x2), in_a_row ? 4 : 0, "%s: lines across", what);
+        CHECK_INT(res.lines ? res.lines->count : -1, in_a_row ? 28 : 32, "%s: lines", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -610,6 +647,7 @@ int main(void)
     test_alignment();
     test_touching_lines();
     test_strip_sides();
+    test_bridged_gutter();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_separators");
 }
