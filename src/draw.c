@@ -334,19 +334,15 @@ static void outline_quad(cairo_t *cr, const lt_point *q, double width_px, rgb co
 }
 
 /* Strokes of a hatch over the quad: rising diagonals (x + y a multiple of the period) or a
- * grid (x or y a multiple of it), anchored to the picture's origin. */
+ * grid (x or y a multiple of it), anchored to the picture's origin; only where the quad is
+ * visible (inside the current clip), so a huge quad costs no more than the picture. */
 static void hatch_quad(cairo_t *cr, const lt_point *q, double period, double stroke_px, int grid)
 {
-    double x0 = q[0].x, x1 = q[0].x, y0 = q[0].y, y1 = q[0].y;
-    for (int i = 1; i < 4; i++) {
-        x0 = fmin(x0, q[i].x);
-        x1 = fmax(x1, q[i].x);
-        y0 = fmin(y0, q[i].y);
-        y1 = fmax(y1, q[i].y);
-    }
     cairo_save(cr);
     quad_path(cr, q, 0);
     cairo_clip(cr);
+    double x0, y0, x1, y1;
+    cairo_clip_extents(cr, &x0, &y0, &x1, &y1);
     cairo_new_path(cr);
     if (grid) {
         for (double k = floor(x0 / period); k * period <= x1; k++) {
