@@ -4,13 +4,13 @@
  * with a FreeType font (fonts-dejavu-core's DejaVu Sans by default, see configure.ac).
  *
  * Colours. The role tints are Paul Tol's "muted" qualitative scheme (P. Tol, "Colour Schemes",
- * SRON technical note SRON/EPS/TN/09-002, 2021: indigo #332288, cyan #88CCEE, teal #44AA99,
- * green #117733, olive #999933, sand #DDCC77, rose #CC6677, wine #882255, purple #AA4499),
- * designed to stay distinct for readers with the common colour-vision deficiencies; the
- * reading-order arrows are the blue and vermillion of Okabe & Ito ("Color Universal Design",
- * 2002: blue #0072B2, vermillion #D55E00), and the line outlines their black. tests/draw.sh
- * checks the tints as they come out in the PNG through the deuteranopia and protanopia
- * simulation of Machado, Oliveira & Fernandes (2009). */
+ * SRON technical note SRON/EPS/TN/09-002: indigo #332288, cyan #88CCEE, teal #44AA99, green
+ * #117733, olive #999933, sand #DDCC77, rose #CC6677, wine #882255, purple #AA4499; values from
+ * memory), designed to stay distinct for readers with the common colour-vision deficiencies;
+ * the reading-order arrows are the blue and vermillion of Okabe & Ito ("Color Universal
+ * Design", 2002: blue #0072B2, vermillion #D55E00; from memory), and the line outlines their
+ * black. tests/draw_picture.sh checks the tints as they come out in the PNG through the
+ * deuteranopia, protanopia and tritanopia simulations of Machado, Oliveira & Fernandes (2009). */
 #include "draw.h"
 
 #include <cairo-ft.h>

@@ -288,6 +288,26 @@ check "order review needed: its reasons are written in the jump colour, in the l
 draw "$page" noreview.json --no-order -o noreview.png
 check "order review not needed: nothing in the jump colour" \
     py count noreview.png jump 0 0 3000 1650 eq 0
+# Reasons the font cannot show as they are: bytes that are no UTF-8 (0xff, a lone surrogate),
+# a control character, a 3,000-letter word; and 200 reasons, more than the legend's 60 rows.
+"$python" - <<'EOF' || fail "cannot write the review layouts"
+import json
+base = {"page": 1, "width": 2550, "height": 3300, "blocks": [], "lines": []}
+odd = json.dumps(dict(base, order_review={"needed": True, "reasons": [
+    "bad BYTES and \u0007 a bell", "x" * 3000]}))
+open("odd.json", "wb").write(odd.encode().replace(b"BYTES", b"\xff\xed\xa0\x80"))
+json.dump(dict(base, order_review={"needed": True, "reasons": [
+    "reason %d, in words enough to wrap" % i for i in range(200)]}), open("many.json", "w"))
+EOF
+draw "$page" odd.json --no-order -o odd.png
+check "review reasons with bytes that are no UTF-8, a bell and a 3,000-letter word: drawn" \
+    test "$rc" -eq 0 -a ! -s err
+check "review reasons the font cannot show as they are: written in the jump colour" \
+    py count odd.png jump 1276 0 3000 1650 gt 50
+draw "$page" many.json --no-order -o many.png
+check "200 review reasons: drawn, the legend cut at its 60 rows, the page area kept" \
+    test "$rc" -eq 0 -a ! -s err
+check "200 review reasons: a page area of 1275x1650" py size many.png 1275 1650
 
 # ---- multi-page images and JSON Lines -------------------------------------------------------
 # PIL writes the two-page TIFF (pages of known sizes) and decodes the pictures.
