@@ -9,6 +9,13 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* Steps of the coarse sweeps, degrees: on the 8x reduction, and on the 4x one (sharper
+ * peaks); share of the profile's bins nearly empty (white between lines) below which a sharp
+ * projection is weak evidence. */
+static const double COARSE_STEP = 0.5;
+static const double FINE_COARSE_STEP = 0.25;
+static const double GAP_EVIDENCE = 0.25;
+
 typedef struct cell {
     float x, y; /* centre relative to the grid centre, full-resolution pixels */
     int32_t weight;
@@ -190,6 +197,59 @@ static int sweep(const cells *c, double lo, double hi, double step, double bin_p
     return best;
 }
 
+/* The reductions of the ink the search runs on: 8x, 4x and 2x. */
+typedef struct levels {
+    const cells *c8, *c4, *c2;
+} levels;
+
+/* One search: a coarse sweep over [-range_deg, range_deg] at `step` on the reduction of
+ * `coarse_factor` (8 or 4; bins that many px), then refinements on the finer reductions around
+ * the best angle so far, then the vertex of the parabola through the best angle and its
+ * neighbours. *confidence: how far the coarse peak stands out (1 - median / peak), scaled
+ * down where the profile at the angle found shows less white between lines than
+ * GAP_EVIDENCE; *gaps: that share. crit and sorted have room for the coarse sweep's angles. */
+static void search(const levels *lv, int coarse_factor, double step, double range_deg,
+                   int32_t *profile, int nbins, double *crit, double *sorted, double *angle_out,
+                   double *confidence_out, double *gaps_out)
+{
+    const cells *coarse = coarse_factor == 8 ? lv->c8 : lv->c4;
+    const int coarse_n = (int)floor(2 * range_deg / step + 0.5) + 1;
+    int best = sweep(coarse, -range_deg, range_deg, step, coarse_factor, 1, profile, nbins, crit);
+    double angle = -range_deg + best * step;
+    memcpy(sorted, crit, (size_t)coarse_n * sizeof *sorted);
+    double peak = crit[best], typical = lt_median(sorted, coarse_n);
+    double confidence = peak > 0 ? 1.0 - typical / peak : 0;
+
+    /* Refinements on finer reductions around the best angle so far. */
+    const struct {
+        const cells *c;
+        double bin_px, span_deg, step_deg;
+    } stages[] = {{lv->c4, 4, 0.35, 0.05}, {lv->c2, 2, 0.06, 0.02}};
+    double prev = 0, next = 0;
+    for (size_t s = 0; s < sizeof stages / sizeof stages[0]; s++) {
+        double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;
+        step = stages[s].step_deg;
+        int n = (int)floor((hi - lo) / step + 0.5) + 1;
+        int b = sweep(stages[s].c, lo, hi, step, stages[s].bin_px, 1, profile, nbins, crit);
+        angle = lo + b * step;
+        prev = b > 0 ? crit[b - 1] : crit[b];
+        next = b < n - 1 ? crit[b + 1] : crit[b];
+        peak = crit[b];
+    }
+    /* The vertex of the parabola through the best angle and its neighbours. */
+    double denom = prev - 2 * peak + next;
+    if (denom < 0) {
+        double shift = 0.5 * (prev - next) / denom;
+        if (fabs(shift) <= 1) angle += shift * step;
+    }
+    /* A sharp projection counts as evidence only when it shows white between lines. */
+    sharpness(lv->c2, angle, 2, 1, profile, nbins);
+    const double gaps = gap_fraction(profile, nbins);
+    *angle_out = angle;
+    *confidence_out = confidence * (gaps >= GAP_EVIDENCE ? 1.0 : gaps / GAP_EVIDENCE);
+    *gaps_out = gaps;
+}
+
 int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence, lt_skew *out,
                      lt_error *err)
 {
@@ -200,8 +260,7 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     if (ink->width < 16 || ink->height < 16) return 0;
     const double diag = hypot(ink->width, ink->height);
     const int nbins = (int)(diag / 2.0) + 8; /* bins of >= 2 px span the diagonal */
-    const double coarse_step = 0.5;
-    const int coarse_n = (int)floor(2 * range_deg / coarse_step + 0.5) + 1;
+    const int coarse_n = (int)floor(2 * range_deg / FINE_COARSE_STEP + 0.5) + 1;
     int32_t *profile = malloc((size_t)nbins * sizeof *profile);
     double *crit = malloc((size_t)(coarse_n + 64) * sizeof *crit);
     double *sorted = malloc((size_t)(coarse_n + 64) * sizeof *sorted);
@@ -216,39 +275,23 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     }
     if (c8.count < 8) goto done; /* blank page: no evidence */
 
-    /* 1. Coarse sweep over the whole range; confidence from how far the peak stands out. */
-    int best = sweep(&c8, -range_deg, range_deg, coarse_step, 8, 1, profile, nbins, crit);
-    double angle = -range_deg + best * coarse_step;
-    memcpy(sorted, crit, (size_t)coarse_n * sizeof *sorted);
-    double peak = crit[best], typical = lt_median(sorted, coarse_n);
-    double confidence = peak > 0 ? 1.0 - typical / peak : 0;
-
-    /* 2. Refinements on finer reductions around the best angle so far. */
-    const struct {
-        const cells *c;
-        double bin_px, span_deg, step_deg;
-    } stages[] = {{&c4, 4, 0.35, 0.05}, {&c2, 2, 0.06, 0.02}};
-    double prev = 0, next = 0, step = coarse_step;
-    for (size_t s = 0; s < sizeof stages / sizeof stages[0]; s++) {
-        double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;
-        step = stages[s].step_deg;
-        int n = (int)floor((hi - lo) / step + 0.5) + 1;
-        int b = sweep(stages[s].c, lo, hi, step, stages[s].bin_px, 1, profile, nbins, crit);
-        angle = lo + b * step;
-        prev = b > 0 ? crit[b - 1] : crit[b];
-        next = b < n - 1 ? crit[b + 1] : crit[b];
-        peak = crit[b];
+    /* Lines of small type (a pitch of a bin or two of the 8x reduction) can give the coarse
+     * sweep there a false peak, at which the profile shows no white between lines: then the
+     * search starts again from a sweep of the 4x reduction, at the step its narrower peaks
+     * need, and the angle with the clearer evidence is kept. */
+    const levels levels = {&c8, &c4, &c2};
+    double angle, confidence, gaps;
+    search(&levels, 8, COARSE_STEP, range_deg, profile, nbins, crit, sorted, &angle, &confidence,
+           &gaps);
+    if (gaps < GAP_EVIDENCE) {
+        double angle4, confidence4, gaps4;
+        search(&levels, 4, FINE_COARSE_STEP, range_deg, profile, nbins, crit, sorted, &angle4,
+               &confidence4, &gaps4);
+        if (confidence4 > confidence) {
+            angle = angle4;
+            confidence = confidence4;
+        }
     }
-    /* 3. Vertex of the parabola through the best angle and its neighbours. */
-    double denom = prev - 2 * peak + next;
-    if (denom < 0) {
-        double shift = 0.5 * (prev - next) / denom;
-        if (fabs(shift) <= 1) angle += shift * step;
-    }
-    /* A sharp projection counts as evidence only when it shows white between lines. */
-    sharpness(&c2, angle, 2, 1, profile, nbins);
-    double gaps = gap_fraction(profile, nbins);
-    confidence *= gaps >= 0.25 ? 1.0 : gaps / 0.25;
     if (confidence >= min_confidence) {
         out->angle_deg = angle;
         out->confidence = confidence;
