@@ -84,6 +84,97 @@ static int assemble(lt_layout *out, const lt_raw_lines *raw, const lt_arrangemen
     return 0;
 }
 
+/* The stages that depend on which way the page stands: from the skew to the text lines. */
+typedef struct level_page {
+    lt_skew skew;
+    lt_frame frame; /* from the deskewed canvas to the image as given */
+    int page_height; /* of the deskewed canvas */
+    lt_components *comps;
+    double th; /* text height, px */
+    lt_separators *seps;
+    lt_raw_lines *raw;
+} level_page;
+
+static void level_page_free(level_page *lp)
+{
+    lt_components_free(lp->comps);
+    lt_separators_free(lp->seps);
+    lt_raw_lines_free(lp->raw);
+    *lp = (level_page){0};
+}
+
+/* Runs skew, components, classification, separators and lines on `ink` turned clockwise by
+ * turn_deg; the turned and deskewed images are freed before return, `ink` is left as it is
+ * (the caller may need it again for another turn). */
+static int level_stages(const lt_image *ink, int turn_deg, const lt_params *params, double dpi,
+                        level_page *lp, lt_error *err)
+{
+    *lp = (level_page){0};
+    lt_image *turned = NULL, *deskewed = NULL;
+    const lt_image *page = ink;
+    int rc = 0;
+    if (turn_deg != 0) {
+        if ((rc = lt_turn_ink(ink, turn_deg, &turned, err))) goto done;
+        page = turned;
+    }
+    rc = lt_estimate_skew(page, params->skew_range_deg, params->skew_min_confidence, &lp->skew,
+                          err);
+    if (rc) goto done;
+    const double rotate_deg =
+        fabs(lp->skew.angle_deg) >= params->deskew_min_deg ? lp->skew.angle_deg : 0;
+    lt_frame_init(&lp->frame, page->width, page->height, rotate_deg);
+    lt_frame_set_turn(&lp->frame, turn_deg, ink->width, ink->height);
+    if (rotate_deg != 0) {
+        if ((rc = lt_rotate_ink(page, rotate_deg, &deskewed, err))) goto done;
+        page = deskewed;
+        lt_image_free(turned); /* the level copy replaces it */
+        turned = NULL;
+    }
+    lp->page_height = page->height;
+    if ((rc = lt_find_components(page, params->max_components, &lp->comps, err))) goto done;
+    lt_image_free(turned);
+    lt_image_free(deskewed);
+    turned = deskewed = NULL;
+    lp->th = lt_text_height(lp->comps, dpi);
+    if (lp->th < 0) {
+        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
+        goto done;
+    }
+    lt_classify_components(lp->comps, lp->th, params);
+    if ((rc = lt_find_separators(lp->comps, lp->th, &lp->seps, err))) goto done;
+    rc = lt_build_lines(lp->comps, lp->th, lp->seps, params, &lp->raw, err);
+done:
+    lt_image_free(turned);
+    lt_image_free(deskewed);
+    if (rc) level_page_free(lp);
+    return rc;
+}
+
+/* Estimates which quarter turn makes the page upright, from the stages run as the page was
+ * given (in *lp), and runs them again on the page turned so (at most twice: a quarter turn
+ * when the lines run down the page, then half a turn when it then stands upside down). Sets
+ * the layout's orientation_deg and orientation_confidence (see lineate.h). */
+static int orient(const lt_image *ink, const lt_params *params, lt_layout *res, level_page *lp,
+                  lt_error *err)
+{
+    lt_orientation axis, upright;
+    int rc = lt_estimate_line_axis(lp->comps, &axis, err);
+    if (rc || axis.confidence == 0) return rc;
+    if (axis.turn_deg == 90) {
+        level_page_free(lp);
+        res->orientation_deg = 90;
+        if ((rc = level_stages(ink, 90, params, res->dpi, lp, err))) return rc;
+    }
+    if ((rc = lt_estimate_upright(lp->comps, lp->raw, &upright, err))) return rc;
+    if (upright.turn_deg == 180) {
+        level_page_free(lp);
+        res->orientation_deg = (res->orientation_deg + 180) % 360;
+        if ((rc = level_stages(ink, res->orientation_deg, params, res->dpi, lp, err))) return rc;
+    }
+    res->orientation_confidence = fmin(axis.confidence, upright.confidence);
+    return 0;
+}
+
 /* Checks every field of `p` against its range (given beside the field in lineate.h); the
  * message names the first field outside it. The flags force_dpi and right_to_left take any
  * value. */
@@ -113,6 +204,9 @@ static int check_params(const lt_params *p, lt_error *err)
         if (!(fields[i].value >= fields[i].min && fields[i].value <= fields[i].max))
             return lt_error_set(err, LT_EINVAL, "%s: %g is outside %g..%g", fields[i].name,
                                 fields[i].value, fields[i].min, fields[i].max);
+    const int o = p->orientation_deg;
+    if (o != LT_ORIENTATION_AUTO && o != 0 && o != 90 && o != 180 && o != 270)
+        return lt_error_set(err, LT_EINVAL, "orientation_deg: %d is not -1 (auto), 0, 90, 180 or 270", o);
     return 0;
 }
 
@@ -145,10 +239,8 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
         (img->dpi_rejected || (img->dpi != 0 && !file_dpi_plausible)) && !params->force_dpi;
     res->dpi = res->dpi_from_file ? img->dpi : params->dpi;
 
-    lt_image *ink_own = NULL, *deskewed_own = NULL;
-    lt_components *comps = NULL;
-    lt_separators *seps = NULL;
-    lt_raw_lines *raw = NULL;
+    lt_image *ink_own = NULL;
+    level_page lp = {0};
     lt_cut_node *tree = NULL;
     lt_arrangement *arr = NULL;
     int rc = 0;
@@ -166,55 +258,33 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
             img = NULL;
         }
     }
-    /* 2. Skew, and the deskewed page the rest works on. */
-    lt_skew skew;
-    rc = lt_estimate_skew(ink, params->skew_range_deg, params->skew_min_confidence, &skew, err);
+    /* 2. Orientation, skew, components and their classes, separators and lines, on the page
+     * turned upright and levelled. */
+    const int estimate = params->orientation_deg == LT_ORIENTATION_AUTO;
+    res->orientation_deg = estimate ? 0 : params->orientation_deg;
+    rc = level_stages(ink, res->orientation_deg, params, res->dpi, &lp, err);
+    if (!rc && estimate) rc = orient(ink, params, res, &lp, err);
     if (rc) goto done;
-    res->skew_deg = skew.angle_deg;
-    res->skew_confidence = skew.confidence;
-    double rotate_deg = fabs(skew.angle_deg) >= params->deskew_min_deg ? skew.angle_deg : 0;
-    const lt_image *page = ink;
-    if (rotate_deg != 0) {
-        rc = lt_rotate_ink(ink, rotate_deg, &deskewed_own, err);
-        if (rc) goto done;
-        page = deskewed_own;
-        lt_image_free(ink_own); /* the unrotated ink is no longer needed */
-        ink_own = NULL;
-    }
-    lt_frame frame;
-    lt_frame_init(&frame, res->width, res->height, rotate_deg);
-    /* 3. Components and their classes. */
-    rc = lt_find_components(page, params->max_components, &comps, err);
+    lt_image_free(ink_own); /* the page as given is no longer needed */
+    ink_own = NULL;
+    res->skew_deg = lp.skew.angle_deg;
+    res->skew_confidence = lp.skew.confidence;
+    res->ncomponents = lp.comps->count;
+    res->text_height_px = lp.th;
+    /* 3. Blocks, 4. tables, roles and reading order. */
+    rc = lt_xy_cut(lp.raw, lp.comps, lp.seps, lp.th, params, &tree, err);
     if (rc) goto done;
-    res->ncomponents = comps->count;
-    res->text_height_px = lt_text_height(comps, res->dpi);
-    if (res->text_height_px < 0) {
+    rc = lt_arrange(tree, lp.raw, lp.comps, lp.th, params, lp.page_height, &arr, err);
+    if (rc) goto done;
+    if (assemble(res, lp.raw, arr, lp.comps, &lp.frame)) {
         rc = lt_error_set(err, LT_ENOMEM, "out of memory");
         goto done;
     }
-    lt_classify_components(comps, res->text_height_px, params);
-    /* 4. Separators, 5. lines, 6. blocks, 7. tables, roles and reading order. */
-    rc = lt_find_separators(comps, res->text_height_px, &seps, err);
-    if (rc) goto done;
-    rc = lt_build_lines(comps, res->text_height_px, seps, params, &raw, err);
-    if (rc) goto done;
-    rc = lt_xy_cut(raw, comps, seps, res->text_height_px, params, &tree, err);
-    if (rc) goto done;
-    rc = lt_arrange(tree, raw, comps, res->text_height_px, params, page->height, &arr, err);
-    if (rc) goto done;
-    if (assemble(res, raw, arr, comps, &frame)) {
-        rc = lt_error_set(err, LT_ENOMEM, "out of memory");
-        goto done;
-    }
-    /* 7. An outline of each line's ink. */
-    rc = lt_line_polygons(raw, arr->order, arr->nlines, comps, res->text_height_px, &frame, res,
-                          err);
+    /* 5. An outline of each line's ink. */
+    rc = lt_line_polygons(lp.raw, arr->order, arr->nlines, lp.comps, lp.th, &lp.frame, res, err);
 done:
     lt_image_free(ink_own);
-    lt_image_free(deskewed_own);
-    lt_components_free(comps);
-    lt_separators_free(seps);
-    lt_raw_lines_free(raw);
+    level_page_free(&lp);
     lt_cut_node_free(tree);
     lt_arrangement_free(arr);
     if (rc) {

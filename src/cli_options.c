@@ -28,7 +28,8 @@ enum {
     OPT_RTL,
     OPT_MAX_PIXELS,
     OPT_MAX_PAGES,
-    OPT_MAX_COMPONENTS
+    OPT_MAX_COMPONENTS,
+    OPT_ORIENTATION
 };
 
 static const lt_cli_option HELP_VERSION_OPTIONS[] = {
@@ -46,6 +47,7 @@ static const lt_cli_option ANALYSIS_OPTIONS[] = {{"from", OPT_FROM, 1},
                                                  {"max-pixels", OPT_MAX_PIXELS, 1},
                                                  {"max-pages", OPT_MAX_PAGES, 1},
                                                  {"max-components", OPT_MAX_COMPONENTS, 1},
+                                                 {"orientation", OPT_ORIENTATION, 1},
                                                  {NULL, 0, 0}};
 
 int lt_cli_usage_error(const lt_cli_command *command, const char *fmt, ...)
@@ -116,6 +118,17 @@ static int take_analysis_option(const lt_cli_command *cmd, lt_cli_analysis *a, i
     case OPT_K: return lt_cli_number(cmd, "--k", arg, 0, 1, 0, &p->sauvola_k) ? -1 : 1;
     case OPT_MAX_SKEW:
         return lt_cli_number(cmd, "--max-skew", arg, 0, 45, 0, &p->skew_range_deg) ? -1 : 1;
+    case OPT_ORIENTATION: {
+        static const char *const names[] = {"auto", "0", "90", "180", "270"};
+        static const int values[] = {LT_ORIENTATION_AUTO, 0, 90, 180, 270};
+        for (size_t i = 0; i < sizeof names / sizeof *names; i++)
+            if (strcmp(arg, names[i]) == 0) {
+                p->orientation_deg = values[i];
+                return 1;
+            }
+        lt_cli_usage_error(cmd, "--orientation: '%s' is not auto, 0, 90, 180 or 270", arg);
+        return -1;
+    }
     case OPT_MAX_PIXELS:
         if (lt_cli_number(cmd, "--max-pixels", arg, 1, 4e12, 0, &v)) return -1;
         p->max_pixels = (long)v;

@@ -67,13 +67,23 @@ int lt_tiff_read_page(const uint8_t *data, size_t size, const char *name, int in
  * image. Built once per page; all output coordinates pass through it. */
 typedef struct lt_frame {
     double cos_a, sin_a;         /* of the skew angle */
-    double orig_cx, orig_cy;     /* centre of the original image */
+    double orig_cx, orig_cy;     /* centre of the (upright) image that was deskewed */
     double desk_cx, desk_cy;     /* centre of the deskewed canvas */
     int desk_width, desk_height; /* deskewed canvas size */
+    int turn_deg;                /* quarter turn clockwise from the image as given to the
+                                    upright image (lt_frame_set_turn), 0 by default */
+    int given_width, given_height; /* size of the image as given */
 } lt_frame;
 
 /* Frame for an image of width x height deskewed by angle_deg (0 gives the identity). */
 void lt_frame_init(lt_frame *f, int width, int height, double angle_deg);
+/* Records that the image lt_frame_init was given is the image as given (given_width x
+ * given_height) turned clockwise by turn_deg (0, 90, 180 or 270, as lt_turn_ink turns it):
+ * the mappings below then lead to and from the image as given. */
+void lt_frame_set_turn(lt_frame *f, int turn_deg, int given_width, int given_height);
+/* Turns an ink image clockwise by turn_deg (0, 90, 180 or 270) without loss: a new image,
+ * width and height swapped for 90 and 270. */
+int lt_turn_ink(const lt_image *ink, int turn_deg, lt_image **out, lt_error *err);
 /* Point of the deskewed canvas -> point of the original image. */
 lt_point lt_frame_to_original(const lt_frame *f, double x, double y);
 /* Point of the original image -> point of the deskewed canvas. */
@@ -143,6 +153,24 @@ typedef struct lt_raw_lines {
 int lt_build_lines(const lt_components *c, double text_height_px, const lt_separators *seps,
                    const lt_params *p, lt_raw_lines **out, lt_error *err);
 void lt_raw_lines_free(lt_raw_lines *l);
+
+/* ---- orientation (orient.c) --------------------------------------------------------- */
+/* A quarter turn, clockwise as displayed, that the evidence asks for. */
+typedef struct lt_orientation {
+    int turn_deg;      /* 0, 90 or 180 (below) */
+    double confidence; /* 0 (the page does not say: turn_deg 0) .. 1 */
+} lt_orientation;
+
+/* Whether the text lines of a page run across it (turn_deg 0) or down it (90: the page
+ * needs a quarter turn, and a second look at which side is then up), from the directions to
+ * each text component's nearest text neighbours. `th` is the text height in pixels; fewer
+ * than a few dozen text components give no estimate. */
+int lt_estimate_line_axis(const lt_components *c, lt_orientation *out, lt_error *err);
+/* Whether a page whose lines run across it stands upright (0) or upside down (180), from
+ * its components beyond each line's x-height band: above it (ascenders, capitals) against
+ * below it (descenders). Lines of scripts without that asymmetry give no estimate. */
+int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_orientation *out,
+                        lt_error *err);
 
 /* ---- line polygons (polygon.c) ----------------------------------------------------------- */
 /* Sets lines[i].polygon / npolygon of `out` (its lines[0..nlines) are raw lines order[i]) to

@@ -148,6 +148,8 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
                             l->dpi_from_file  ? "file"
                             : l->dpi_rejected ? "assumed-file-implausible"
                                               : "assumed");
+    cJSON_AddNumberToObject(o, "orientation_deg", l->orientation_deg);
+    cJSON_AddNumberToObject(o, "orientation_confidence", round2(l->orientation_confidence));
     cJSON_AddNumberToObject(o, "skew_deg", round(l->skew_deg * 1000) / 1000 + 0.0);
     cJSON_AddNumberToObject(o, "skew_confidence", round2(l->skew_confidence));
     cJSON_AddNumberToObject(o, "text_height_px", round2(l->text_height_px));

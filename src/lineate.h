@@ -169,9 +169,15 @@ typedef struct lt_params {
     double column_min_gap;      /* text units: narrowest gutter the XY-cut splits at (1.5) */
     double block_min_gap;       /* text units: narrowest vertical gap between blocks (1.2) */
     int right_to_left;          /* nonzero: columns, and pieces of a row, read right to left */
+    int orientation_deg;        /* LT_ORIENTATION_AUTO (default): estimate which quarter turn
+                                   makes the page upright; 0, 90, 180 or 270: the page reads
+                                   upright when turned clockwise by this much (0: as given) */
     long max_pixels;            /* LT_DEFAULT_MAX_PIXELS [1..LONG_MAX] */
     long max_components;        /* LT_DEFAULT_MAX_COMPONENTS [1..INT_MAX] */
 } lt_params;
+
+/* lt_params.orientation_deg: estimate the orientation. */
+#define LT_ORIENTATION_AUTO (-1)
 
 LT_API void lt_params_default(lt_params *p);
 
@@ -250,7 +256,15 @@ typedef struct lt_layout {
     int dpi_from_file;      /* 1 when the file gave it, 0 when assumed */
     int dpi_rejected;       /* 1 when the file gave one outside LT_MIN_DPI..LT_MAX_DPI, which
                                was ignored: `dpi` is then the assumed one */
-    double skew_deg;        /* estimated skew, 0 when there is no estimate */
+    int orientation_deg;    /* 0, 90, 180 or 270: the quarter turn, clockwise as displayed,
+                               that makes the page upright; the stages ran on the page turned
+                               so, and every coordinate is mapped back to the image as given */
+    double orientation_confidence; /* 0 .. 1: the lesser of the confidence that the lines run
+                               across the turned page and that it is not upside down; 0 when
+                               the page does not say (orientation_deg then 0, or 90 when only
+                               the direction of the lines was clear) or it was given */
+    double skew_deg;        /* estimated skew, 0 when there is no estimate; measured on the page
+                               turned upright (a quarter turn leaves a rotation's angle as it is) */
     double skew_confidence; /* 0 (no estimate) .. 1 */
     double text_height_px;  /* measured text height (0 when the page has no text) */
     int ncomponents;        /* connected components found */

@@ -118,6 +118,7 @@ void lt_params_default(lt_params *p)
     p->column_min_gap = 1.5;
     p->block_min_gap = 1.2;
     p->right_to_left = 0;
+    p->orientation_deg = LT_ORIENTATION_AUTO;
     p->max_pixels = LT_DEFAULT_MAX_PIXELS;
     p->max_components = LT_DEFAULT_MAX_COMPONENTS;
 }

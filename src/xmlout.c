@@ -20,6 +20,18 @@
 
 /* PAGE region type of each role (TextTypeSimpleType). The standard has no list item: list
  * items are paragraphs, and keep their role in the region's `custom` attribute. */
+/* The clockwise turn that sets the page upright and level, in (-180, 180]: the quarter turn
+ * plus the skew (lines rising to the right, a positive skew, are levelled by turning the page
+ * clockwise). PAGE's Page/@orientation is this correction; ALTO's Page/@ROTATION, the
+ * content's rotation counter-clockwise, is the same number. */
+static double correction_deg(const lt_layout *l)
+{
+    double deg = fmod(l->orientation_deg + l->skew_deg, 360.0);
+    if (deg > 180) deg -= 360;
+    if (deg <= -180) deg += 360;
+    return deg;
+}
+
 static const char *page_text_type(int role)
 {
     switch (role) {
@@ -263,9 +275,7 @@ char *lt_layout_to_page_xml(const lt_layout *l, const char *source, int page, in
     set_attr_num(pg, "imageXResolution", l->dpi);
     set_attr_num(pg, "imageYResolution", l->dpi);
     set_attr(pg, "imageResolutionUnit", "PPI");
-    /* orientation: degrees clockwise that correct the skew; lines rising to the right (a
-     * positive skew) are corrected by turning the page clockwise. */
-    set_attr_num(pg, "orientation", l->skew_deg);
+    set_attr_num(pg, "orientation", correction_deg(l));
 
     int ntext = 0;
     for (int k = 0; k < l->nblocks; k++)
@@ -396,9 +406,12 @@ char *lt_layout_to_alto(const lt_layout *l, const char *source, int page, int pa
     xmlNodePtr proc = desc ? child(desc, ns, "Processing", NULL) : NULL;
     if (bad || !proc) return finish(doc, 1);
     set_attr(proc, "ID", "proc1");
-    char settings[128];
-    snprintf(settings, sizeof settings, "resolution %.6g dpi (%s); skew %.3f deg", l->dpi,
-             l->dpi_from_file ? "from the file" : "assumed", l->skew_deg);
+    char settings[192];
+    snprintf(settings, sizeof settings,
+             "resolution %.6g dpi (%s); turned %d deg clockwise to read upright (confidence "
+             "%.2f); skew %.3f deg",
+             l->dpi, l->dpi_from_file ? "from the file" : "assumed", l->orientation_deg,
+             l->orientation_confidence, l->skew_deg);
     bad |= !child(proc, ns, "processingCategory", "contentGeneration");
     bad |= !child(proc, ns, "processingStepSettings", settings);
     xmlNodePtr sw = child(proc, ns, "processingSoftware", NULL);
@@ -429,7 +442,7 @@ char *lt_layout_to_alto(const lt_layout *l, const char *source, int page, int pa
     set_attr_int(pg, "PHYSICAL_IMG_NR", page);
     set_attr_int(pg, "WIDTH", l->width);
     set_attr_int(pg, "HEIGHT", l->height);
-    set_attr_num(pg, "ROTATION", l->skew_deg); /* degrees counter-clockwise, as skew_deg */
+    set_attr_num(pg, "ROTATION", correction_deg(l)); /* the content's, counter-clockwise */
     xmlNodePtr space = child(pg, ns, "PrintSpace", NULL);
     if (!space) return finish(doc, 1);
     const lt_box whole = {0, 0, l->width, l->height};

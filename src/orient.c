@@ -1,0 +1,327 @@
+/* orient.c — which quarter turn makes a page upright, from the components and lines the
+ * pipeline finds anyway. Two questions, each with its own evidence:
+ *  - Do the text lines run across or down the page? The docstrum's nearest-neighbour angles
+ *    (O'Gorman 1993, k = 5 neighbours per component): characters of a line stand closer to
+ *    each other than to the lines above and below, so most neighbour pairs of a page of
+ *    horizontal lines point nearly horizontally, and of a page turned a quarter nearly
+ *    vertically.
+ *  - Which side is up? Ascenders against descenders, the asymmetry of Latin script that
+ *    Bloomberg, Kopec & Dasari (1995, "Measuring document image skew and orientation", SPIE
+ *    2422) count with hit-miss transforms (cited from memory): more characters rise above the
+ *    x-height band (b d f h k l t, capitals, digits) than fall below the baseline (g j p q y).
+ *    Here each line's band comes from the medians of its components' tops and bottoms, which
+ *    the plain x-height letters hold whichever way the page stands; a page upside down shows
+ *    its ascenders as marks below the band. */
+#include "internal.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+
+/* The constants of the stage (text units: multiples of the page's text height). */
+enum {
+    NEIGHBOURS = 2,                /* k of the docstrum (O'Gorman 1993 suggests 5) */
+    AXIS_MIN_COMPONENTS = 40,      /* fewer text components: no evidence of the axis */
+    UPDOWN_MIN_LINE_COMPONENTS = 4, /* a line with fewer gives no band of its own ... */
+    UPDOWN_MIN_PLAIN_LETTERS = 3    /* ... and one with fewer plain x-height letters */
+};
+static const double NEIGHBOUR_MAX_TH = 3.0; /* farther components are no neighbours: across a
+                                               gutter or a paragraph gap, not within a line */
+static const double LETTER_MIN_TH = 0.5;    /* longer side of a letter at least ... */
+static const double LETTER_MAX_TH = 2.0;    /* ... and at most (capitals, ligatures) */
+static const double AXIS_TAN = 0.57735;     /* tan 30°: a pair within 30° of an axis counts */
+static const double AXIS_DECISIVE = 0.75;   /* share of counted pairs along one axis that is
+                                               full confidence (plain text gives 0.8 to 0.95) */
+static const double AXIS_MIN_SHARE = 0.6;   /* below this share the page says nothing */
+static const double BAND_MARGIN = 0.3;      /* of the x-height: ink beyond the band by more is
+                                               an ascender or a descender (they reach 0.4 to
+                                               0.6 of the x-height beyond it; from memory) */
+static const double PLAIN_TOLERANCE = 0.2;  /* of the x-height: letters this close to it
+                                               are plain x-height letters, which give the band */
+static const double UPDOWN_MIN_Z = 4.0;     /* (A - D) / sqrt(A + D) below this: no estimate
+                                               (a binomial z score of chance asymmetry) */
+static const double UPDOWN_FULL_Z = 12.0;   /* z score of full confidence */
+static const double UPDOWN_MIN_SHARE = 0.6; /* the larger of A, D at least this share */
+
+static double clamp01(double v)
+{
+    return v < 0 ? 0 : v > 1 ? 1 : v;
+}
+
+/* Components the evidence of which side is up rests on. */
+static int is_text(const lt_component *c)
+{
+    return c->kind == LT_COMP_TEXT;
+}
+
+/* Components the direction of the lines rests on: text components of a letter's size in
+ * their longer side, whichever way the page stands (not pieces of broken letters or specks
+ * of noise, whose neighbours lie in any direction). */
+static int is_letter(const lt_component *c, double th)
+{
+    const int side = lt_box_width(&c->box) > lt_box_height(&c->box) ? lt_box_width(&c->box)
+                                                                     : lt_box_height(&c->box);
+    return c->kind == LT_COMP_TEXT && side >= LETTER_MIN_TH * th && side <= LETTER_MAX_TH * th;
+}
+
+/* Text components bucketed by centroid into square cells of cell_px (a counting sort):
+ * the members of cell k are members[start[k] .. start[k + 1]). */
+typedef struct buckets {
+    int cols, rows;
+    double cell_px;
+    int *start, *members;
+} buckets;
+
+static int cell_of(const buckets *b, const lt_component *a)
+{
+    return (int)(a->cy / b->cell_px) * b->cols + (int)(a->cx / b->cell_px);
+}
+
+static int buckets_fill(buckets *b, const lt_components *c, int n, int max_x, int max_y,
+                        double th, double cell_px)
+{
+    b->cell_px = cell_px;
+    b->cols = (int)(max_x / cell_px) + 1;
+    b->rows = (int)(max_y / cell_px) + 1;
+    const size_t cells = (size_t)b->cols * b->rows;
+    b->start = calloc(cells + 1, sizeof *b->start);
+    b->members = malloc((size_t)n * sizeof *b->members);
+    int *pos = malloc((cells + 1) * sizeof *pos);
+    if (!b->start || !b->members || !pos) {
+        free(pos);
+        return LT_ENOMEM;
+    }
+    for (int i = 0; i < c->count; i++)
+        if (is_letter(&c->items[i], th)) b->start[cell_of(b, &c->items[i]) + 1]++;
+    for (size_t k = 0; k < cells; k++)
+        b->start[k + 1] += b->start[k];
+    for (size_t k = 0; k <= cells; k++)
+        pos[k] = b->start[k];
+    for (int i = 0; i < c->count; i++)
+        if (is_letter(&c->items[i], th)) b->members[pos[cell_of(b, &c->items[i])]++] = i;
+    free(pos);
+    return 0;
+}
+
+/* Counts the k nearest text neighbours (within the cell size) of component i whose direction
+ * lies within 30 degrees of the horizontal (*along) or of the vertical (*across). */
+static void count_neighbours(const buckets *b, const lt_components *c, int i, long *along,
+                             long *across)
+{
+    const lt_component *a = &c->items[i];
+    const int gx = (int)(a->cx / b->cell_px), gy = (int)(a->cy / b->cell_px);
+    const double max_d2 = b->cell_px * b->cell_px;
+    double best_d2[NEIGHBOURS];
+    int best[NEIGHBOURS], found = 0;
+    for (int y = gy - 1; y <= gy + 1; y++)
+        for (int x = gx - 1; x <= gx + 1; x++) {
+            if (x < 0 || y < 0 || x >= b->cols || y >= b->rows) continue;
+            const int cell = y * b->cols + x;
+            for (int m = b->start[cell]; m < b->start[cell + 1]; m++) {
+                const int j = b->members[m];
+                const double dx = c->items[j].cx - a->cx, dy = c->items[j].cy - a->cy;
+                const double d2 = dx * dx + dy * dy;
+                if (j == i || d2 > max_d2 || (found == NEIGHBOURS && d2 >= best_d2[found - 1]))
+                    continue;
+                int k = found < NEIGHBOURS ? found++ : NEIGHBOURS - 1;
+                for (; k > 0 && best_d2[k - 1] > d2; k--) { /* insertion, nearest first */
+                    best_d2[k] = best_d2[k - 1];
+                    best[k] = best[k - 1];
+                }
+                best_d2[k] = d2;
+                best[k] = j;
+            }
+        }
+    for (int k = 0; k < found; k++) {
+        const double dx = fabs(c->items[best[k]].cx - a->cx),
+                     dy = fabs(c->items[best[k]].cy - a->cy);
+        *along += dy <= AXIS_TAN * dx;
+        *across += dx <= AXIS_TAN * dy;
+    }
+}
+
+/* Sort key: a component's longer side, with its ink. */
+typedef struct sized {
+    int side_px;
+    long pixels;
+} sized;
+
+static int cmp_sized(const void *pa, const void *pb)
+{
+    const sized *a = pa, *b = pb;
+    return (a->side_px > b->side_px) - (a->side_px < b->side_px);
+}
+
+/* The size of the letters that hold most of the text's ink: the longer side of the text
+ * component at which half the ink lies in smaller ones (0 without text, -1 when out of
+ * memory). Specks of noise, however many, hold little ink, so a noisy page still gives its
+ * letters' size; and a longer side does not depend on which way the page stands. */
+static double letter_size_px(const lt_components *c)
+{
+    sized *v = malloc(((size_t)c->count + 1) * sizeof *v);
+    if (!v) return -1;
+    int n = 0;
+    long total = 0;
+    for (int i = 0; i < c->count; i++) {
+        const lt_component *a = &c->items[i];
+        if (a->kind != LT_COMP_TEXT) continue;
+        const int w = lt_box_width(&a->box), h = lt_box_height(&a->box);
+        v[n++] = (sized){w > h ? w : h, a->pixels};
+        total += a->pixels;
+    }
+    qsort(v, (size_t)n, sizeof *v, cmp_sized);
+    double size = 0;
+    long below = 0;
+    for (int k = 0; k < n && size == 0; k++)
+        if ((below += v[k].pixels) * 2 >= total) size = v[k].side_px;
+    free(v);
+    return size;
+}
+
+int lt_estimate_line_axis(const lt_components *c, lt_orientation *out, lt_error *err)
+{
+    out->turn_deg = 0;
+    out->confidence = 0;
+    if (!c) return 0;
+    const double th = letter_size_px(c);
+    if (th < 0) return lt_error_set(err, LT_ENOMEM, "orientation: out of memory");
+    if (th == 0) return 0;
+    int n = 0, max_x = 0, max_y = 0;
+    for (int i = 0; i < c->count; i++)
+        if (is_letter(&c->items[i], th)) {
+            n++;
+            if (c->items[i].box.right > max_x) max_x = c->items[i].box.right;
+            if (c->items[i].box.bottom > max_y) max_y = c->items[i].box.bottom;
+        }
+    if (n < AXIS_MIN_COMPONENTS) return 0;
+    buckets b = {0};
+    if (buckets_fill(&b, c, n, max_x, max_y, th, fmax(1.0, NEIGHBOUR_MAX_TH * th))) {
+        free(b.start);
+        free(b.members);
+        return lt_error_set(err, LT_ENOMEM, "orientation: out of memory");
+    }
+    long along = 0, across = 0;
+    for (int i = 0; i < c->count; i++)
+        if (is_letter(&c->items[i], th)) count_neighbours(&b, c, i, &along, &across);
+    free(b.start);
+    free(b.members);
+    if (getenv("LT_ORIENT_DEBUG"))
+        fprintf(stderr, "axis along %ld across %ld\n", along, across);
+    if (along + across == 0) return 0;
+    const double share = (double)(along > across ? along : across) / (double)(along + across);
+    if (share < AXIS_MIN_SHARE) return 0;
+    out->turn_deg = across > along ? 90 : 0;
+    out->confidence = clamp01((share - AXIS_MIN_SHARE) / (AXIS_DECISIVE - AXIS_MIN_SHARE));
+    return 0;
+}
+
+/* Sort key of a text component: its centroid's y. */
+typedef struct by_y {
+    double cy;
+    int index;
+} by_y;
+
+static int cmp_by_y(const void *pa, const void *pb)
+{
+    const by_y *a = pa, *b = pb;
+    return a->cy < b->cy ? -1 : a->cy > b->cy ? 1 : a->index - b->index;
+}
+
+/* Adds the evidence of a line whose text components are member[0..m) to *rising (letters
+ * reaching beyond the x-height band above it) and *falling (below it); heights, tops and
+ * bottoms are scratch of m places. */
+static void line_evidence(const lt_components *c, const int *member, int m, double *heights,
+                          double *tops, double *bottoms, long *rising, long *falling)
+{
+    if (m < UPDOWN_MIN_LINE_COMPONENTS) return;
+    for (int k = 0; k < m; k++)
+        heights[k] = lt_box_height(&c->items[member[k]].box);
+    /* The x-height: the lower quartile of the heights of the letters (not the marks, under
+     * half the median height). Plain x-height letters are the shortest letters whichever way
+     * the page stands; the median would be a capital's or a digit's height in lines of
+     * capitals, figures and brackets. */
+    const double half_median = 0.5 * lt_median(heights, m);
+    int letters = 0;
+    for (int k = 0; k < m; k++)
+        if (heights[k] >= half_median) heights[letters++] = heights[k];
+    const double xheight = heights[(letters - 1) / 4]; /* sorted by lt_median */
+    int plain = 0;
+    for (int k = 0; k < m; k++) {
+        const lt_box *cb = &c->items[member[k]].box;
+        const double h = lt_box_height(cb);
+        if (h < (1 - PLAIN_TOLERANCE) * xheight || h > (1 + PLAIN_TOLERANCE) * xheight) continue;
+        tops[plain] = cb->top;
+        bottoms[plain] = cb->bottom;
+        plain++;
+    }
+    if (plain < UPDOWN_MIN_PLAIN_LETTERS) return;
+    const double band_top = lt_median(tops, plain), band_bottom = lt_median(bottoms, plain);
+    const double margin = BAND_MARGIN * (band_bottom - band_top);
+    if (margin < 1) return;
+    for (int k = 0; k < m; k++) {
+        const lt_box *cb = &c->items[member[k]].box;
+        /* a letter that fills the band and reaches beyond it on one side (a bracket reaching
+         * out on both counts on both; marks fill no band) */
+        const int fills = cb->top <= band_top + margin && cb->bottom >= band_bottom - margin;
+        *rising += fills && cb->top < band_top - margin;
+        *falling += fills && cb->bottom > band_bottom + margin;
+    }
+}
+
+int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_orientation *out,
+                        lt_error *err)
+{
+    out->turn_deg = 0;
+    out->confidence = 0;
+    if (!c || !lines || lines->count == 0) return 0;
+    int n = 0;
+    for (int i = 0; i < c->count; i++)
+        n += is_text(&c->items[i]);
+    if (n == 0) return 0;
+    by_y *sorted = malloc((size_t)n * sizeof *sorted);
+    double *heights = malloc((size_t)n * sizeof *heights);
+    double *tops = malloc((size_t)n * sizeof *tops), *bottoms = malloc((size_t)n * sizeof *bottoms);
+    int *member = malloc((size_t)n * sizeof *member);
+    if (!sorted || !heights || !tops || !bottoms || !member) {
+        free(sorted);
+        free(heights);
+        free(tops);
+        free(bottoms);
+        free(member);
+        return lt_error_set(err, LT_ENOMEM, "orientation: out of memory");
+    }
+    n = 0;
+    for (int i = 0; i < c->count; i++)
+        if (is_text(&c->items[i])) sorted[n++] = (by_y){c->items[i].cy, i};
+    qsort(sorted, (size_t)n, sizeof *sorted, cmp_by_y);
+    long up = 0, down = 0;
+    for (int l = 0; l < lines->count; l++) {
+        const lt_box *box = &lines->items[l].box;
+        int lo = 0, hi = n; /* first component with cy >= top */
+        while (lo < hi) {
+            const int mid = (lo + hi) / 2;
+            if (sorted[mid].cy < box->top) lo = mid + 1;
+            else hi = mid;
+        }
+        int m = 0;
+        for (int k = lo; k < n && sorted[k].cy < box->bottom; k++) {
+            const lt_component *a = &c->items[sorted[k].index];
+            if (a->cx >= box->left && a->cx < box->right) member[m++] = sorted[k].index;
+        }
+        line_evidence(c, member, m, heights, tops, bottoms, &up, &down);
+    }
+    free(sorted);
+    free(heights);
+    free(tops);
+    free(bottoms);
+    free(member);
+    const double total = (double)(up + down);
+    if (getenv("LT_ORIENT_DEBUG")) fprintf(stderr, "updown rising %ld falling %ld\n", up, down);
+    if (total == 0) return 0;
+    const double z = fabs((double)(up - down)) / sqrt(total);
+    const double share = (double)(up > down ? up : down) / total;
+    if (z < UPDOWN_MIN_Z || share < UPDOWN_MIN_SHARE) return 0;
+    out->turn_deg = down > up ? 180 : 0;
+    out->confidence = clamp01((z - UPDOWN_MIN_Z) / (UPDOWN_FULL_Z - UPDOWN_MIN_Z));
+    return 0;
+}

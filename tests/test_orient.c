@@ -1,0 +1,223 @@
+/* test_orient.c — page orientation: lt_turn_ink against leptonica's pixRotateOrth (a general
+ * image library: exact), the frame's mappings with a quarter turn (inverse of each other, and
+ * every ink pixel carried onto the turned pixel), the two estimators on drawn pages of
+ * Latin-like type (tests/textpage.h: 20 % ascenders, 12 % descenders) turned by known quarter
+ * turns, lt_analyze on those pages (the turn found, the lines those of the upright page carried
+ * through the turn, exactly), blank and noise pages (no estimate) and a given orientation. */
+#include "testutil.h"
+#include "textpage.h"
+
+/* Turns of a page that reads upright after a clockwise turn of N: turning it clockwise by
+ * (360 - N) % 360 from the upright page. */
+static int turn_away(int n)
+{
+    return (360 - n) % 360;
+}
+
+/* lt_turn_ink equals pixRotateOrth (quads = clockwise quarter turns, leptonica's
+ * documentation) on a random page of odd size, for every turn. */
+static void test_turn_against_leptonica(void)
+{
+    tu_rng r = {7};
+    lt_image *ink = tu_image(131, 77, LT_IMAGE_INK, 0);
+    for (size_t i = 0; i < (size_t)ink->width * ink->height; i++)
+        ink->pixels[i] = tu_range(&r, 0, 2) == 0;
+    PIX *pix = tu_pix_from_ink(ink);
+    for (int quads = 0; quads < 4; quads++) {
+        lt_image *turned = NULL;
+        lt_error err = {0};
+        CHECK(lt_turn_ink(ink, 90 * quads, &turned, &err) == 0, "turn %d: %s", 90 * quads,
+              err.message);
+        PIX *ref = pixRotateOrth(pix, quads);
+        lt_image *want = tu_ink_from_pix(ref);
+        CHECK(turned->width == want->width && turned->height == want->height &&
+                  memcmp(turned->pixels, want->pixels, (size_t)want->width * want->height) == 0,
+              "turn %d: the same pixels as pixRotateOrth", 90 * quads);
+        pixDestroy(&ref);
+        lt_image_free(want);
+        lt_image_free(turned);
+    }
+    lt_image *bad = NULL;
+    lt_error err = {0};
+    CHECK(lt_turn_ink(ink, 45, &bad, &err) == LT_EINVAL && !bad, "a turn of 45 is refused");
+    pixDestroy(&pix);
+    lt_image_free(ink);
+}
+
+/* The frame of a turned and skewed page: the two mappings invert each other, and the centre
+ * of every ink pixel of the image as given maps onto an ink pixel of the turned image. */
+static void test_frame_turn(void)
+{
+    tu_rng r = {11};
+    lt_image *ink = tu_image(64, 40, LT_IMAGE_INK, 0);
+    for (int k = 0; k < 30; k++)
+        ink->pixels[(size_t)tu_range(&r, 0, 39) * 64 + tu_range(&r, 0, 63)] = 1;
+    for (int turn = 0; turn < 360; turn += 90) {
+        lt_image *turned = NULL;
+        lt_error err = {0};
+        if (lt_turn_ink(ink, turn, &turned, &err)) tu_die("turn: %s", err.message);
+        lt_frame f;
+        lt_frame_init(&f, turned->width, turned->height, 0);
+        lt_frame_set_turn(&f, turn, ink->width, ink->height);
+        int landed = 0, inked = 0;
+        for (int y = 0; y < ink->height; y++)
+            for (int x = 0; x < ink->width; x++) {
+                if (!ink->pixels[(size_t)y * ink->width + x]) continue;
+                inked++;
+                lt_point p = lt_frame_to_deskewed(&f, x + 0.5, y + 0.5);
+                const int u = (int)floor(p.x), v = (int)floor(p.y);
+                landed += u >= 0 && v >= 0 && u < turned->width && v < turned->height &&
+                          turned->pixels[(size_t)v * turned->width + u];
+            }
+        CHECK_INT(landed, inked, "turn %d: ink pixels carried onto ink", turn);
+        lt_frame_init(&f, turned->width, turned->height, 3.5);
+        lt_frame_set_turn(&f, turn, ink->width, ink->height);
+        double worst = 0;
+        for (int k = 0; k < 50; k++) {
+            const double x = tu_unit(&r) * 64, y = tu_unit(&r) * 40;
+            lt_point d = lt_frame_to_deskewed(&f, x, y), o = lt_frame_to_original(&f, d.x, d.y);
+            worst = fmax(worst, fmax(fabs(o.x - x), fabs(o.y - y)));
+        }
+        CHECK(worst < 1e-9, "turn %d with skew: mappings invert each other (off by %g)", turn,
+              worst);
+        lt_image_free(turned);
+    }
+    lt_image_free(ink);
+}
+
+/* A page of two columns of drawn type. */
+static page *drawn_page(void)
+{
+    page *p = page_new(1400, 1700);
+    tu_rng r = {2024};
+    int y = draw_paragraph(p, &r, 100, 650, 150, 12);
+    draw_paragraph(p, &r, 100, 650, y + PITCH, 14);
+    y = draw_paragraph(p, &r, 750, 1300, 150, 10);
+    draw_paragraph(p, &r, 750, 1300, y + PITCH, 16);
+    return p;
+}
+
+/* The estimators on the drawn page turned each way. */
+static void test_estimators(void)
+{
+    page *p = drawn_page();
+    for (int n = 0; n < 360; n += 90) {
+        lt_image *given = NULL;
+        lt_error err = {0};
+        if (lt_turn_ink(p->img, turn_away(n), &given, &err)) tu_die("turn: %s", err.message);
+        page q = {.img = given};
+        result res = run_stages(&q, "estimators");
+        lt_orientation axis, up;
+        CHECK(lt_estimate_line_axis(res.comps, &axis, &err) == 0, "axis: %s", err.message);
+        CHECK_INT(axis.turn_deg, n % 180, "page needing %d: direction of the lines", n);
+        CHECK(axis.confidence >= 0.9, "page needing %d: axis confidence %.2f", n,
+              axis.confidence);
+        if (n % 180 == 0) {
+            CHECK(lt_estimate_upright(res.comps, res.lines, &up, &err) == 0, "upright: %s",
+                  err.message);
+            CHECK_INT(up.turn_deg, n, "page needing %d: which side is up", n);
+            /* the drawn type's 20 ascenders to 12 descenders in a hundred letters are fewer
+             * than real type's: an estimate, not a certain one */
+            CHECK(up.confidence > 0, "page needing %d: up/down confidence %.2f", n,
+                  up.confidence);
+        }
+        result_free(&res);
+        lt_image_free(given);
+    }
+    page_free(p);
+}
+
+/* lt_analyze on the drawn page turned each way: the turn found, with confidence, and every
+ * line the upright page's line carried through the turn (its quad corner by corner). */
+static void test_analyze_turned(void)
+{
+    page *p = drawn_page();
+    lt_error err = {0};
+    lt_layout *upright = NULL;
+    if (lt_analyze(p->img, NULL, &upright, &err)) tu_die("analyze: %s", err.message);
+    CHECK_INT(upright->orientation_deg, 0, "upright page");
+    CHECK(upright->orientation_confidence > 0, "upright page: confidence %.2f",
+          upright->orientation_confidence);
+    CHECK_INT(upright->nlines, p->nlines, "upright page: lines");
+    for (int n = 90; n < 360; n += 90) {
+        lt_image *given = NULL;
+        lt_layout *l = NULL;
+        if (lt_turn_ink(p->img, turn_away(n), &given, &err)) tu_die("turn: %s", err.message);
+        if (lt_analyze(given, NULL, &l, &err)) tu_die("analyze: %s", err.message);
+        CHECK_INT(l->orientation_deg, n, "page needing %d: orientation", n);
+        CHECK(l->orientation_confidence > 0, "page needing %d: confidence %.2f", n,
+              l->orientation_confidence);
+        CHECK_INT(l->width, given->width, "page needing %d: width as given", n);
+        CHECK_INT(l->nlines, upright->nlines, "page needing %d: lines", n);
+        /* the frame that turns the upright page into the given one carries the quads */
+        lt_frame f;
+        lt_frame_init(&f, p->img->width, p->img->height, 0);
+        lt_frame_set_turn(&f, n, given->width, given->height);
+        double worst = 0;
+        for (int i = 0; i < l->nlines && i < upright->nlines; i++)
+            for (int k = 0; k < 4; k++) {
+                lt_point want = lt_frame_to_original(&f, upright->lines[i].quad[k].x,
+                                                     upright->lines[i].quad[k].y);
+                worst = fmax(worst, fmax(fabs(l->lines[i].quad[k].x - want.x),
+                                         fabs(l->lines[i].quad[k].y - want.y)));
+            }
+        CHECK(worst < 1e-6, "page needing %d: quads those of the upright page turned (off by %g)",
+              n, worst);
+        lt_layout_free(l);
+        lt_image_free(given);
+    }
+    /* a given orientation is used as it is, with no estimate */
+    lt_params prm;
+    lt_params_default(&prm);
+    prm.orientation_deg = 180;
+    lt_layout *forced = NULL;
+    if (lt_analyze(p->img, &prm, &forced, &err)) tu_die("analyze: %s", err.message);
+    CHECK(forced->orientation_deg == 180 && forced->orientation_confidence == 0,
+          "orientation given: 180 with confidence 0");
+    CHECK_INT(forced->nlines, upright->nlines, "orientation given: lines still found");
+    lt_layout_free(forced);
+    prm.orientation_deg = 45;
+    CHECK(lt_analyze(p->img, &prm, &forced, &err) == LT_EINVAL && !forced &&
+              strstr(err.message, "orientation_deg"),
+          "orientation 45 refused, naming the field");
+    lt_layout_free(upright);
+    page_free(p);
+}
+
+/* Pages that do not say: blank, noise, a few words. */
+static void test_no_estimate(void)
+{
+    lt_image *blank = tu_image(800, 1000, LT_IMAGE_INK, 0);
+    lt_image *noise = tu_image(800, 1000, LT_IMAGE_INK, 0);
+    tu_rng r = {5};
+    for (size_t i = 0; i < (size_t)800 * 1000; i++)
+        noise->pixels[i] = tu_range(&r, 0, 9) == 0;
+    page *few = page_new(800, 1000);
+    draw_line(few, &r, 100, 260, 300, 0, 0);
+    const struct {
+        const char *name;
+        const lt_image *img;
+    } cases[] = {{"blank", blank}, {"noise", noise}, {"a few words", few->img}};
+    for (size_t i = 0; i < sizeof cases / sizeof *cases; i++) {
+        lt_layout *l = NULL;
+        lt_error err = {0};
+        if (lt_analyze(cases[i].img, NULL, &l, &err)) tu_die("analyze: %s", err.message);
+        CHECK(l->orientation_deg == 0 && l->orientation_confidence == 0,
+              "%s: no estimate (got %d, confidence %.2f)", cases[i].name, l->orientation_deg,
+              l->orientation_confidence);
+        lt_layout_free(l);
+    }
+    page_free(few);
+    lt_image_free(blank);
+    lt_image_free(noise);
+}
+
+int main(void)
+{
+    test_turn_against_leptonica();
+    test_frame_turn();
+    test_estimators();
+    test_analyze_turned();
+    test_no_estimate();
+    return tu_summary("test_orient");
+}
