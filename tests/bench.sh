@@ -61,15 +61,15 @@ npages=$(ls "$tmp/png" | wc -l)
 
 # ---- speed per format ----------------------------------------------------------------------
 # The PNG times are also what the leptonica and memory sections use (analysis time, page size).
-stages="decode binarize skew rotate components lines blocks analyze"
+stages="decode binarize skew rotate components lines orient blocks analyze"
 formats=png
 has speed && formats="png tiff jpeg"
 {
     has speed && {
         echo "Speed: best of $repeat runs, one thread, ms, each run right after its own decode;" \
             "$npages clean pages; G4 = lineate's Sauvola ink, JPEG quality 90"
-        printf '%-34s %-4s %7s %7s %7s %6s %6s %6s %6s %8s %6s %5s\n' page fmt decode binar \
-            skew rotate comps lines blocks analysis ratio nline
+        printf '%-34s %-4s %7s %7s %7s %6s %6s %6s %6s %6s %8s %6s %5s\n' page fmt decode binar \
+            skew rotate comps lines orient blocks analysis ratio nline
     }
     for fmt in $formats; do
         for f in "$tmp/$fmt"/*; do
@@ -79,8 +79,8 @@ has speed && formats="png tiff jpeg"
             echo "$name $fmt $line" >>"$tmp/times.$fmt"
             has speed || continue
             set -- $(echo "$line" | awk '{ for (i = 2; i <= NF; i += 2) printf "%s ", $i }')
-            printf '%-34.34s %-4s %7s %7s %7s %6s %6s %6s %6s %8s %6s %5s\n' "$name" "$fmt" \
-                "$1" "$2" "$3" "$4" "$5" "$6" "$7" "$8" "$9" "${12}"
+            printf '%-34.34s %-4s %7s %7s %7s %6s %6s %6s %6s %6s %8s %6s %5s\n' "$name" "$fmt" \
+                "$1" "$2" "$3" "$4" "$5" "$6" "$7" "$8" "$9" "${10}" "${13}"
         done
     done
     has speed && for fmt in png tiff jpeg; do

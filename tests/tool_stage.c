@@ -57,13 +57,26 @@ static double now_ms(void)
 }
 
 /* Stages timed by `time`, in the order src/analyze.c runs them. */
-enum { ST_DECODE, ST_BINARIZE, ST_SKEW, ST_ROTATE, ST_COMPONENTS, ST_LINES, ST_BLOCKS, ST_COUNT };
-static const char *const stage_names[ST_COUNT] = {"decode",     "binarize", "skew",  "rotate",
-                                                  "components", "lines",    "blocks"};
+enum {
+    ST_DECODE,
+    ST_BINARIZE,
+    ST_SKEW,
+    ST_ROTATE,
+    ST_COMPONENTS,
+    ST_LINES,
+    ST_ORIENT,
+    ST_BLOCKS,
+    ST_COUNT
+};
+static const char *const stage_names[ST_COUNT] = {"decode",     "binarize", "skew",
+                                                  "rotate",     "components", "lines",
+                                                  "orient",     "blocks"};
 
 /* One pass of the pipeline of lt_analyze (src/analyze.c), stage by stage with the same
  * parameters, adding each stage's time in ms to stage_ms[] (the decode is not timed here).
- * "components" includes the text height and the classification; "blocks" is the XY-cut and
+ * "components" includes the text height and the classification; "orient" the two estimates
+ * of the orientation (an upright page, as the bench's are, is not turned; a page that asks
+ * for a turn is analysed turned by lt_analyze, and the counts then differ); "blocks" is the XY-cut and
  * the reading order (the final mapping to image coordinates is lt_analyze's own, and only in
  * the whole-analysis time). Sets *nlines and *nblocks (text blocks). Returns 0 or LT_E*. */
 /* When set, run_stages prints the separators it finds here (tool_stage separators). */
@@ -130,6 +143,12 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     if ((rc = lt_build_lines(comps, text_height_px, seps, p, &raw, err))) goto done;
     t_next = now_ms();
     stage_ms[ST_LINES] += t_next - t;
+    t = t_next;
+    lt_orientation axis, upright;
+    if ((rc = lt_estimate_line_axis(comps, &axis, err))) goto done;
+    if ((rc = lt_estimate_upright(comps, raw, &upright, err))) goto done;
+    t_next = now_ms();
+    stage_ms[ST_ORIENT] += t_next - t;
     t = t_next;
     if ((rc = lt_xy_cut(raw, comps, seps, text_height_px, p, &tree, err))) goto done;
     if ((rc = lt_arrange(tree, raw, comps, text_height_px, p, page->height, &arr, err))) goto done;
