@@ -105,8 +105,8 @@ struct lt_cli_analysis {
     "      --window N        Sauvola window in pixels, odd (default: about 0.17 inch)\n" \
     "      --k K             Sauvola k (default 0.34)\n" \
     "      --max-skew DEG    search skew in -DEG..+DEG (default 15)\n" \
-    "      --orientation auto|0|90|180|270  estimate which quarter turn makes pages upright\n" \
-    "                        (auto, the default), or give it: the clockwise turn (0: as given)\n" \
+    "      --orientation TURN  auto (default): estimate the quarter turn that sets each page\n" \
+    "                        upright; 0, 90, 180 or 270: the clockwise turn (0: as given)\n" \
     "      --rtl             columns and the pieces of a row read right to left\n" \
     "      --max-pixels N    refuse pages larger than N pixels (default 200000000)\n" \
     "      --max-pages N     refuse files with more than N pages (default 10000)\n" \
