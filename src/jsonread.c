@@ -774,12 +774,13 @@ int lt_scored_pages_parse(const char *data, size_t size, const char *name, lt_sc
     for (;;) {
         skip_space(&s);
         if (s.pos >= size) break;
+        if (n == LT_SCORE_MAX_PAGES) {
+            rc = lt_error_set(err, LT_ELIMIT, "%s: more than %d pages, the limit of one file", name,
+                              LT_SCORE_MAX_PAGES);
+            goto fail;
+        }
         if (n == cap) {
-            if (cap >= INT32_MAX / 2) {
-                rc = lt_error_set(err, LT_ELIMIT, "%s: too many pages", name);
-                goto fail;
-            }
-            int ncap = cap ? cap * 2 : 4;
+            int ncap = cap ? (cap < LT_SCORE_MAX_PAGES / 2 ? cap * 2 : LT_SCORE_MAX_PAGES) : 4;
             lt_scored_page *narr = realloc(arr, (size_t)ncap * sizeof *narr);
             if (!narr) {
                 rc = lt_error_set(err, LT_ENOMEM, "%s: out of memory", name);

@@ -17,6 +17,7 @@ extern "C" {
 /* ---- limits ----------------------------------------------------------------------------- */
 #define LT_SCORE_MAX_FILE_BYTES (256L * 1024 * 1024) /* one layout or ground-truth file */
 #define LT_SCORE_MAX_LINES 1000000                   /* lines of one page */
+#define LT_SCORE_MAX_PAGES 100000 /* pages of one file (a folder holds any number of files) */
 #define LT_SCORE_MAX_COORD 16777216                  /* |coordinate| and page side, pixels */
 #define LT_SCORE_MAX_COLUMNS 9                       /* "columns" of a truth page */
 #define LT_SCORE_MAX_SKEW_DEG 180.0                  /* |skew_deg| accepted by the reader */

@@ -14,8 +14,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define MAX_GROUP_DEPTH 64   /* nesting of reading-order groups; deeper is not a real page */
-#define MAX_DOCUMENTS 100000 /* XML documents in one file */
+#define MAX_GROUP_DEPTH 64 /* nesting of reading-order groups; deeper is not a real page */
 
 /* ---- helpers --------------------------------------------------------------------------- */
 
@@ -266,6 +265,7 @@ typedef struct stream {
     int page;         /* that page's index in the document */
     double skew_deg;  /* its angle (0 when it has none or not a valid one) */
     int npages;       /* page elements started */
+    int max_pages;    /* more stop the parse */
     int line_depth;   /* depth of the TextLine being read, else 0 */
     int keep_depth;   /* depth of the subtree kept whole that is open, else 0 */
     int seen_page, seen_layout, seen_description, seen_order; /* the first of each found */
@@ -290,7 +290,8 @@ static void stream_stop(xmlParserCtxtPtr ctxt, stream *st)
 }
 
 /* Whether the element `name` that starts at depth d (> 1, outside the subtrees kept whole)
- * stays in the tree; notes the pages and kept subtrees it starts. */
+ * stays in the tree; notes the pages and kept subtrees it starts. -1 for a page past
+ * st->max_pages. */
 static int starts_kept(stream *st, xmlNodePtr node, const char *name, int d)
 {
     const int page = st->kind == 1, alto = st->kind == 2;
@@ -300,6 +301,7 @@ static int starts_kept(stream *st, xmlNodePtr node, const char *name, int d)
         st->page = st->npages++;
         st->skew_deg = page_angle(node, "orientation");
     } else if (alto && d == 3 && st->layout_depth == 2 && strcmp(name, "Page") == 0) {
+        if (st->npages == st->max_pages) return -1;
         st->page_depth = d;
         st->page = st->npages++;
         st->skew_deg = page_angle(node, "ROTATION");
@@ -348,6 +350,12 @@ static void stream_start(void *ctx, const xmlChar *localname, const xmlChar *pre
         st->r->is_alto = st->kind == 2;
     } else if (!st->keep_depth) {
         kept = starts_kept(st, node, name, d);
+    }
+    if (kept < 0) {
+        lt_error_set(&st->error, LT_ELIMIT, "%s: more than %d pages, the limit of one file",
+                     st->r->name, LT_SCORE_MAX_PAGES);
+        xmlStopParser(ctxt);
+        return;
     }
     if (st->page_depth && d > st->page_depth && !st->line_depth && strcmp(name, "TextLine") == 0)
         st->line_depth = d;
@@ -636,8 +644,9 @@ static int read_alto_doc(reader *r, const stream *st, xmlNodePtr root, lt_scored
     return rc;
 }
 
-/* Parses one XML document of `size` bytes into *pages / *npages. */
-static int read_document(const char *data, size_t size, const char *name, int doc,
+/* Parses one XML document of `size` bytes, of at most max_pages pages, into *pages /
+ * *npages. */
+static int read_document(const char *data, size_t size, const char *name, int doc, int max_pages,
                          lt_scored_page **pages, int *npages, lt_error *err)
 {
     *pages = NULL;
@@ -649,7 +658,7 @@ static int read_document(const char *data, size_t size, const char *name, int do
     xmlCtxtUseOptions(ctxt, XML_PARSE_NONET | XML_PARSE_NOERROR | XML_PARSE_NOWARNING |
                                 XML_PARSE_NOCDATA);
     reader r = {.name = name, .doc = doc, .err = err};
-    stream st = {.r = &r};
+    stream st = {.r = &r, .max_pages = max_pages};
     r.err = &st.error; /* failures while parsing are told when their page is read */
     ctxt->_private = &st;
     ctxt->sax->startElementNs = stream_start;
@@ -759,14 +768,15 @@ static int parse_documents(const char *data, size_t size, const char *name, lt_s
             }
         }
         size_t end = next ? (size_t)(next - data) : size;
-        if (++ndoc > MAX_DOCUMENTS) {
-            rc =
-                lt_error_set(err, LT_ELIMIT, "%s: more than %d XML documents", name, MAX_DOCUMENTS);
+        if (n == LT_SCORE_MAX_PAGES) { /* every document holds a page at least */
+            rc = lt_error_set(err, LT_ELIMIT, "%s: more than %d pages, the limit of one file", name,
+                              LT_SCORE_MAX_PAGES);
             break;
         }
         lt_scored_page *pg;
         int np;
-        rc = read_document(data + start, end - start, name, ndoc, &pg, &np, err);
+        rc = read_document(data + start, end - start, name, ++ndoc, LT_SCORE_MAX_PAGES - n, &pg,
+                           &np, err);
         if (!rc) {
             lt_scored_page *grown = realloc(all, (size_t)(n + np) * sizeof *grown);
             if (!grown) {

@@ -1180,6 +1180,39 @@ static void test_reader_walk(void)
           "a line over the limit: %s", err.message);
     free(text);
 
+    /* pages of one file: 100,000 error records are read, one more is refused; so is an ALTO
+     * document of one page more */
+    const char *record = "{\"error\":\"x\"}\n";
+    const char *alto_head = "<?xml version=\"1.0\"?>\n<alto><Description><MeasurementUnit>pixel"
+                            "</MeasurementUnit></Description><Layout>";
+    const char *alto_page = "<Page WIDTH=\"9\" HEIGHT=\"9\"/>";
+    text = malloc(strlen(alto_head) + (LT_SCORE_MAX_PAGES + 1) * strlen(alto_page) + 32);
+    if (!text) {
+        fail("out of memory");
+        return;
+    }
+    for (int extra = 0; extra <= 1; extra++) {
+        p = text;
+        for (int i = 0; i < LT_SCORE_MAX_PAGES + extra; i++)
+            p = stpcpy(p, record);
+        int rc = parse_text(text, &pg, &n, &err);
+        CHECK(extra ? rc == LT_ELIMIT && strstr(err.message, "more than 100000 pages")
+                    : rc == 0 && n == LT_SCORE_MAX_PAGES,
+              "%d error records: %d pages (%s)", LT_SCORE_MAX_PAGES + extra, n, err.message);
+        lt_scored_pages_free(pg, n);
+        p = stpcpy(text, alto_head);
+        for (int i = 0; i < LT_SCORE_MAX_PAGES + extra; i++)
+            p = stpcpy(p, alto_page);
+        strcpy(p, "</Layout></alto>\n");
+        err = (lt_error){0};
+        rc = lt_scored_pages_parse_xml(text, strlen(text), "mem.xml", &pg, &n, &err);
+        CHECK(extra ? rc == LT_ELIMIT && strstr(err.message, "more than 100000 pages")
+                    : rc == 0 && n == LT_SCORE_MAX_PAGES,
+              "ALTO of %d pages: %d pages (%s)", LT_SCORE_MAX_PAGES + extra, n, err.message);
+        lt_scored_pages_free(pg, n);
+    }
+    free(text);
+
     /* the first member of a name counts, as cJSON_GetObjectItem finds it */
     if (parse_text(LAYOUT_HEAD "\"page\":1,\"width\":9,\"height\":7,\"width\":\"x\",\"lines\":["
                    "{\"box\":[1,2,3,4],\"in_order\":false,\"box\":\"x\",\"in_order\":1}],"
