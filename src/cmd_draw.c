@@ -10,7 +10,6 @@
 
 #include <cjson/cJSON.h>
 #include <errno.h>
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
