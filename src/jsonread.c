@@ -125,8 +125,8 @@ int lt_json_cut_short(const char *data, size_t n)
     return in_string || depth > 0;
 }
 
-/* Records "NAME: line L, column C: not valid JSON" for a cJSON failure at data + pos while
- * parsing page k that starts at data + start, or "NAME: truncated ..." when the file ends
+/* Records "NAME: line L, column C: not valid JSON" for the byte data + pos that breaks the
+ * grammar in page k, which starts at data + start, or "NAME: truncated ..." when the file ends
  * inside that page. */
 static int syntax_error(const char *name, int k, const char *data, size_t size, size_t start,
                         size_t pos, lt_error *err)
@@ -149,16 +149,17 @@ static int syntax_error(const char *name, int k, const char *data, size_t size, 
 }
 
 /* ---- skimming: JSON checked in place, without a tree ------------------------------------
- * A page object is walked byte by byte by the grammar of RFC 8259 (sections 2 to 7), and only
- * the values the scorer reads go to cJSON, each on its own: a few members of the page, and the
- * "box", "quad" and "in_order" of each line. A tree of a whole page would take about 20 times
- * its bytes; this way memory stays within the file and the array of lines, and the line limit
- * is checked while the lines are counted, before any of them is read. */
+ * A page object is walked byte by byte by the grammar of RFC 8259 (sections 2 to 7). The
+ * "box", "quad" and "in_order" of each line are read from their bytes as they are met, and
+ * the few members of the page the scorer reads go to cJSON, each on its own. A tree of a whole
+ * page would take about 20 times its bytes; this way memory stays within the file and the
+ * array of lines, and the line limit is checked as the lines are counted, before the next one
+ * is read. */
 
 #define MAX_NESTING 1000    /* arrays and objects one inside another (cJSON's own limit) */
 #define MAX_NUMBER_CHARS 63 /* cJSON reads no longer number; the skim refuses one, as it did */
-/* Longest value handed to cJSON: the members read are numbers, names, a box or a quad; a path
- * is at most 4096 bytes, each escaped in at most 6. */
+/* Longest value handed to cJSON: the page members read are numbers and names; a path is at
+ * most 4096 bytes, each escaped in at most 6. */
 #define MAX_READ_VALUE_BYTES 65536
 
 enum { SKIM_SYNTAX = -1, SKIM_TOO_MANY = -2 };
@@ -603,9 +604,8 @@ static int read_lines(skim *s, const char *name, int k, line_array *a)
     s->pos++;
     int first = 1, more;
     span unused;
-    long n = 0;
     while ((more = next_item(s, ']', &first, &unused)) == 1) {
-        if (n++ == LT_SCORE_MAX_LINES) return SKIM_TOO_MANY;
+        if (a->count == LT_SCORE_MAX_LINES) return SKIM_TOO_MANY;
         if (!a->refused.code && a->count == a->cap) {
             const long cap =
                 a->cap ? (a->cap < LT_SCORE_MAX_LINES / 2 ? 2 * a->cap : LT_SCORE_MAX_LINES) : 64;
