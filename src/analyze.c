@@ -249,7 +249,8 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(params, res->dpi);
-        rc = lt_binarize_sampled(img, window, params->sauvola_k, params->sauvola_r, &ink_own, err);
+        rc = lt_binarize_normalized(img, window, params->sauvola_k, params->sauvola_r,
+                                    LT_BLACK_POINT_AUTO, 1, &ink_own, err);
         if (rc) goto done;
         ink = ink_own;
         if (consumed) { /* the gray page is done with: its memory goes before the next stages */

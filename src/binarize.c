@@ -1,29 +1,115 @@
-/* binarize.c — Sauvola & Pietikäinen (2000) adaptive thresholding,
- *   T(x,y) = m(x,y) * (1 + k * (s(x,y) / R - 1)),
+/* binarize.c — Sauvola & Pietikäinen (2000) adaptive thresholding, in the normalised form of
+ * Wolf & Jolion (2004) where the ink is pale:
+ *   T(x,y) = m - k * (1 - s / R') * (m - M'),   R' = R * (255 - M') / 255,
  * m and s the mean and standard deviation over a window x window neighbourhood (clipped at
- * the image border). Exact at every pixel (lt_binarize): running column and row sums give
- * O(pixels) time for any window, the same complexity as the integral images of Shafait,
- * Keysers & Breuel (2008) with memory proportional to the width only. Sampled
- * (lt_binarize_sampled, which the analysis uses): T exact at the centre of every 3 x 3 tile,
- * from tile sums, and interpolated in between. */
+ * the image border). With M' = 0 this is Sauvola's T = m * (1 + k * (s / R - 1)), whose
+ * threshold over flat paper, (1 - k) m, lies below faded print (ink 170 on paper 235: 155);
+ * with M' > 0 it is Sauvola's threshold on the gray range [M', 255] stretched to [0, 255].
+ * Wolf & Jolion take M' = the image minimum and R = the largest s on the page (k = 0.5; values
+ * from memory). Here M' is chosen per window (window_black): at most the page's black point M
+ * (its darkest 3 x 3 tile, which one dark pixel of noise does not make), and only as much as
+ * puts the flat-paper threshold halfway from M up to m; so pages of black ink, where Sauvola's
+ * threshold already lies there, keep Sauvola's, and dark windows (pictures, scan borders) too.
+ * Exact at every pixel (lt_binarize*): running column and row sums give O(pixels) time for any
+ * window, the same complexity as the integral images of Shafait, Keysers & Breuel (2008) with
+ * memory proportional to the width only. Sampled (lt_binarize_sampled*, which the analysis
+ * uses): T exact at the centre of every 3 x 3 tile, from tile sums, and interpolated in between. */
 #include "internal.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-/* Ink decision without a square root: g < m(1-k) + (m k / R) s holds when the left part
- * a = g - m(1-k) is negative, or else when a^2 < (m k / R)^2 * variance. Written without
- * branches: for paper just above or below the mean the answer is a coin toss, which a branch
- * predictor cannot learn. */
-static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
-                             double k_over_r)
+/* Constants of the stage. */
+enum {
+    /* Side of the tiles, px: binarize_sampled computes the threshold at the centre of each (odd,
+     * so that a tile has a centre pixel), and the page's black point is its darkest tile's mean:
+     * a patch narrower than a stroke of 10 pt text at 200 dpi, so that the core of a stroke
+     * makes it and one dark pixel of noise does not. */
+    TILE = 3,
+    /* Least contrast, gray levels, between a window's mean and the black point its threshold
+     * stretches to: type of gray 190 on white (65 levels) still reads well. A window darker than
+     * that above the page's black point is no pale print on paper but a picture, a blot or a
+     * scan border, and keeps Sauvola's threshold, under which its flat dark parts stay quiet. */
+    MIN_CONTRAST = 64,
+};
+/* Share of the way from the black point up to a window's mean where the threshold over flat
+ * paper must lie at least: the midpoint, as far from the ink as from the paper. Sauvola's own
+ * lies there when the ink is at most (1 - 2k) = 0.32 of the paper's gray (k = 0.34). */
+static const double FLAT_THRESHOLD_SHARE = 0.5;
+
+/* R' for black point `black`: Sauvola's R scaled to the gray range [black, 255]. */
+static inline double range_for(double r, double black)
 {
-    double m = sum * inv_n;
-    double a = g - m * (1.0 - k);
-    double var = sumsq * inv_n - m * m;
-    double b = m * k_over_r;
+    return r * (255.0 - black) / 255.0;
+}
+
+/* The black point M' of a window of mean m: the least one (0 at best) that puts the threshold
+ * over flat paper, M' + (1 - k)(m - M'), FLAT_THRESHOLD_SHARE of the way from the page's black
+ * point M up to m, that is M' = (M (1 - f) - m (1 - k - f)) / k = base - slope * m; at most M,
+ * and at least MIN_CONTRAST below m (else 0). */
+typedef struct stretch {
+    double page_black, base, slope;
+} stretch;
+
+static stretch stretch_for(double page_black, double k)
+{
+    const double f = FLAT_THRESHOLD_SHARE;
+    if (k <= 0) return (stretch){0, 0, 0}; /* T = m whatever M' */
+    return (stretch){page_black, page_black * (1.0 - f) / k, (1.0 - k - f) / k};
+}
+
+static inline double window_black(const stretch *st, double m)
+{
+    double b = st->base - st->slope * m;
+    if (b > m - MIN_CONTRAST) b = m - MIN_CONTRAST;
+    return b < 0 ? 0 : b > st->page_black ? st->page_black : b;
+}
+
+/* Ink decision without a square root: g <= M' + d(1-k) + (d k / R') s, with d = m - M' (>= 0,
+ * as M' is 0 or below m), holds when the left part a = g - M' - d(1-k) is negative, or else
+ * when a^2 < (d k / R')^2 * variance. Written without branches: for paper just above or below
+ * the mean the answer is a coin toss, which a branch predictor cannot learn. */
+static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
+                             double r, const stretch *st)
+{
+    const double m = sum * inv_n, black = window_black(st, m), d = m - black;
+    const double a = g - black - d * (1.0 - k);
+    const double var = sumsq * inv_n - m * m;
+    const double b = d * k / range_for(r, black);
     return (uint8_t)((a <= 0) | (a * a < b * b * var));
+}
+
+/* The page's black point from the sums of its whole TILE x TILE tiles (tiles_x x tiles_y of
+ * them, row stride `stride`): the darkest tile's mean; 0 when the page has no whole tile. */
+static double black_from_tile_sums(const uint16_t *sums, size_t stride, int tiles_x, int tiles_y)
+{
+    if (tiles_x < 1 || tiles_y < 1) return 0;
+    unsigned darkest = TILE * TILE * 255;
+    for (int ty = 0; ty < tiles_y; ty++) {
+        const uint16_t *row = sums + (size_t)ty * stride;
+        for (int tx = 0; tx < tiles_x; tx++)
+            darkest = row[tx] < darkest ? row[tx] : darkest;
+    }
+    return (double)darkest / (TILE * TILE);
+}
+
+double lt_black_point(const lt_image *gray)
+{
+    if (!gray || gray->kind != LT_IMAGE_GRAY) return 0;
+    const int w = gray->width, tiles_x = gray->width / TILE, tiles_y = gray->height / TILE;
+    if (tiles_x < 1 || tiles_y < 1) return 0;
+    _Static_assert(TILE == 3, "the sum below adds 3 x 3 pixels");
+    unsigned darkest = TILE * TILE * 255;
+    for (int ty = 0; ty < tiles_y; ty++) {
+        const uint8_t *r0 = gray->pixels + (size_t)ty * TILE * w, *r1 = r0 + w, *r2 = r1 + w;
+        for (int x = 0; x < tiles_x * TILE; x += TILE) {
+            const unsigned sum = r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] +
+                                 r2[x] + r2[x + 1] + r2[x + 2];
+            darkest = sum < darkest ? sum : darkest;
+        }
+    }
+    return (double)darkest / (TILE * TILE);
 }
 
 int lt_sauvola_window_px(const lt_params *p, double dpi)
@@ -34,9 +120,10 @@ int lt_sauvola_window_px(const lt_params *p, double dpi)
     return thirds < 5 ? 15 : 3 * thirds;
 }
 
-/* Sauvola's threshold at every pixel, from running column sums and running sums along the
- * row. Sets *ink, or returns LT_ENOMEM. */
-static int binarize_exact(const lt_image *gray, int window_px, double k, double r, lt_image **ink)
+/* The threshold at every pixel, from running column sums and running sums along the row.
+ * Sets *ink, or returns LT_ENOMEM. */
+static int binarize_exact(const lt_image *gray, int window_px, double k, double r, double black,
+                          lt_image **ink)
 {
     const int w = gray->width, h = gray->height, half = window_px / 2;
     lt_image *out = lt_image_new(w, h, LT_IMAGE_INK);
@@ -47,7 +134,7 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, double 
     int rc = LT_ENOMEM;
     if (!out || !colsum || !colsq || !winsum || !winsq || !inv_cols) goto done;
     out->dpi = gray->dpi;
-    const double k_over_r = k / r;
+    const stretch st = stretch_for(black, k);
     for (int x = 0; x < w; x++) {
         int right = x + half < w ? x + half : w - 1, left = x - half > 0 ? x - half : 0;
         inv_cols[x] = 1.0 / (right - left + 1);
@@ -100,7 +187,7 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, double 
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
         for (int x = 0; x < w; x++)
-            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, k_over_r);
+            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, r, &st);
     }
     *ink = out;
     out = NULL;
@@ -115,17 +202,15 @@ done:
     return rc;
 }
 
-/* Side of the tiles of binarize_sampled (odd, so that a tile has a centre pixel). */
-#define TILE 3
-
-/* Sauvola's threshold computed exactly at the centre pixel of every TILE x TILE tile, where a
+/* The threshold computed exactly at the centre pixel of every TILE x TILE tile, where a
  * window that is an odd number of tiles wide is a whole number of tiles, from tile sums; for
  * the pixels in between it is interpolated bilinearly from the four nearest tile centres. The
  * threshold is a statistic of a wide window and varies slowly across the page, so the
  * interpolation moves it by a small fraction of a gray level while the window sums and square
  * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold.
  * Sets *ink, or returns LT_ENOMEM. */
-static int binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink)
+static int binarize_sampled(const lt_image *gray, int window_px, double k, double r, double black,
+                            lt_image **ink)
 {
     const int w = gray->width, h = gray->height, centre = TILE / 2;
     const int gw = (w + TILE - 1) / TILE, gh = (h + TILE - 1) / TILE;
@@ -140,7 +225,6 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
     int rc = LT_ENOMEM;
     if (!tsum || !tsq || !thr || !row_thr || !colsum || !colsq || !inv_cols) goto done;
-    const double k_over_r = k / r;
     for (int tx = 0; tx < gw; tx++) {
         const int left = (tx - reach) * TILE, right = (tx + reach + 1) * TILE;
         inv_cols[tx] = 1.0 / ((right < w ? right : w) - (left > 0 ? left : 0));
@@ -162,6 +246,10 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             tq[t] += (uint32_t)src[x] * src[x];
         }
     }
+    if (black == LT_BLACK_POINT_AUTO) /* the page's, from its whole tiles */
+        black = black_from_tile_sums(tsum, (size_t)gw, w / TILE, h / TILE);
+    const stretch st = stretch_for(black, k);
+    const double k_over_r = k / r;
     /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
      * the image, from column sums that slide down the tile rows. */
     for (int ty = 0; ty < reach && ty < gh; ty++)
@@ -199,7 +287,9 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             }
             const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
             const double var = (double)sumsq * inv_n - m * m;
-            double t = m * (1.0 - k + k_over_r * (var > 0 ? sqrt(var) : 0));
+            const double wb = black > 0 ? window_black(&st, m) : 0;
+            const double k_over_rw = wb > 0 ? k / range_for(r, wb) : k_over_r;
+            double t = wb + (m - wb) * (1.0 - k + k_over_rw * (var > 0 ? sqrt(var) : 0));
             t = t < -1 ? -1 : t > 256 ? 256 : t; /* beyond every gray value either way */
             thr[(size_t)ty * gw + tx] = (int32_t)(t * 65536.0 + 65536.0) - 65536; /* floor */
         }
@@ -249,28 +339,35 @@ done:
     return rc;
 }
 
-static int binarize(const lt_image *gray, int window_px, double k, double r, int sampled,
-                    lt_image **ink, lt_error *err)
+static int binarize(const lt_image *gray, int window_px, double k, double r, double black,
+                    int sampled, lt_image **ink, lt_error *err)
 {
     *ink = NULL;
     if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || window_px > LT_MAX_WINDOW_PX ||
-        r <= 0 || k < 0)
+        r <= 0 || k < 0 || !(black == LT_BLACK_POINT_AUTO || (black >= 0 && black <= 255)))
         return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
     /* Sampling needs a window of whole tiles, odd, and wide against a tile (9 tiles at least). */
     sampled = sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE;
-    int rc = sampled ? binarize_sampled(gray, window_px, k, r, ink)
-                     : binarize_exact(gray, window_px, k, r, ink);
+    if (black == LT_BLACK_POINT_AUTO && !sampled) black = lt_black_point(gray); /* sampled: its own */
+    int rc = sampled ? binarize_sampled(gray, window_px, k, r, black, ink)
+                     : binarize_exact(gray, window_px, k, r, black, ink);
     return rc ? lt_error_set(err, rc, "binarize: out of memory") : 0;
 }
 
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                 lt_error *err)
 {
-    return binarize(gray, window_px, k, r, 0, ink, err);
+    return binarize(gray, window_px, k, r, 0, 0, ink, err);
 }
 
 int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                         lt_error *err)
 {
-    return binarize(gray, window_px, k, r, 1, ink, err);
+    return binarize(gray, window_px, k, r, 0, 1, ink, err);
+}
+
+int lt_binarize_normalized(const lt_image *gray, int window_px, double k, double r, double black,
+                           int sampled, lt_image **ink, lt_error *err)
+{
+    return binarize(gray, window_px, k, r, black, sampled, ink, err);
 }

@@ -35,6 +35,9 @@ double lt_median(double *v, int n);
 void lt_shorten_middle(char *dst, size_t size, const char *text);
 /* 1 when dpi lies in LT_MIN_DPI..LT_MAX_DPI (0 for NaN and infinities). */
 int lt_dpi_plausible(double dpi);
+/* The black point lt_binarize_normalized takes for LT_BLACK_POINT_AUTO: the mean gray of the
+ * darkest 3 x 3 tile (tiles at multiples of 3 px); 0 for a page without a whole tile. */
+double lt_black_point(const lt_image *gray);
 /* Records the resolution a file gave for img (0: none): kept when plausible, else ignored
  * and flagged in img->dpi_rejected. */
 void lt_image_set_file_dpi(lt_image *img, double dpi);

@@ -330,6 +330,19 @@ LT_API int lt_binarize(const lt_image *gray, int window_px, double k, double r, 
  * what lt_analyze uses. */
 LT_API int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r,
                                lt_image **ink, lt_error *err);
+/* Sauvola's threshold in Wolf & Jolion's (2004) normalised form where the ink is pale, which
+ * the analysis uses: ink where gray <= m - k * (1 - s / R') * (m - M'), R' = r * (255 - M') / 255,
+ * that is Sauvola's threshold on the gray range [M', 255] stretched to [0, 255]. M' is chosen per
+ * window from the page's black point M (`black`, a gray level 0..255): the least value, 0 at
+ * best, that puts the threshold over flat paper ((1 - k) m for Sauvola) halfway between M and
+ * m; at most M, and 0 unless m is at least 64 levels above it. So black ink on white paper
+ * gets Sauvola's threshold (M' = 0), faded print of gray 170 on paper of 235, which Sauvola
+ * loses, its own, and dark windows (pictures, scan borders) Sauvola's. `black` 0 gives
+ * lt_binarize; LT_BLACK_POINT_AUTO takes the page's: the mean of its darkest 3 x 3 tile (tiles
+ * at multiples of 3 px). `sampled` nonzero: sampled as lt_binarize_sampled, else exact. */
+#define LT_BLACK_POINT_AUTO (-1.0)
+LT_API int lt_binarize_normalized(const lt_image *gray, int window_px, double k, double r,
+                                  double black, int sampled, lt_image **ink, lt_error *err);
 
 typedef struct lt_skew {
     double angle_deg;  /* 0 when confidence is 0 */

@@ -1,6 +1,7 @@
 /* test_binarize.c — checks lt_binarize against the published Sauvola & Pietikäinen (2000)
  * threshold T = m * (1 + k * (s / R - 1)): exact results on built pages, a worked example done
- * by hand, and a naive per-pixel reference (written here, independently) on random images.
+ * by hand, and a naive per-pixel reference (written here, independently) on random images;
+ * lt_binarize_normalized on pale strokes that Sauvola's threshold loses.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
 
@@ -316,6 +317,52 @@ static void test_window_one(void)
     lt_image_free(ink);
 }
 
+/* Pale print (Wolf & Jolion's normalised form, lt_binarize_normalized): strokes of gray 170 on
+ * paper of 235, the darkest 3 x 3 tile 170, ink a fifth of any window at most. Sauvola's
+ * published threshold over paper, 235 (1 - 0.34) = 155, lies below the ink: plain Sauvola
+ * finds none. The normalised threshold, exact and sampled, must give exactly the strokes: near
+ * them the window's black point M' puts the threshold above 170 (the flat-paper threshold at
+ * least halfway up from 170), and it stays below the window's mean, so paper is paper. A page of
+ * black strokes (black point 0) gives lt_binarize's ink bit for bit. */
+static void test_pale(void)
+{
+    const int w = 240, h = 180;
+    for (int pass = 0; pass < 2; pass++) {
+        const int ink_gray = pass == 0 ? 170 : 0, paper = pass == 0 ? 235 : 230;
+        lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, paper);
+        for (int row = 0; row < 4; row++) /* "lines" of 5 px strokes, 14 px apart */
+            for (int x = 12; x + 5 < w - 12; x += 14)
+                tu_fill(g, x, 20 + 40 * row, x + 5, 20 + 40 * row + 22 - (x % 3) * 4, ink_gray);
+        CHECK(fabs(lt_black_point(g) - ink_gray) < 1e-9, "pale %d: black point %g, want %d", pass,
+              lt_black_point(g), ink_gray);
+        lt_image *plain = binarize(g, 33, 0.34, 128, "pale: plain");
+        for (int sampled = 0; sampled < 2; sampled++) {
+            lt_error err = {0};
+            lt_image *ink = NULL;
+            if (lt_binarize_normalized(g, 33, 0.34, 128, LT_BLACK_POINT_AUTO, sampled, &ink,
+                                       &err)) {
+                tu_fail("pale: lt_binarize_normalized failed: %s", err.message);
+                continue;
+            }
+            long wrong = 0, plain_ink = 0, differ = 0;
+            for (int i = 0; i < w * h; i++) {
+                wrong += ink->pixels[i] != (g->pixels[i] == ink_gray);
+                plain_ink += plain && plain->pixels[i];
+                differ += plain && plain->pixels[i] != ink->pixels[i];
+            }
+            if (pass == 0) {
+                CHECK_INT(wrong, 0, "pale, sampled %d: pixels where ink != stroke", sampled);
+                CHECK_INT(plain_ink, 0, "pale: plain Sauvola's ink pixels");
+            } else if (!sampled) {
+                CHECK_INT(differ, 0, "black strokes: pixels where lt_binarize differs");
+            }
+            lt_image_free(ink);
+        }
+        lt_image_free(plain);
+        lt_image_free(g);
+    }
+}
+
 /* Bad arguments: LT_EINVAL, no image, a message. */
 static void test_bad_arguments(void)
 {
@@ -346,6 +393,15 @@ static void test_bad_arguments(void)
         CHECK(out == NULL, "bad arguments (%s): output not NULL", cases[i].what);
         if (out != NULL && out != (lt_image *)&err) lt_image_free(out);
     }
+    const double blacks[] = {-2, 256, NAN};
+    for (size_t i = 0; i < sizeof blacks / sizeof blacks[0]; i++) {
+        lt_error err = {0};
+        lt_image *out = NULL;
+        int rc = lt_binarize_normalized(g, 15, 0.34, 128, blacks[i], 1, &out, &err);
+        CHECK_INT(rc, LT_EINVAL, "bad black point %g: return code", blacks[i]);
+        CHECK(out == NULL && err.message[0], "bad black point %g: output or message", blacks[i]);
+        lt_image_free(out);
+    }
     lt_image_free(g);
     lt_image_free(inkimg);
 }
@@ -359,6 +415,7 @@ int main(void)
     test_window_one();
     test_against_naive();
     test_sampled();
+    test_pale();
     test_bad_arguments();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_binarize");

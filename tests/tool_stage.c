@@ -1,7 +1,10 @@
 /* tool_stage.c — runs one pipeline stage on an image, for reference tests and benchmarks.
- *   tool_stage binarize IN W K R OUT.pgm [sampled]
+ *   tool_stage binarize IN W K R OUT.pgm [sampled|exact [BLACK|auto]]
  *                                          Sauvola ink as PGM (0 = ink, 255 = paper), from
- *                                          lt_binarize, or lt_binarize_sampled with "sampled"
+ *                                          lt_binarize, or lt_binarize_sampled with "sampled";
+ *                                          with BLACK, lt_binarize_normalized with that black
+ *                                          point ("auto": the page's, lt_black_point), printed
+ *                                          as "black B"
  *   tool_stage skew IN                     prints "angle_deg confidence"
  *   tool_stage components IN              prints "count", then "left top right bottom pixels"
  *   tool_stage separators IN               prints the text height, then "rule|gutter left top
@@ -97,7 +100,8 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(p, dpi);
-        if ((rc = lt_binarize_sampled(img, window, p->sauvola_k, p->sauvola_r, &ink_own, err)))
+        if ((rc = lt_binarize_normalized(img, window, p->sauvola_k, p->sauvola_r,
+                                         LT_BLACK_POINT_AUTO, 1, &ink_own, err)))
             goto done;
         ink = ink_own;
     }
@@ -261,8 +265,13 @@ int main(int argc, char **argv)
         lt_image *img = load(argv[2]), *ink = NULL;
         if (img->kind != LT_IMAGE_GRAY) return fprintf(stderr, "tool_stage: not gray\n"), 1;
         const int sampled = argc >= 8 && strcmp(argv[7], "sampled") == 0;
-        if ((sampled ? lt_binarize_sampled : lt_binarize)(img, atoi(argv[3]), atof(argv[4]),
-                                                          atof(argv[5]), &ink, &err))
+        double black = 0; /* plain Sauvola */
+        if (argc >= 9) {
+            black = strcmp(argv[8], "auto") == 0 ? lt_black_point(img) : atof(argv[8]);
+            printf("black %.6f\n", black);
+        }
+        if (lt_binarize_normalized(img, atoi(argv[3]), atof(argv[4]), atof(argv[5]), black,
+                                   sampled, &ink, &err))
             return fprintf(stderr, "tool_stage: %s\n", err.message), 1;
         int bad = write_pgm(ink, argv[6]);
         lt_image_free(img);

@@ -1,0 +1,122 @@
+#!/usr/bin/python3
+"""pale_pages.py: pale and gray print must give the lines of the page in black.
+
+Known transformations (Python's PIL and numpy, applied to the gray page g, 0 = black):
+  pale   the gray range mapped linearly onto [170, 235]: 170 + g * 65 / 255 (faded print on
+         toned paper, a carbon copy)
+  gray   the text lightened to gray 170 on white: 170 + g * 85 / 255
+  tint   as gray, and the middle third of the page's rows on a tint of 235 (a code listing's
+         background): 170 + g * 65 / 255 there
+each at 300 dpi and resampled to 200 dpi (PIL Image.resize, Lanczos, 2/3 of each side). lineate's
+lines on every variant are scored (`lineate score`, IoU >= 0.5) against its lines on the
+untouched page at the same resolution, which must match at F1 >= FLOOR (0.98).
+
+Usage: pale_pages.py [--floor F] LINEATE WORK_DIR PAGE.png...
+  --floor F   fail when a variant scores below F (default: report only)
+Prints one row per page and variant, then the mean F1 and the count below 0.98 per variant.
+Exit status: 0 pass, 1 fail, 77 skip (numpy or PIL missing).
+"""
+
+import json
+import os
+import subprocess
+import sys
+
+try:
+    import numpy as np
+    from PIL import Image
+except ImportError as exc:
+    print("SKIP: %s" % exc)
+    sys.exit(77)
+
+INK_GRAY = 170     # the darkest ink of the pale variants
+PAPER_PALE = 235   # toned paper of the pale page, and the tint
+TARGET_F1 = 0.98   # the F1 the report counts pages against
+LOW_DPI = 200
+
+
+def variants(gray):
+    """The transformed pages of a gray page (float arrays), by name."""
+    g = gray.astype(np.float64)
+    pale = INK_GRAY + g * (PAPER_PALE - INK_GRAY) / 255.0
+    on_white = INK_GRAY + g * (255 - INK_GRAY) / 255.0
+    tint = on_white.copy()
+    third = g.shape[0] // 3
+    tint[third:2 * third] = pale[third:2 * third]
+    return {"pale": pale, "gray": on_white, "tint": tint}
+
+
+def save(array, path, dpi):
+    Image.fromarray(np.clip(np.round(array), 0, 255).astype(np.uint8), "L").save(
+        path, dpi=(dpi, dpi))
+
+
+def downsample(path, out_path):
+    """The page at LOW_DPI (the pages are 300 dpi), Lanczos."""
+    im = Image.open(path)
+    w, h = im.size
+    im.resize((round(w * LOW_DPI / 300), round(h * LOW_DPI / 300)), Image.LANCZOS).save(
+        out_path, dpi=(LOW_DPI, LOW_DPI))
+
+
+def analyse(lineate, png):
+    out = png[:-4] + ".json"
+    subprocess.run([lineate, "-o", out, png], check=True, timeout=300)
+    return out
+
+
+def f1(lineate, truth_json, pred_json):
+    proc = subprocess.run([lineate, "score", "--json", truth_json, pred_json], check=True,
+                          stdout=subprocess.PIPE, timeout=300)
+    return json.loads(proc.stdout)["summary"]["f1_50"]
+
+
+def main(argv):
+    floor = None
+    if len(argv) > 2 and argv[1] == "--floor":
+        floor = float(argv[2])
+        argv = argv[:1] + argv[3:]
+    if len(argv) < 4:
+        print(__doc__.split("\n\n")[2], file=sys.stderr)
+        return 2
+    lineate, work, pages = argv[1], argv[2], argv[3:]
+    scores = {}
+    failures = 0
+    print("%-40s %-9s %6s" % ("page", "variant", "F1"))
+    for page in pages:
+        name = os.path.splitext(os.path.basename(page))[0]
+        gray = np.asarray(Image.open(page).convert("L"))
+        base = os.path.join(work, name)
+        paths = {"original": base + ".png"}
+        save(gray, paths["original"], 300)
+        for vname, array in variants(gray).items():
+            paths[vname] = "%s-%s.png" % (base, vname)
+            save(array, paths[vname], 300)
+        for vname in list(paths):
+            paths[vname + "-200"] = paths[vname][:-4] + "-200.png"
+            downsample(paths[vname], paths[vname + "-200"])
+        layouts = {v: analyse(lineate, p) for v, p in paths.items()}
+        for vname in sorted(layouts):
+            if vname.startswith("original"):
+                continue
+            reference = "original-200" if vname.endswith("-200") else "original"
+            score = f1(lineate, layouts[reference], layouts[vname])
+            scores.setdefault(vname, []).append(score)
+            bad = floor is not None and score < floor
+            failures += bad
+            print("%-40s %-9s %6.3f%s" % (name, vname, score, "  FAIL" if bad else ""))
+        for p in paths.values():
+            os.remove(p)
+            os.remove(p[:-4] + ".json")
+    for vname in sorted(scores):
+        v = scores[vname]
+        print("summary %-9s pages %d  mean F1 %.4f  below %.2f: %d" %
+              (vname, len(v), sum(v) / len(v), TARGET_F1, sum(s < TARGET_F1 for s in v)))
+    if failures:
+        print("pale_pages: %d variant(s) below F1 %.2f" % (failures, floor))
+        return 1
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv))
