@@ -80,20 +80,6 @@ static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, d
     return (uint8_t)((a <= 0) | (a * a < b * b * var));
 }
 
-/* The page's black point from the sums of its whole TILE x TILE tiles (tiles_x x tiles_y of
- * them, row stride `stride`): the darkest tile's mean; 0 when the page has no whole tile. */
-static double black_from_tile_sums(const uint16_t *sums, size_t stride, int tiles_x, int tiles_y)
-{
-    if (tiles_x < 1 || tiles_y < 1) return 0;
-    unsigned darkest = TILE * TILE * 255;
-    for (int ty = 0; ty < tiles_y; ty++) {
-        const uint16_t *row = sums + (size_t)ty * stride;
-        for (int tx = 0; tx < tiles_x; tx++)
-            darkest = row[tx] < darkest ? row[tx] : darkest;
-    }
-    return (double)darkest / (TILE * TILE);
-}
-
 double lt_black_point(const lt_image *gray)
 {
     if (!gray || gray->kind != LT_IMAGE_GRAY) return 0;
@@ -230,24 +216,35 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
         inv_cols[tx] = 1.0 / ((right < w ? right : w) - (left > 0 ? left : 0));
     }
 
-    /* 1. Tile sums of the gray values and of their squares. */
+    /* 1. Tile sums of the gray values and of their squares; the darkest whole tile, read as
+     * each row of tiles is complete (while it is in the cache). */
+    unsigned darkest = TILE * TILE * 255;
     for (int y = 0; y < h; y++) {
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint16_t *ts = tsum + (size_t)(y / TILE) * gw;
         uint32_t *tq = tsq + (size_t)(y / TILE) * gw;
         int x = 0, t = 0;
-        for (; x + TILE <= w; x += TILE, t++) {
-            const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
-            ts[t] += (uint16_t)(a + b + c);
-            tq[t] += a * a + b * b + c * c;
-        }
+        if (y % TILE == TILE - 1) /* the last row of these tiles */
+            for (; x + TILE <= w; x += TILE, t++) {
+                const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
+                const unsigned sum = ts[t] + a + b + c;
+                ts[t] = (uint16_t)sum;
+                tq[t] += a * a + b * b + c * c;
+                darkest = sum < darkest ? sum : darkest;
+            }
+        else
+            for (; x + TILE <= w; x += TILE, t++) {
+                const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
+                ts[t] += (uint16_t)(a + b + c);
+                tq[t] += a * a + b * b + c * c;
+            }
         for (; x < w; x++) {
             ts[t] += src[x];
             tq[t] += (uint32_t)src[x] * src[x];
         }
     }
-    if (black == LT_BLACK_POINT_AUTO) /* the page's, from its whole tiles */
-        black = black_from_tile_sums(tsum, (size_t)gw, w / TILE, h / TILE);
+    if (black == LT_BLACK_POINT_AUTO) /* the page's: lt_black_point */
+        black = w >= TILE && h >= TILE ? (double)darkest / (TILE * TILE) : 0;
     const stretch st = stretch_for(black, k);
     const double k_over_r = k / r;
     /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
