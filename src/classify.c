@@ -1,39 +1,126 @@
 /* classify.c — measures the page's text height (the mode of character heights, O'Gorman's
- * docstrum uses the same statistic for its size classes) and sorts every component into
+ * docstrum uses the same statistic for its size classes; only characters in a row with
+ * another of their size count) and sorts every component into
  * text, speckle, rule or picture by its size in units of that height. */
 #include "internal.h"
 
 #include <math.h>
 #include <stdlib.h>
 
+/* A character stands in a row with another of about its height: one of height within
+ * ROW_MATE_HEIGHT of its own (relative to the taller), overlapping it vertically by half the
+ * shorter, at most ROW_MATE_GAP of its height away beside it. Specks of paper texture or noise
+ * mostly stand alone, letters of a word or a line do not. */
+static const double ROW_MATE_HEIGHT = 0.3;
+static const double ROW_MATE_GAP = 1.5;
+
+/* Row mates examined per character at most (bounds the work on pages of noise). */
+static const int MAX_MATE_TESTS = 256;
+
+typedef struct sized {
+    int index, band, left;
+} sized;
+
+static int cmp_sized(const void *a, const void *b)
+{
+    const sized *x = a, *y = b;
+    if (x->band != y->band) return (x->band > y->band) - (x->band < y->band);
+    return (x->left > y->left) - (x->left < y->left);
+}
+
+/* Whether boxes a and b are row mates (see ROW_MATE_HEIGHT). */
+static int row_mates(const lt_box *a, const lt_box *b)
+{
+    const int ha = a->bottom - a->top, hb = b->bottom - b->top;
+    const int hmax = ha > hb ? ha : hb, hmin = ha + hb - hmax;
+    const int top = a->top > b->top ? a->top : b->top;
+    const int bottom = a->bottom < b->bottom ? a->bottom : b->bottom;
+    const int gap = b->left > a->right ? b->left - a->right : a->left - b->right;
+    return hmax - hmin <= ROW_MATE_HEIGHT * hmax && 2 * (bottom - top) >= hmin &&
+           gap <= ROW_MATE_GAP * hmin;
+}
+
+/* Marks in mate[] the characters of s[0..n) (sorted by band of `band_px` rows by their
+ * middle, then by left edge) that have a row mate: in their band, or in the next (a mate
+ * overlaps by half the shorter height, so its middle is at most a band away). */
+static void find_mates(const lt_components *c, const sized *s, int n, int band_px,
+                       uint8_t *mate)
+{
+    int next = 0; /* first character of the band after the current one */
+    for (int k = 0; k < n; k++) {
+        const lt_box *a = &c->items[s[k].index].box;
+        const int ha = a->bottom - a->top;
+        const double reach = ROW_MATE_GAP * ha;
+        int tests = 0;
+        for (int j = k + 1; j < n && s[j].band == s[k].band && s[j].left <= a->right + reach &&
+                            tests < MAX_MATE_TESTS;
+             j++, tests++)
+            if (row_mates(a, &c->items[s[j].index].box)) mate[k] = mate[j] = 1;
+        if (next <= k) next = k + 1;
+        while (next < n && s[next].band == s[k].band)
+            next++;
+        if (next >= n || s[next].band != s[k].band + 1) continue;
+        /* the next band: from the first that may reach back to a (starts no more than a
+         * band's height plus the reach before it) */
+        int lo = next, hi = n;
+        while (lo < hi) {
+            const int mid = lo + (hi - lo) / 2;
+            if (s[mid].band > s[next].band || s[mid].left >= a->left - band_px - reach)
+                hi = mid;
+            else
+                lo = mid + 1;
+        }
+        for (int j = lo; j < n && s[j].band == s[next].band && s[j].left <= a->right + reach &&
+                         tests < MAX_MATE_TESTS;
+             j++, tests++)
+            if (row_mates(a, &c->items[s[j].index].box)) mate[k] = mate[j] = 1;
+    }
+}
+
 double lt_text_height(const lt_components *c, double dpi)
 {
     if (!c || c->count == 0) return 0;
     if (!lt_dpi_plausible(dpi)) dpi = 300; /* keeps the sizes below in range */
     /* Plausible characters: from 1/50 inch (the x-height of 5 pt type) up to a third of an
-     * inch tall, not long and thin. Each counts with its width, so that the mass of text,
-     * not the many dots and specks, decides. */
+     * inch tall, not long and thin, standing in a row with another (specks of texture and
+     * noise mostly stand alone). Each counts with its width, so that the mass of text, not
+     * the many dots and specks, decides. */
     const int min_h = dpi / 50 > 3 ? (int)(dpi / 50) : 3;
     const int max_h = (int)(dpi / 3) > min_h + 1 ? (int)(dpi / 3) : min_h + 1;
     int *hist = calloc((size_t)max_h + 2, sizeof *hist);
-    if (!hist) return -1;
+    sized *s = malloc(((size_t)c->count + 1) * sizeof *s);
+    uint8_t *mate = calloc((size_t)c->count + 1, 1);
+    if (!hist || !s || !mate) {
+        free(hist);
+        free(s);
+        free(mate);
+        return -1;
+    }
     int n = 0;
     for (int i = 0; i < c->count; i++) {
         const lt_box *b = &c->items[i].box;
         int w = b->right - b->left, h = b->bottom - b->top;
         if (h < min_h || h > max_h || w > 3 * h || w * 8 < h) continue;
-        hist[h] += w;
-        n++;
+        s[n++] = (sized){i, (b->top + b->bottom) / 2 / max_h, b->left};
+    }
+    qsort(s, (size_t)n, sizeof *s, cmp_sized);
+    find_mates(c, s, n, max_h, mate);
+    int counted = 0;
+    for (int k = 0; k < n; k++) {
+        if (!mate[k]) continue;
+        const lt_box *b = &c->items[s[k].index].box;
+        hist[b->bottom - b->top] += b->right - b->left;
+        counted++;
     }
     double mode = 0;
-    if (n > 0) {
+    if (counted > 0) {
         /* Mode of the histogram smoothed over three bins, refined to the mean of those bins. */
         int best = min_h;
         long best_sum = -1;
         for (int h = min_h; h <= max_h; h++) {
-            long s = (long)hist[h - 1] + hist[h] + hist[h + 1];
-            if (s > best_sum) {
-                best_sum = s;
+            long sum = (long)hist[h - 1] + hist[h] + hist[h + 1];
+            if (sum > best_sum) {
+                best_sum = sum;
                 best = h;
             }
         }
@@ -42,6 +129,8 @@ double lt_text_height(const lt_components *c, double dpi)
         mode = best_sum > 0 ? wsum / best_sum : best;
     }
     free(hist);
+    free(s);
+    free(mate);
     return mode;
 }
 

@@ -303,6 +303,38 @@ static void test_analyze(void)
     page_free(p);
 }
 
+/* Text height among texture: a paragraph of ten lines (x-height 20 px) on a page sprinkled
+ * with 1,500 square specks 7 px wide at random places (fixed seed; the grain of a yellowed
+ * paper after binarization). The specks' widths add up to more than the letters' (about
+ * 10,500 px against 6,000), so a mode over every plausible character would be 7 px; most
+ * specks have no speck of their size beside them, while letters stand in words: the text
+ * height is the letters' (within a pixel of 20). */
+static void test_text_height_among_specks(void)
+{
+    tu_rng r = {77};
+    page *p = page_new(1700, 1000);
+    draw_paragraph(p, &r, 150, 1550, 200, 10);
+    long speck_width = 0;
+    for (int k = 0; k < 1500; k++) {
+        const int x = tu_range(&r, 0, 1690), y = tu_range(&r, 0, 990);
+        tu_fill_box(p->img, tu_box(x, y, x + 7, y + 7), 1);
+        speck_width += 7;
+    }
+    lt_params prm;
+    lt_params_default(&prm);
+    lt_error err = {0};
+    lt_components *comps = NULL;
+    if (lt_find_components(p->img, prm.max_components, &comps, &err)) {
+        tu_fail("text height among specks: components: %s", err.message);
+    } else {
+        const double th = lt_text_height(comps, 300);
+        printf("text height among %ld px of specks: %.2f px\n", speck_width, th);
+        CHECK_NEAR(th, XH, 1.0, "text height among specks");
+    }
+    lt_components_free(comps);
+    page_free(p);
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -314,6 +346,7 @@ int main(void)
     test_rules_and_picture();
     test_small_marks();
     test_analyze();
+    test_text_height_among_specks();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
