@@ -240,6 +240,7 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     res->dpi = res->dpi_from_file ? img->dpi : params->dpi;
 
     lt_image *ink_own = NULL;
+    lt_dark_map dark = {0};
     level_page lp = {0};
     lt_cut_node *tree = NULL;
     lt_arrangement *arr = NULL;
@@ -249,8 +250,8 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(params, res->dpi);
-        rc = lt_binarize_normalized(img, window, params->sauvola_k, params->sauvola_r,
-                                    LT_BLACK_POINT_AUTO, 1, &ink_own, err);
+        rc = lt_binarize_page(img, window, params->sauvola_k, params->sauvola_r, &ink_own, &dark,
+                              err);
         if (rc) goto done;
         ink = ink_own;
         if (consumed) { /* the gray page is done with: its memory goes before the next stages */
@@ -281,10 +282,16 @@ static int analyze(const lt_image *img, lt_image **consumed, const lt_params *pa
         rc = lt_error_set(err, LT_ENOMEM, "out of memory");
         goto done;
     }
+    for (int i = 0; i < res->nlines; i++) { /* lines read light on dark */
+        const lt_box *b = &res->lines[i].box;
+        res->lines[i].light_on_dark =
+            lt_dark_at(&dark, (b->left + b->right) / 2.0, (b->top + b->bottom) / 2.0);
+    }
     /* 5. An outline of each line's ink. */
     rc = lt_line_polygons(lp.raw, arr->order, arr->nlines, lp.comps, lp.th, &lp.frame, res, err);
 done:
     lt_image_free(ink_own);
+    lt_dark_map_clear(&dark);
     level_page_free(&lp);
     lt_cut_node_free(tree);
     lt_arrangement_free(arr);

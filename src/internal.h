@@ -38,6 +38,23 @@ int lt_dpi_plausible(double dpi);
 /* The black point lt_binarize_normalized takes for LT_BLACK_POINT_AUTO: the mean gray of the
  * darkest 3 x 3 tile (tiles at multiples of 3 px); 0 for a page without a whole tile. */
 double lt_black_point(const lt_image *gray);
+/* Where the analysis's binarization read light marks on a dark ground as the ink: one flag
+ * per tile of tile_px x tile_px pixels of the page (tiles_x x tiles_y, row-major), 1 where it
+ * did; `dark` NULL when it did nowhere. */
+typedef struct lt_dark_map {
+    int tile_px, tiles_x, tiles_y;
+    uint8_t *dark;
+} lt_dark_map;
+/* The binarization of lt_analyze: lt_binarize_normalized with the page's black point, sampled,
+ * and where a window's mean is below the middle of the gray scale (a dark band, box or page),
+ * Sauvola's threshold on the negative instead, so that light marks there are the ink; those
+ * tiles go into *dark, which the caller clears with lt_dark_map_clear (also on failure). Windows
+ * that lt_binarize_sampled does not sample get no inversion. */
+int lt_binarize_page(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
+                     lt_dark_map *dark, lt_error *err);
+void lt_dark_map_clear(lt_dark_map *map);
+/* 1 when the point (x, y) of the page lies in a tile of `map` read as light on dark. */
+int lt_dark_at(const lt_dark_map *map, double x, double y);
 /* Records the resolution a file gave for img (0: none): kept when plausible, else ignored
  * and flagged in img->dpi_rejected. */
 void lt_image_set_file_dpi(lt_image *img, double dpi);

@@ -173,6 +173,7 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
         if (ln->npolygon > 0) cJSON_AddItemToObject(j, "polygon", points_json(ln->polygon, ln->npolygon));
         cJSON_AddNumberToObject(j, "xheight_px", round2(ln->xheight_px));
         cJSON_AddNumberToObject(j, "block", ln->block);
+        if (ln->light_on_dark) cJSON_AddTrueToObject(j, "light_on_dark");
         cJSON_AddItemToArray(lines, j);
     }
     cJSON *blocks = cJSON_AddArrayToObject(o, "blocks");

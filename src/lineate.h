@@ -227,6 +227,8 @@ typedef struct lt_line {
                              pixels; points into lt_layout.polygon_points (not owned); NULL
                              when the line has none */
     int npolygon;         /* points of `polygon` (0 or >= 3) */
+    int light_on_dark;    /* 1 when the line was read as light marks on a dark ground (a band,
+                             box or page printed in negative), else 0 */
 } lt_line;
 
 typedef struct lt_block {

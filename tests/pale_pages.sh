@@ -1,7 +1,8 @@
 #!/bin/sh
 # pale_pages.sh: automake driver of tests/pale_pages.py on three pages of testdata/corpus (two
 # clean, one shaded): pale, gray and tinted variants, at 300 and 200 dpi, give the lines of the
-# untouched page at F1 >= 0.98. With CORPUS=DIR (make pale-corpus), every clean page DIR/*.png
+# untouched page at F1 >= 0.98; the negative and a box in negative of the two clean pages too,
+# with exactly the lines in negative marked light_on_dark. With CORPUS=DIR (make pale-corpus), every clean page DIR/*.png
 # (not the NAME-d.png copies), reported without a floor.
 # Exit status: 0 pass, 1 fail, 77 skip (no python3 with numpy and PIL).
 here=$(cd "$(dirname "$0")" && pwd)
@@ -23,7 +24,11 @@ if [ -n "${CORPUS:-}" ]; then
     done
     exec "$python" "$srcdir/tests/pale_pages.py" "$builddir/lineate" "$work" "$@"
 fi
-"$python" "$srcdir/tests/pale_pages.py" --floor 0.98 "$builddir/lineate" "$work" \
+"$python" "$srcdir/tests/pale_pages.py" --floor 0.98 --only pale "$builddir/lineate" "$work" \
     "$srcdir/testdata/corpus/ulthese_ulthese_p002.png" \
     "$srcdir/testdata/corpus/mnras_mnras_guide_p002.png" \
-    "$srcdir/testdata/corpus/onrannual_skeleton_p001-d.png"
+    "$srcdir/testdata/corpus/onrannual_skeleton_p001-d.png" || exit 1
+# The negatives of the two clean pages (the shaded page's negative has a gray ground).
+"$python" "$srcdir/tests/pale_pages.py" --floor 0.98 --only negative "$builddir/lineate" "$work" \
+    "$srcdir/testdata/corpus/ulthese_ulthese_p002.png" \
+    "$srcdir/testdata/corpus/mnras_mnras_guide_p002.png"

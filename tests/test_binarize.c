@@ -1,7 +1,8 @@
 /* test_binarize.c — checks lt_binarize against the published Sauvola & Pietikäinen (2000)
  * threshold T = m * (1 + k * (s / R - 1)): exact results on built pages, a worked example done
  * by hand, and a naive per-pixel reference (written here, independently) on random images;
- * lt_binarize_normalized on pale strokes that Sauvola's threshold loses.
+ * lt_binarize_normalized on pale strokes that Sauvola's threshold loses; lt_binarize_page on
+ * light strokes on a dark ground.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
 
@@ -363,6 +364,52 @@ static void test_pale(void)
     }
 }
 
+/* Light print on a dark ground (lt_binarize_page): a box of gray 20 on white paper with
+ * strokes of 230 in it, 20 windows wide, clear of the page's edge: the strokes are the ink, the
+ * ground and the paper are not, and the map marks the box's middle; the same box only two
+ * windows wide (a black mark, not a ground) stays dark ink with no mark, and so does a box
+ * along the page's edge (the scanner's ground). */
+static void test_light_on_dark(void)
+{
+    const int w = 900, h = 600, window = 33;
+    for (int pass = 0; pass < 3; pass++) {
+        const int left = pass == 2 ? 0 : 60, right = pass == 1 ? 60 + 2 * window : 840;
+        lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, 250);
+        tu_fill(g, left, 60, right, 240, 20);
+        for (int x = left + 20; x + 5 < right - 20; x += 14)
+            tu_fill(g, x, 100, x + 5, 122 + (x % 3) * 4, 230);
+        lt_error err = {0};
+        lt_image *ink = NULL;
+        lt_dark_map dark = {0};
+        if (lt_binarize_page(g, window, 0.34, 128, &ink, &dark, &err)) {
+            tu_fail("light on dark: lt_binarize_page failed: %s", err.message);
+            lt_image_free(g);
+            continue;
+        }
+        const int marked = lt_dark_at(&dark, (left + right) / 2.0, 150);
+        CHECK_INT(marked, pass == 0, "light on dark, pass %d: the box's middle marked", pass);
+        long stroke_ink = 0, strokes = 0, ground_ink = 0, ground = 0;
+        for (int y = 80; y < 220; y++) /* away from the box's edge */
+            for (int x = left + 10; x < right - 10; x++) {
+                const int v = g->pixels[(size_t)y * w + x], is_ink = ink->pixels[(size_t)y * w + x];
+                long *count = v == 230 ? &strokes : &ground;
+                long *inked = v == 230 ? &stroke_ink : &ground_ink;
+                (*count)++;
+                *inked += is_ink;
+            }
+        if (pass == 0) {
+            CHECK(stroke_ink == strokes, "light on dark: %ld of %ld stroke pixels ink", stroke_ink,
+                  strokes);
+            CHECK_INT(ground_ink, 0, "light on dark: ground pixels read as ink");
+        } else {
+            CHECK_INT(stroke_ink, 0, "dark mark, pass %d: light pixels read as ink", pass);
+        }
+        lt_dark_map_clear(&dark);
+        lt_image_free(ink);
+        lt_image_free(g);
+    }
+}
+
 /* Bad arguments: LT_EINVAL, no image, a message. */
 static void test_bad_arguments(void)
 {
@@ -416,6 +463,7 @@ int main(void)
     test_against_naive();
     test_sampled();
     test_pale();
+    test_light_on_dark();
     test_bad_arguments();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_binarize");

@@ -100,9 +100,10 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     const lt_image *ink = img;
     if (img->kind == LT_IMAGE_GRAY) {
         int window = lt_sauvola_window_px(p, dpi);
-        if ((rc = lt_binarize_normalized(img, window, p->sauvola_k, p->sauvola_r,
-                                         LT_BLACK_POINT_AUTO, 1, &ink_own, err)))
-            goto done;
+        lt_dark_map dark = {0}; /* lt_analyze's binarization; the map is only for the output */
+        rc = lt_binarize_page(img, window, p->sauvola_k, p->sauvola_r, &ink_own, &dark, err);
+        lt_dark_map_clear(&dark);
+        if (rc) goto done;
         ink = ink_own;
     }
     t_next = now_ms();
