@@ -173,6 +173,10 @@ typedef struct lt_raw_lines {
 int lt_build_lines(const lt_components *c, double text_height_px, const lt_separators *seps,
                    const lt_params *p, lt_raw_lines **out, lt_error *err);
 void lt_raw_lines_free(lt_raw_lines *l);
+/* Drops the lines narrower than a letter that lie within a few text heights of the edge of
+ * the image as given (frame f maps them there): pieces of a scan's dark border or of a page
+ * edge, no text. */
+void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_height_px);
 
 /* ---- orientation (orient.c) --------------------------------------------------------- */
 /* A quarter turn, clockwise as displayed, that the evidence asks for. */

@@ -21,6 +21,11 @@ static const double BASELINE_SLACK =
     0.15;                               /* letters standing on the baseline: bottoms this close */
 static const double TALL_LETTER = 1.25; /* taller letters standing on it are not x-height ones */
 static const double LARGE_TYPE_RANK = 0.3; /* x-height of large type: this rank of the letters */
+/* A line narrower than a letter (EDGE_SLIVER_WIDTH) within EDGE_BAND of the image's edge is a
+ * piece of a scan's dark border or of a page edge: text keeps a margin of more than two text
+ * heights and a line of it is wider than a letter, while the border breaks into thin strokes. */
+static const double EDGE_SLIVER_WIDTH = 1.0;
+static const double EDGE_BAND = 2.0;
 
 typedef struct link {
     int a, b;        /* components, a left of b */
@@ -612,6 +617,25 @@ done:
     free(links);
     *out = res;
     return rc;
+}
+
+void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_height_px)
+{
+    const double th = text_height_px > 0 ? text_height_px : 20;
+    const int w = f->given_width, h = f->given_height;
+    int kept = 0;
+    for (int i = 0; i < lines->count; i++) {
+        lt_point quad[4];
+        lt_box hull;
+        lt_frame_map_box(f, lines->items[i].box, w, h, quad, &hull);
+        int edge = hull.left < hull.top ? hull.left : hull.top;
+        if (w - hull.right < edge) edge = w - hull.right;
+        if (h - hull.bottom < edge) edge = h - hull.bottom;
+        const int sliver = lt_box_width(&lines->items[i].box) < EDGE_SLIVER_WIDTH * th &&
+                           edge < EDGE_BAND * th;
+        if (!sliver) lines->items[kept++] = lines->items[i];
+    }
+    lines->count = kept;
 }
 
 void lt_raw_lines_free(lt_raw_lines *l)

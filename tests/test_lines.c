@@ -335,6 +335,37 @@ static void test_text_height_among_specks(void)
     page_free(p);
 }
 
+/* A scan's border: a paragraph of five lines with, at the left edge of the image (x 10..15),
+ * thin strokes 30 px tall one above the other (the dark border broken up), and one more at
+ * 3 text heights from the right edge. lt_drop_edge_slivers keeps the paragraph and the stroke
+ * three text heights in, and drops the strokes within two text heights of the edge, which
+ * are narrower than a letter. */
+static void test_edge_slivers(void)
+{
+    const char *what = "slivers at the image edge";
+    tu_rng r = {78};
+    page *p = page_new(1700, 1000);
+    draw_paragraph(p, &r, 150, 1550, 200, 5);
+    int strokes = 0;
+    for (int y = 100; y + 30 <= 900; y += 60, strokes++)
+        tu_fill_box(p->img, tu_box(10, y, 15, y + 30), 1);
+    tu_fill_box(p->img, tu_box(1700 - 3 * XH - 5, 500, 1700 - 3 * XH, 530), 1);
+    result res = run_stages(p, what);
+    if (res.lines) {
+        CHECK_INT(res.lines->count, 5 + strokes + 1, "%s: lines before", what);
+        lt_frame f;
+        lt_frame_init(&f, p->img->width, p->img->height, 0);
+        lt_drop_edge_slivers(res.lines, &f, res.th);
+        CHECK_INT(res.lines->count, 6, "%s: lines after", what);
+        int inside = 0;
+        for (int i = 0; i < res.lines->count; i++)
+            inside += res.lines->items[i].box.left >= 150;
+        CHECK_INT(inside, 6, "%s: the paragraph and the stroke further in kept", what);
+    }
+    result_free(&res);
+    page_free(p);
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -347,6 +378,7 @@ int main(void)
     test_small_marks();
     test_analyze();
     test_text_height_among_specks();
+    test_edge_slivers();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }

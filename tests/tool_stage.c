@@ -116,6 +116,9 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     stage_ms[ST_SKEW] += t_next - t;
     t = t_next;
     const lt_image *page = ink;
+    lt_frame frame; /* as analyze.c builds it for an upright page */
+    lt_frame_init(&frame, ink->width, ink->height,
+                  fabs(skew.angle_deg) >= p->deskew_min_deg ? skew.angle_deg : 0);
     if (fabs(skew.angle_deg) >= p->deskew_min_deg) {
         if ((rc = lt_rotate_ink(ink, skew.angle_deg, &rot_own, err))) goto done;
         page = rot_own;
@@ -146,6 +149,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
                     seps->gutters[i].top, seps->gutters[i].right, seps->gutters[i].bottom);
     }
     if ((rc = lt_build_lines(comps, text_height_px, seps, p, &raw, err))) goto done;
+    lt_drop_edge_slivers(raw, &frame, text_height_px);
     t_next = now_ms();
     stage_ms[ST_LINES] += t_next - t;
     t = t_next;
