@@ -87,7 +87,7 @@ static int assemble(lt_layout *out, const lt_raw_lines *raw, const lt_arrangemen
 /* The stages that depend on which way the page stands: from the skew to the text lines. */
 typedef struct level_page {
     lt_skew skew;
-    lt_frame frame; /* from the deskewed canvas to the image as given */
+    lt_frame frame;  /* from the deskewed canvas to the image as given */
     int page_height; /* of the deskewed canvas */
     lt_components *comps;
     double th; /* text height, px */
@@ -117,8 +117,8 @@ static int level_stages(const lt_image *ink, int turn_deg, const lt_params *para
         if ((rc = lt_turn_ink(ink, turn_deg, &turned, err))) goto done;
         page = turned;
     }
-    rc = lt_estimate_skew(page, params->skew_range_deg, params->skew_min_confidence, &lp->skew,
-                          err);
+    rc =
+        lt_estimate_skew(page, params->skew_range_deg, params->skew_min_confidence, &lp->skew, err);
     if (rc) goto done;
     const double rotate_deg =
         fabs(lp->skew.angle_deg) >= params->deskew_min_deg ? lp->skew.angle_deg : 0;
@@ -207,7 +207,8 @@ static int check_params(const lt_params *p, lt_error *err)
                                 fields[i].value, fields[i].min, fields[i].max);
     const int o = p->orientation_deg;
     if (o != LT_ORIENTATION_AUTO && o != 0 && o != 90 && o != 180 && o != 270)
-        return lt_error_set(err, LT_EINVAL, "orientation_deg: %d is not -1 (auto), 0, 90, 180 or 270", o);
+        return lt_error_set(err, LT_EINVAL,
+                            "orientation_deg: %d is not -1 (auto), 0, 90, 180 or 270", o);
     return 0;
 }
 

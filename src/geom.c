@@ -138,12 +138,14 @@ int lt_turn_ink(const lt_image *ink, int turn_deg, lt_image **out, lt_error *err
                 uint8_t *row = dst->pixels + (size_t)v * dw;
                 for (int u = tx; u < dw && u < tx + TURN_TILE; u++) {
                     /* the source pixel whose centre the clockwise turn carries to (u, v) */
-                    const int x = turn_deg == 90 ? v : turn_deg == 180 ? w - 1 - u
-                                                   : turn_deg == 270 ? w - 1 - v
-                                                                     : u;
-                    const int y = turn_deg == 90 ? h - 1 - u : turn_deg == 180 ? h - 1 - v
-                                                           : turn_deg == 270 ? u
-                                                                             : v;
+                    const int x = turn_deg == 90    ? v
+                                  : turn_deg == 180 ? w - 1 - u
+                                  : turn_deg == 270 ? w - 1 - v
+                                                    : u;
+                    const int y = turn_deg == 90    ? h - 1 - u
+                                  : turn_deg == 180 ? h - 1 - v
+                                  : turn_deg == 270 ? u
+                                                    : v;
                     row[u] = src[(size_t)y * w + x];
                 }
             }

@@ -27,31 +27,31 @@ enum {
     UPDOWN_MIN_LINE_COMPONENTS = 4, /* a line with fewer text components gives no band ... */
     UPDOWN_MIN_PLAIN_LETTERS = 3    /* ... nor one with fewer plain x-height letters */
 };
-static const double NEIGHBOUR_MAX = 3.0;   /* letter sizes: farther is no neighbour (across a
-                                              gutter or a paragraph gap, not within a line) */
-static const double LETTER_MIN = 0.5;      /* letter sizes: a component's longer side at least
-                                              (not a piece of a broken letter, a speck) ... */
-static const double LETTER_MAX = 2.0;      /* ... and at most (capitals, ligatures) */
-static const double AXIS_TAN = 0.57735;    /* tan 30°: a direction within 30° of an axis counts
-                                              for it */
-static const double AXIS_MIN_SHARE = 0.6;  /* of the directions counted: below this share along
-                                              one axis the page says nothing (measured: 0.63
-                                              to 0.97 on upright development pages) */
-static const double AXIS_DECISIVE = 0.75;  /* share of full confidence */
-static const double PLAIN_QUANTILE = 0.25; /* the x-height: this quantile of a line's letter
-                                              heights (marks, under half the median, left out) */
-static const double PLAIN_TOLERANCE = 0.2; /* of the x-height: letters this close to it are plain
-                                              x-height letters, which give the band */
-static const double BAND_MARGIN = 0.2;     /* of the x-height: ink beyond the band by more is an
-                                              ascender or a descender (they reach 0.4 to 0.6 of
-                                              the x-height beyond it in book type, from memory;
-                                              less in typewriter faces: 0.2 decided the most
-                                              development pages of 0.1, 0.15, 0.2 and 0.3) */
-static const double UPDOWN_MIN_Z = 4.0;    /* |A - D| / sqrt(A + D), the binomial z score of the
-                                              asymmetry: below this no estimate (measured: at
-                                              most 1.4 against the truth on the development
-                                              pages, 5 to 28 on most of those that show it) */
-static const double UPDOWN_FULL_Z = 12.0;  /* z score of full confidence */
+static const double NEIGHBOUR_MAX = 3.0;    /* letter sizes: farther is no neighbour (across a
+                                               gutter or a paragraph gap, not within a line) */
+static const double LETTER_MIN = 0.5;       /* letter sizes: a component's longer side at least
+                                               (not a piece of a broken letter, a speck) ... */
+static const double LETTER_MAX = 2.0;       /* ... and at most (capitals, ligatures) */
+static const double AXIS_TAN = 0.57735;     /* tan 30°: a direction within 30° of an axis counts
+                                               for it */
+static const double AXIS_MIN_SHARE = 0.6;   /* of the directions counted: below this share along
+                                               one axis the page says nothing (measured: 0.63
+                                               to 0.97 on upright development pages) */
+static const double AXIS_DECISIVE = 0.75;   /* share of full confidence */
+static const double PLAIN_QUANTILE = 0.25;  /* the x-height: this quantile of a line's letter
+                                               heights (marks, under half the median, left out) */
+static const double PLAIN_TOLERANCE = 0.2;  /* of the x-height: letters this close to it are plain
+                                               x-height letters, which give the band */
+static const double BAND_MARGIN = 0.2;      /* of the x-height: ink beyond the band by more is an
+                                               ascender or a descender (they reach 0.4 to 0.6 of
+                                               the x-height beyond it in book type, from memory;
+                                               less in typewriter faces: 0.2 decided the most
+                                               development pages of 0.1, 0.15, 0.2 and 0.3) */
+static const double UPDOWN_MIN_Z = 4.0;     /* |A - D| / sqrt(A + D), the binomial z score of the
+                                               asymmetry: below this no estimate (measured: at
+                                               most 1.4 against the truth on the development
+                                               pages, 5 to 28 on most of those that show it) */
+static const double UPDOWN_FULL_Z = 12.0;   /* z score of full confidence */
 static const double UPDOWN_MIN_SHARE = 0.6; /* the larger of A, D at least this share */
 
 static double clamp01(double v)
@@ -71,8 +71,9 @@ static int is_text(const lt_component *c)
 static int is_letter(const lt_component *c, double letter_px)
 {
     const int side = lt_box_width(&c->box) > lt_box_height(&c->box) ? lt_box_width(&c->box)
-                                                                     : lt_box_height(&c->box);
-    return c->kind == LT_COMP_TEXT && side >= LETTER_MIN * letter_px && side <= LETTER_MAX * letter_px;
+                                                                    : lt_box_height(&c->box);
+    return c->kind == LT_COMP_TEXT && side >= LETTER_MIN * letter_px &&
+           side <= LETTER_MAX * letter_px;
 }
 
 /* Letters bucketed by centroid into square cells of cell_px (a counting sort):
@@ -314,8 +315,10 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
         int lo = 0, hi = n; /* first component with cy >= top */
         while (lo < hi) {
             const int mid = (lo + hi) / 2;
-            if (sorted[mid].cy < box->top) lo = mid + 1;
-            else hi = mid;
+            if (sorted[mid].cy < box->top)
+                lo = mid + 1;
+            else
+                hi = mid;
         }
         int m = 0;
         for (int k = lo; k < n && sorted[k].cy < box->bottom; k++) {

@@ -110,16 +110,14 @@ static void test_estimators(void)
         lt_orientation axis, up;
         CHECK(lt_estimate_line_axis(res.comps, &axis, &err) == 0, "axis: %s", err.message);
         CHECK_INT(axis.turn_deg, n % 180, "page needing %d: direction of the lines", n);
-        CHECK(axis.confidence >= 0.9, "page needing %d: axis confidence %.2f", n,
-              axis.confidence);
+        CHECK(axis.confidence >= 0.9, "page needing %d: axis confidence %.2f", n, axis.confidence);
         if (n % 180 == 0) {
             CHECK(lt_estimate_upright(res.comps, res.lines, &up, &err) == 0, "upright: %s",
                   err.message);
             CHECK_INT(up.turn_deg, n, "page needing %d: which side is up", n);
             /* the drawn type's 20 ascenders to 12 descenders in a hundred letters are fewer
              * than real type's: an estimate, not a certain one */
-            CHECK(up.confidence > 0, "page needing %d: up/down confidence %.2f", n,
-                  up.confidence);
+            CHECK(up.confidence > 0, "page needing %d: up/down confidence %.2f", n, up.confidence);
         }
         result_free(&res);
         lt_image_free(given);
