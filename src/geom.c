@@ -4,6 +4,7 @@
 
 #include <assert.h>
 #include <math.h>
+#include <stddef.h>
 #include <stdlib.h>
 
 void lt_frame_init(lt_frame *f, int width, int height, double angle_deg)
@@ -130,24 +131,24 @@ int lt_turn_ink(const lt_image *ink, int turn_deg, lt_image **out, lt_error *err
     lt_image *dst = lt_image_new(quarter ? h : w, quarter ? w : h, LT_IMAGE_INK);
     if (!dst) return lt_error_set(err, LT_ENOMEM, "turn: out of memory");
     dst->dpi = ink->dpi;
+    /* The source pixel whose centre the clockwise turn carries to (u, v) lies at
+     * origin + u * step_u + v * step_v in the source's pixels. */
+    const ptrdiff_t wd = w, hd = h;
+    const ptrdiff_t origin = turn_deg == 90    ? (hd - 1) * wd
+                             : turn_deg == 180 ? (hd - 1) * wd + wd - 1
+                             : turn_deg == 270 ? wd - 1
+                                               : 0;
+    const ptrdiff_t step_u = turn_deg == 90 ? -wd : turn_deg == 180 ? -1 : turn_deg == 270 ? wd : 1;
+    const ptrdiff_t step_v = turn_deg == 90 ? 1 : turn_deg == 180 ? -wd : turn_deg == 270 ? -1 : wd;
     const uint8_t *src = ink->pixels;
     const int dw = dst->width, dh = dst->height;
     for (int ty = 0; ty < dh; ty += TURN_TILE)
         for (int tx = 0; tx < dw; tx += TURN_TILE)
             for (int v = ty; v < dh && v < ty + TURN_TILE; v++) {
                 uint8_t *row = dst->pixels + (size_t)v * dw;
-                for (int u = tx; u < dw && u < tx + TURN_TILE; u++) {
-                    /* the source pixel whose centre the clockwise turn carries to (u, v) */
-                    const int x = turn_deg == 90    ? v
-                                  : turn_deg == 180 ? w - 1 - u
-                                  : turn_deg == 270 ? w - 1 - v
-                                                    : u;
-                    const int y = turn_deg == 90    ? h - 1 - u
-                                  : turn_deg == 180 ? h - 1 - v
-                                  : turn_deg == 270 ? u
-                                                    : v;
-                    row[u] = src[(size_t)y * w + x];
-                }
+                const uint8_t *from = src + origin + v * step_v;
+                for (int u = tx; u < dw && u < tx + TURN_TILE; u++)
+                    row[u] = from[u * step_u];
             }
     *out = dst;
     return 0;
