@@ -22,10 +22,11 @@ static const double BASELINE_SLACK =
 static const double TALL_LETTER = 1.25; /* taller letters standing on it are not x-height ones */
 static const double LARGE_TYPE_RANK = 0.3; /* x-height of large type: this rank of the letters */
 /* A line narrower than a letter (EDGE_SLIVER_WIDTH) within EDGE_BAND of the image's edge is a
- * piece of a scan's dark border or of a page edge: text keeps a margin of more than two text
- * heights and a line of it is wider than a letter, while the border breaks into thin strokes. */
+ * piece of a scan's dark border or of a page edge: a page keeps margins of several text
+ * heights (half an inch is about eight of 10 pt type) and a line is wider than a letter,
+ * while the border and the edges of the leaves break into thin strokes. */
 static const double EDGE_SLIVER_WIDTH = 1.0;
-static const double EDGE_BAND = 2.0;
+static const double EDGE_BAND = 4.0;
 
 typedef struct link {
     int a, b;        /* components, a left of b */

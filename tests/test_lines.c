@@ -337,8 +337,8 @@ static void test_text_height_among_specks(void)
 
 /* A scan's border: a paragraph of five lines with, at the left edge of the image (x 10..15),
  * thin strokes 30 px tall one above the other (the dark border broken up), and one more at
- * 3 text heights from the right edge. lt_drop_edge_slivers keeps the paragraph and the stroke
- * three text heights in, and drops the strokes within two text heights of the edge, which
+ * 5 text heights from the right edge. lt_drop_edge_slivers keeps the paragraph and the stroke
+ * five text heights in, and drops the strokes within four text heights of the edge, which
  * are narrower than a letter. */
 static void test_edge_slivers(void)
 {
@@ -349,7 +349,7 @@ static void test_edge_slivers(void)
     int strokes = 0;
     for (int y = 100; y + 30 <= 900; y += 60, strokes++)
         tu_fill_box(p->img, tu_box(10, y, 15, y + 30), 1);
-    tu_fill_box(p->img, tu_box(1700 - 3 * XH - 5, 500, 1700 - 3 * XH, 530), 1);
+    tu_fill_box(p->img, tu_box(1700 - 5 * XH - 5, 500, 1700 - 5 * XH, 530), 1);
     result res = run_stages(p, what);
     if (res.lines) {
         CHECK_INT(res.lines->count, 5 + strokes + 1, "%s: lines before", what);
