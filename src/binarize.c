@@ -13,7 +13,10 @@
  * Exact at every pixel (lt_binarize*): running column and row sums give O(pixels) time for any
  * window, the same complexity as the integral images of Shafait, Keysers & Breuel (2008) with
  * memory proportional to the width only. Sampled (lt_binarize_sampled*, which the analysis
- * uses): T exact at the centre of every 3 x 3 tile, from tile sums, and interpolated in between. */
+ * uses): T exact at the centre of every 3 x 3 tile, from tile sums, and interpolated in between.
+ * The analysis (lt_binarize_page) also reads light print on a dark ground: in dark regions that
+ * look like print (keep_framed_dark) the ink is where Sauvola's threshold on the negative puts
+ * it. */
 #include "internal.h"
 
 #include <math.h>

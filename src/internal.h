@@ -46,10 +46,12 @@ typedef struct lt_dark_map {
     uint8_t *dark;
 } lt_dark_map;
 /* The binarization of lt_analyze: lt_binarize_normalized with the page's black point, sampled,
- * and where a window's mean is below the middle of the gray scale (a dark band, box or page),
- * Sauvola's threshold on the negative instead, so that light marks there are the ink; those
- * tiles go into *dark, which the caller clears with lt_dark_map_clear (also on failure). Windows
- * that lt_binarize_sampled does not sample get no inversion. */
+ * and in dark regions that look like print (window means under 100, at least three windows
+ * wide and half a window tall, marks that stand out, clear of the page's edge unless they cover
+ * half the page; see binarize.c) Sauvola's threshold on the negative instead, so that light
+ * marks there are the ink; those tiles go into *dark, which the caller clears with
+ * lt_dark_map_clear (also on failure). Windows that lt_binarize_sampled does not sample get no
+ * inversion. */
 int lt_binarize_page(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                      lt_dark_map *dark, lt_error *err);
 void lt_dark_map_clear(lt_dark_map *map);
