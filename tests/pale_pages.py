@@ -74,16 +74,20 @@ def white_row(gray, near, reach=300):
         else:
             i += 1
     if not runs:
-        raise ValueError("no white row near row %d" % near)
+        return None
     return near - reach + min(runs, key=lambda r: abs(r - reach))
 
 
 def negatives(gray):
     """The negative page, and the page with a box inverted; the box (left, top, right,
-    bottom)."""
+    bottom). Without the box when no run of blank rows lies near a third or two thirds of the
+    height."""
     g = gray.astype(np.float64)
     h, w = g.shape
     top, bottom = white_row(gray, h // 3), white_row(gray, 2 * h // 3)
+    if top is None or bottom is None:
+        print("%-40s %-9s no run of %d blank rows for its edges" % ("", "box", BLANK_ROWS))
+        return {"negative": 255 - g}, None
     band = gray[top:bottom].astype(np.int64)
     columns = np.nonzero((band.max(axis=0) - band.min(axis=0)) > BLANK_RANGE)[0]
     box = (max(1, int(columns[0]) - BOX_MARGIN), top,
