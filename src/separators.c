@@ -68,6 +68,11 @@ static const double BRIDGE_MIN_OPEN = 0.75;
  * runs through the white before its page numbers). */
 static const double MAX_DOTS_PER_LINE = 0.3;
 
+static int imin(int a, int b)
+{
+    return a < b ? a : b;
+}
+
 /* Marks the cells of the page's text in occ (cols x rows, row-major): 3 for bodies (letters,
  * words), 2 for marks (punctuation, dots), 1 for specks the size of a small dot (a leader's
  * dots at low resolution, or noise: white may hold a few of them). Smaller specks, rules and
@@ -425,9 +430,10 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];
+        /* back to cells, within the grid (the pixel box was rounded outwards) */
         const lt_box in_cells = {(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
-                                 (int)floor(g->right / cell + 0.5),
-                                 (int)floor(g->bottom / cell + 0.5)};
+                                 imin((int)floor(g->right / cell + 0.5), s->cols),
+                                 imin((int)floor(g->bottom / cell + 0.5), s->rows)};
         const int narrow = (int)ceil(NARROW_COLUMN * th / cell);
         const int gap = (int)ceil(NARROW_GAP * th / cell);
         const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow),
