@@ -192,14 +192,13 @@ static int before_cut(const cut_context *x, int i, int across, int at, int gap)
 }
 
 /* A gutter (or a vertical rule) that separates the lines idx[0..n) of a node with box `nb`
- * into two columns, each
- * holding at least `min_width` px of text beside it (narrower: labels, or the cells of a
- * table, which are read row by row). Either no line crosses the gutter's middle and gutters
- * run along at least 60 % of the node's height there, or a few lines cross it (at most
- * MAX_CROSSING of the others: lines run on across the gutter, which go with the column they
- * start in), standing among the lines of both columns (neither all above nor all below the
- * lines of either: a heading or a footer spans the columns), and each column holds at least
- * a quarter of the lines. The pieces of a line cut at a gutter go by their
+ * into two columns, each holding at least `min_width` px of text beside it (narrower: labels,
+ * or the cells of a table, which are read row by row). Either no line crosses the gutter's
+ * middle and gutters run along at least 60 % of the node's height there, or a few lines
+ * cross it (at most MAX_CROSSING of the others: lines run on across the gutter, which go with
+ * the column they start in), standing among the lines of both columns (neither all above nor
+ * all below the lines of either: a heading or a footer spans the columns), and each column
+ * holds at least a quarter of the lines. The pieces of a line cut at a gutter go by their
  * centre. Returns 1 with the cut coordinate (lines starting at or after it lie beyond), the
  * gutter's width and the number of lines that cross it. */
 static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box *nb,
@@ -255,10 +254,10 @@ static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box 
 
 /* Whether the lines beside the gap [at - gap, at) on one side of a node with box nb make a
  * column narrower than column_min_width, at least half of them sharing a row with a line on
- * the other side (standing on its baseline, and at most twice as tall as it; margin notes
- * beside a paragraph have a pitch of their own):
- * labels and their items, the cells of a table. A gap wider than such a column is a margin's
- * white, and pieces that share no row (the bits of a scan's dark border) are no such column. */
+ * the other side (standing on its baseline, and at most twice as tall as it): labels and
+ * their items, the cells of a table. A gap wider than such a column is a margin's white;
+ * margin notes beside a paragraph have a pitch of their own, and pieces that share no row
+ * (the bits of a scan's dark border) are no such column. */
 static int labels_beside_gap(const cut_context *x, const int *idx, int n, const lt_box *nb,
                              int at, int gap)
 {
