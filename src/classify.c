@@ -31,13 +31,25 @@ static int cmp_sized(const void *a, const void *b)
 /* Whether boxes a and b are row mates (see ROW_MATE_HEIGHT). */
 static int row_mates(const lt_box *a, const lt_box *b)
 {
-    const int ha = a->bottom - a->top, hb = b->bottom - b->top;
+    const int ha = lt_box_height(a), hb = lt_box_height(b);
     const int hmax = ha > hb ? ha : hb, hmin = ha + hb - hmax;
     const int top = a->top > b->top ? a->top : b->top;
     const int bottom = a->bottom < b->bottom ? a->bottom : b->bottom;
     const int gap = b->left > a->right ? b->left - a->right : a->left - b->right;
     return hmax - hmin <= ROW_MATE_HEIGHT * hmax && 2 * (bottom - top) >= hmin &&
            gap <= ROW_MATE_GAP * hmin;
+}
+
+/* Marks character s[k] and the characters s[j] of its band's run from `from` on (while they
+ * start by `right`) that are its row mates, counting the tests in *tests. */
+static void mark_mates(const lt_components *c, const sized *s, int n, int k, int from, int right,
+                       int *tests, uint8_t *mate)
+{
+    const lt_box *a = &c->items[s[k].index].box;
+    for (int j = from; j < n && s[j].band == s[from].band && s[j].left <= right &&
+                       *tests < MAX_MATE_TESTS;
+         j++, ++*tests)
+        if (row_mates(a, &c->items[s[j].index].box)) mate[k] = mate[j] = 1;
 }
 
 /* Marks in mate[] the characters of s[0..n) (sorted by band of `band_px` rows by their
@@ -49,13 +61,11 @@ static void find_mates(const lt_components *c, const sized *s, int n, int band_p
     int next = 0; /* first character of the band after the current one */
     for (int k = 0; k < n; k++) {
         const lt_box *a = &c->items[s[k].index].box;
-        const int ha = a->bottom - a->top;
-        const double reach = ROW_MATE_GAP * ha;
+        const double reach = ROW_MATE_GAP * lt_box_height(a);
+        const int right = (int)floor(a->right + reach);
         int tests = 0;
-        for (int j = k + 1; j < n && s[j].band == s[k].band && s[j].left <= a->right + reach &&
-                            tests < MAX_MATE_TESTS;
-             j++, tests++)
-            if (row_mates(a, &c->items[s[j].index].box)) mate[k] = mate[j] = 1;
+        if (k + 1 < n && s[k + 1].band == s[k].band)
+            mark_mates(c, s, n, k, k + 1, right, &tests, mate);
         if (next <= k) next = k + 1;
         while (next < n && s[next].band == s[k].band)
             next++;
@@ -70,10 +80,7 @@ static void find_mates(const lt_components *c, const sized *s, int n, int band_p
             else
                 lo = mid + 1;
         }
-        for (int j = lo; j < n && s[j].band == s[next].band && s[j].left <= a->right + reach &&
-                         tests < MAX_MATE_TESTS;
-             j++, tests++)
-            if (row_mates(a, &c->items[s[j].index].box)) mate[k] = mate[j] = 1;
+        if (lo < n && s[lo].band == s[next].band) mark_mates(c, s, n, k, lo, right, &tests, mate);
     }
 }
 
