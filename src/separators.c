@@ -64,6 +64,8 @@ static const double MIN_DOT_AREA = 0.02; /* text heights squared: the smallest d
  * number columns line up, with a paragraph between, have no line keeping to both sides. */
 static const double BRIDGE_MAX_ROWS = 16.0;
 static const double BRIDGE_MIN_OPEN = 0.75;
+/* BRIDGE_MAX_ROWS in cells at most: a cell is never smaller than CELL_TH text heights. */
+enum { BRIDGE_MAX_CELLS = 64 };
 /* Marks in a gutter: a speck of noise here and there, but not a dot in every line (a leader
  * runs through the white before its page numbers). */
 static const double MAX_DOTS_PER_LINE = 0.3;
@@ -241,9 +243,12 @@ static void bridge_gutters(const uint8_t *occ, int cols, int rows, const evidenc
         for (int y = 0; y < rows; y++) {
             if (!mask[(size_t)y * cols + cx]) continue;
             if (last >= 0 && y - last > 1 && y - last <= e->bridge_rows) {
+                uint8_t bits_of[BRIDGE_MAX_CELLS]; /* row_at of the rows between, in order */
+                for (int k = last + 1; k < y; k++)
+                    bits_of[k - last - 1] = (uint8_t)row_at(occ, cols, k, cx, e->width, e->max_gap);
                 int keeping = 0, after_keeping = 1, alternate = 1, band = 0, seen = 0;
                 for (int k = last + 1; k <= y && alternate; k++) {
-                    const int bits = k < y ? row_at(occ, cols, k, cx, e->width, e->max_gap) : 0;
+                    const int bits = k < y ? bits_of[k - last - 1] : 0;
                     if (bits & ROW_TEXT) { /* the band goes on */
                         band++;
                         seen |= bits;
@@ -260,8 +265,7 @@ static void bridge_gutters(const uint8_t *occ, int cols, int rows, const evidenc
                     band = seen = 0;
                 }
                 for (int k = last + 1; keeping && alternate && k < y; k++)
-                    if (!(row_at(occ, cols, k, cx, e->width, e->max_gap) & ROW_ACROSS))
-                        mask[(size_t)k * cols + cx] = 1;
+                    if (!(bits_of[k - last - 1] & ROW_ACROSS)) mask[(size_t)k * cols + cx] = 1;
             }
             last = y;
         }
@@ -423,7 +427,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                         (int)ceil(GUTTER_MIN_ALIGNED * th / cell),
                         (int)ceil(2 * th / cell),
                         (int)(ALIGN_TOLERANCE * th / cell),
-                        (int)(BRIDGE_MAX_ROWS * th / cell),
+                        imin((int)(BRIDGE_MAX_ROWS * th / cell), BRIDGE_MAX_CELLS),
                         (int)ceil(BRIDGE_MIN_OPEN * th / cell)};
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
     if (!rc) bridge_gutters(occ, s->cols, s->rows, &e, mask);
