@@ -8,20 +8,53 @@
 #include <string.h>
 
 typedef struct run {
-    int x0, x1, y; /* pixels [x0, x1) of row y */
+    int x0, x1; /* pixels [x0, x1) of its row */
 } run;
 
-/* The first index from x on in row[0, w) whose byte is not `value` (0 or 1), or w. Eight bytes
- * at a time while they all are `value`: most of a page is long stretches of paper. */
-static inline int skip_bytes(const uint8_t *row, int x, int w, uint8_t value)
+static const uint64_t EVERY_BYTE_ONE = 0x0101010101010101u;
+
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__ && defined(__GNUC__)
+/* Index of the first nonzero byte of the nonzero word v, as the bytes stand in memory. */
+static inline int first_set_byte(uint64_t v)
 {
-    const uint64_t all = value ? 0x0101010101010101u : 0;
+    return __builtin_ctzll(v) / 8;
+}
+#define LT_WORD_SCAN 1
+#endif
+
+/* The first index from x on in row[0, w) holding ink, or w. Most of a page is long
+ * stretches of paper: 32 bytes are tested at a time while they all are paper, then the run's
+ * first byte is found within a 64-bit word. */
+static inline int next_ink(const uint8_t *row, int x, int w)
+{
+#ifdef LT_WORD_SCAN
+    for (; x + 32 <= w; x += 32) {
+        uint64_t v[4];
+        memcpy(v, row + x, sizeof v);
+        if (v[0] | v[1] | v[2] | v[3]) break;
+    }
     for (; x + 8 <= w; x += 8) {
         uint64_t v;
         memcpy(&v, row + x, 8);
-        if (v != all) break;
+        if (v) return x + first_set_byte(v);
     }
-    while (x < w && row[x] == value)
+#endif
+    while (x < w && !row[x])
+        x++;
+    return x;
+}
+
+/* The first index from x on in row[0, w) holding paper, or w (pixels are 0 or 1). */
+static inline int next_paper(const uint8_t *row, int x, int w)
+{
+#ifdef LT_WORD_SCAN
+    for (; x + 8 <= w; x += 8) {
+        uint64_t v;
+        memcpy(&v, row + x, 8);
+        if (v != EVERY_BYTE_ONE) return x + first_set_byte(v ^ EVERY_BYTE_ONE);
+    }
+#endif
+    while (x < w && row[x])
         x++;
     return x;
 }
@@ -38,10 +71,10 @@ static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *ro
         const uint8_t *row = ink->pixels + (size_t)y * w;
         int x = 0;
         while (x < w) {
-            x = skip_bytes(row, x, w, 0);
+            x = next_ink(row, x, w);
             if (x == w) break;
-            int x0 = x;
-            x = skip_bytes(row, x, w, 1);
+            const int x0 = x;
+            x = next_paper(row, x, w);
             if (n == cap) {
                 if (cap > (size_t)1 << 30) {
                     free(runs);
@@ -55,10 +88,7 @@ static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *ro
                 runs = bigger;
                 cap *= 2;
             }
-            runs[n].x0 = x0;
-            runs[n].x1 = x;
-            runs[n].y = y;
-            n++;
+            runs[n++] = (run){x0, x};
         }
     }
     row_start[ink->height] = (int)n;
@@ -127,19 +157,21 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
         b->left = b->top = 1 << 30;
         b->right = b->bottom = -1;
     }
-    for (int i = 0; i < nruns; i++) {
-        lt_component *c = &res->items[root_label[i]];
-        const run *r = &runs[i];
-        int len = r->x1 - r->x0;
-        if (r->x0 < c->box.left) c->box.left = r->x0;
-        if (r->x1 > c->box.right) c->box.right = r->x1;
-        if (r->y < c->box.top) c->box.top = r->y;
-        if (r->y + 1 > c->box.bottom) c->box.bottom = r->y + 1;
-        c->pixels += len;
-        /* Sum of pixel centres x + 0.5 over the run, and y + 0.5 per pixel. */
-        sx[root_label[i]] += len * (0.5 * (r->x0 + r->x1));
-        sy[root_label[i]] += len * (r->y + 0.5);
-    }
+    for (int y = 0; y < ink->height; y++)
+        for (int i = row_start[y]; i < row_start[y + 1]; i++) {
+            const int label = root_label[i];
+            lt_component *c = &res->items[label];
+            const run *r = &runs[i];
+            const int len = r->x1 - r->x0;
+            if (r->x0 < c->box.left) c->box.left = r->x0;
+            if (r->x1 > c->box.right) c->box.right = r->x1;
+            if (y < c->box.top) c->box.top = y;
+            if (y + 1 > c->box.bottom) c->box.bottom = y + 1;
+            c->pixels += len;
+            /* Sum of pixel centres x + 0.5 over the run, and y + 0.5 per pixel. */
+            sx[label] += len * (0.5 * (r->x0 + r->x1));
+            sy[label] += len * (y + 0.5);
+        }
     for (int c = 0; c < count; c++) {
         res->items[c].cx = sx[c] / res->items[c].pixels;
         res->items[c].cy = sy[c] / res->items[c].pixels;

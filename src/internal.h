@@ -15,8 +15,25 @@ void *lt_alloc_array(size_t count, size_t size);
 int lt_cmp_double(const void *a, const void *b);
 /* Union-find over 0..n-1 in parent[] (parent[i] == i for a root). The root of a set is its
  * smallest member, so results do not depend on the order of unions. */
-int lt_uf_find(int *parent, int i);
-void lt_uf_unite(int *parent, int a, int b);
+static inline int lt_uf_find(int *parent, int i)
+{
+    while (parent[i] != i) {
+        parent[i] = parent[parent[i]]; /* path halving */
+        i = parent[i];
+    }
+    return i;
+}
+
+static inline void lt_uf_unite(int *parent, int a, int b)
+{
+    a = lt_uf_find(parent, a);
+    b = lt_uf_find(parent, b);
+    if (a < b)
+        parent[b] = a;
+    else if (b < a)
+        parent[a] = b;
+}
+
 static inline int lt_box_width(const lt_box *b)
 {
     return b->right - b->left;

@@ -139,6 +139,14 @@ static void close_run(run *r, int cx, const evidence *e, int cols, uint8_t *mask
     *r = (run){-1, -1, 0, 0, {0, 0}, 0, 0};
 }
 
+/* Whether the n cells of row are all white. */
+static int row_blank(const uint8_t *row, int n)
+{
+    for (int x = 0; x < n; x++)
+        if (row[x]) return 0;
+    return 1;
+}
+
 /* The gutter mask: the cells of every window e->width cells wide and white run of rows with
  * enough evidence (see GUTTER_MIN_BORDERED). Rows with no words beside the window may lie in
  * the run (the white between lines and paragraphs) but do not count. */
@@ -163,6 +171,11 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
         runs[x] = (run){-1, -1, 0, 0, {0, 0}, 0, 0};
     for (int y = 0; y < rows; y++) {
         const uint8_t *row = occ + (size_t)y * cols;
+        if (row_blank(row, cols)) { /* changes no run, but ends any rows of marks (dotted) */
+            for (int x = 0; x < cols; x++)
+                runs[x].dotted = 0;
+            continue;
+        }
         sum[0] = marks[0] = 0;
         for (int x = 0; x < cols; x++) {
             sum[x + 1] = sum[x] + (row[x] >= 2);
@@ -235,13 +248,18 @@ static int row_at(const uint8_t *occ, int cols, int y, int cx, int width, int re
  * rows, text on both sides, e->bridge_open rows tall at least) stands between the stretches
  * and between any two lines across. The cells between, in white as wide as a gutter, become
  * gutter (not a word space of a line across; see BRIDGE_MAX_ROWS). */
-static void bridge_gutters(const uint8_t *occ, int cols, int rows, const evidence *e,
-                           uint8_t *mask)
+static int bridge_gutters(const uint8_t *occ, int cols, int rows, const evidence *e, uint8_t *mask)
 {
-    for (int cx = 0; cx < cols; cx++) {
-        int last = -1; /* the last gutter row of the column so far */
-        for (int y = 0; y < rows; y++) {
+    int *last_row = malloc(((size_t)cols + 1) * sizeof *last_row); /* of a column's gutter */
+    if (!last_row) return LT_ENOMEM;
+    for (int cx = 0; cx < cols; cx++)
+        last_row[cx] = -1;
+    /* Row by row (the mask in memory order); a column's bridge changes only its own cells
+     * above the current row. */
+    for (int y = 0; y < rows; y++)
+        for (int cx = 0; cx < cols; cx++) {
             if (!mask[(size_t)y * cols + cx]) continue;
+            const int last = last_row[cx];
             if (last >= 0 && y - last > 1 && y - last <= e->bridge_rows) {
                 uint8_t bits_of[BRIDGE_MAX_CELLS]; /* row_at of the rows between, in order */
                 for (int k = last + 1; k < y; k++)
@@ -267,9 +285,10 @@ static void bridge_gutters(const uint8_t *occ, int cols, int rows, const evidenc
                 for (int k = last + 1; keeping && alternate && k < y; k++)
                     if (!(bits_of[k - last - 1] & ROW_ACROSS)) mask[(size_t)k * cols + cx] = 1;
             }
-            last = y;
+            last_row[cx] = y;
         }
-    }
+    free(last_row);
+    return 0;
 }
 
 /* How far (cells) the text beside a gutter region reaches in cell row y, going `dir` (+1
@@ -357,17 +376,24 @@ static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box *
 }
 
 /* A summed-area table ((cols+1) x (rows+1)) of the cells of grid (cols x rows) holding at
- * least min_value; NULL when out of memory. */
+ * least min_value; NULL when out of memory. Each row is the row above plus a running count
+ * along the row. */
 static int32_t *summed(const uint8_t *grid, int cols, int rows, int min_value)
 {
     const size_t stride = (size_t)cols + 1;
-    int32_t *sum = calloc(stride * ((size_t)rows + 1), sizeof *sum);
+    int32_t *sum = lt_alloc_array(stride * ((size_t)rows + 1), sizeof *sum);
     if (!sum) return NULL;
-    for (int y = 0; y < rows; y++)
-        for (int x = 0; x < cols; x++)
-            sum[(size_t)(y + 1) * stride + x + 1] =
-                (grid[(size_t)y * cols + x] >= min_value) + sum[(size_t)y * stride + x + 1] +
-                sum[(size_t)(y + 1) * stride + x] - sum[(size_t)y * stride + x];
+    memset(sum, 0, stride * sizeof *sum);
+    for (int y = 0; y < rows; y++) {
+        const uint8_t *cells = grid + (size_t)y * cols;
+        const int32_t *above = sum + (size_t)y * stride;
+        int32_t *row = sum + (size_t)(y + 1) * stride, along = 0;
+        row[0] = 0;
+        for (int x = 0; x < cols; x++) {
+            along += cells[x] >= min_value;
+            row[x + 1] = above[x + 1] + along;
+        }
+    }
     return sum;
 }
 
@@ -430,7 +456,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                         imin((int)(BRIDGE_MAX_ROWS * th / cell), BRIDGE_MAX_CELLS),
                         (int)ceil(BRIDGE_MIN_OPEN * th / cell)};
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
-    if (!rc) bridge_gutters(occ, s->cols, s->rows, &e, mask);
+    if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];

@@ -169,22 +169,3 @@ double lt_median(double *v, int n)
     qsort(v, (size_t)n, sizeof *v, lt_cmp_double);
     return (n & 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
-
-int lt_uf_find(int *parent, int i)
-{
-    while (parent[i] != i) {
-        parent[i] = parent[parent[i]]; /* path halving */
-        i = parent[i];
-    }
-    return i;
-}
-
-void lt_uf_unite(int *parent, int a, int b)
-{
-    a = lt_uf_find(parent, a);
-    b = lt_uf_find(parent, b);
-    if (a < b)
-        parent[b] = a;
-    else if (b < a)
-        parent[a] = b;
-}
