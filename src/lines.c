@@ -402,7 +402,10 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
 }
 
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
- * punctuation between words), with a gap of at most max_gap that crosses no separator. */
+ * punctuation between words), with a gap of at most max_gap that crosses no separator. The
+ * gap is judged by the pair's type size: the smaller of the two groups' mean letter heights
+ * against the page's, times the height of the page's typical line (a group's box holds its
+ * large initials and any drift of its baseline, and two rows run together look large). */
 static int join_rows(const lt_components *c, const uint8_t *body, int *parent, double max_gap,
                      const lt_separators *seps)
 {
@@ -410,22 +413,53 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
     keyed *roots;
     int nr;
     if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
+    double *letters = calloc((size_t)c->count + 1, sizeof *letters); /* by root: height sum */
+    int *count = calloc((size_t)c->count + 1, sizeof *count);        /* ... and letters */
+    double *heights = malloc(((size_t)nr + 1) * sizeof *heights);
+    if (!letters || !count || !heights) {
+        free(boxes);
+        free(roots);
+        free(letters);
+        free(count);
+        free(heights);
+        return LT_ENOMEM;
+    }
+    double page_sum = 0;
+    int page_count = 0;
+    for (int i = 0; i < c->count; i++) {
+        if (!body[i]) continue;
+        const int r = lt_uf_find(parent, i), h = lt_box_height(&c->items[i].box);
+        letters[r] += h;
+        count[r]++;
+        page_sum += h;
+        page_count++;
+    }
+    for (int a = 0; a < nr; a++)
+        heights[a] = lt_box_height(&boxes[roots[a].index]);
+    const double line_height = lt_median(heights, nr), page_letter = page_sum / page_count;
     for (int a = 0; a < nr; a++) {
-        const lt_box *ba = &boxes[roots[a].index];
+        const int ra = roots[a].index;
+        const lt_box *ba = &boxes[ra];
         for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
-            const lt_box *bb = &boxes[roots[b].index];
+            const int rb = roots[b].index;
+            const lt_box *bb = &boxes[rb];
             const int top = ba->top > bb->top ? ba->top : bb->top;
             const int bottom = ba->bottom < bb->bottom ? ba->bottom : bb->bottom;
             const int hmin =
                 lt_box_height(ba) < lt_box_height(bb) ? lt_box_height(ba) : lt_box_height(bb);
             if (2 * (bottom - top) < hmin) continue;
+            const double size = fmin(letters[ra] / count[ra], letters[rb] / count[rb]);
             if (!lt_link_blocked(seps, ba->right, bb->left, ba->top < bb->top ? ba->top : bb->top,
-                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom, hmin))
-                lt_uf_unite(parent, roots[a].index, roots[b].index);
+                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom,
+                                 line_height * size / page_letter))
+                lt_uf_unite(parent, ra, rb);
         }
     }
     free(boxes);
     free(roots);
+    free(letters);
+    free(count);
+    free(heights);
     return 0;
 }
 

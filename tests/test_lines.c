@@ -366,6 +366,33 @@ static void test_edge_slivers(void)
     page_free(p);
 }
 
+/* Two columns with a gutter of 1.3 text heights, where in one row both lines open with a
+ * capital 1.9 x-heights tall and two wide (standing on the baseline), so each of the two
+ * lines is 2.3 text heights tall. The letters facing each other across the gutter are body
+ * type; the gap is judged by their size, not by the lines' (which would ask for a gap of
+ * 1.15 times the gutter's least width, 1.2 text heights, before a gutter could part them). */
+static void test_initials_beside_gutter(void)
+{
+    const char *what = "initials beside a gutter";
+    tu_rng r = {79};
+    page *p = page_new(1700, 1000);
+    const int col = 620, x0 = 150, x1 = x0 + col, x2 = x1 + 13 * XH / 10, row = 5, cap = 38;
+    for (int i = 0; i < 12; i++) {
+        const int y = 150 + i * PITCH, indent = i == row ? 2 * XH + LETTER_GAP : 0;
+        const int left = draw_line(p, &r, x0 + indent, x1, y, 1, 0);
+        const int right = draw_line(p, &r, x2 + indent, x2 + col, y, 1, 0);
+        if (i == row) {
+            draw_glyph(p, left, tu_box(x0, y - cap, x0 + 2 * XH, y), 0);
+            draw_glyph(p, right, tu_box(x2, y - cap, x2 + 2 * XH, y), 0);
+        }
+    }
+    result res = run_stages(p, what);
+    compare_lines(p, &res, what);
+    CHECK_INT(lines_across(&res, x1, x2), 0, "%s: lines across the gutter", what);
+    result_free(&res);
+    page_free(p);
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -379,6 +406,7 @@ int main(void)
     test_analyze();
     test_text_height_among_specks();
     test_edge_slivers();
+    test_initials_beside_gutter();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
