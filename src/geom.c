@@ -5,7 +5,9 @@
 #include <assert.h>
 #include <math.h>
 #include <stddef.h>
+#include <stdint.h>
 #include <stdlib.h>
+#include <string.h>
 
 void lt_frame_init(lt_frame *f, int width, int height, double angle_deg)
 {
@@ -91,6 +93,73 @@ void lt_frame_map_box(const lt_frame *f, lt_box b, int width, int height, lt_poi
     hull->bottom = clampi((int)ceil(y1 - 1e-6), 0, height);
 }
 
+/* Source positions in lt_rotate_ink are fixed-point numbers with as many fractional bits as
+ * leave room for four times the largest side in a signed 64-bit integer (a position along a
+ * row stays within that): 48 bits on a page of 4,000 pixels a side. The rounding of a step
+ * then moves a row's last pixel by at most side x 2^-(bits + 1) px (2^-37 px on that page),
+ * so a pixel centre is read from another source pixel than exact arithmetic would read only
+ * where it falls that close to a pixel's edge. */
+static int position_fraction_bits(int side_px)
+{
+    int bits = 0;
+    while (((int64_t)1 << bits) < (int64_t)side_px + 2)
+        bits++;
+    return 62 - 2 - bits;
+}
+
+static int64_t min64(int64_t a, int64_t b)
+{
+    return a < b ? a : b;
+}
+
+/* Fills one row of the deskewed canvas, dw pixels, from the source (w x h): pixel x takes the
+ * source pixel under (x0 + x * step_x, y0 - x * step_y) (fixed point with `frac` fractional
+ * bits; 0 < step_x <= 1), paper outside the source. Copies whole stretches at a time: along a
+ * stretch the source row stays the same and the source column moves one pixel per pixel
+ * (it stays behind once every 1 / (1 - cos) pixels and changes row every 1 / |sin|). */
+static void rotate_row(const uint8_t *src, int w, int h, int64_t x0, int64_t y0, int64_t step_x,
+                       int64_t step_y, int frac, uint8_t *row, int dw)
+{
+    const int64_t one = (int64_t)1 << frac, lag = one - step_x, height_fx = (int64_t)h << frac;
+    int64_t px = x0, py = y0;
+    int x = 0;
+    while (x < dw) {
+        int64_t skip = 0; /* pixels up to the source, when outside it */
+        if (px < 0) skip = (-px + step_x - 1) / step_x;
+        if (py < 0 || py >= height_fx) {
+            int64_t in;
+            if (py >= height_fx && step_y > 0)
+                in = (py - height_fx) / step_y + 1;
+            else if (py < 0 && step_y < 0)
+                in = (-py - step_y - 1) / -step_y;
+            else
+                break; /* moving away from the source */
+            if (in > skip) skip = in;
+        }
+        if (skip > 0) {
+            if (skip >= dw - x) break;
+            memset(row + x, 0, (size_t)skip);
+            x += (int)skip;
+            px += skip * step_x;
+            py -= skip * step_y;
+            continue;
+        }
+        const int64_t ix = px >> frac, iy = py >> frac;
+        if (ix >= w) break; /* the column only grows along the row */
+        /* the stretch: up to the end of the row or of the source row, to the pixel where the
+         * column stays behind, and to the last pixel before the row changes */
+        int64_t n = min64(dw - x, w - ix);
+        if (lag > 0) n = min64(n, (px & (one - 1)) / lag + 1);
+        if (step_y > 0) n = min64(n, (py - (iy << frac)) / step_y + 1);
+        if (step_y < 0) n = min64(n, (((iy + 1) << frac) - 1 - py) / -step_y + 1);
+        memcpy(row + x, src + (size_t)iy * w + ix, (size_t)n);
+        x += (int)n;
+        px += n * step_x;
+        py -= n * step_y;
+    }
+    memset(row + x, 0, (size_t)(dw - x)); /* beyond the source */
+}
+
 int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, lt_error *err)
 {
     *out = NULL;
@@ -98,20 +167,22 @@ int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, lt_erro
         return lt_error_set(err, LT_EINVAL, "rotate: bad arguments");
     lt_frame f;
     lt_frame_init(&f, ink->width, ink->height, angle_deg);
-    lt_image *dst = lt_image_new(f.desk_width, f.desk_height, LT_IMAGE_INK);
+    lt_image *dst = lt_image_alloc(f.desk_width, f.desk_height, LT_IMAGE_INK, 0);
     if (!dst) return lt_error_set(err, LT_ENOMEM, "rotate: out of memory");
     dst->dpi = ink->dpi;
-    const int w = ink->width, h = ink->height;
+    int side = ink->width > ink->height ? ink->width : ink->height;
+    if (dst->width > side) side = dst->width;
+    if (dst->height > side) side = dst->height;
+    const int frac = position_fraction_bits(side);
+    const double one = ldexp(1.0, frac);
+    /* one step right on the canvas moves (cos, -sin) in the source; cos > 0 up to 45 degrees */
+    const int64_t step_x = llround(f.cos_a * one), step_y = llround(f.sin_a * one);
+    assert(step_x > 0 && step_x <= (int64_t)1 << frac);
     for (int y = 0; y < dst->height; y++) {
-        /* Source position of the centre of the row's first pixel, then one step per pixel. */
-        lt_point p = lt_frame_to_original(&f, 0.5, y + 0.5);
-        double sx = p.x, sy = p.y;
-        uint8_t *row = dst->pixels + (size_t)y * dst->width;
-        for (int x = 0; x < dst->width; x++, sx += f.cos_a, sy -= f.sin_a) {
-            if (sx < 0 || sy < 0) continue;
-            int ix = (int)sx, iy = (int)sy;
-            if (ix < w && iy < h) row[x] = ink->pixels[(size_t)iy * w + ix];
-        }
+        /* source position of the centre of the row's first pixel */
+        const lt_point p = lt_frame_to_original(&f, 0.5, y + 0.5);
+        rotate_row(ink->pixels, ink->width, ink->height, llround(p.x * one), llround(p.y * one),
+                   step_x, step_y, frac, dst->pixels + (size_t)y * dst->width, dst->width);
     }
     *out = dst;
     return 0;
@@ -128,7 +199,7 @@ int lt_turn_ink(const lt_image *ink, int turn_deg, lt_image **out, lt_error *err
         (turn_deg != 0 && turn_deg != 90 && turn_deg != 180 && turn_deg != 270))
         return lt_error_set(err, LT_EINVAL, "turn: bad arguments");
     const int w = ink->width, h = ink->height, quarter = turn_deg % 180 != 0;
-    lt_image *dst = lt_image_new(quarter ? h : w, quarter ? w : h, LT_IMAGE_INK);
+    lt_image *dst = lt_image_alloc(quarter ? h : w, quarter ? w : h, LT_IMAGE_INK, 0);
     if (!dst) return lt_error_set(err, LT_ENOMEM, "turn: out of memory");
     dst->dpi = ink->dpi;
     /* The source pixel whose centre the clockwise turn carries to (u, v) lies at

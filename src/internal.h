@@ -13,6 +13,9 @@ int lt_mul_overflows(size_t a, size_t b, size_t *out);
 /* malloc of count*size bytes with overflow check; NULL on failure. */
 void *lt_alloc_array(size_t count, size_t size);
 int lt_cmp_double(const void *a, const void *b);
+/* lt_image_new, with the pixels left unset unless `zeroed`: for producers that write every
+ * pixel (a page's worth of zeros is a pass over its memory). */
+lt_image *lt_image_alloc(int width, int height, int kind, int zeroed);
 /* Union-find over 0..n-1 in parent[] (parent[i] == i for a root). The root of a set is its
  * smallest member, so results do not depend on the order of unions. */
 static inline int lt_uf_find(int *parent, int i)

@@ -64,14 +64,14 @@ int lt_error_set(lt_error *err, int code, const char *fmt, ...)
     return code;
 }
 
-lt_image *lt_image_new(int width, int height, int kind)
+lt_image *lt_image_alloc(int width, int height, int kind, int zeroed)
 {
     if (width <= 0 || height <= 0) return NULL;
     size_t n;
     if (lt_mul_overflows((size_t)width, (size_t)height, &n)) return NULL;
     lt_image *img = calloc(1, sizeof *img);
     if (!img) return NULL;
-    img->pixels = calloc(n, 1);
+    img->pixels = zeroed ? calloc(n, 1) : malloc(n);
     if (!img->pixels) {
         free(img);
         return NULL;
@@ -80,6 +80,11 @@ lt_image *lt_image_new(int width, int height, int kind)
     img->height = height;
     img->kind = kind;
     return img;
+}
+
+lt_image *lt_image_new(int width, int height, int kind)
+{
+    return lt_image_alloc(width, height, kind, 1);
 }
 
 void lt_image_free(lt_image *img)
