@@ -213,8 +213,9 @@ typedef struct lt_orientation {
  * than a few dozen text components give no estimate. */
 int lt_estimate_line_axis(const lt_components *c, lt_orientation *out, lt_error *err);
 /* Whether a page whose lines run across it stands upright (0) or upside down (180), from
- * its components beyond each line's x-height band: above it (ascenders, capitals) against
- * below it (descenders). Lines of scripts without that asymmetry give no estimate. */
+ * its components beyond each line's x-height band (above it: ascenders, capitals; below it:
+ * descenders) and from the ends of its lines (left ends lined up, right ends ragged), each
+ * counted as a z score and added. Weak or disagreeing evidence gives no estimate. */
 int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_orientation *out,
                         lt_error *err);
 

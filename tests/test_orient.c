@@ -7,6 +7,8 @@
 #include "testutil.h"
 #include "textpage.h"
 
+#include <assert.h>
+
 /* Turns of a page that reads upright after a clockwise turn of N: turning it clockwise by
  * (360 - N) % 360 from the upright page. */
 static int turn_away(int n)
@@ -182,6 +184,146 @@ static void test_analyze_turned(void)
     page_free(p);
 }
 
+/* Components and lines set out by hand for the up/down evidence alone: letters 20 px wide
+ * on an x-height of 20 px, one line every 60 px, of plain letters, ascenders (reaching 12 px
+ * above the band) and descenders (12 px below). */
+enum { SET_XHEIGHT = 20, SET_REACH = 12, SET_PITCH = 60, SET_MAX_COMPS = 6000, SET_MAX_LINES = 60 };
+typedef struct setting {
+    lt_component comps[SET_MAX_COMPS];
+    lt_raw_line lines[SET_MAX_LINES];
+    int ncomps, nlines;
+} setting;
+
+static void set_letter(setting *s, int left, int top, int height)
+{
+    assert(s->ncomps < SET_MAX_COMPS);
+    lt_component *c = &s->comps[s->ncomps++];
+    *c = (lt_component){.box = {left, top, left + SET_XHEIGHT, top + height},
+                        .pixels = (long)SET_XHEIGHT * height,
+                        .kind = LT_COMP_TEXT};
+    c->cx = left + 0.5 * SET_XHEIGHT;
+    c->cy = top + 0.5 * height;
+}
+
+/* A line of `letters` letters from x = left whose band's top is at band_top: the first
+ * `rising` ascenders, the next `falling` descenders, the rest plain. */
+static void set_line(setting *s, int left, int band_top, int letters, int rising, int falling)
+{
+    assert(s->nlines < SET_MAX_LINES && letters >= rising + falling);
+    int x = left;
+    for (int k = 0; k < letters; k++, x += SET_XHEIGHT + 4)
+        set_letter(s, x, k < rising ? band_top - SET_REACH : band_top,
+                   SET_XHEIGHT + (k < rising + falling ? SET_REACH : 0));
+    s->lines[s->nlines++] = (lt_raw_line){
+        .box = {left, band_top - SET_REACH, x - 4, band_top + SET_XHEIGHT + SET_REACH},
+        .baseline_y = band_top + SET_XHEIGHT,
+        .xheight_px = SET_XHEIGHT,
+        .ncomponents = letters};
+}
+
+/* The setting turned by half a turn on a page of w x h (boxes stay [left, top, right, bottom)). */
+static void set_turn_half(setting *s, int w, int h)
+{
+    for (int i = 0; i < s->ncomps; i++) {
+        lt_component *c = &s->comps[i];
+        c->box = (lt_box){w - c->box.right, h - c->box.bottom, w - c->box.left, h - c->box.top};
+        c->cx = w - c->cx;
+        c->cy = h - c->cy;
+    }
+    for (int i = 0; i < s->nlines; i++) {
+        lt_raw_line *l = &s->lines[i];
+        l->box = (lt_box){w - l->box.right, h - l->box.bottom, w - l->box.left, h - l->box.top};
+        l->baseline_y = h - l->baseline_y + SET_XHEIGHT; /* the band's other side */
+    }
+}
+
+static lt_orientation set_estimate(setting *s)
+{
+    lt_components c = {s->comps, s->ncomps};
+    lt_raw_lines l = {s->lines, s->nlines};
+    lt_orientation o;
+    lt_error err = {0};
+    if (lt_estimate_upright(&c, &l, &o, &err)) tu_die("upright: %s", err.message);
+    return o;
+}
+
+/* Ragged right: lines of plain letters (no ascender, no descender) whose left ends step by
+ * `step` px from line to line and whose right ends differ by whole words. Left ends 6 px
+ * apart (0.3 x-height) still line up; 7 px apart they do not, and the page says nothing.
+ * Upside down, the ragged edge is on the left: half a turn. */
+static void test_edges(void)
+{
+    static const int widths[] = {30, 22, 27, 18, 25, 31, 20, 28};
+    const struct {
+        int step, want_turn, decided;
+    } cases[] = {{0, 0, 1}, {6, 0, 1}, {7, 0, 0}};
+    for (size_t i = 0; i < sizeof cases / sizeof *cases; i++) {
+        static setting s;
+        s.ncomps = s.nlines = 0;
+        for (int k = 0; k < 20; k++)
+            set_line(&s, 100 + cases[i].step * k, 100 + SET_PITCH * k, widths[k % 8], 0, 0);
+        for (int turn = 0; turn < 360; turn += 180) {
+            lt_orientation o = set_estimate(&s);
+            CHECK(o.turn_deg == (cases[i].decided ? turn : 0) &&
+                      (o.confidence > 0) == cases[i].decided,
+                  "left ends stepping %d px, page turned %d: turn %d (confidence %.2f)",
+                  cases[i].step, turn, o.turn_deg, o.confidence);
+            set_turn_half(&s, 2000, 1400);
+        }
+    }
+}
+
+/* Ascenders against descenders, in lines whose two ends line up (no evidence from the
+ * edges): 251 ascenders to 149 descenders are evidence enough (z = (102 - 5 % of 400) / 20 =
+ * 4.1, the surplus the type itself may have taken off); 249 to 151 are not (3.9); upside down,
+ * the same counts ask for half a turn. */
+static void test_letters(void)
+{
+    const struct {
+        int rising, falling, decided;
+    } cases[] = {{251, 149, 1}, {249, 151, 0}};
+    for (size_t i = 0; i < sizeof cases / sizeof *cases; i++) {
+        static setting s;
+        s.ncomps = s.nlines = 0;
+        int rising = cases[i].rising, falling = cases[i].falling;
+        for (int k = 0; k < 25; k++) {
+            const int r = rising / (25 - k), f = falling / (25 - k);
+            set_line(&s, 100, 100 + SET_PITCH * k, 30, r, f);
+            rising -= r;
+            falling -= f;
+        }
+        for (int turn = 0; turn < 360; turn += 180) {
+            lt_orientation o = set_estimate(&s);
+            CHECK(o.turn_deg == (cases[i].decided ? turn : 0) &&
+                      (o.confidence > 0) == cases[i].decided,
+                  "%d ascenders, %d descenders, page turned %d: turn %d (confidence %.2f)",
+                  cases[i].rising, cases[i].falling, turn, o.turn_deg, o.confidence);
+            set_turn_half(&s, 2000, 1700);
+        }
+    }
+}
+
+/* The two evidences disagree: the letters say upright (z = 6.3), the edges say upside down.
+ * Three lines ragged on the left (z = -1.7) leave the letters' estimate standing; four
+ * (z = -2.0) leave no estimate. */
+static void test_disagreement(void)
+{
+    static const int widths[] = {22, 27, 18, 25};
+    for (int ragged = 3; ragged <= 4; ragged++) {
+        static setting s;
+        s.ncomps = s.nlines = 0;
+        int k = 0;
+        for (; k < 20; k++) /* 200 ascenders, 80 descenders: (120 - 14) / 16.7 = 6.3 */
+            set_line(&s, 100, 100 + SET_PITCH * k, 30, 10, 4);
+        for (int j = 0; j < ragged; j++, k++) /* ending with the others, far apart on the left */
+            set_line(&s, 820 - 24 * widths[j] + 4, 100 + SET_PITCH * k, widths[j], 0, 0);
+        lt_orientation o = set_estimate(&s);
+        CHECK(ragged == 3 ? o.turn_deg == 0 && o.confidence > 0 : o.confidence == 0,
+              "%d lines ragged on the left against the letters: turn %d (confidence %.2f)", ragged,
+              o.turn_deg, o.confidence);
+    }
+}
+
 /* Pages that do not say: blank, noise, a few words. */
 static void test_no_estimate(void)
 {
@@ -216,6 +358,9 @@ int main(void)
     test_frame_turn();
     test_estimators();
     test_analyze_turned();
+    test_edges();
+    test_letters();
+    test_disagreement();
     test_no_estimate();
     return tu_summary("test_orient");
 }
