@@ -1,19 +1,30 @@
 /* skew.c — skew by projection profiles (Postl 1986; Baird 1987): the angle at which the
  * horizontal projection of the ink is sharpest, measured as the sum of squared differences
  * of adjacent bins (insensitive to the slow variation that uneven column lengths give).
- * Coarse-to-fine: a sweep over the whole range on an 8x-reduced image, then refinements on
- * 4x and 2x reductions, then a parabola through the best three angles. */
+ * Coarse-to-fine: a sweep over the whole range on tiles 64 px wide and 4 tall, refinements on
+ * tiles 8 px wide, 4 then 2 tall, then a parabola through the best three angles. */
 #include "internal.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-/* Steps of the coarse sweeps, degrees: on the 8x reduction, and on the 4x one (sharper
- * peaks); share of the profile's bins nearly empty (white between lines) below which a sharp
- * projection is weak evidence. */
-static const double COARSE_STEP = 0.5;
-static const double FINE_COARSE_STEP = 0.25;
+/* A tile's ink is projected from its centre, so a tile w px wide blurs it across the lines by
+ * up to w·sin|angle|: the projection needs fine steps across the lines only. Tiles 8 px wide
+ * blur by at most 1 px (half a fine bin) up to 7 degrees, and read eight pixels of a row at a
+ * time; the coarse sweep only has to find the peak's neighbourhood, so its tiles are 64 px
+ * wide (blur 1.1 px at 1 degree, a bin at 3.6) and its bins 4 px tall: with 8 px bins the
+ * profile of a column of short lines is so smooth that, on a page whose columns' baselines do
+ * not line up, the overlap of the columns' profiles moves the coarse peak (by 0.8 degree on a
+ * two-column list, beyond the refinements' reach). */
+enum { FINE_TILE_PX = 8, COARSE_TILE_PX = 64 };
+
+/* Step of the coarse sweep, degrees; span and step of the refinements around the best angle
+ * so far, degrees (each span covers the step before it); share of the profile's bins nearly
+ * empty (white between lines) below which a sharp projection is weak evidence. */
+static const double COARSE_STEP_DEG = 0.25;
+static const double MID_SPAN_DEG = 0.35, MID_STEP_DEG = 0.05;
+static const double FINE_SPAN_DEG = 0.06, FINE_STEP_DEG = 0.02;
 static const double GAP_EVIDENCE = 0.25;
 
 typedef struct cell {
@@ -26,69 +37,66 @@ typedef struct cells {
     int count;
 } cells;
 
-/* Ink count grid of an image reduced by `factor`. */
+/* Ink counts of the tiles of an image, tile_w by tile_h px. */
 typedef struct grid {
-    int width, height, factor;
+    int width, height, tile_w, tile_h;
     uint16_t *count;
 } grid;
 
-/* Grid of 2x2 tile counts of the ink image (whose pixels are 0 or 1), in one pass over its
- * rows. On a little-endian machine four tiles of a row come from one 64-bit word: the bytes
- * added pairwise (each sum at most 2) into its four 16-bit lanes. */
+/* Grid of tiles FINE_TILE_PX wide and 2 tall of the ink image (whose pixels are 0 or 1), in
+ * one pass over its rows: the two rows' 64-bit words added (bytes of at most 2), their eight
+ * bytes summed by one multiplication into the top byte. */
 static int grid_from_ink(const lt_image *ink, grid *g)
 {
     const int w = ink->width, h = ink->height;
-    g->factor = 2;
-    g->width = (w + 1) / 2;
-    g->height = (h + 1) / 2;
-    g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
-    if (!g->count) return LT_ENOMEM;
-    const int pairs = w / 2; /* tiles with two columns */
-    for (int y = 0; y < h; y++) {
-        const uint8_t *row = ink->pixels + (size_t)y * w;
-        uint16_t *dst = g->count + (size_t)(y / 2) * g->width;
-        int t = 0;
-#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__
-        for (; t + 4 <= pairs; t += 4) {
-            uint64_t v;
-            memcpy(&v, row + 2 * t, 8);
-            v = (v + (v >> 8)) & 0x00ff00ff00ff00ffu;
-            dst[t] += (uint16_t)(v & 0xffff);
-            dst[t + 1] += (uint16_t)((v >> 16) & 0xffff);
-            dst[t + 2] += (uint16_t)((v >> 32) & 0xffff);
-            dst[t + 3] += (uint16_t)(v >> 48);
-        }
-#endif
-        for (; t < pairs; t++)
-            dst[t] += (uint16_t)(row[2 * t] + row[2 * t + 1]);
-        if (w % 2) dst[pairs] += row[w - 1];
-    }
-    return 0;
-}
-
-/* Grid halved in both directions (tile sums). */
-static int grid_halve(const grid *src, grid *g)
-{
-    const int w = src->width, h = src->height;
-    g->factor = src->factor * 2;
-    g->width = (w + 1) / 2;
+    g->tile_w = FINE_TILE_PX;
+    g->tile_h = 2;
+    g->width = (w + FINE_TILE_PX - 1) / FINE_TILE_PX;
     g->height = (h + 1) / 2;
     g->count = malloc((size_t)g->width * g->height * sizeof *g->count);
     if (!g->count) return LT_ENOMEM;
+    const int whole = w / FINE_TILE_PX;
     for (int gy = 0; gy < g->height; gy++) {
-        const uint16_t *r0 = src->count + (size_t)(2 * gy) * w;
-        const uint16_t *r1 = 2 * gy + 1 < h ? r0 + w : NULL;
+        const uint8_t *r0 = ink->pixels + (size_t)(2 * gy) * w;
+        const uint8_t *r1 = 2 * gy + 1 < h ? r0 + w : NULL;
         uint16_t *dst = g->count + (size_t)gy * g->width;
-        for (int x = 0; x < w; x += 2) {
-            unsigned v = r0[x] + (x + 1 < w ? r0[x + 1] : 0u);
-            if (r1) v += r1[x] + (x + 1 < w ? r1[x + 1] : 0u);
-            dst[x / 2] = (uint16_t)v;
+        for (int t = 0; t < whole; t++) {
+            uint64_t v0, v1 = 0;
+            memcpy(&v0, r0 + FINE_TILE_PX * t, 8);
+            if (r1) memcpy(&v1, r1 + FINE_TILE_PX * t, 8);
+            dst[t] = (uint16_t)(((v0 + v1) * 0x0101010101010101u) >> 56);
+        }
+        if (whole < g->width) {
+            unsigned sum = 0;
+            for (int x = whole * FINE_TILE_PX; x < w; x++)
+                sum += r0[x] + (r1 ? r1[x] : 0u);
+            dst[whole] = (uint16_t)sum;
         }
     }
     return 0;
 }
 
-/* The non-empty tiles of a grid as weighted cells. */
+/* Grid of the sums of kx by ky tiles of another. */
+static int grid_reduce(const grid *src, int kx, int ky, grid *g)
+{
+    const int w = src->width, h = src->height;
+    g->tile_w = src->tile_w * kx;
+    g->tile_h = src->tile_h * ky;
+    g->width = (w + kx - 1) / kx;
+    g->height = (h + ky - 1) / ky;
+    g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
+    if (!g->count) return LT_ENOMEM;
+    for (int y = 0; y < h; y++) {
+        const uint16_t *row = src->count + (size_t)y * w;
+        uint16_t *dst = g->count + (size_t)(y / ky) * g->width;
+        for (int x = 0, gx = 0; x < w; gx++)
+            for (int k = 0; k < kx && x < w; k++, x++)
+                dst[gx] += row[x];
+    }
+    return 0;
+}
+
+/* The non-empty tiles of a grid as weighted cells, row by row. */
 static int cells_from_grid(const grid *g, cells *out)
 {
     size_t n = 0;
@@ -100,65 +108,82 @@ static int cells_from_grid(const grid *g, cells *out)
     if (!out->items) return LT_ENOMEM;
     /* The origin is a cell centre, so that on a level page every cell lies exactly on a bin
      * and the interpolation below adds no blur at angle 0. */
-    const float f = (float)g->factor;
-    const float half_w = (g->width / 2 + 0.5f) * f, half_h = (g->height / 2 + 0.5f) * f;
+    const float fx = (float)g->tile_w, fy = (float)g->tile_h;
+    const float half_w = (g->width / 2 + 0.5f) * fx, half_h = (g->height / 2 + 0.5f) * fy;
     for (int y = 0; y < g->height; y++) {
         const uint16_t *row = g->count + (size_t)y * g->width;
         for (int x = 0; x < g->width; x++) {
             if (!row[x]) continue;
             cell *c = &out->items[out->count++];
-            c->x = (x + 0.5f) * f - half_w;
-            c->y = (y + 0.5f) * f - half_h;
+            c->x = (x + 0.5f) * fx - half_w;
+            c->y = (y + 0.5f) * fy - half_h;
             c->weight = row[x];
         }
     }
     return 0;
 }
 
-/* Sharpness of the projection at angle_deg: sum of squared differences of adjacent bins of height
- * bin_px of the ink rotated by -angle_deg. `profile` (nbins bins) is left holding the
- * projection, in units of 1/256 of an ink pixel. */
-static double sharpness(const cells *c, double angle_deg, double bin_px, int interpolate,
-                        int32_t *profile, int nbins)
+/* Adds the projection of the cells at angle_deg, in bins of bin_px, to `profile` (nbins
+ * bins, in units of 1/256 of an ink pixel, the page's centre at the middle bin); the bins
+ * touched are lo..hi (lo > hi when there are no cells). */
+static void project(const cells *c, double angle_deg, double bin_px, int32_t *profile, int nbins,
+                    int *lo, int *hi)
 {
+    *lo = 1;
+    *hi = 0;
+    if (c->count == 0) return;
     const double a = angle_deg * LT_PI / 180.0;
     /* Positions in bins, in 24.8 fixed point. */
     const float s = (float)(256.0 * sin(a) / bin_px), co = (float)(256.0 * cos(a) / bin_px);
     const float offset = (float)(256 * (nbins / 2));
-    const int32_t frac_mask = interpolate ? 255 : 0;
-    memset(profile, 0, (size_t)nbins * sizeof *profile);
-    /* With `interpolate`, each cell is shared linearly between its two nearest bins, so that
-     * the criterion varies smoothly with the angle instead of in steps of one bin. The cells
-     * come row by row, and along a row the bin changes only every few cells: the shares are
-     * summed in registers while it stays, and added to the profile when it moves on. */
-    int32_t bin = 0, low = 0, high = 0;
+    /* Each cell is shared linearly between its two nearest bins, so that the criterion varies
+     * smoothly with the angle instead of in steps of one bin. The cells come row by row, and
+     * along a row the bin changes only every few cells: the shares are summed in registers
+     * while it stays, and added to the profile when it moves on. */
+    const cell *items = c->items;
+    int32_t bin = (int32_t)(items[0].x * s + items[0].y * co + offset) >> 8;
+    int32_t low = 0, high = 0, bmin = bin, bmax = bin;
     for (int i = 0; i < c->count; i++) {
-        const cell *p = &c->items[i];
-        const int32_t pos = (int32_t)(p->x * s + p->y * co + offset);
-        const int32_t b = pos >> 8, frac = pos & frac_mask;
+        const int32_t pos = (int32_t)(items[i].x * s + items[i].y * co + offset);
+        const int32_t b = pos >> 8, frac = pos & 255;
         if (b != bin) {
             profile[bin] += low;
             profile[bin + 1] += high;
+            bmin = b < bmin ? b : bmin;
+            bmax = b > bmax ? b : bmax;
             bin = b;
             low = high = 0;
         }
-        low += p->weight * (256 - frac);
-        high += p->weight * frac;
+        low += items[i].weight * (256 - frac);
+        high += items[i].weight * frac;
     }
     profile[bin] += low;
     profile[bin + 1] += high;
-    double sum = 0;
-    for (int b = 0; b + 1 < nbins; b++) {
-        double d = (double)(profile[b + 1] - profile[b]);
+    *lo = bmin;
+    *hi = bmax + 1;
+}
+
+/* Sharpness of the projection at angle_deg: sum of squared differences of adjacent bins of
+ * height bin_px of the ink rotated by -angle_deg. `profile` (nbins bins) is scratch, zero on
+ * entry and on return. */
+static double sharpness(const cells *c, double angle_deg, double bin_px, int32_t *profile,
+                        int nbins)
+{
+    int lo, hi;
+    project(c, angle_deg, bin_px, profile, nbins, &lo, &hi);
+    double sum = 0, prev = 0;
+    for (int b = lo; b <= hi; b++) {
+        const double d = profile[b] - prev;
         sum += d * d;
+        prev = profile[b];
+        profile[b] = 0;
     }
-    return sum;
+    return sum + prev * prev;
 }
 
 /* Share of the profile's bins, within the central 98% of its mass, that are nearly empty
  * (under 15% of the mean bin): the white between text lines. Structureless ink (noise,
- * halftone) has none, whatever its projection's sharpness. `profile` holds the last profile
- * computed by sharpness(). */
+ * halftone) has none, whatever its projection's sharpness. */
 static double gap_fraction(const int32_t *profile, int nbins)
 {
     double total = 0;
@@ -184,54 +209,42 @@ static double gap_fraction(const int32_t *profile, int nbins)
     return (double)gaps / n;
 }
 
-/* Best angle in [lo, hi] at `step` (index of the maximum in *best), the criterion of every
- * angle in crit[] (room for the number of steps). */
-static int sweep(const cells *c, double lo, double hi, double step, double bin_px, int interpolate,
-                 int32_t *profile, int nbins, double *crit)
+/* Best angle in [lo, hi] at `step` (its index returned), the criterion of every angle in
+ * crit[] (room for the number of steps). */
+static int sweep(const grid *g, const cells *c, double lo, double hi, double step, int32_t *profile,
+                 int nbins, double *crit)
 {
     int n = (int)floor((hi - lo) / step + 0.5) + 1, best = 0;
     for (int i = 0; i < n; i++) {
-        crit[i] = sharpness(c, lo + i * step, bin_px, interpolate, profile, nbins);
+        crit[i] = sharpness(c, lo + i * step, g->tile_h, profile, nbins);
         if (crit[i] > crit[best]) best = i;
     }
     return best;
 }
 
-/* The reductions of the ink the search runs on: 8x, 4x and 2x. */
-typedef struct levels {
-    const cells *c8, *c4, *c2;
-} levels;
-
-/* One search: a coarse sweep over [-range_deg, range_deg] at `step` on the reduction of
- * `coarse_factor` (8 or 4; bins that many px), then refinements on the finer reductions around
- * the best angle so far, then the vertex of the parabola through the best angle and its
- * neighbours. *confidence: how far the coarse peak stands out (1 - median / peak), scaled
- * down where the profile at the angle found shows less white between lines than
- * GAP_EVIDENCE; *gaps: that share. crit and sorted have room for the coarse sweep's angles. */
-static void search(const levels *lv, int coarse_factor, double step, double range_deg,
+/* The search: the coarse sweep over [-range_deg, range_deg], refinements on the mid and fine
+ * grids around the best angle so far, then the vertex of the parabola through the best angle
+ * and its neighbours. *confidence: how far the coarse peak stands out (1 - median / peak),
+ * scaled down where the profile at the angle found shows less white between lines than
+ * GAP_EVIDENCE. crit and sorted have room for the coarse sweep's angles. */
+static void search(const grid *const gr[3], const cells *const ce[3], double range_deg,
                    int32_t *profile, int nbins, double *crit, double *sorted, double *angle_out,
-                   double *confidence_out, double *gaps_out)
+                   double *confidence_out)
 {
-    const cells *coarse = coarse_factor == 8 ? lv->c8 : lv->c4;
-    const int coarse_n = (int)floor(2 * range_deg / step + 0.5) + 1;
-    int best = sweep(coarse, -range_deg, range_deg, step, coarse_factor, 1, profile, nbins, crit);
-    double angle = -range_deg + best * step;
+    const int coarse_n = (int)floor(2 * range_deg / COARSE_STEP_DEG + 0.5) + 1;
+    int best = sweep(gr[0], ce[0], -range_deg, range_deg, COARSE_STEP_DEG, profile, nbins, crit);
+    double angle = -range_deg + best * COARSE_STEP_DEG;
     memcpy(sorted, crit, (size_t)coarse_n * sizeof *sorted);
     double peak = crit[best], typical = lt_median(sorted, coarse_n);
-    double confidence = peak > 0 ? 1.0 - typical / peak : 0;
+    const double confidence = peak > 0 ? 1.0 - typical / peak : 0;
 
-    /* Refinements on finer reductions around the best angle so far. */
-    const struct {
-        const cells *c;
-        double bin_px, span_deg, step_deg;
-    } stages[] = {{lv->c4, 4, 0.35, 0.05}, {lv->c2, 2, 0.06, 0.02}};
+    const double span[2] = {MID_SPAN_DEG, FINE_SPAN_DEG}, step[2] = {MID_STEP_DEG, FINE_STEP_DEG};
     double prev = 0, next = 0;
-    for (size_t s = 0; s < sizeof stages / sizeof stages[0]; s++) {
-        double lo = angle - stages[s].span_deg, hi = angle + stages[s].span_deg;
-        step = stages[s].step_deg;
-        int n = (int)floor((hi - lo) / step + 0.5) + 1;
-        int b = sweep(stages[s].c, lo, hi, step, stages[s].bin_px, 1, profile, nbins, crit);
-        angle = lo + b * step;
+    for (int s = 0; s < 2; s++) {
+        double lo = angle - span[s], hi = angle + span[s];
+        int n = (int)floor((hi - lo) / step[s] + 0.5) + 1;
+        int b = sweep(gr[s + 1], ce[s + 1], lo, hi, step[s], profile, nbins, crit);
+        angle = lo + b * step[s];
         prev = b > 0 ? crit[b - 1] : crit[b];
         next = b < n - 1 ? crit[b + 1] : crit[b];
         peak = crit[b];
@@ -240,14 +253,15 @@ static void search(const levels *lv, int coarse_factor, double step, double rang
     double denom = prev - 2 * peak + next;
     if (denom < 0) {
         double shift = 0.5 * (prev - next) / denom;
-        if (fabs(shift) <= 1) angle += shift * step;
+        if (fabs(shift) <= 1) angle += shift * FINE_STEP_DEG;
     }
     /* A sharp projection counts as evidence only when it shows white between lines. */
-    sharpness(lv->c2, angle, 2, 1, profile, nbins);
+    int lo, hi;
+    project(ce[2], angle, gr[2]->tile_h, profile, nbins, &lo, &hi);
     const double gaps = gap_fraction(profile, nbins);
+    memset(profile, 0, (size_t)nbins * sizeof *profile);
     *angle_out = angle;
     *confidence_out = confidence * (gaps >= GAP_EVIDENCE ? 1.0 : gaps / GAP_EVIDENCE);
-    *gaps_out = gaps;
 }
 
 int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidence, lt_skew *out,
@@ -260,38 +274,29 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     if (ink->width < 16 || ink->height < 16) return 0;
     const double diag = hypot(ink->width, ink->height);
     const int nbins = (int)(diag / 2.0) + 8; /* bins of >= 2 px span the diagonal */
-    const int coarse_n = (int)floor(2 * range_deg / FINE_COARSE_STEP + 0.5) + 1;
-    int32_t *profile = malloc((size_t)nbins * sizeof *profile);
-    double *crit = malloc((size_t)(coarse_n + 64) * sizeof *crit);
-    double *sorted = malloc((size_t)(coarse_n + 64) * sizeof *sorted);
-    grid g2 = {0}, g4 = {0}, g8 = {0};
-    cells c2 = {0}, c4 = {0}, c8 = {0};
+    const int coarse_n = (int)floor(2 * range_deg / COARSE_STEP_DEG + 0.5) + 1;
+    const int refine_n = (int)floor(2 * MID_SPAN_DEG / MID_STEP_DEG + 0.5) + 1;
+    const int crit_n = coarse_n > refine_n ? coarse_n : refine_n;
+    int32_t *profile = calloc((size_t)nbins, sizeof *profile);
+    double *crit = malloc((size_t)crit_n * sizeof *crit);
+    double *sorted = malloc((size_t)crit_n * sizeof *sorted);
+    /* fine: tiles 8 x 2 px; mid: 8 x 4; coarse: 64 x 4. */
+    grid fine = {0}, mid = {0}, coarse = {0};
+    cells fine_c = {0}, mid_c = {0}, coarse_c = {0};
     int rc = 0;
-    if (!profile || !crit || !sorted || grid_from_ink(ink, &g2) || grid_halve(&g2, &g4) ||
-        grid_halve(&g4, &g8) || cells_from_grid(&g2, &c2) || cells_from_grid(&g4, &c4) ||
-        cells_from_grid(&g8, &c8)) {
+    if (!profile || !crit || !sorted || grid_from_ink(ink, &fine) ||
+        grid_reduce(&fine, 1, 2, &mid) ||
+        grid_reduce(&mid, COARSE_TILE_PX / FINE_TILE_PX, 1, &coarse) ||
+        cells_from_grid(&fine, &fine_c) || cells_from_grid(&mid, &mid_c) ||
+        cells_from_grid(&coarse, &coarse_c)) {
         rc = lt_error_set(err, LT_ENOMEM, "skew: out of memory");
         goto done;
     }
-    if (c8.count < 8) goto done; /* blank page: no evidence */
-
-    /* Lines of small type (a pitch of a bin or two of the 8x reduction) can give the coarse
-     * sweep there a false peak, at which the profile shows no white between lines: then the
-     * search starts again from a sweep of the 4x reduction, at the step its narrower peaks
-     * need, and the angle with the clearer evidence is kept. */
-    const levels levels = {&c8, &c4, &c2};
-    double angle, confidence, gaps;
-    search(&levels, 8, COARSE_STEP, range_deg, profile, nbins, crit, sorted, &angle, &confidence,
-           &gaps);
-    if (gaps < GAP_EVIDENCE) {
-        double angle4, confidence4, gaps4;
-        search(&levels, 4, FINE_COARSE_STEP, range_deg, profile, nbins, crit, sorted, &angle4,
-               &confidence4, &gaps4);
-        if (confidence4 > confidence) {
-            angle = angle4;
-            confidence = confidence4;
-        }
-    }
+    if (coarse_c.count < 8) goto done; /* blank page: no evidence */
+    const grid *const gr[3] = {&coarse, &mid, &fine};
+    const cells *const ce[3] = {&coarse_c, &mid_c, &fine_c};
+    double angle, confidence;
+    search(gr, ce, range_deg, profile, nbins, crit, sorted, &angle, &confidence);
     if (confidence >= min_confidence) {
         out->angle_deg = angle;
         out->confidence = confidence;
@@ -300,11 +305,11 @@ done:
     free(profile);
     free(crit);
     free(sorted);
-    free(g2.count);
-    free(g4.count);
-    free(g8.count);
-    free(c2.items);
-    free(c4.items);
-    free(c8.items);
+    free(fine.count);
+    free(mid.count);
+    free(coarse.count);
+    free(fine_c.items);
+    free(mid_c.items);
+    free(coarse_c.items);
     return rc;
 }
