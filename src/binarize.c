@@ -1,15 +1,16 @@
 /* binarize.c — Sauvola & Pietikäinen (2000) adaptive thresholding, in the normalised form of
- * Wolf & Jolion (2004) where the ink is pale:
- *   T(x,y) = m - k * (1 - s / R') * (m - M'),   R' = R * (255 - M') / 255,
+ * Wolf & Jolion (2004) where the page is pale:
+ *   T(x,y) = M + (m - M) * (1 - k * (1 - s / R')),   R' = R * (W - M) / 255,
  * m and s the mean and standard deviation over a window x window neighbourhood (clipped at
- * the image border). With M' = 0 this is Sauvola's T = m * (1 + k * (s / R - 1)), whose
- * threshold over flat paper, (1 - k) m, lies below faded print (ink 170 on paper 235: 155);
- * with M' > 0 it is Sauvola's threshold on the gray range [M', 255] stretched to [0, 255].
- * Wolf & Jolion take M' = the image minimum and R = the largest s on the page (k = 0.5; values
- * from memory). Here M' is chosen per window (window_black): at most the page's black point M
- * (its darkest 3 x 3 tile, which one dark pixel of noise does not make), and only as much as
- * puts the flat-paper threshold halfway from M up to m; so pages of black ink, where Sauvola's
- * threshold already lies there, keep Sauvola's, and dark windows (pictures, scan borders) too.
+ * the image border): Sauvola's threshold on the page's gray range [M, W] stretched to
+ * [0, 255] and mapped back. It follows every increasing linear map of the gray levels that M
+ * and W follow, so a faded or lightened copy of a page gives the page's own ink. M = 0 and
+ * W = 255 give Sauvola's T = m * (1 + k * (s / R - 1)), whose threshold over flat paper,
+ * (1 - k) m, lies below faded print (ink 170 on paper 235: 155). Wolf & Jolion take M = the
+ * image minimum and R = the largest s on the page (k = 0.5; values from memory). Here M and W
+ * come from the page's darkest 3 x 3 tile and its paper's gray (gray_points); a page whose
+ * black is dark against its paper, as print scanned on any paper is, keeps Sauvola's
+ * threshold, a pale one gets the stretch, and the pages in between part of it.
  * Exact at every pixel (lt_binarize*): running column and row sums give O(pixels) time for any
  * window, the same complexity as the integral images of Shafait, Keysers & Breuel (2008) with
  * memory proportional to the width only. Sampled (lt_binarize_sampled*, which the analysis
@@ -30,11 +31,13 @@ enum {
      * a patch narrower than a stroke of 10 pt text at 200 dpi, so that the core of a stroke
      * makes it and one dark pixel of noise does not. */
     TILE = 3,
-    /* Least contrast, gray levels, between a window's mean and the black point its threshold
-     * stretches to: type of gray 190 on white (65 levels) still reads well. A window darker than
-     * that above the page's black point is no pale print on paper but a picture, a blot or a
-     * scan border, and keeps Sauvola's threshold, under which its flat dark parts stay quiet. */
-    MIN_CONTRAST = 64,
+    /* Values a whole tile's sum of gray levels takes: the bins of the histogram the page's
+     * gray points are read from. */
+    TILE_SUMS = TILE * TILE * 255 + 1,
+    /* Least gray range, levels, that a page is stretched from: type of gray 190 on white (65
+     * levels) still reads well; a narrower range is a nearly blank page, whose paper texture
+     * a full stretch would turn into marks. */
+    MIN_RANGE = 64,
     /* Mean gray, levels, below which a window is read as light marks on a dark ground (a band,
      * a box, a whole page printed in negative): well below the middle of the gray scale, so the
      * window is mostly dark ground (white text covering a quarter of it on ground up to 50);
@@ -54,69 +57,91 @@ enum {
      * do not (15 to 16 in the miniatures of the real scans). */
     DARK_MIN_DEVIATION = 40,
 };
-/* Share of the way from the black point up to a window's mean where the threshold over flat
- * paper must lie at least: the midpoint, as far from the ink as from the paper. Sauvola's own
- * lies there when the ink is at most (1 - 2k) = 0.32 of the paper's gray (k = 0.34). */
-static const double FLAT_THRESHOLD_SHARE = 0.5;
+/* Share of the page's whole tiles whose mean lies at most at its white point: the paper's
+ * gray, with room for a tenth of the tiles on lighter specks, margins or tinted parts' edges;
+ * ink and pictures cover far less than nine tenths of a page. */
+static const double WHITE_SHARE = 0.9;
+/* The page's black point over its white point, below which the gray range is not stretched:
+ * print scanned on any paper (0.06 to 0.27 on the real scans of the development sets), where
+ * Sauvola's threshold over paper, (1 - k) = 0.66 of the paper's gray, lies far above the ink. */
+static const double PLAIN_RATIO = 0.3;
+/* The ratio from which the range is stretched fully: ink lighter than about half the paper's
+ * gray, which Sauvola's threshold reaches only in the densest windows (copies of a page mapped
+ * onto [150, 255] or [170, 235]: 0.59 to 0.72); in between, the stretch grows linearly. */
+static const double STRETCHED_RATIO = 0.55;
 
-/* R' for black point `black`: Sauvola's R scaled to the gray range [black, 255]. */
-static inline double range_for(double r, double black)
-{
-    return r * (255.0 - black) / 255.0;
-}
-
-/* The black point M' of a window of mean m: the least one (0 at best) that puts the threshold
- * over flat paper, M' + (1 - k)(m - M'), FLAT_THRESHOLD_SHARE of the way from the page's black
- * point M up to m, that is M' = (M (1 - f) - m (1 - k - f)) / k = base - slope * m; at most M,
- * and at least MIN_CONTRAST below m (else 0). */
+/* The gray range [black, black + span] stretched to [0, 255]: Sauvola's threshold on the
+ * stretched gray, mapped back, is T = black + (m - black) (1 - k + k s / R'), R' = R span / 255
+ * (m and s of the gray as it is); span at least MIN_RANGE. */
 typedef struct stretch {
-    double page_black, base, slope;
+    double black, r;
 } stretch;
 
-static stretch stretch_for(double page_black, double k)
+static stretch stretch_for(double black, double white, double r)
 {
-    const double f = FLAT_THRESHOLD_SHARE;
-    if (k <= 0) return (stretch){0, 0, 0}; /* T = m whatever M' */
-    return (stretch){page_black, page_black * (1.0 - f) / k, (1.0 - k - f) / k};
+    const double span = white - black > MIN_RANGE ? white - black : MIN_RANGE;
+    return (stretch){black, r * span / 255.0};
 }
 
-static inline double window_black(const stretch *st, double m)
-{
-    double b = st->base - st->slope * m;
-    if (b > m - MIN_CONTRAST) b = m - MIN_CONTRAST;
-    return b < 0 ? 0 : b > st->page_black ? st->page_black : b;
-}
-
-/* Ink decision without a square root: g <= M' + d(1-k) + (d k / R') s, with d = m - M' (>= 0,
- * as M' is 0 or below m), holds when the left part a = g - M' - d(1-k) is negative, or else
- * when a^2 < (d k / R')^2 * variance. Written without branches: for paper just above or below
- * the mean the answer is a coin toss, which a branch predictor cannot learn. */
-static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k, double r,
+/* Ink decision without a square root: g <= M + d(1-k) + (d k / R') s, with d = m - M (0 when
+ * the window is darker than the black point, which an exact window can be by a fraction of a
+ * level), holds when the left part a = g - M - d(1-k) is negative, or else when
+ * a^2 < (d k / R')^2 * variance. Written without branches: for paper just above or below the
+ * mean the answer is a coin toss, which a branch predictor cannot learn. */
+static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
                              const stretch *st)
 {
-    const double m = sum * inv_n, black = window_black(st, m), d = m - black;
-    const double a = g - black - d * (1.0 - k);
+    const double m = sum * inv_n, d = m > st->black ? m - st->black : 0;
+    const double a = g - st->black - d * (1.0 - k);
     const double var = sumsq * inv_n - m * m;
-    const double b = d * k / range_for(r, black);
+    const double b = d * k / st->r;
     return (uint8_t)((a <= 0) | (a * a < b * b * var));
 }
 
-double lt_black_point(const lt_image *gray)
+/* The gray points from a histogram of whole-tile sums (TILE_SUMS bins, `tiles` counted): from the
+ * page's black point M (the darkest tile's mean) and white point W (the mean that WHITE_SHARE of
+ * the tiles are at most), the share t of the full stretch by the ratio M / W (0 up to PLAIN_RATIO,
+ * 1 from STRETCHED_RATIO, linear between), and the points t M and 255 - t (255 - W): (0, 255),
+ * plain Sauvola, for print on paper, (M, W) for a pale page. */
+static void points_from_histogram(const uint32_t *hist, size_t tiles, double *black, double *white)
 {
+    int darkest = 0;
+    while (darkest < TILE_SUMS - 1 && hist[darkest] == 0)
+        darkest++;
+    const double want = WHITE_SHARE * (double)tiles;
+    size_t below = 0;
+    int lightest = 0;
+    for (; lightest < TILE_SUMS - 1; lightest++)
+        if ((double)(below += hist[lightest]) >= want) break;
+    const double page_black = (double)darkest / (TILE * TILE);
+    const double page_white = (double)lightest / (TILE * TILE);
+    const double ratio = page_white > 0 ? page_black / page_white : 0;
+    const double t = ratio <= PLAIN_RATIO ? 0
+                     : ratio >= STRETCHED_RATIO
+                         ? 1
+                         : (ratio - PLAIN_RATIO) / (STRETCHED_RATIO - PLAIN_RATIO);
+    *black = t * page_black;
+    *white = 255.0 - t * (255.0 - page_white);
+}
+
+int lt_gray_points(const lt_image *gray, double *black, double *white)
+{
+    *black = 0, *white = 255;
     if (!gray || gray->kind != LT_IMAGE_GRAY) return 0;
     const int w = gray->width, tiles_x = gray->width / TILE, tiles_y = gray->height / TILE;
     if (tiles_x < 1 || tiles_y < 1) return 0;
+    uint32_t *hist = calloc(TILE_SUMS, sizeof *hist);
+    if (!hist) return LT_ENOMEM;
     _Static_assert(TILE == 3, "the sum below adds 3 x 3 pixels");
-    unsigned darkest = TILE * TILE * 255;
     for (int ty = 0; ty < tiles_y; ty++) {
         const uint8_t *r0 = gray->pixels + (size_t)ty * TILE * w, *r1 = r0 + w, *r2 = r1 + w;
-        for (int x = 0; x < tiles_x * TILE; x += TILE) {
-            const unsigned sum = r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] +
-                                 r2[x] + r2[x + 1] + r2[x + 2];
-            darkest = sum < darkest ? sum : darkest;
-        }
+        for (int x = 0; x < tiles_x * TILE; x += TILE)
+            hist[r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] + r2[x] + r2[x + 1] +
+                 r2[x + 2]]++;
     }
-    return (double)darkest / (TILE * TILE);
+    points_from_histogram(hist, (size_t)tiles_x * tiles_y, black, white);
+    free(hist);
+    return 0;
 }
 
 int lt_sauvola_window_px(const lt_params *p, double dpi)
@@ -129,7 +154,7 @@ int lt_sauvola_window_px(const lt_params *p, double dpi)
 
 /* The threshold at every pixel, from running column sums and running sums along the row.
  * Sets *ink, or returns LT_ENOMEM. */
-static int binarize_exact(const lt_image *gray, int window_px, double k, double r, double black,
+static int binarize_exact(const lt_image *gray, int window_px, double k, const stretch *st,
                           lt_image **ink)
 {
     const int w = gray->width, h = gray->height, half = window_px / 2;
@@ -141,7 +166,6 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, double 
     int rc = LT_ENOMEM;
     if (!out || !colsum || !colsq || !winsum || !winsq || !inv_cols) goto done;
     out->dpi = gray->dpi;
-    const stretch st = stretch_for(black, k);
     for (int x = 0; x < w; x++) {
         int right = x + half < w ? x + half : w - 1, left = x - half > 0 ? x - half : 0;
         inv_cols[x] = 1.0 / (right - left + 1);
@@ -194,7 +218,7 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, double 
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
         for (int x = 0; x < w; x++)
-            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, r, &st);
+            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, st);
     }
     *ink = out;
     out = NULL;
@@ -288,7 +312,7 @@ done:
  * roots drop to one per tile. Thresholds in 16.16 fixed point; ink where gray <= threshold.
  * Sets *ink, or returns LT_ENOMEM. */
 static int binarize_sampled(const lt_image *gray, int window_px, double k, double r, double black,
-                            lt_image **ink, lt_dark_map *dark)
+                            double white, lt_image **ink, lt_dark_map *dark)
 {
     const int w = gray->width, h = gray->height, centre = TILE / 2;
     const int gw = (w + TILE - 1) / TILE, gh = (h + TILE - 1) / TILE;
@@ -312,9 +336,10 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
         inv_cols[tx] = 1.0 / ((right < w ? right : w) - (left > 0 ? left : 0));
     }
 
-    /* 1. Tile sums of the gray values and of their squares; the darkest whole tile, read as
-     * each row of tiles is complete (while it is in the cache). */
-    unsigned darkest = TILE * TILE * 255;
+    /* 1. Tile sums of the gray values and of their squares; the histogram of the whole tiles'
+     * sums, counted as each row of tiles is complete (while it is in the cache). */
+    uint32_t *hist = calloc(TILE_SUMS, sizeof *hist);
+    if (!hist) goto done;
     for (int y = 0; y < h; y++) {
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint16_t *ts = tsum + (size_t)(y / TILE) * gw;
@@ -326,7 +351,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
                 const unsigned sum = ts[t] + a + b + c;
                 ts[t] = (uint16_t)sum;
                 tq[t] += a * a + b * b + c * c;
-                darkest = sum < darkest ? sum : darkest;
+                hist[sum]++;
             }
         else
             for (; x + TILE <= w; x += TILE, t++) {
@@ -339,10 +364,15 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             tq[t] += (uint32_t)src[x] * src[x];
         }
     }
-    if (black == LT_BLACK_POINT_AUTO) /* the page's: lt_black_point */
-        black = w >= TILE && h >= TILE ? (double)darkest / (TILE * TILE) : 0;
-    const stretch st = stretch_for(black, k);
-    const double k_over_r = k / r;
+    if (w >= TILE && h >= TILE) { /* else 0 and 255, as lt_gray_points */
+        double page_black, page_white;
+        points_from_histogram(hist, (size_t)(w / TILE) * (h / TILE), &page_black, &page_white);
+        black = black == LT_GRAY_POINT_AUTO ? page_black : black;
+        white = white == LT_GRAY_POINT_AUTO ? page_white : white;
+    }
+    free(hist);
+    const stretch st = stretch_for(black < 0 ? 0 : black, white < 0 ? 255 : white, r);
+    const double k_over_r = k / r, k_over_rs = k / st.r;
     /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
      * the image, from column sums that slide down the tile rows. */
     for (int ty = 0; ty < reach && ty < gh; ty++)
@@ -380,9 +410,8 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             }
             const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
             const double var = (double)sumsq * inv_n - m * m, sd = var > 0 ? sqrt(var) : 0;
-            const double wb = black > 0 ? window_black(&st, m) : 0;
-            const double k_over_rw = wb > 0 ? k / range_for(r, wb) : k_over_r;
-            double t = wb + (m - wb) * (1.0 - k + k_over_rw * sd);
+            const double d = m > st.black ? m - st.black : 0;
+            double t = st.black + d * (1.0 - k + k_over_rs * sd);
             const size_t at = (size_t)ty * gw + tx;
             if (dark && m < DARK_MEAN) {
                 if (!light_from) { /* the first dark tile: those before it are not */
@@ -476,44 +505,55 @@ done:
 }
 
 static int binarize(const lt_image *gray, int window_px, double k, double r, double black,
-                    int sampled, lt_image **ink, lt_dark_map *dark, lt_error *err)
+                    double white, int sampled, lt_image **ink, lt_dark_map *dark, lt_error *err)
 {
     *ink = NULL;
     if (dark) *dark = (lt_dark_map){0};
+    const int auto_black = black == LT_GRAY_POINT_AUTO, auto_white = white == LT_GRAY_POINT_AUTO;
     if (!gray || gray->kind != LT_IMAGE_GRAY || window_px < 1 || window_px > LT_MAX_WINDOW_PX ||
-        r <= 0 || k < 0 || !(black == LT_BLACK_POINT_AUTO || (black >= 0 && black <= 255)))
+        r <= 0 || k < 0 || !(auto_black || (black >= 0 && black <= 255)) ||
+        !(auto_white || (white >= 0 && white <= 255)) ||
+        (!auto_black && !auto_white && !(black < white)))
         return lt_error_set(err, LT_EINVAL, "binarize: bad arguments");
     /* Sampling needs a window of whole tiles, odd, and wide against a tile (9 tiles at least). */
     sampled = sampled && window_px % (2 * TILE) == TILE && window_px >= 9 * TILE;
-    if (black == LT_BLACK_POINT_AUTO && !sampled)
-        black = lt_black_point(gray); /* sampled: its own */
-    int rc = sampled ? binarize_sampled(gray, window_px, k, r, black, ink, dark)
-                     : binarize_exact(gray, window_px, k, r, black, ink);
+    int rc = 0;
+    if (sampled) {
+        rc = binarize_sampled(gray, window_px, k, r, black, white, ink, dark); /* points its own */
+    } else {
+        double page_black = black, page_white = white;
+        if ((auto_black || auto_white) && (rc = lt_gray_points(gray, &page_black, &page_white)))
+            return lt_error_set(err, rc, "binarize: out of memory");
+        const stretch st =
+            stretch_for(auto_black ? page_black : black, auto_white ? page_white : white, r);
+        rc = binarize_exact(gray, window_px, k, &st, ink);
+    }
     return rc ? lt_error_set(err, rc, "binarize: out of memory") : 0;
 }
 
 int lt_binarize(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                 lt_error *err)
 {
-    return binarize(gray, window_px, k, r, 0, 0, ink, NULL, err);
+    return binarize(gray, window_px, k, r, 0, 255, 0, ink, NULL, err);
 }
 
 int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                         lt_error *err)
 {
-    return binarize(gray, window_px, k, r, 0, 1, ink, NULL, err);
+    return binarize(gray, window_px, k, r, 0, 255, 1, ink, NULL, err);
 }
 
 int lt_binarize_normalized(const lt_image *gray, int window_px, double k, double r, double black,
-                           int sampled, lt_image **ink, lt_error *err)
+                           double white, int sampled, lt_image **ink, lt_error *err)
 {
-    return binarize(gray, window_px, k, r, black, sampled, ink, NULL, err);
+    return binarize(gray, window_px, k, r, black, white, sampled, ink, NULL, err);
 }
 
 int lt_binarize_page(const lt_image *gray, int window_px, double k, double r, lt_image **ink,
                      lt_dark_map *dark, lt_error *err)
 {
-    int rc = binarize(gray, window_px, k, r, LT_BLACK_POINT_AUTO, 1, ink, dark, err);
+    int rc =
+        binarize(gray, window_px, k, r, LT_GRAY_POINT_AUTO, LT_GRAY_POINT_AUTO, 1, ink, dark, err);
     if (rc) lt_dark_map_clear(dark);
     return rc;
 }

@@ -178,7 +178,8 @@ static int crop_source(const crop_options *opt, const lt_image *img, double dpi,
     int window = lt_sauvola_window_px(&opt->an.params, dpi); /* the analyser's window */
     lt_image *ink = NULL;
     int rc = lt_binarize_normalized(img, window, opt->an.params.sauvola_k,
-                                    opt->an.params.sauvola_r, LT_BLACK_POINT_AUTO, 0, &ink, err);
+                                    opt->an.params.sauvola_r, LT_GRAY_POINT_AUTO,
+                                    LT_GRAY_POINT_AUTO, 0, &ink, err);
     if (rc == 0) rc = lt_ink_to_gray(ink, out, err);
     lt_image_free(ink);
     return rc;

@@ -260,7 +260,8 @@ static int load_page_ink(const results *r, const char *name, const lt_scored_pag
     if (!rc && img->kind == LT_IMAGE_GRAY) {
         const double dpi = img->dpi > 0 ? img->dpi : params.dpi;
         rc = lt_binarize_normalized(img, lt_sauvola_window_px(&params, dpi), params.sauvola_k,
-                                    params.sauvola_r, LT_BLACK_POINT_AUTO, 1, &ink, err);
+                                    params.sauvola_r, LT_GRAY_POINT_AUTO, LT_GRAY_POINT_AUTO, 1,
+                                    &ink, err);
     }
     if (!rc) rc = lt_ink_table_new(ink ? ink : img, t->has_skew ? t->skew_deg : 0, out, err);
     lt_image_free(ink);

@@ -55,9 +55,11 @@ double lt_median(double *v, int n);
 void lt_shorten_middle(char *dst, size_t size, const char *text);
 /* 1 when dpi lies in LT_MIN_DPI..LT_MAX_DPI (0 for NaN and infinities). */
 int lt_dpi_plausible(double dpi);
-/* The black point lt_binarize_normalized takes for LT_BLACK_POINT_AUTO: the mean gray of the
- * darkest 3 x 3 tile (tiles at multiples of 3 px); 0 for a page without a whole tile. */
-double lt_black_point(const lt_image *gray);
+/* The gray points lt_binarize_normalized takes for LT_GRAY_POINT_AUTO (see lineate.h): from
+ * the mean gray of the darkest 3 x 3 tile and the tile mean that nine tenths of the tiles are
+ * at most (whole tiles at multiples of 3 px); 0 and 255 for a page of print on paper or without
+ * a whole tile. Returns 0 or LT_ENOMEM. */
+int lt_gray_points(const lt_image *gray, double *black, double *white);
 /* Where the analysis's binarization read light marks on a dark ground as the ink: one flag
  * per tile of tile_px x tile_px pixels of the page (tiles_x x tiles_y, row-major), 1 where it
  * did; `dark` NULL when it did nowhere. */
@@ -65,7 +67,7 @@ typedef struct lt_dark_map {
     int tile_px, tiles_x, tiles_y;
     uint8_t *dark;
 } lt_dark_map;
-/* The binarization of lt_analyze: lt_binarize_normalized with the page's black point, sampled,
+/* The binarization of lt_analyze: lt_binarize_normalized with the page's gray points, sampled,
  * and in dark regions that look like print (window means under 100, at least three windows
  * wide and half a window tall, marks that stand out, clear of the page's edge unless they cover
  * half the page; see binarize.c) Sauvola's threshold on the negative instead, so that light

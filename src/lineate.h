@@ -332,19 +332,23 @@ LT_API int lt_binarize(const lt_image *gray, int window_px, double k, double r, 
  * what lt_analyze uses. */
 LT_API int lt_binarize_sampled(const lt_image *gray, int window_px, double k, double r,
                                lt_image **ink, lt_error *err);
-/* Sauvola's threshold in Wolf & Jolion's (2004) normalised form where the ink is pale, which
- * the analysis uses: ink where gray <= m - k * (1 - s / R') * (m - M'), R' = r * (255 - M') / 255,
- * that is Sauvola's threshold on the gray range [M', 255] stretched to [0, 255]. M' is chosen per
- * window from the page's black point M (`black`, a gray level 0..255): the least value, 0 at
- * best, that puts the threshold over flat paper ((1 - k) m for Sauvola) halfway between M and
- * m; at most M, and 0 unless m is at least 64 levels above it. So black ink on white paper
- * gets Sauvola's threshold (M' = 0), faded print of gray 170 on paper of 235, which Sauvola
- * loses, its own, and dark windows (pictures, scan borders) Sauvola's. `black` 0 gives
- * lt_binarize; LT_BLACK_POINT_AUTO takes the page's: the mean of its darkest 3 x 3 tile (tiles
- * at multiples of 3 px). `sampled` nonzero: sampled as lt_binarize_sampled, else exact. */
-#define LT_BLACK_POINT_AUTO (-1.0)
+/* Sauvola's threshold in Wolf & Jolion's (2004) normalised form, which the analysis uses:
+ * Sauvola's threshold on the page's gray range [black, white] stretched to [0, 255], mapped
+ * back: ink where gray <= M + (m - M) * (1 - k * (1 - s / R')), R' = r * (W - M) / 255 (W - M
+ * taken as 64 when less). The threshold follows any increasing linear map of the gray levels
+ * that the two points follow, so a faded, pale or lightened copy of a page (ink of gray 170 on
+ * paper of 235, which Sauvola's own threshold, 0.66 m over paper, loses) gives the ink of the
+ * page itself; M = 0 and W = 255 give lt_binarize. `black` and `white` are gray levels 0..255
+ * (black < white) or LT_GRAY_POINT_AUTO for the page's own: from the mean of its darkest 3 x 3
+ * tile B and the tile mean P that nine tenths of the tiles are at most (the paper; tiles at
+ * multiples of 3 px, whole tiles only), M = t B and W = 255 - t (255 - P), t = 0 while B is
+ * under 0.3 P (print on paper as scanned: Sauvola's threshold), 1 from 0.55 P (a pale page:
+ * its whole range), linear between. `sampled` nonzero: sampled as lt_binarize_sampled, else
+ * exact. */
+#define LT_GRAY_POINT_AUTO (-1.0)
 LT_API int lt_binarize_normalized(const lt_image *gray, int window_px, double k, double r,
-                                  double black, int sampled, lt_image **ink, lt_error *err);
+                                  double black, double white, int sampled, lt_image **ink,
+                                  lt_error *err);
 
 typedef struct lt_skew {
     double angle_deg;  /* 0 when confidence is 0 */

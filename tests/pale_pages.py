@@ -1,9 +1,10 @@
 #!/usr/bin/python3
-"""pale_pages.py: pale, gray and negative print must give the lines of the page in black.
+"""pale_pages.py: pale, light, gray and negative print must give the lines of the page in black.
 
 Known transformations (Python's PIL and numpy, applied to the gray page g, 0 = black):
   pale   the gray range mapped linearly onto [170, 235]: 170 + g * 65 / 255 (faded print on
          toned paper, a carbon copy)
+  light  the gray range mapped linearly onto [150, 255]: 150 + g * 105 / 255 (a light copy)
   gray   the text lightened to gray 170 on white: 170 + g * 85 / 255
   tint   as gray, and the middle third of the page's rows on a tint of 235 (a code listing's
          background): 170 + g * 65 / 255 there
@@ -20,7 +21,7 @@ marked "light_on_dark".
 
 Usage: pale_pages.py [--floor F] [--only pale|negative] LINEATE WORK_DIR PAGE.png...
   --floor F   fail when a variant scores below F (default: report only)
-  --only KIND only the pale, gray and tint variants, or only the negative and box
+  --only KIND only the pale, light, gray and tint variants, or only the negative and box
 Prints one row per page and variant, then the mean F1 and the count below 0.98 per variant.
 Exit status: 0 pass, 1 fail, 77 skip (numpy or PIL missing).
 """
@@ -38,6 +39,7 @@ except ImportError as exc:
     sys.exit(77)
 
 INK_GRAY = 170     # the darkest ink of the pale variants
+LIGHT_INK_GRAY = 150  # the darkest ink of the light copy (on white)
 PAPER_PALE = 235   # toned paper of the pale page, and the tint
 TARGET_F1 = 0.98   # the F1 the report counts pages against
 LOW_DPI = 200
@@ -51,10 +53,11 @@ def variants(gray):
     g = gray.astype(np.float64)
     pale = INK_GRAY + g * (PAPER_PALE - INK_GRAY) / 255.0
     on_white = INK_GRAY + g * (255 - INK_GRAY) / 255.0
+    light = LIGHT_INK_GRAY + g * (255 - LIGHT_INK_GRAY) / 255.0
     tint = on_white.copy()
     third = g.shape[0] // 3
     tint[third:2 * third] = pale[third:2 * third]
-    return {"pale": pale, "gray": on_white, "tint": tint}
+    return {"pale": pale, "light": light, "gray": on_white, "tint": tint}
 
 
 def white_row(gray, near, reach=300):

@@ -1,9 +1,9 @@
 #!/bin/sh
 # pale_pages.sh: automake driver of tests/pale_pages.py on three pages of testdata/corpus (two
-# clean, one shaded): pale, gray and tinted variants, at 300 and 200 dpi, give the lines of the
-# untouched page at F1 >= 0.98; the negative and a box in negative of the two clean pages too,
-# with exactly the lines in negative marked light_on_dark. With CORPUS=DIR (make pale-corpus), every clean page DIR/*.png
-# (not the NAME-d.png copies), reported without a floor.
+# clean, one shaded): pale, light, gray and tinted variants, at 300 and 200 dpi, give the lines
+# of the untouched page at F1 >= 0.98; the negative and a box in negative of the two clean pages
+# too, with exactly the lines in negative marked light_on_dark. With CORPUS=DIR (make
+# pale-corpus), every clean page DIR/*.png (not the NAME-d.png copies), reported without a floor.
 # Exit status: 0 pass, 1 fail, 77 skip (no python3 with numpy and PIL).
 here=$(cd "$(dirname "$0")" && pwd)
 srcdir=${top_srcdir:-$(dirname "$here")}

@@ -2,11 +2,12 @@
 """ref_sauvola.py: checks lineate's Sauvola binarization against scikit-image's.
 
 Plain Sauvola (lt_binarize, lt_binarize_sampled) against skimage's threshold_sauvola; the
-normalised form the analysis uses (lt_binarize_normalized with the page's own black point,
-exact and sampled) against the published formula T = m - k (1 - s / R') (m - M') (Wolf & Jolion
-2004 with lineate's choice of M', see src/binarize.c) computed here with numpy from the window
-mean and deviation of skimage's threshold_niblack (T = m - k s: k = 0 gives m, k = -1 gives
-m + s), on the same images and on their pale copies (gray range mapped onto [170, 235]).
+normalised form the analysis uses (lt_binarize_normalized with the page's own gray points,
+exact and sampled) against the published formula T = M + (m - M) (1 - k (1 - s / R')),
+R' = R (W - M) / 255 (Wolf & Jolion 2004 with lineate's choice of M and W, see src/binarize.c)
+computed here with numpy from the window mean and deviation of skimage's threshold_niblack
+(T = m - k s: k = 0 gives m, k = -1 gives m + s), on the same images and on their pale copies
+(gray range mapped onto [170, 235]).
 
 Reference: skimage.filters.threshold_sauvola(image, window_size=W, k=K, r=R) from Debian's
 python3-skimage, which computes T = m * (1 + k * (s / R - 1)) (Sauvola & Pietikainen 2000) with
@@ -63,42 +64,47 @@ MIN_SAMPLED_INTERIOR_AGREEMENT = 0.999
 # example `binary = image > thresh`) and paper for the other (gray < T, lineate's documented
 # rule); floating-point sums decide such ties at random, so they count as agreement either way.
 TIE_EPS = 1e-6
-# The choice of M' per window (src/binarize.c): the threshold over flat paper at least this share
-# of the way from the page's black point up to the window's mean, and M' at least MIN_CONTRAST
-# below the mean (else 0).
-FLAT_THRESHOLD_SHARE = 0.5
-MIN_CONTRAST = 64
-# The normalised form is checked with the analysis's k (its M' differs from 0 only for k < 0.5).
+# The gray points (src/binarize.c): the white point is the tile mean that WHITE_SHARE of the
+# tiles are at most; the range is stretched by the share 0 up to a black point PLAIN_RATIO of
+# the white point, fully from STRETCHED_RATIO, linearly between; at least MIN_RANGE wide.
+WHITE_SHARE = 0.9
+PLAIN_RATIO, STRETCHED_RATIO = 0.3, 0.55
+MIN_RANGE = 64
+# The normalised form is checked with the analysis's k.
 NORMALIZED_K = 0.34
 # Floor of the sampled normalised form on all pixels and on the interior. On a pale copy the gray
 # range is a quarter as wide, so about four times as many pixels lie within the interpolation's
-# error of the threshold: measured when this was written, 99.90% at the worst (pale synthetic
-# page, W 33) and 99.96% to 100% elsewhere; a window off by 2 px gives about 99.8% (above).
+# error of the threshold: measured when this was written, 99.94% at the worst (pale crop, W 33)
+# and 99.97% to 100% elsewhere; a window off by 2 px gives about 99.8% (above).
 MIN_PALE_SAMPLED_AGREEMENT = 0.9985
 # Pale copies: the gray range mapped onto [PALE_INK, PALE_PAPER].
 PALE_INK, PALE_PAPER = 170, 235
 
 
-def black_point(gray):
-    """The page's black point: the mean of its darkest whole 3 x 3 tile, tiles at multiples
-    of 3 px (0 when there is none)."""
+def gray_points(gray):
+    """The page's gray points: from the mean of its darkest whole 3 x 3 tile (M) and the tile
+    mean that WHITE_SHARE of the tiles are at most (W), tiles at multiples of 3 px, the share t
+    of the stretch by M / W and the points (t M, 255 - t (255 - W)); (0, 255) without a tile."""
     h, w = (gray.shape[0] // 3) * 3, (gray.shape[1] // 3) * 3
     if h == 0 or w == 0:
-        return 0.0
-    tiles = gray[:h, :w].astype(np.int64).reshape(h // 3, 3, w // 3, 3).sum(axis=(1, 3))
-    return tiles.min() / 9.0
+        return 0.0, 255.0
+    tiles = np.sort(gray[:h, :w].astype(np.int64).reshape(h // 3, 3, w // 3, 3)
+                    .sum(axis=(1, 3)).ravel())
+    black = tiles[0] / 9.0
+    white = tiles[int(np.ceil(WHITE_SHARE * tiles.size)) - 1] / 9.0
+    ratio = black / white if white > 0 else 0.0
+    t = min(1.0, max(0.0, (ratio - PLAIN_RATIO) / (STRETCHED_RATIO - PLAIN_RATIO)))
+    return t * black, 255.0 - t * (255.0 - white)
 
 
-def normalized_threshold(gray, window_px, k, black):
-    """T = M' + (m - M') (1 - k + k s / R'), R' = R (255 - M') / 255, M' per window from the page's
-    black point; m and s from skimage's threshold_niblack (reflect padding at the border)."""
+def normalized_threshold(gray, window_px, k, points):
+    """T = M + (m - M) (1 - k + k s / R'), R' = R max(W - M, MIN_RANGE) / 255 (m below M taken
+    as M); m and s from skimage's threshold_niblack (reflect padding at the border)."""
+    black, white = points
     m = threshold_niblack(gray, window_size=window_px, k=0)
     s = threshold_niblack(gray, window_size=window_px, k=-1) - m
-    f = FLAT_THRESHOLD_SHARE
-    mb = (black * (1 - f) - m * (1 - k - f)) / k
-    mb = np.minimum(mb, m - MIN_CONTRAST)
-    mb = np.clip(mb, 0, black)
-    return mb + (m - mb) * (1 - k + k * s / (R * (255 - mb) / 255))
+    r = R * max(white - black, MIN_RANGE) / 255
+    return black + np.maximum(m - black, 0) * (1 - k + k * s / r)
 
 
 def synthetic_page(seed=20240101, height_px=700, width_px=1000):
@@ -158,10 +164,10 @@ def read_pgm(path):
                          offset=pos).reshape(height, width)
 
 
-def lineate_ink(tool, png_path, window_px, k, out_path, mode, expect_black):
+def lineate_ink(tool, png_path, window_px, k, out_path, mode, expect_points):
     """Runs lineate's binarization (mode "exact": lt_binarize, "sampled": lt_binarize_sampled,
-    "normalized" and "normalized-sampled": lt_binarize_normalized with the page's black
-    point); returns its ink mask (True = ink)."""
+    "normalized" and "normalized-sampled": lt_binarize_normalized with the page's gray
+    points); returns its ink mask (True = ink)."""
     cmd = [tool, "binarize", png_path, str(window_px), repr(k), repr(R), out_path]
     cmd.append("sampled" if mode.endswith("sampled") else "exact")
     if mode.startswith("normalized"):
@@ -177,9 +183,11 @@ def lineate_ink(tool, png_path, window_px, k, out_path, mode, expect_black):
         raise ValueError("%s: values other than 0 and 255: %s" % (out_path, values[:8]))
     if mode.startswith("normalized"):
         words = proc.stdout.decode().split()
-        if len(words) != 2 or words[0] != "black" or abs(float(words[1]) - expect_black) > 1e-4:
-            raise ValueError("black point: %r, the darkest 3 x 3 tile gives %.6f" %
-                             (proc.stdout, expect_black))
+        if (len(words) != 4 or words[0] != "black" or words[2] != "white" or
+                abs(float(words[1]) - expect_points[0]) > 1e-4 or
+                abs(float(words[3]) - expect_points[1]) > 1e-4):
+            raise ValueError("gray points: %r, the tiles give %.6f %.6f" %
+                             ((proc.stdout,) + tuple(expect_points)))
     return pgm == 0
 
 
@@ -223,12 +231,12 @@ def main(argv):
             print("FAIL %s: %s is not 8-bit gray" % (name, path))
             failures += 1
             continue
-        black = black_point(gray)
+        points = gray_points(gray)
         for mode, window_px, k, min_all, min_interior in runs:
             if mode.startswith("normalized"):
-                if name in ("newsletter", "synthetic"):
-                    continue  # black point 0 here: the plain cases above
-                threshold = normalized_threshold(gray, window_px, k, black)
+                if points == (0.0, 255.0):
+                    continue  # plain Sauvola: the cases above
+                threshold = normalized_threshold(gray, window_px, k, points)
             elif name.startswith("pale-"):
                 continue  # plain Sauvola loses pale print: nothing to compare
             else:
@@ -237,7 +245,7 @@ def main(argv):
             ties = np.abs(gray.astype(np.float64) - threshold) <= TIE_EPS
             out_path = os.path.join(work, "%s-%s-%d-%g.pgm" % (name, mode, window_px, k))
             try:
-                ink = lineate_ink(tool, path, window_px, k, out_path, mode, black)
+                ink = lineate_ink(tool, path, window_px, k, out_path, mode, points)
             except (RuntimeError, ValueError, OSError,
                     subprocess.TimeoutExpired) as exc:
                 print("FAIL %s W=%d k=%g: %s" % (name, window_px, k, exc))

@@ -1,7 +1,8 @@
 /* test_binarize.c — checks lt_binarize against the published Sauvola & Pietikäinen (2000)
  * threshold T = m * (1 + k * (s / R - 1)): exact results on built pages, a worked example done
  * by hand, and a naive per-pixel reference (written here, independently) on random images;
- * lt_binarize_normalized on pale strokes that Sauvola's threshold loses; lt_binarize_page on
+ * lt_binarize_normalized on pale strokes that Sauvola's threshold loses and on pale copies of a
+ * page with black and gray print; lt_binarize_page on
  * light strokes on a dark ground.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
@@ -321,10 +322,10 @@ static void test_window_one(void)
 /* Pale print (Wolf & Jolion's normalised form, lt_binarize_normalized): strokes of gray 170 on
  * paper of 235, the darkest 3 x 3 tile 170, ink a fifth of any window at most. Sauvola's
  * published threshold over paper, 235 (1 - 0.34) = 155, lies below the ink: plain Sauvola
- * finds none. The normalised threshold, exact and sampled, must give exactly the strokes: near
- * them the window's black point M' puts the threshold above 170 (the flat-paper threshold at
- * least halfway up from 170), and it stays below the window's mean, so paper is paper. A page of
- * black strokes (black point 0) gives lt_binarize's ink bit for bit. */
+ * finds none. The normalised threshold, exact and sampled, must give exactly the strokes: the
+ * range [170, 235] stretched to [0, 255] makes them black strokes on white, whose ink Sauvola's
+ * threshold gets exactly (the second pass). A page of black strokes (gray points 0 and 255)
+ * gives lt_binarize's ink bit for bit. */
 static void test_pale(void)
 {
     const int w = 240, h = 180;
@@ -334,14 +335,18 @@ static void test_pale(void)
         for (int row = 0; row < 4; row++) /* "lines" of 5 px strokes, 14 px apart */
             for (int x = 12; x + 5 < w - 12; x += 14)
                 tu_fill(g, x, 20 + 40 * row, x + 5, 20 + 40 * row + 22 - (x % 3) * 4, ink_gray);
-        CHECK(fabs(lt_black_point(g) - ink_gray) < 1e-9, "pale %d: black point %g, want %d", pass,
-              lt_black_point(g), ink_gray);
+        double black = -1, white = -1;
+        CHECK_INT(lt_gray_points(g, &black, &white), 0, "pale %d: lt_gray_points", pass);
+        /* Strokes of 170 on 235 (black over white 0.72): the range stretched fully; black on
+         * 230 (0): not at all, which is plain Sauvola. */
+        CHECK(black == (pass == 0 ? ink_gray : 0) && white == (pass == 0 ? paper : 255),
+              "pale %d: gray points %g %g", pass, black, white);
         lt_image *plain = binarize(g, 33, 0.34, 128, "pale: plain");
         for (int sampled = 0; sampled < 2; sampled++) {
             lt_error err = {0};
             lt_image *ink = NULL;
-            if (lt_binarize_normalized(g, 33, 0.34, 128, LT_BLACK_POINT_AUTO, sampled, &ink,
-                                       &err)) {
+            if (lt_binarize_normalized(g, 33, 0.34, 128, LT_GRAY_POINT_AUTO, LT_GRAY_POINT_AUTO,
+                                       sampled, &ink, &err)) {
                 tu_fail("pale: lt_binarize_normalized failed: %s", err.message);
                 continue;
             }
@@ -362,6 +367,68 @@ static void test_pale(void)
         lt_image_free(plain);
         lt_image_free(g);
     }
+}
+
+/* Pale copies of a page with black print and a block of gray print (170, as captions,
+ * marginal notes or shaded headings are set): its gray range mapped linearly onto [170, 235]
+ * (pale), [150, 255] (light) and [170, 255] (gray). The reference is the original page's ink
+ * under plain Sauvola (lt_binarize and lt_binarize_sampled, whose formula tests/ref_sauvola.py
+ * checks against scikit-image's threshold_sauvola), which holds every stroke of both blocks;
+ * the normalised form on each copy (its own gray points) must give that ink pixel for pixel,
+ * as the copy is a known linear map of the gray levels (rounded to whole levels). A threshold
+ * that stretches the pale copy by less than its whole range loses the gray block there. */
+static void test_pale_copies(void)
+{
+    const int w = 480, h = 200, window = 33;
+    const struct {
+        int ink, paper;
+        const char *name;
+    } copies[] = {{170, 235, "pale"}, {150, 255, "light"}, {170, 255, "gray"}};
+    lt_image *page = tu_image(w, h, LT_IMAGE_GRAY, 255);
+    for (int block = 0; block < 2; block++) /* black strokes left, gray strokes right */
+        for (int row = 0; row < 4; row++)
+            for (int x = 20 + block * 240; x + 5 < 220 + block * 240; x += 14)
+                tu_fill(page, x, 20 + 40 * row, x + 5, 20 + 40 * row + 22 - (x % 3) * 4,
+                        block ? 170 : 0);
+    for (int sampled = 0; sampled < 2; sampled++) {
+        lt_error err = {0};
+        lt_image *original = NULL;
+        int rc = sampled ? lt_binarize_sampled(page, window, 0.34, 128, &original, &err)
+                         : lt_binarize(page, window, 0.34, 128, &original, &err);
+        if (rc) {
+            tu_fail("pale copies: the original's ink: %s", err.message);
+            continue;
+        }
+        long missed = 0;
+        for (int i = 0; i < w * h; i++)
+            missed += original->pixels[i] != (page->pixels[i] < 255);
+        CHECK_INT(missed, 0, "pale copies, sampled %d: the original's strokes lost", sampled);
+        for (size_t c = 0; c < sizeof copies / sizeof copies[0]; c++) {
+            lt_image *copy = tu_image(w, h, LT_IMAGE_GRAY, 0), *ink = NULL;
+            const double scale = (copies[c].paper - copies[c].ink) / 255.0;
+            for (int i = 0; i < w * h; i++)
+                copy->pixels[i] = (uint8_t)lround(copies[c].ink + page->pixels[i] * scale);
+            if (lt_binarize_normalized(copy, window, 0.34, 128, LT_GRAY_POINT_AUTO,
+                                       LT_GRAY_POINT_AUTO, sampled, &ink, &err)) {
+                tu_fail("pale copies: %s: %s", copies[c].name, err.message);
+                lt_image_free(copy);
+                continue;
+            }
+            long differ = 0, gray_lost = 0;
+            for (int i = 0; i < w * h; i++) {
+                differ += ink->pixels[i] != original->pixels[i];
+                gray_lost += page->pixels[i] == 170 && !ink->pixels[i];
+            }
+            CHECK(differ == 0,
+                  "pale copies, %s, sampled %d: %ld pixels differ from the "
+                  "original's ink (%ld of the gray block's lost)",
+                  copies[c].name, sampled, differ, gray_lost);
+            lt_image_free(ink);
+            lt_image_free(copy);
+        }
+        lt_image_free(original);
+    }
+    lt_image_free(page);
 }
 
 /* Light print on a dark ground (lt_binarize_page): a box of gray 20 on white paper with
@@ -440,13 +507,16 @@ static void test_bad_arguments(void)
         CHECK(out == NULL, "bad arguments (%s): output not NULL", cases[i].what);
         if (out != NULL && out != (lt_image *)&err) lt_image_free(out);
     }
-    const double blacks[] = {-2, 256, NAN};
-    for (size_t i = 0; i < sizeof blacks / sizeof blacks[0]; i++) {
+    const double points[][2] = {{-2, 255}, {256, LT_GRAY_POINT_AUTO}, {NAN, 255}, {0, -2},
+                                {0, 256},  {LT_GRAY_POINT_AUTO, NAN}, {200, 200}, {210, 40}};
+    for (size_t i = 0; i < sizeof points / sizeof points[0]; i++) {
         lt_error err = {0};
         lt_image *out = NULL;
-        int rc = lt_binarize_normalized(g, 15, 0.34, 128, blacks[i], 1, &out, &err);
-        CHECK_INT(rc, LT_EINVAL, "bad black point %g: return code", blacks[i]);
-        CHECK(out == NULL && err.message[0], "bad black point %g: output or message", blacks[i]);
+        const double black = points[i][0], white = points[i][1];
+        int rc = lt_binarize_normalized(g, 15, 0.34, 128, black, white, 1, &out, &err);
+        CHECK_INT(rc, LT_EINVAL, "bad gray points %g %g: return code", black, white);
+        CHECK(out == NULL && err.message[0], "bad gray points %g %g: output or message", black,
+              white);
         lt_image_free(out);
     }
     lt_image_free(g);
@@ -463,6 +533,7 @@ int main(void)
     test_against_naive();
     test_sampled();
     test_pale();
+    test_pale_copies();
     test_light_on_dark();
     test_bad_arguments();
     printf("time %.2f s\n", tu_now_s() - t0);

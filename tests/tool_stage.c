@@ -1,10 +1,10 @@
 /* tool_stage.c — runs one pipeline stage on an image, for reference tests and benchmarks.
- *   tool_stage binarize IN W K R OUT.pgm [sampled|exact [BLACK|auto]]
+ *   tool_stage binarize IN W K R OUT.pgm [sampled|exact [BLACK WHITE|auto]]
  *                                          Sauvola ink as PGM (0 = ink, 255 = paper), from
  *                                          lt_binarize, or lt_binarize_sampled with "sampled";
- *                                          with BLACK, lt_binarize_normalized with that black
- *                                          point ("auto": the page's, lt_black_point), printed
- *                                          as "black B"
+ *                                          with BLACK WHITE, lt_binarize_normalized with those
+ *                                          gray points ("auto": the page's, lt_gray_points),
+ *                                          printed as "black B white W"
  *   tool_stage skew IN                     prints "angle_deg confidence"
  *   tool_stage components IN              prints "count", then "left top right bottom pixels"
  *   tool_stage separators IN               prints the text height, then "rule|gutter left top
@@ -270,12 +270,15 @@ int main(int argc, char **argv)
         lt_image *img = load(argv[2]), *ink = NULL;
         if (img->kind != LT_IMAGE_GRAY) return fprintf(stderr, "tool_stage: not gray\n"), 1;
         const int sampled = argc >= 8 && strcmp(argv[7], "sampled") == 0;
-        double black = 0; /* plain Sauvola */
-        if (argc >= 9) {
-            black = strcmp(argv[8], "auto") == 0 ? lt_black_point(img) : atof(argv[8]);
-            printf("black %.6f\n", black);
+        double black = 0, white = 255; /* plain Sauvola */
+        if (argc >= 9 && strcmp(argv[8], "auto") == 0) {
+            if (lt_gray_points(img, &black, &white))
+                return fprintf(stderr, "tool_stage: out of memory\n"), 1;
+        } else if (argc >= 10) {
+            black = atof(argv[8]), white = atof(argv[9]);
         }
-        if (lt_binarize_normalized(img, atoi(argv[3]), atof(argv[4]), atof(argv[5]), black,
+        if (argc >= 9) printf("black %.6f white %.6f\n", black, white);
+        if (lt_binarize_normalized(img, atoi(argv[3]), atof(argv[4]), atof(argv[5]), black, white,
                                    sampled, &ink, &err))
             return fprintf(stderr, "tool_stage: %s\n", err.message), 1;
         int bad = write_pgm(ink, argv[6]);
