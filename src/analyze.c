@@ -143,7 +143,10 @@ static int level_stages(const lt_image *ink, int turn_deg, const lt_params *para
     lt_classify_components(lp->comps, lp->th, params);
     if ((rc = lt_find_separators(lp->comps, lp->th, &lp->seps, err))) goto done;
     rc = lt_build_lines(lp->comps, lp->th, lp->seps, params, &lp->raw, err);
-    if (!rc) lt_drop_edge_slivers(lp->raw, &lp->frame, lp->th);
+    if (!rc) {
+        lt_drop_edge_slivers(lp->raw, &lp->frame, lp->th);
+        lt_drop_scan_borders(lp->comps, lp->raw, &lp->frame, lp->th);
+    }
 done:
     lt_image_free(turned);
     lt_image_free(deskewed);

@@ -201,6 +201,11 @@ void lt_raw_lines_free(lt_raw_lines *l);
  * the image as given (frame f maps them there): pieces of a scan's dark border or of a page
  * edge, no text. */
 void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_height_px);
+/* Reclassifies as speckle the picture components that reach from one edge of the image as
+ * given to the opposite one and hold text lines: a scan's dark border round the page, which
+ * frames the text but is neither a figure nor a table. */
+void lt_drop_scan_borders(lt_components *c, const lt_raw_lines *lines, const lt_frame *f,
+                          double text_height_px);
 
 /* ---- orientation (orient.c) --------------------------------------------------------- */
 /* A quarter turn, clockwise as displayed, that the evidence asks for. */

@@ -666,11 +666,36 @@ void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_he
         int edge = hull.left < hull.top ? hull.left : hull.top;
         if (w - hull.right < edge) edge = w - hull.right;
         if (h - hull.bottom < edge) edge = h - hull.bottom;
-        const int sliver = lt_box_width(&lines->items[i].box) < EDGE_SLIVER_WIDTH * th &&
-                           edge < EDGE_BAND * th;
+        const int sliver =
+            lt_box_width(&lines->items[i].box) < EDGE_SLIVER_WIDTH * th && edge < EDGE_BAND * th;
         if (!sliver) lines->items[kept++] = lines->items[i];
     }
     lines->count = kept;
+}
+
+void lt_drop_scan_borders(lt_components *c, const lt_raw_lines *lines, const lt_frame *f,
+                          double text_height_px)
+{
+    const double band = EDGE_BAND * (text_height_px > 0 ? text_height_px : 20);
+    const int w = f->given_width, h = f->given_height;
+    for (int i = 0; i < c->count; i++) {
+        lt_component *k = &c->items[i];
+        if (k->kind != LT_COMP_PICTURE) continue;
+        lt_point quad[4];
+        lt_box hull;
+        lt_frame_map_box(f, k->box, w, h, quad, &hull);
+        if (!((hull.left < band && w - hull.right < band) ||
+              (hull.top < band && h - hull.bottom < band)))
+            continue;
+        for (int l = 0; l < lines->count; l++) {
+            const lt_box *b = &lines->items[l].box;
+            const int cx = (b->left + b->right) / 2, cy = (b->top + b->bottom) / 2;
+            if (cx >= k->box.left && cx < k->box.right && cy >= k->box.top && cy < k->box.bottom) {
+                k->kind = LT_COMP_SPECKLE;
+                break;
+            }
+        }
+    }
 }
 
 void lt_raw_lines_free(lt_raw_lines *l)

@@ -393,6 +393,48 @@ static void test_initials_beside_gutter(void)
     page_free(p);
 }
 
+/* A scan's dark border: the two-column page of test_analyze inside a ring of ink 12 px wide
+ * along the four edges of the image (one component, as a scanner's lid leaves round a
+ * sheet). The ring frames every line but is neither a figure that parts them nor a table:
+ * the lines come out in the order drawn (column by column), and no table or picture block. */
+static void test_scan_border(void)
+{
+    const int w = 1600, h = 1300, band = 12;
+    tu_rng r = {4242};
+    page *p = page_new(w, h);
+    draw_line(p, &r, 500, 1100, 120, 0, 0);
+    const int top = 120 + 3 * PITCH, x0 = 120, col = 640, gutter = 3 * XH;
+    int y = draw_paragraph(p, &r, x0, x0 + col, top, 8) + PITCH;
+    draw_paragraph(p, &r, x0, x0 + col, y, 6);
+    draw_paragraph(p, &r, x0 + col + gutter, x0 + 2 * col + gutter, top, 10);
+    lt_image *gray = tu_image(w, h, LT_IMAGE_GRAY, 255);
+    for (int yy = 0; yy < h; yy++)
+        for (int xx = 0; xx < w; xx++) {
+            const int ring = xx < band || yy < band || xx >= w - band || yy >= h - band;
+            if (ring || p->img->pixels[(size_t)yy * w + xx]) gray->pixels[(size_t)yy * w + xx] = 0;
+        }
+    lt_layout *lay = NULL;
+    lt_error err = {0};
+    lt_params prm;
+    lt_params_default(&prm);
+    if (lt_analyze(gray, &prm, &lay, &err)) {
+        tu_fail("scan border: %s", err.message);
+    } else {
+        CHECK_INT(lay->nlines, p->nlines, "scan border: number of lines");
+        for (int i = 0; i < lay->nlines && i < p->nlines; i++)
+            CHECK_BOX(lay->lines[i].box, p->line_box[i], "scan border: line %d in reading order",
+                      i);
+        int framed = 0;
+        for (int b = 0; b < lay->nblocks; b++)
+            framed +=
+                lay->blocks[b].kind == LT_BLOCK_TABLE || lay->blocks[b].kind == LT_BLOCK_PICTURE;
+        CHECK_INT(framed, 0, "scan border: table or picture blocks");
+    }
+    lt_layout_free(lay);
+    lt_image_free(gray);
+    page_free(p);
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -407,6 +449,7 @@ int main(void)
     test_text_height_among_specks();
     test_edge_slivers();
     test_initials_beside_gutter();
+    test_scan_border();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
