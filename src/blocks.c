@@ -135,9 +135,9 @@ typedef struct cut_context {
     const lt_separators *seps; /* may be NULL */
     double column_min_width;   /* px: narrowest column of text a gutter cut makes */
     int rtl;
-    const lt_raw_line *lines; /* the lines (boxes[0..nreal)) */
+    const lt_raw_line *lines;  /* the lines (boxes[0..nreal)) */
     double baseline_tolerance; /* px: lines on one baseline differ by at most this */
-    span *spans;              /* scratch room for all lines */
+    span *spans;               /* scratch room for all lines */
 } cut_context;
 
 /* A rule that separates the lines idx[0..n) of a node with box `nb`: it runs along at least
@@ -252,37 +252,76 @@ static int gutter_cut(const cut_context *x, const int *idx, int n, const lt_box 
     return 0;
 }
 
-/* Whether the lines beside the gap [at - gap, at) on one side of a node with box nb make a
- * column narrower than column_min_width, at least half of them sharing a row with a line on
- * the other side (standing on its baseline, and at most twice as tall as it): labels and
- * their items, the cells of a table. A gap wider than such a column is a margin's white;
- * margin notes beside a paragraph have a pitch of their own, and pieces that share no row
- * (the bits of a scan's dark border) are no such column. */
-static int labels_beside_gap(const cut_context *x, const int *idx, int n, const lt_box *nb,
-                             int at, int gap)
+/* Whether line a stands in the row of line b: on its baseline, and at most twice as tall. */
+static int shares_row(const cut_context *x, const lt_raw_line *a, const lt_raw_line *b)
 {
-    if (gap > x->column_min_width) return 0; /* a margin's white, not a label's */
-    for (int side = 0; side < 2; side++) {
-        const int width = side == 0 ? at - gap - nb->left : nb->right - at;
-        if (width >= x->column_min_width) continue;
-        int narrow = 0, in_rows = 0;
-        for (int i = 0; i < n && (long)narrow * n <= MAX_ROW_TESTS; i++) {
-            if (idx[i] >= x->nreal) continue; /* a picture */
-            const lt_raw_line *a = &x->lines[idx[i]];
-            if ((a->box.left < at) != (side == 0)) continue;
-            narrow++;
-            for (int j = 0; j < n; j++) {
-                if (idx[j] >= x->nreal) continue;
-                const lt_raw_line *b = &x->lines[idx[j]];
-                if ((b->box.left < at) == (side == 0)) continue;
-                if (fabs(a->baseline_y - b->baseline_y) <= x->baseline_tolerance &&
-                    lt_box_height(&a->box) <= 2 * lt_box_height(&b->box)) {
-                    in_rows++;
-                    break;
-                }
+    return fabs(a->baseline_y - b->baseline_y) <= x->baseline_tolerance &&
+           lt_box_height(&a->box) <= 2 * lt_box_height(&b->box);
+}
+
+/* Whether line a, on side `from` of a cut at `at` (0: left of it), lies within `reach` px
+ * of the gap [at - gap, at). */
+static int near_gap(const lt_raw_line *a, int at, int gap, int from, int reach)
+{
+    if ((a->box.left < at) != (from == 0)) return 0;
+    return from == 0 ? a->box.right >= at - gap - reach : a->box.left <= at + reach;
+}
+
+/* Of the lines idx[0..n) on side `from` of a cut at `at` within `reach` px of the gap
+ * [at - gap, at), how many share a row with a line on the other side within `reach_across`
+ * of it (*partnered), of how many (*count). Returns 0, or -1 past MAX_ROW_TESTS pairs. */
+static int rows_across(const cut_context *x, const int *idx, int n, int at, int gap, int from,
+                       int reach, int reach_across, int *partnered, int *count)
+{
+    *partnered = *count = 0;
+    for (int i = 0; i < n; i++) {
+        if (idx[i] >= x->nreal) continue; /* a picture */
+        const lt_raw_line *a = &x->lines[idx[i]];
+        if (!near_gap(a, at, gap, from, reach)) continue;
+        if ((long)++*count * n > MAX_ROW_TESTS) return -1;
+        for (int j = 0; j < n; j++) {
+            if (idx[j] >= x->nreal) continue;
+            const lt_raw_line *b = &x->lines[idx[j]];
+            if (near_gap(b, at, gap, !from, reach_across) && shares_row(x, a, b)) {
+                ++*partnered;
+                break;
             }
         }
-        if ((long)narrow * n <= MAX_ROW_TESTS && 2 * in_rows >= narrow) return 1;
+    }
+    return 0;
+}
+
+/* Whether the lines beside the gap [at - gap, at) on one side of a node with box nb make a
+ * column of labels, at least half of them sharing a row with a line across the gap (standing
+ * on its baseline): labels and their items, the cells of a table, read row by row. Such a
+ * column is narrower than column_min_width (unless `sparse_only`), or sparse: at most half as
+ * wide as the other side, with a label beside at most half of the lines that start at the
+ * gap (one label to a group of lines, as in a form; the lines of two columns set on one
+ * leading share rows all along). A gap wider than a narrow column is a margin's white;
+ * margin notes beside a paragraph have a pitch of their own, and pieces that share no row
+ * (the bits of a scan's dark border) are no such column. */
+static int labels_beside_gap(const cut_context *x, const int *idx, int n, const lt_box *nb, int at,
+                             int gap, int sparse_only)
+{
+    if (gap > x->column_min_width) return 0; /* a margin's white, not a label's */
+    const int far = 1 << 29, near = (int)x->column_min_width;
+    for (int side = 0; side < 2; side++) {
+        const int width = side == 0 ? at - gap - nb->left : nb->right - at;
+        const int other = side == 0 ? nb->right - at : at - gap - nb->left;
+        const int narrow_column = width < x->column_min_width && !sparse_only;
+        if (!narrow_column && 2 * width > other) continue;
+        int labelled, lines, beside, across;
+        /* the partners of labels are looked for among the lines at the gap; a narrow column's
+         * anywhere across */
+        if (rows_across(x, idx, n, at, gap, side, far, narrow_column ? far : near, &labelled,
+                        &lines) ||
+            2 * labelled < lines)
+            continue;
+        if (!narrow_column &&
+            (rows_across(x, idx, n, at, gap, !side, near, far, &beside, &across) ||
+             2 * beside > across))
+            continue;
+        return 1;
     }
     return 0;
 }
@@ -316,7 +355,7 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
     /* A gap that leaves a column narrower than a few words beside it, its lines standing in
      * the rows of the lines across the gap, parts labels from their items or the cells of a
      * table: those are read row by row. */
-    if (gx > 0 && sx >= 1 && labels_beside_gap(x, idx, n, &node->box, x_cut, gx)) sx = 0;
+    if (gx > 0 && sx >= 1 && labels_beside_gap(x, idx, n, &node->box, x_cut, gx, 0)) sx = 0;
     /* A separating rule counts as a gap twice the narrowest one. */
     if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
     if (n > 1 && sy < 2 && rule_cut(x, idx, n, &node->box, 0, &y_cut)) sy = 2;
@@ -324,12 +363,15 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
      * before any band of white that happens to line up across the columns; one that a few
      * lines run across only where no gap is wide enough (a heading over two sections of
      * columns is cut above and below first). */
-    int gutter_width, crossing;
+    int gutter_at, gutter_width, crossing;
     if (n > 1 &&
-        gutter_cut(x, idx, n, &node->box, x->column_min_width, &x_cut, &gutter_width, &crossing) &&
-        (crossing == 0 || (sx < 1 && sy < 1))) {
+        gutter_cut(x, idx, n, &node->box, x->column_min_width, &gutter_at, &gutter_width,
+                   &crossing) &&
+        (crossing == 0 || (sx < 1 && sy < 1)) &&
+        !labels_beside_gap(x, idx, n, &node->box, gutter_at, gutter_width, 1)) {
         sx = sy + 1;
         gx = gutter_width;
+        x_cut = gutter_at;
     }
     if (sx < 1 && sy < 1) {
         if (leaf_lines(node, boxes, x->nreal, idx, n, x->rtl)) {
@@ -394,10 +436,16 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
         if (c->items[i].kind == LT_COMP_PICTURE) boxes[k++] = c->items[i].box;
     for (int i = 0; i < n; i++)
         idx[i] = i;
-    const cut_context x = {
-        boxes, lines->count,          p->column_min_gap * th, p->block_min_gap * th,
-        seps,  COLUMN_MIN_WIDTH * th, p->right_to_left,       lines->items,
-        BASELINE_TOLERANCE * th, spans};
+    const cut_context x = {boxes,
+                           lines->count,
+                           p->column_min_gap * th,
+                           p->block_min_gap * th,
+                           seps,
+                           COLUMN_MIN_WIDTH * th,
+                           p->right_to_left,
+                           lines->items,
+                           BASELINE_TOLERANCE * th,
+                           spans};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

@@ -357,6 +357,42 @@ static void test_margin_notes(void)
     check_page(&p, 97, "margin notes beside a paragraph");
 }
 
+/* A form: five labels (6 to 12 text heights wide, so wider than column_min_width) in a column
+ * 2 text heights from their entries, each label on the baseline of its entry's first line,
+ * entries of two to four lines (fixed sizes). The white between labels and entries is a
+ * gutter to the separators (the entries start along it, all down the page), yet the labels
+ * are sparse beside the entries (one to a group of lines) and half as wide: each label and
+ * its entry make a block (half a line of white between them), read row by row. */
+static void test_form(void)
+{
+    page p = {0};
+    tu_rng r = {29};
+    const int label_width[5] = {120, 240, 160, 200, 140}, entry_lines[5] = {3, 2, 4, 3, 2};
+    int y = 200;
+    for (int k = 0; k < 5; k++) {
+        add_line(&p, 150, 150 + label_width[k], y);
+        for (int i = 0; i < entry_lines[k]; i++, y += PITCH)
+            add_line(&p, 430, 1200 - tu_range(&r, 0, 200), y);
+        y += PITCH / 2;
+        p.nblocks++;
+    }
+    check_page(&p, 31, "a form: labels before their entries");
+}
+
+/* Three columns of 16 lines whose first and third are set on one leading and the middle one
+ * half a line lower (after a heading of its own above): the lines beside the first gutter
+ * (the middle column's) share no rows with the first column's, though the third column's do;
+ * the first column is no column of labels, and the page is read column by column. */
+static void test_columns_out_of_phase(void)
+{
+    page p = {0};
+    tu_rng r = {37};
+    add_block(&p, &r, 150, 550, 200, 16);
+    add_block(&p, &r, 600, 1000, 200 + PITCH / 2, 16);
+    add_block(&p, &r, 1050, 1450, 200, 16);
+    check_page(&p, 41, "three columns, the middle one out of phase");
+}
+
 /* Arranges the lines of p (in page order) with the components `comps` (rules) and stores the
  * role of the block holding line want[k] in role[k] (-1 when it failed). */
 static void roles_of_lines(const page *p, lt_components *comps, const int *want, int *role,
@@ -475,6 +511,8 @@ int main(void)
     test_crossed_at_top();
     test_labels();
     test_margin_notes();
+    test_form();
+    test_columns_out_of_phase();
     test_footnote_rule();
     test_two_line_head();
     test_empty();
