@@ -11,85 +11,85 @@ typedef struct run {
     int x0, x1; /* pixels [x0, x1) of its row */
 } run;
 
-static const uint64_t EVERY_BYTE_ONE = 0x0101010101010101u;
-
 #if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__ && defined(__GNUC__)
-/* Index of the first nonzero byte of the nonzero word v, as the bytes stand in memory. */
-static inline int first_set_byte(uint64_t v)
-{
-    return __builtin_ctzll(v) / 8;
-}
 #define LT_WORD_SCAN 1
-#endif
-
-/* The first index from x on in row[0, w) holding ink, or w. Most of a page is long
- * stretches of paper: 32 bytes are tested at a time while they all are paper, then the run's
- * first byte is found within a 64-bit word. */
-static inline int next_ink(const uint8_t *row, int x, int w)
+/* The pixels (bytes 0 or 1) of a little-endian word as 8 bits, bit i for byte i: the product
+ * gathers each byte's low bit into the top byte, without carries between them. */
+static inline uint64_t pack_pixels(uint64_t v)
 {
-#ifdef LT_WORD_SCAN
-    for (; x + 32 <= w; x += 32) {
-        uint64_t v[4];
-        memcpy(v, row + x, sizeof v);
-        if (v[0] | v[1] | v[2] | v[3]) break;
-    }
-    for (; x + 8 <= w; x += 8) {
-        uint64_t v;
-        memcpy(&v, row + x, 8);
-        if (v) return x + first_set_byte(v);
-    }
-#endif
-    while (x < w && !row[x])
-        x++;
-    return x;
+    return (v * 0x0102040810204080u) >> 56;
 }
+#endif
 
-/* The first index from x on in row[0, w) holding paper, or w (pixels are 0 or 1). */
-static inline int next_paper(const uint8_t *row, int x, int w)
+/* Writes the runs of ink of row[0, w) (pixels 0 or 1) to out, which has room for (w + 1) / 2
+ * runs, and returns their number. 64 pixels at a time (the last block padded with paper):
+ * blocks of paper, most of a page, are passed over with one test; in the others the ink
+ * becomes the bits of a word whose changes from paper to ink and back, the runs' ends, are
+ * found by counting trailing zeros (no branch per pixel). */
+static int row_runs(const uint8_t *row, int w, run *out)
 {
+    int n = 0, inside = 0, start = 0;
 #ifdef LT_WORD_SCAN
-    for (; x + 8 <= w; x += 8) {
-        uint64_t v;
-        memcpy(&v, row + x, 8);
-        if (v != EVERY_BYTE_ONE) return x + first_set_byte(v ^ EVERY_BYTE_ONE);
+    for (int x = 0; x < w; x += 64) {
+        uint64_t v[8];
+        if (x + 64 <= w) {
+            memcpy(v, row + x, sizeof v);
+        } else {
+            memset(v, 0, sizeof v);
+            memcpy(v, row + x, (size_t)(w - x));
+        }
+        if (!inside && !(v[0] | v[1] | v[2] | v[3] | v[4] | v[5] | v[6] | v[7])) continue;
+        uint64_t ink = 0;
+        for (int k = 0; k < 8; k++)
+            ink |= pack_pixels(v[k]) << (8 * k);
+        for (uint64_t changes = ink ^ ((ink << 1) | (uint64_t)inside); changes;
+             changes &= changes - 1) {
+            const int at = x + __builtin_ctzll(changes);
+            if (inside)
+                out[n++] = (run){start, at};
+            else
+                start = at;
+            inside = !inside;
+        }
+    }
+#else
+    for (int x = 0; x < w; x++) {
+        if (row[x] == inside) continue;
+        if (inside)
+            out[n++] = (run){start, x};
+        else
+            start = x;
+        inside = !inside;
     }
 #endif
-    while (x < w && row[x])
-        x++;
-    return x;
+    if (inside) out[n++] = (run){start, w};
+    return n;
 }
 
 /* Appends the runs of every row; row_start[y] is the index of row y's first run. */
 static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *row_start)
 {
-    size_t cap = 4096, n = 0;
+    const int w = ink->width;
+    const size_t row_most = ((size_t)w + 1) / 2; /* runs of one row at most */
+    size_t cap = 4096 + row_most, n = 0;
     run *runs = malloc(cap * sizeof *runs);
     if (!runs) return LT_ENOMEM;
-    const int w = ink->width;
     for (int y = 0; y < ink->height; y++) {
         row_start[y] = (int)n;
-        const uint8_t *row = ink->pixels + (size_t)y * w;
-        int x = 0;
-        while (x < w) {
-            x = next_ink(row, x, w);
-            if (x == w) break;
-            const int x0 = x;
-            x = next_paper(row, x, w);
-            if (n == cap) {
-                if (cap > (size_t)1 << 30) {
-                    free(runs);
-                    return LT_ELIMIT;
-                }
-                run *bigger = realloc(runs, 2 * cap * sizeof *runs);
-                if (!bigger) {
-                    free(runs);
-                    return LT_ENOMEM;
-                }
-                runs = bigger;
-                cap *= 2;
+        if (cap - n < row_most) {
+            if (cap > (size_t)1 << 30) {
+                free(runs);
+                return LT_ELIMIT;
             }
-            runs[n++] = (run){x0, x};
+            run *bigger = realloc(runs, 2 * cap * sizeof *runs);
+            if (!bigger) {
+                free(runs);
+                return LT_ENOMEM;
+            }
+            runs = bigger;
+            cap *= 2;
         }
+        n += (size_t)row_runs(ink->pixels + (size_t)y * w, w, runs + n);
     }
     row_start[ink->height] = (int)n;
     *runs_out = runs;
