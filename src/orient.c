@@ -54,11 +54,15 @@ static const double BAND_MARGIN = 0.2;      /* of the x-height: ink beyond the b
                                                the x-height beyond it in book type, from memory;
                                                less in typewriter faces: 0.2 decided the most
                                                development pages of 0.1, 0.15, 0.2 and 0.3) */
+static const double BAND_MIN_SHARE = 0.6;   /* of the line's x-height (lines.c): a lower band
+                                               gives no evidence (measured: 0.95 to 1 on most
+                                               lines, 0.25 to 0.6 on typescripts whose letters
+                                               are broken into pieces) */
 static const double LETTER_BIAS = 0.05;     /* of the letters counted: a surplus of ascenders
                                                or of descenders up to this is no evidence (the
-                                               script's and the type's own; measured 0.02 and
-                                               0.07 the wrong way on upright pages, a list of
-                                               Greek names and a broken typescript) */
+                                               script's and the type's own; measured: 0.025
+                                               the wrong way on an upright list of Greek names,
+                                               0.05 to 0.2 the right way on gothic type) */
 static const double EDGE_TOLERANCE = 0.3;   /* x-heights: line ends this close line up */
 static const double EDGE_REACH = 8.0;       /* x-heights: the lines an end is compared with, by
                                                the distance of their centres (a few lines above
@@ -262,10 +266,12 @@ static int cmp_by_y(const void *pa, const void *pb)
 }
 
 /* Adds the evidence of a line whose text components are member[0..m) to *rising (letters
- * reaching beyond the x-height band above it) and *falling (below it); heights, tops and
- * bottoms are scratch of m places. */
-static void line_evidence(const lt_components *c, const int *member, int m, double *heights,
-                          double *tops, double *bottoms, long *rising, long *falling)
+ * reaching beyond the x-height band above it) and *falling (below it); line_xheight_px is the
+ * line's x-height as the lines stage measured it; heights, tops and bottoms are scratch of m
+ * places. */
+static void line_evidence(const lt_components *c, const int *member, int m, double line_xheight_px,
+                          double *heights, double *tops, double *bottoms, long *rising,
+                          long *falling)
 {
     if (m < UPDOWN_MIN_LINE_COMPONENTS) return;
     for (int k = 0; k < m; k++)
@@ -290,15 +296,20 @@ static void line_evidence(const lt_components *c, const int *member, int m, doub
     }
     if (plain < UPDOWN_MIN_PLAIN_LETTERS) return;
     const double band_top = lt_median(tops, plain), band_bottom = lt_median(bottoms, plain);
+    /* a band much lower than the line's letters is that of pieces of broken letters */
+    if (band_bottom - band_top < BAND_MIN_SHARE * line_xheight_px) return;
     const double margin = BAND_MARGIN * (band_bottom - band_top);
     if (margin < 1) return;
     for (int k = 0; k < m; k++) {
         const lt_box *cb = &c->items[member[k]].box;
-        /* a letter that fills the band and reaches beyond it on one side (a bracket reaching
-         * out on both counts on both; marks fill no band) */
+        /* a letter that fills the band and reaches beyond it on one side only (one that
+         * reaches out on both, a long s, an f of gothic or italic type, a bracket, says
+         * nothing; marks fill no band) */
         const int fills = cb->top <= band_top + margin && cb->bottom >= band_bottom - margin;
-        *rising += fills && cb->top < band_top - margin;
-        *falling += fills && cb->bottom > band_bottom + margin;
+        const int rises = fills && cb->top < band_top - margin;
+        const int falls = fills && cb->bottom > band_bottom + margin;
+        *rising += rises && !falls;
+        *falling += falls && !rises;
     }
 }
 
@@ -419,7 +430,7 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
             const lt_component *a = &c->items[sorted[k].index];
             if (a->cx >= box->left && a->cx < box->right) member[m++] = sorted[k].index;
         }
-        line_evidence(c, member, m, heights, tops, bottoms, &up, &down);
+        line_evidence(c, member, m, lines->items[l].xheight_px, heights, tops, bottoms, &up, &down);
     }
     free(sorted);
     free(heights);
