@@ -1,8 +1,8 @@
 /* skew.c — skew by projection profiles (Postl 1986; Baird 1987): the angle at which the
  * horizontal projection of the ink is sharpest, measured as the sum of squared differences
  * of adjacent bins (insensitive to the slow variation that uneven column lengths give).
- * Coarse-to-fine: a sweep over the whole range on tiles 64 px wide and 4 tall, refinements on
- * tiles 8 px wide, 4 then 2 tall, then a parabola through the best three angles. */
+ * Coarse-to-fine: a sweep over the whole range on tiles 64 px wide, two refinements on tiles
+ * 8 px wide, then a parabola through the best three angles; tiles 2 px tall, bins of 2 px. */
 #include "internal.h"
 
 #include <math.h>
@@ -11,20 +11,21 @@
 
 /* A tile's ink is projected from its centre, so a tile w px wide blurs it across the lines by
  * up to w·sin|angle|: the projection needs fine steps across the lines only. Tiles 8 px wide
- * blur by at most 1 px (half a fine bin) up to 7 degrees, and read eight pixels of a row at a
- * time; the coarse sweep only has to find the peak's neighbourhood, so its tiles are 64 px
- * wide (blur 1.1 px at 1 degree, a bin at 3.6) and its bins 4 px tall: with 8 px bins the
- * profile of a column of short lines is so smooth that, on a page whose columns' baselines do
- * not line up, the overlap of the columns' profiles moves the coarse peak (by 0.8 degree on a
- * two-column list, beyond the refinements' reach). */
+ * blur by at most 1 px (half a bin) up to 7 degrees, and read eight pixels of a row at a time;
+ * the coarse sweep only has to find the peak's neighbourhood, so its tiles are 64 px wide
+ * (blur 1.1 px at 1 degree). Its bins are as fine as the refinements': on a page whose
+ * columns' baselines do not line up (staggered by part of the line pitch), the overlap of the
+ * columns' profiles adds to the sharpness at the angle that lines one column's lines up with
+ * the other's, and coarser bins let that false peak win (8 px bins: 1.5 degrees found for 2.29
+ * on a two-column list, beyond the refinements' reach; 4 px bins: 0.16 off there). */
 enum { FINE_TILE_PX = 8, COARSE_TILE_PX = 64 };
 
-/* Step of the coarse sweep, degrees; span and step of the refinements around the best angle
- * so far, degrees (each span covers the step before it); share of the profile's bins nearly
- * empty (white between lines) below which a sharp projection is weak evidence. */
+/* Step of the coarse sweep, degrees; span and step of the two refinements around the best
+ * angle so far, degrees (the first spans more than a coarse step: pages of short lines show
+ * two peaks a few tenths of a degree apart on coarse grids); share of the profile's bins
+ * nearly empty (white between lines) below which a sharp projection is weak evidence. */
 static const double COARSE_STEP_DEG = 0.25;
-static const double MID_SPAN_DEG = 0.35, MID_STEP_DEG = 0.05;
-static const double FINE_SPAN_DEG = 0.06, FINE_STEP_DEG = 0.02;
+static const double REFINE_SPAN_DEG[2] = {0.3, 0.04}, REFINE_STEP_DEG[2] = {0.05, 0.02};
 static const double GAP_EVIDENCE = 0.25;
 
 typedef struct cell {
@@ -76,22 +77,21 @@ static int grid_from_ink(const lt_image *ink, grid *g)
     return 0;
 }
 
-/* Grid of the sums of kx by ky tiles of another. */
-static int grid_reduce(const grid *src, int kx, int ky, grid *g)
+/* Grid of the sums of k tiles side by side of another. */
+static int grid_widen(const grid *src, int k, grid *g)
 {
-    const int w = src->width, h = src->height;
-    g->tile_w = src->tile_w * kx;
-    g->tile_h = src->tile_h * ky;
-    g->width = (w + kx - 1) / kx;
-    g->height = (h + ky - 1) / ky;
+    const int w = src->width;
+    g->tile_w = src->tile_w * k;
+    g->tile_h = src->tile_h;
+    g->width = (w + k - 1) / k;
+    g->height = src->height;
     g->count = calloc((size_t)g->width * g->height, sizeof *g->count);
     if (!g->count) return LT_ENOMEM;
-    for (int y = 0; y < h; y++) {
+    for (int y = 0; y < g->height; y++) {
         const uint16_t *row = src->count + (size_t)y * w;
-        uint16_t *dst = g->count + (size_t)(y / ky) * g->width;
-        for (int x = 0, gx = 0; x < w; gx++)
-            for (int k = 0; k < kx && x < w; k++, x++)
-                dst[gx] += row[x];
+        uint16_t *dst = g->count + (size_t)y * g->width;
+        for (int x = 0; x < w; x++)
+            dst[x / k] += row[x];
     }
     return 0;
 }
@@ -222,12 +222,12 @@ static int sweep(const grid *g, const cells *c, double lo, double hi, double ste
     return best;
 }
 
-/* The search: the coarse sweep over [-range_deg, range_deg], refinements on the mid and fine
- * grids around the best angle so far, then the vertex of the parabola through the best angle
- * and its neighbours. *confidence: how far the coarse peak stands out (1 - median / peak),
- * scaled down where the profile at the angle found shows less white between lines than
- * GAP_EVIDENCE. crit and sorted have room for the coarse sweep's angles. */
-static void search(const grid *const gr[3], const cells *const ce[3], double range_deg,
+/* The search: the coarse sweep over [-range_deg, range_deg] on the coarse grid, two
+ * refinements on the fine grid around the best angle so far, then the vertex of the parabola
+ * through the best angle and its neighbours. *confidence: how far the coarse peak stands out (1 -
+ * median / peak), scaled down where the profile at the angle found shows less white between lines
+ * than GAP_EVIDENCE. crit and sorted have room for the coarse sweep's angles. */
+static void search(const grid *const gr[2], const cells *const ce[2], double range_deg,
                    int32_t *profile, int nbins, double *crit, double *sorted, double *angle_out,
                    double *confidence_out)
 {
@@ -238,13 +238,13 @@ static void search(const grid *const gr[3], const cells *const ce[3], double ran
     double peak = crit[best], typical = lt_median(sorted, coarse_n);
     const double confidence = peak > 0 ? 1.0 - typical / peak : 0;
 
-    const double span[2] = {MID_SPAN_DEG, FINE_SPAN_DEG}, step[2] = {MID_STEP_DEG, FINE_STEP_DEG};
     double prev = 0, next = 0;
     for (int s = 0; s < 2; s++) {
-        double lo = angle - span[s], hi = angle + span[s];
-        int n = (int)floor((hi - lo) / step[s] + 0.5) + 1;
-        int b = sweep(gr[s + 1], ce[s + 1], lo, hi, step[s], profile, nbins, crit);
-        angle = lo + b * step[s];
+        const double lo = angle - REFINE_SPAN_DEG[s], hi = angle + REFINE_SPAN_DEG[s];
+        const double step = REFINE_STEP_DEG[s];
+        int n = (int)floor((hi - lo) / step + 0.5) + 1;
+        int b = sweep(gr[1], ce[1], lo, hi, step, profile, nbins, crit);
+        angle = lo + b * step;
         prev = b > 0 ? crit[b - 1] : crit[b];
         next = b < n - 1 ? crit[b + 1] : crit[b];
         peak = crit[b];
@@ -253,11 +253,11 @@ static void search(const grid *const gr[3], const cells *const ce[3], double ran
     double denom = prev - 2 * peak + next;
     if (denom < 0) {
         double shift = 0.5 * (prev - next) / denom;
-        if (fabs(shift) <= 1) angle += shift * FINE_STEP_DEG;
+        if (fabs(shift) <= 1) angle += shift * REFINE_STEP_DEG[1];
     }
     /* A sharp projection counts as evidence only when it shows white between lines. */
     int lo, hi;
-    project(ce[2], angle, gr[2]->tile_h, profile, nbins, &lo, &hi);
+    project(ce[1], angle, gr[1]->tile_h, profile, nbins, &lo, &hi);
     const double gaps = gap_fraction(profile, nbins);
     memset(profile, 0, (size_t)nbins * sizeof *profile);
     *angle_out = angle;
@@ -275,26 +275,24 @@ int lt_estimate_skew(const lt_image *ink, double range_deg, double min_confidenc
     const double diag = hypot(ink->width, ink->height);
     const int nbins = (int)(diag / 2.0) + 8; /* bins of >= 2 px span the diagonal */
     const int coarse_n = (int)floor(2 * range_deg / COARSE_STEP_DEG + 0.5) + 1;
-    const int refine_n = (int)floor(2 * MID_SPAN_DEG / MID_STEP_DEG + 0.5) + 1;
+    const int refine_n = (int)floor(2 * REFINE_SPAN_DEG[0] / REFINE_STEP_DEG[0] + 0.5) + 1;
     const int crit_n = coarse_n > refine_n ? coarse_n : refine_n;
     int32_t *profile = calloc((size_t)nbins, sizeof *profile);
     double *crit = malloc((size_t)crit_n * sizeof *crit);
     double *sorted = malloc((size_t)crit_n * sizeof *sorted);
-    /* fine: tiles 8 x 2 px; mid: 8 x 4; coarse: 64 x 4. */
-    grid fine = {0}, mid = {0}, coarse = {0};
-    cells fine_c = {0}, mid_c = {0}, coarse_c = {0};
+    /* Tiles 8 x 2 px and 64 x 2 px. */
+    grid fine = {0}, coarse = {0};
+    cells fine_c = {0}, coarse_c = {0};
     int rc = 0;
     if (!profile || !crit || !sorted || grid_from_ink(ink, &fine) ||
-        grid_reduce(&fine, 1, 2, &mid) ||
-        grid_reduce(&mid, COARSE_TILE_PX / FINE_TILE_PX, 1, &coarse) ||
-        cells_from_grid(&fine, &fine_c) || cells_from_grid(&mid, &mid_c) ||
-        cells_from_grid(&coarse, &coarse_c)) {
+        grid_widen(&fine, COARSE_TILE_PX / FINE_TILE_PX, &coarse) ||
+        cells_from_grid(&fine, &fine_c) || cells_from_grid(&coarse, &coarse_c)) {
         rc = lt_error_set(err, LT_ENOMEM, "skew: out of memory");
         goto done;
     }
     if (coarse_c.count < 8) goto done; /* blank page: no evidence */
-    const grid *const gr[3] = {&coarse, &mid, &fine};
-    const cells *const ce[3] = {&coarse_c, &mid_c, &fine_c};
+    const grid *const gr[2] = {&coarse, &fine};
+    const cells *const ce[2] = {&coarse_c, &fine_c};
     double angle, confidence;
     search(gr, ce, range_deg, profile, nbins, crit, sorted, &angle, &confidence);
     if (confidence >= min_confidence) {
@@ -306,10 +304,8 @@ done:
     free(crit);
     free(sorted);
     free(fine.count);
-    free(mid.count);
     free(coarse.count);
     free(fine_c.items);
-    free(mid_c.items);
     free(coarse_c.items);
     return rc;
 }
