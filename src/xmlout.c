@@ -235,6 +235,11 @@ static int page_text_region(xmlNodePtr parent, xmlNsPtr ns, const lt_layout *l, 
         if (page_coords(t, ns, outline, n, l->width, l->height)) return -1;
         xmlNodePtr base = child(t, ns, "Baseline", NULL);
         if (!base || set_points(base, "points", ln->baseline, 2, 0, l->width, l->height)) return -1;
+        if (ln->light_on_dark) { /* printed light on a dark ground */
+            xmlNodePtr style = child(t, ns, "TextStyle", NULL);
+            if (!style) return -1;
+            set_attr(style, "reverseVideo", "true");
+        }
     }
     return 0;
 }

@@ -3,7 +3,8 @@
 # pages validates against the published schemas (PAGE content 2019-07-15, ALTO 4.4) with
 # libxml2's xmllint, read from ../shared/standards (skipped when that folder is absent); file
 # names with --out-dir; one document per page on standard output; and the documents say what
-# the JSON says (lines, regions, roles, reading order), read back with Python's xml.etree.
+# the JSON says (lines, regions, roles, reading order, lines light on dark as PAGE's
+# TextStyle/@reverseVideo), read back with Python's xml.etree.
 set -u
 test_name=xml_formats
 test_modules=xml.etree.ElementTree
@@ -23,6 +24,12 @@ fi
 
 pages="$testdata/newsletter.png $testdata/bulletin.png $testdata/hard-3col.png"
 for img in "$testdata"/corpus/*.png; do pages="$pages $img"; done
+# A page in negative (a known transformation: 255 - gray), whose lines are light on dark.
+if "$python" -c 'import PIL' >/dev/null 2>&1; then
+    "$python" -c 'import sys; from PIL import Image, ImageOps
+ImageOps.invert(Image.open(sys.argv[1]).convert("L")).save(sys.argv[2])' \
+        "$testdata/newsletter.png" "$PWD/negative.png" && pages="$pages $PWD/negative.png"
+fi
 # shellcheck disable=SC2086
 $limit "$lineate" -j 2 --out-dir json $pages 2>/dev/null
 for fmt in page alto; do
@@ -92,6 +99,13 @@ for jpath in sorted(glob.glob(jdir + "/**/*.json", recursive=True)):
                                          for g, w in zip(got, want) if 0 < w[0] < lay["width"] and 0 < w[1] < lay["height"]):
             problems.append("PAGE Coords %s are not the JSON outline %s" % (got[:4], want[:4]))
             break
+    reverse = [l.find(P + "TextStyle") is not None and l.find(P + "TextStyle").get("reverseVideo") == "true"
+               for l in page_lines]
+    if reverse != [bool(j.get("light_on_dark")) for j in lay["lines"]]:
+        problems.append("PAGE reverseVideo on %d lines, JSON light_on_dark on %d" %
+                        (sum(reverse), sum(bool(j.get("light_on_dark")) for j in lay["lines"])))
+    if rel.endswith("negative") and not all(reverse):
+        problems.append("a line of the negative page without reverseVideo")
     if len(alto_lines) != len(lay["lines"]):
         problems.append("ALTO lines %d, JSON %d" % (len(alto_lines), len(lay["lines"])))
     for l, j in zip(alto_lines, lay["lines"]):
