@@ -71,7 +71,9 @@ static int collect_runs(const lt_image *ink, run **runs_out, int *nruns, int *ro
 {
     const int w = ink->width;
     const size_t row_most = ((size_t)w + 1) / 2; /* runs of one row at most */
-    size_t cap = 4096 + row_most, n = 0;
+    size_t cap = 4096, n = 0;
+    while (cap < row_most)
+        cap *= 2;
     run *runs = malloc(cap * sizeof *runs);
     if (!runs) return LT_ENOMEM;
     for (int y = 0; y < ink->height; y++) {
@@ -125,20 +127,14 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
                 lt_uf_unite(parent, i, k);
         }
     }
-    /* Number components by their first run in raster order. */
+    /* Number components by their first run in raster order, in place: a run's parent is an
+     * earlier run of its component (or itself, for the first), whose number is known by then,
+     * so parent[i] becomes the number of run i's component. */
     int count = 0;
-    int *root_label = malloc(((size_t)nruns + 1) * sizeof *root_label);
-    if (!root_label) {
-        rc = LT_ENOMEM;
-        goto fail;
-    }
-    for (int i = 0; i < nruns; i++) {
-        int r = lt_uf_find(parent, i);
-        if (r == i) root_label[i] = count++;
-        root_label[i] = root_label[r];
-    }
+    int *label = parent;
+    for (int i = 0; i < nruns; i++)
+        label[i] = parent[i] == i ? count++ : label[parent[i]];
     if (count > max_components) {
-        free(root_label);
         rc = LT_ELIMIT;
         goto fail;
     }
@@ -147,7 +143,6 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
     if (!res->items || !sx || !sy) {
         free(sx);
         free(sy);
-        free(root_label);
         rc = LT_ENOMEM;
         goto fail;
     }
@@ -159,8 +154,8 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
     }
     for (int y = 0; y < ink->height; y++)
         for (int i = row_start[y]; i < row_start[y + 1]; i++) {
-            const int label = root_label[i];
-            lt_component *c = &res->items[label];
+            const int id = label[i];
+            lt_component *c = &res->items[id];
             const run *r = &runs[i];
             const int len = r->x1 - r->x0;
             if (r->x0 < c->box.left) c->box.left = r->x0;
@@ -169,8 +164,8 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
             if (y + 1 > c->box.bottom) c->box.bottom = y + 1;
             c->pixels += len;
             /* Sum of pixel centres x + 0.5 over the run, and y + 0.5 per pixel. */
-            sx[label] += len * (0.5 * (r->x0 + r->x1));
-            sy[label] += len * (y + 0.5);
+            sx[id] += len * (0.5 * (r->x0 + r->x1));
+            sy[id] += len * (y + 0.5);
         }
     for (int c = 0; c < count; c++) {
         res->items[c].cx = sx[c] / res->items[c].pixels;
@@ -178,7 +173,6 @@ int lt_find_components(const lt_image *ink, long max_components, lt_components *
     }
     free(sx);
     free(sy);
-    free(root_label);
     free(parent);
     free(runs);
     free(row_start);
