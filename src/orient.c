@@ -54,10 +54,10 @@ static const double BAND_MARGIN = 0.2;      /* of the x-height: ink beyond the b
                                                the x-height beyond it in book type, from memory;
                                                less in typewriter faces: 0.2 decided the most
                                                development pages of 0.1, 0.15, 0.2 and 0.3) */
-static const double BAND_MIN_SHARE = 0.6;   /* of the line's x-height (lines.c): a lower band
-                                               gives no evidence (measured: 0.95 to 1 on most
-                                               lines, 0.25 to 0.6 on typescripts whose letters
-                                               are broken into pieces) */
+static const double BAND_MIN_SHARE = 0.6;   /* of the line's x-height (lines.c): a lower band is
+                                               that of pieces of broken letters (measured: 0.95
+                                               to 1 on most lines, 0.25 to 0.6 on typescripts
+                                               whose letters are broken) */
 static const double LETTER_BIAS = 0.05;     /* of the letters counted: a surplus of ascenders
                                                or of descenders up to this is no evidence (the
                                                script's and the type's own; measured: 0.025
@@ -253,7 +253,7 @@ int lt_estimate_line_axis(const lt_components *c, lt_orientation *out, lt_error 
     return 0;
 }
 
-/* Sort key of a text component: its centroid's y. */
+/* Sort key of a component or a line: its centre's y, and its index. */
 typedef struct by_y {
     double cy;
     int index;
@@ -265,11 +265,10 @@ static int cmp_by_y(const void *pa, const void *pb)
     return a->cy < b->cy ? -1 : a->cy > b->cy ? 1 : a->index - b->index;
 }
 
-/* Adds the evidence of a line whose text components are member[0..m) to *rising (letters
- * reaching beyond the x-height band above it) and *falling (below it); line_xheight_px is the
- * line's x-height as the lines stage measured it; heights, tops and bottoms are scratch of m
- * places. */
-static void line_evidence(const lt_components *c, const int *member, int m, double line_xheight_px,
+/* Adds the evidence of `line`, whose text components are member[0..m), to *rising (letters
+ * reaching beyond the x-height band above it) and *falling (below it); heights, tops and
+ * bottoms are scratch of m places. */
+static void line_evidence(const lt_components *c, const lt_raw_line *line, const int *member, int m,
                           double *heights, double *tops, double *bottoms, long *rising,
                           long *falling)
 {
@@ -295,9 +294,13 @@ static void line_evidence(const lt_components *c, const int *member, int m, doub
         plain++;
     }
     if (plain < UPDOWN_MIN_PLAIN_LETTERS) return;
-    const double band_top = lt_median(tops, plain), band_bottom = lt_median(bottoms, plain);
-    /* a band much lower than the line's letters is that of pieces of broken letters */
-    if (band_bottom - band_top < BAND_MIN_SHARE * line_xheight_px) return;
+    double band_top = lt_median(tops, plain), band_bottom = lt_median(bottoms, plain);
+    if (band_bottom - band_top < BAND_MIN_SHARE * line->xheight_px) {
+        /* the plain letters are pieces of broken letters: the band is the line's, from its
+         * baseline up by its x-height, both from the line's whole letters (lines.c) */
+        band_top = line->baseline_y - line->xheight_px;
+        band_bottom = line->baseline_y;
+    }
     const double margin = BAND_MARGIN * (band_bottom - band_top);
     if (margin < 1) return;
     for (int k = 0; k < m; k++) {
@@ -313,21 +316,9 @@ static void line_evidence(const lt_components *c, const int *member, int m, doub
     }
 }
 
-/* Sort key of a line: its centre's y. */
-typedef struct line_by_y {
-    double cy;
-    int index;
-} line_by_y;
-
-static int cmp_line_by_y(const void *pa, const void *pb)
-{
-    const line_by_y *a = pa, *b = pb;
-    return a->cy < b->cy ? -1 : a->cy > b->cy ? 1 : a->index - b->index;
-}
-
 static int is_edge_line(const lt_box *b, double unit_px)
 {
-    return lt_box_width(b) >= EDGE_MIN_WIDTH * unit_px;
+    return unit_px > 0 && lt_box_width(b) >= EDGE_MIN_WIDTH * unit_px;
 }
 
 /* Counts the lines whose left end lines up with that of another line in reach (within
@@ -337,7 +328,7 @@ static int is_edge_line(const lt_box *b, double unit_px)
 static int edge_evidence(const lt_raw_lines *lines, long *flush_left, long *flush_right)
 {
     const int n = lines->count;
-    line_by_y *sorted = malloc((size_t)n * sizeof *sorted);
+    by_y *sorted = malloc((size_t)n * sizeof *sorted);
     double *xheights = malloc((size_t)n * sizeof *xheights);
     if (!sorted || !xheights) {
         free(sorted);
@@ -346,15 +337,15 @@ static int edge_evidence(const lt_raw_lines *lines, long *flush_left, long *flus
     }
     for (int i = 0; i < n; i++) {
         const lt_box *b = &lines->items[i].box;
-        sorted[i] = (line_by_y){0.5 * (b->top + b->bottom), i};
+        sorted[i] = (by_y){0.5 * (b->top + b->bottom), i};
         xheights[i] = lines->items[i].xheight_px;
     }
     const double unit_px = lt_median(xheights, n);
     free(xheights);
-    qsort(sorted, (size_t)n, sizeof *sorted, cmp_line_by_y);
+    qsort(sorted, (size_t)n, sizeof *sorted, cmp_by_y);
     const double reach_px = EDGE_REACH * unit_px, tolerance_px = EDGE_TOLERANCE * unit_px;
     int first = 0; /* the first line within reach above line i */
-    for (int i = 0; i < n && unit_px > 0; i++) {
+    for (int i = 0; i < n; i++) {
         const lt_box *a = &lines->items[sorted[i].index].box;
         while (sorted[first].cy < sorted[i].cy - reach_px)
             first++;
@@ -376,16 +367,16 @@ static int edge_evidence(const lt_raw_lines *lines, long *flush_left, long *flus
     return 0;
 }
 
-/* The z score of `count` events for against `against`, when each is equally likely without
- * evidence: positive for, negative against. A surplus of up to bias times the events counted
- * is no evidence (the source's own imbalance). */
-static double evidence_z(long count, long against, double bias)
+/* The binomial z score of `pro` events for a side against `contra` events for the other, the
+ * two equally likely without evidence: positive when the first side has more. A surplus of
+ * up to bias times the events counted is no evidence (the source's own imbalance). */
+static double evidence_z(long pro, long contra, double bias)
 {
-    const double total = (double)(count + against);
+    const double total = (double)(pro + contra);
     if (total == 0) return 0;
-    const double surplus = fabs((double)(count - against)) - bias * total;
+    const double surplus = fabs((double)(pro - contra)) - bias * total;
     if (surplus <= 0) return 0;
-    return (count > against ? surplus : -surplus) / sqrt(total);
+    return (pro > contra ? surplus : -surplus) / sqrt(total);
 }
 
 int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_orientation *out,
@@ -430,7 +421,7 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
             const lt_component *a = &c->items[sorted[k].index];
             if (a->cx >= box->left && a->cx < box->right) member[m++] = sorted[k].index;
         }
-        line_evidence(c, member, m, lines->items[l].xheight_px, heights, tops, bottoms, &up, &down);
+        line_evidence(c, &lines->items[l], member, m, heights, tops, bottoms, &up, &down);
     }
     free(sorted);
     free(heights);
