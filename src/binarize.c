@@ -10,7 +10,9 @@
  * image minimum and R = the largest s on the page (k = 0.5; values from memory). Here M and W
  * come from the page's darkest 3 x 3 tile and its paper's gray (gray_points); a page whose
  * black is dark against its paper, as print scanned on any paper is, keeps Sauvola's
- * threshold, a pale one gets the stretch, and the pages in between part of it.
+ * threshold, a pale one gets the stretch, and the pages in between part of it; by the same
+ * share, where the lightest tile within a window's reach is darker than W (a tint, a shaded
+ * box), its mean takes W's place.
  * Exact at every pixel (lt_binarize*): running column and row sums give O(pixels) time for any
  * window, the same complexity as the integral images of Shafait, Keysers & Breuel (2008) with
  * memory proportional to the width only. Sampled (lt_binarize_sampled*, which the analysis
@@ -74,13 +76,103 @@ static const double STRETCHED_RATIO = 0.55;
  * stretched gray, mapped back, is T = black + (m - black) (1 - k + k s / R'), R' = R span / 255
  * (m and s of the gray as it is); span at least MIN_RANGE. */
 typedef struct stretch {
-    double black, r;
+    double black, span, r;
+    /* Share t by which a window's own paper, where darker than the page's, takes the place of
+     * the page's (window_r); white_sums: per whole tile, the largest whole-tile sum within the
+     * window's reach of tiles (NULL when t is 0), tiles_x x tiles_y of them. */
+    double local;
+    const uint16_t *white_sums;
+    int tiles_x, tiles_y;
 } stretch;
 
 static stretch stretch_for(double black, double white, double r)
 {
-    const double span = white - black > MIN_RANGE ? white - black : MIN_RANGE;
-    return (stretch){black, r * span / 255.0};
+    return (stretch){black, white - black, r, 0, NULL, 0, 0};
+}
+
+/* R' for the page's range: R (W - M) / 255, the range at least MIN_RANGE. */
+static inline double page_r(const stretch *st)
+{
+    return st->r * (st->span > MIN_RANGE ? st->span : MIN_RANGE) / 255.0;
+}
+
+/* R' at the tile (tx, ty) (clamped to the whole tiles): R (W - M) / 255, or where the lightest
+ * tile within the window's reach is darker than the page's paper (a tint, a shaded box), by the
+ * share `local` that tile's mean in place of W, so that the threshold sits among the ink and
+ * the paper of the tint as it would on white paper; the range at least MIN_RANGE. */
+static inline double window_r(const stretch *st, int tx, int ty)
+{
+    double span = st->span;
+    if (st->white_sums) {
+        tx = tx < st->tiles_x ? tx : st->tiles_x - 1;
+        ty = ty < st->tiles_y ? ty : st->tiles_y - 1;
+        const double own =
+            st->white_sums[(size_t)ty * st->tiles_x + tx] / (double)(TILE * TILE) - st->black;
+        if (own < span) span -= st->local * (span - own);
+    }
+    return st->r * (span > MIN_RANGE ? span : MIN_RANGE) / 255.0;
+}
+
+/* The largest of each n x rows grid entry's column neighbours within `reach` rows (rows
+ * clipped to the grid), into out, in O(n rows) (van Herk 1992; Gil & Werman 1993): the maxima
+ * of blocks of 2 reach + 1 rows from the block's first row (ahead) and from its last (behind).
+ * Row by row, so that each pass reads the grid in order; behind may be out. */
+static void sliding_max_rows(const uint16_t *in, uint16_t *out, int n, int rows, int reach,
+                             uint16_t *ahead, uint16_t *behind)
+{
+    const int block = 2 * reach + 1;
+    for (int y = 0; y < rows; y++) {
+        const uint16_t *src = in + (size_t)y * n, *prev = ahead + (size_t)(y - 1) * n;
+        uint16_t *dst = ahead + (size_t)y * n;
+        for (int i = 0; i < n; i++)
+            dst[i] = y % block == 0 || src[i] > prev[i] ? src[i] : prev[i];
+    }
+    for (int y = rows - 1; y >= 0; y--) {
+        const uint16_t *src = in + (size_t)y * n, *next = behind + (size_t)(y + 1) * n;
+        uint16_t *dst = behind + (size_t)y * n;
+        for (int i = 0; i < n; i++)
+            dst[i] = y % block == block - 1 || y == rows - 1 || src[i] > next[i] ? src[i] : next[i];
+    }
+    for (int y = 0; y < rows; y++) {
+        const int lo = y - reach > 0 ? y - reach : 0, hi = y + reach < rows ? y + reach : rows - 1;
+        const uint16_t *a = behind + (size_t)lo * n, *b = ahead + (size_t)hi * n;
+        uint16_t *dst = out + (size_t)y * n;
+        for (int i = 0; i < n; i++)
+            dst[i] = a[i] > b[i] ? a[i] : b[i];
+    }
+}
+
+/* The largest of in[0..n) within `reach` of each, into out, in O(n), the same way along a row. */
+static void sliding_max(const uint16_t *in, uint16_t *out, int n, int reach, uint16_t *ahead,
+                        uint16_t *behind)
+{
+    const int block = 2 * reach + 1;
+    for (int i = 0; i < n; i++)
+        ahead[i] = i % block == 0 || in[i] > ahead[i - 1] ? in[i] : ahead[i - 1];
+    for (int i = n - 1; i >= 0; i--)
+        behind[i] =
+            i % block == block - 1 || i == n - 1 || in[i] > behind[i + 1] ? in[i] : behind[i + 1];
+    for (int i = 0; i < n; i++) {
+        const int lo = i - reach > 0 ? i - reach : 0, hi = i + reach < n ? i + reach : n - 1;
+        out[i] = behind[lo] > ahead[hi] ? behind[lo] : ahead[hi];
+    }
+}
+
+/* The largest tile sum within `reach` tiles of each tile of the tw x th grid `sums` (reach
+ * clipped to the grid), as a new grid; NULL when out of memory. */
+static uint16_t *lightest_tiles(const uint16_t *sums, int tw, int th, int reach)
+{
+    const size_t n = (size_t)tw * th;
+    uint16_t *out = malloc(n * sizeof *out), *a = malloc(n * sizeof *a), *b = malloc(n * sizeof *b);
+    if (!out || !a || !b) {
+        free(out), free(a), free(b);
+        return NULL;
+    }
+    sliding_max_rows(sums, out, tw, th, reach, a, b); /* down the columns */
+    for (int y = 0; y < th; y++)                      /* along the rows */
+        sliding_max(out + (size_t)y * tw, out + (size_t)y * tw, tw, reach, a, b);
+    free(a), free(b);
+    return out;
 }
 
 /* Ink decision without a square root: g <= M + d(1-k) + (d k / R') s, with d = m - M (0 when
@@ -89,12 +181,12 @@ static stretch stretch_for(double black, double white, double r)
  * a^2 < (d k / R')^2 * variance. Written without branches: for paper just above or below the
  * mean the answer is a coin toss, which a branch predictor cannot learn. */
 static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, double k,
-                             const stretch *st)
+                             const stretch *st, int tx, int ty)
 {
     const double m = sum * inv_n, d = m > st->black ? m - st->black : 0;
     const double a = g - st->black - d * (1.0 - k);
     const double var = sumsq * inv_n - m * m;
-    const double b = d * k / st->r;
+    const double b = d * k / window_r(st, tx, ty);
     return (uint8_t)((a <= 0) | (a * a < b * b * var));
 }
 
@@ -103,7 +195,8 @@ static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, d
  * the tiles are at most), the share t of the full stretch by the ratio M / W (0 up to PLAIN_RATIO,
  * 1 from STRETCHED_RATIO, linear between), and the points t M and 255 - t (255 - W): (0, 255),
  * plain Sauvola, for print on paper, (M, W) for a pale page. */
-static void points_from_histogram(const uint32_t *hist, size_t tiles, double *black, double *white)
+static void points_from_histogram(const uint32_t *hist, size_t tiles, double *black, double *white,
+                                  double *share)
 {
     int darkest = 0;
     while (darkest < TILE_SUMS - 1 && hist[darkest] == 0)
@@ -122,11 +215,13 @@ static void points_from_histogram(const uint32_t *hist, size_t tiles, double *bl
                          : (ratio - PLAIN_RATIO) / (STRETCHED_RATIO - PLAIN_RATIO);
     *black = t * page_black;
     *white = 255.0 - t * (255.0 - page_white);
+    *share = t;
 }
 
-int lt_gray_points(const lt_image *gray, double *black, double *white)
+/* lt_gray_points, and the share of the stretch in *share. */
+static int page_points(const lt_image *gray, double *black, double *white, double *share)
 {
-    *black = 0, *white = 255;
+    *black = 0, *white = 255, *share = 0;
     if (!gray || gray->kind != LT_IMAGE_GRAY) return 0;
     const int w = gray->width, tiles_x = gray->width / TILE, tiles_y = gray->height / TILE;
     if (tiles_x < 1 || tiles_y < 1) return 0;
@@ -139,9 +234,44 @@ int lt_gray_points(const lt_image *gray, double *black, double *white)
             hist[r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] + r2[x] + r2[x + 1] +
                  r2[x + 2]]++;
     }
-    points_from_histogram(hist, (size_t)tiles_x * tiles_y, black, white);
+    points_from_histogram(hist, (size_t)tiles_x * tiles_y, black, white, share);
     free(hist);
     return 0;
+}
+
+int lt_gray_points(const lt_image *gray, double *black, double *white)
+{
+    double share;
+    return page_points(gray, black, white, &share);
+}
+
+/* Sets st's window paper (lightest_tiles) from the tile sums `sums` (tw x th) when the share of
+ * the stretch is above 0; returns LT_ENOMEM or 0. */
+static int add_window_paper(stretch *st, const uint16_t *sums, int tw, int th, int window_px,
+                            double share)
+{
+    if (share <= 0 || tw < 1 || th < 1) return 0;
+    st->local = share;
+    st->tiles_x = tw, st->tiles_y = th;
+    st->white_sums = lightest_tiles(sums, tw, th, window_px / TILE / 2);
+    return st->white_sums ? 0 : LT_ENOMEM;
+}
+
+/* The sums of the whole tiles of the page, (width / TILE) x (height / TILE); NULL when out of
+ * memory or when there is none. */
+static uint16_t *whole_tile_sums(const lt_image *gray)
+{
+    const int w = gray->width, tw = gray->width / TILE, th = gray->height / TILE;
+    uint16_t *sums = tw > 0 && th > 0 ? malloc((size_t)tw * th * sizeof *sums) : NULL;
+    if (!sums) return NULL;
+    for (int ty = 0; ty < th; ty++) {
+        const uint8_t *r0 = gray->pixels + (size_t)ty * TILE * w, *r1 = r0 + w, *r2 = r1 + w;
+        for (int t = 0, x = 0; t < tw; t++, x += TILE)
+            sums[(size_t)ty * tw + t] =
+                (uint16_t)(r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] + r2[x] +
+                           r2[x + 1] + r2[x + 2]);
+    }
+    return sums;
 }
 
 int lt_sauvola_window_px(const lt_params *p, double dpi)
@@ -218,7 +348,8 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, const s
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
         for (int x = 0; x < w; x++)
-            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, st);
+            dst[x] = is_ink(src[x], winsum[x], winsq[x], inv_rows * inv_cols[x], k, st, x / TILE,
+                            y / TILE);
     }
     *ink = out;
     out = NULL;
@@ -323,7 +454,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     int32_t *thr = malloc(tiles * sizeof *thr), *row_thr = malloc((size_t)gw * sizeof *row_thr);
     /* Dark tiles (only when dark != NULL, allocated at the first): ink where gray >= light_from
      * (NOT_DARK elsewhere); the window deviation of each, capped; tile rows with a dark tile. */
-    uint16_t *light_from = NULL;
+    uint16_t *light_from = NULL, *window_paper = NULL; /* window_paper: st.white_sums */
     uint8_t *dev = NULL, *dark_rows = NULL;
     lt_image *out = NULL;
     int64_t *colsum = calloc((size_t)gw, sizeof *colsum),
@@ -364,15 +495,22 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             tq[t] += (uint32_t)src[x] * src[x];
         }
     }
+    const int auto_points = black == LT_GRAY_POINT_AUTO && white == LT_GRAY_POINT_AUTO;
+    double share = 0;
     if (w >= TILE && h >= TILE) { /* else 0 and 255, as lt_gray_points */
         double page_black, page_white;
-        points_from_histogram(hist, (size_t)(w / TILE) * (h / TILE), &page_black, &page_white);
+        points_from_histogram(hist, (size_t)(w / TILE) * (h / TILE), &page_black, &page_white,
+                              &share);
         black = black == LT_GRAY_POINT_AUTO ? page_black : black;
         white = white == LT_GRAY_POINT_AUTO ? page_white : white;
     }
     free(hist);
-    const stretch st = stretch_for(black < 0 ? 0 : black, white < 0 ? 255 : white, r);
-    const double k_over_r = k / r, k_over_rs = k / st.r;
+    stretch st = stretch_for(black < 0 ? 0 : black, white < 0 ? 255 : white, r);
+    /* The tile sums of partial tiles at the right and bottom edges are of fewer pixels, so
+     * that they are never the lightest within a window's reach of a whole one. */
+    if (auto_points && add_window_paper(&st, tsum, gw, gh, window_px, share)) goto done;
+    window_paper = (uint16_t *)st.white_sums;
+    const double k_over_r = k / r, k_over_rs = k / page_r(&st);
     /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
      * the image, from column sums that slide down the tile rows. */
     for (int ty = 0; ty < reach && ty < gh; ty++)
@@ -411,7 +549,8 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
             const double var = (double)sumsq * inv_n - m * m, sd = var > 0 ? sqrt(var) : 0;
             const double d = m > st.black ? m - st.black : 0;
-            double t = st.black + d * (1.0 - k + k_over_rs * sd);
+            const double k_over_rw = st.white_sums ? k / window_r(&st, tx, ty) : k_over_rs;
+            double t = st.black + d * (1.0 - k + k_over_rw * sd);
             const size_t at = (size_t)ty * gw + tx;
             if (dark && m < DARK_MEAN) {
                 if (!light_from) { /* the first dark tile: those before it are not */
@@ -496,6 +635,7 @@ done:
     free(thr);
     free(row_thr);
     free(light_from);
+    free(window_paper);
     free(dark_rows);
     free(dev);
     free(colsum);
@@ -521,12 +661,22 @@ static int binarize(const lt_image *gray, int window_px, double k, double r, dou
     if (sampled) {
         rc = binarize_sampled(gray, window_px, k, r, black, white, ink, dark); /* points its own */
     } else {
-        double page_black = black, page_white = white;
-        if ((auto_black || auto_white) && (rc = lt_gray_points(gray, &page_black, &page_white)))
+        double page_black = black, page_white = white, share = 0;
+        if ((auto_black || auto_white) &&
+            (rc = page_points(gray, &page_black, &page_white, &share)))
             return lt_error_set(err, rc, "binarize: out of memory");
-        const stretch st =
+        stretch st =
             stretch_for(auto_black ? page_black : black, auto_white ? page_white : white, r);
-        rc = binarize_exact(gray, window_px, k, &st, ink);
+        uint16_t *sums = NULL;
+        if (auto_black && auto_white && share > 0 && gray->width >= TILE && gray->height >= TILE &&
+            !(sums = whole_tile_sums(gray)))
+            rc = LT_ENOMEM;
+        if (!rc)
+            rc = add_window_paper(&st, sums, gray->width / TILE, gray->height / TILE, window_px,
+                                  share);
+        if (!rc) rc = binarize_exact(gray, window_px, k, &st, ink);
+        free(sums);
+        free((void *)st.white_sums);
     }
     return rc ? lt_error_set(err, rc, "binarize: out of memory") : 0;
 }

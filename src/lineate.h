@@ -343,8 +343,9 @@ LT_API int lt_binarize_sampled(const lt_image *gray, int window_px, double k, do
  * tile B and the tile mean P that nine tenths of the tiles are at most (the paper; tiles at
  * multiples of 3 px, whole tiles only), M = t B and W = 255 - t (255 - P), t = 0 while B is
  * under 0.3 P (print on paper as scanned: Sauvola's threshold), 1 from 0.55 P (a pale page:
- * its whole range), linear between. `sampled` nonzero: sampled as lt_binarize_sampled, else
- * exact. */
+ * its whole range), linear between; with both points automatic, by the same share t, W is the
+ * mean of the lightest tile within the window's reach where that is darker (a tint, a shaded
+ * box has a paper of its own). `sampled` nonzero: sampled as lt_binarize_sampled, else exact. */
 #define LT_GRAY_POINT_AUTO (-1.0)
 LT_API int lt_binarize_normalized(const lt_image *gray, int window_px, double k, double r,
                                   double black, double white, int sampled, lt_image **ink,

@@ -28,6 +28,7 @@ import sys
 try:
     import numpy as np
     from PIL import Image
+    from scipy.ndimage import maximum_filter
     from skimage.filters import threshold_niblack, threshold_sauvola
 except ImportError as exc:  # the .sh driver checks this too; keep the script usable alone
     print("SKIP: %s" % exc)
@@ -77,33 +78,48 @@ NORMALIZED_K = 0.34
 # error of the threshold: measured when this was written, 99.94% at the worst (pale crop, W 33)
 # and 99.97% to 100% elsewhere; a window off by 2 px gives about 99.8% (above).
 MIN_PALE_SAMPLED_AGREEMENT = 0.9985
-# Pale copies: the gray range mapped onto [PALE_INK, PALE_PAPER].
+# Pale copies: the gray range mapped onto [PALE_INK, PALE_PAPER]; tinted copies: onto
+# [PALE_INK, 255] with a band of rows onto [PALE_INK, PALE_PAPER].
 PALE_INK, PALE_PAPER = 170, 235
+
+
+def tile_sums(gray):
+    """Sums of the whole 3 x 3 tiles at multiples of 3 px (an empty array when there is none)."""
+    h, w = (gray.shape[0] // 3) * 3, (gray.shape[1] // 3) * 3
+    return gray[:h, :w].astype(np.int64).reshape(h // 3, 3, w // 3, 3).sum(axis=(1, 3))
 
 
 def gray_points(gray):
     """The page's gray points: from the mean of its darkest whole 3 x 3 tile (M) and the tile
-    mean that WHITE_SHARE of the tiles are at most (W), tiles at multiples of 3 px, the share t
-    of the stretch by M / W and the points (t M, 255 - t (255 - W)); (0, 255) without a tile."""
-    h, w = (gray.shape[0] // 3) * 3, (gray.shape[1] // 3) * 3
-    if h == 0 or w == 0:
-        return 0.0, 255.0
-    tiles = np.sort(gray[:h, :w].astype(np.int64).reshape(h // 3, 3, w // 3, 3)
-                    .sum(axis=(1, 3)).ravel())
+    mean that WHITE_SHARE of the tiles are at most (W), the share t of the stretch by M / W and
+    the points (t M, 255 - t (255 - W)), returned with t; (0, 255, 0) without a tile."""
+    tiles = np.sort(tile_sums(gray).ravel())
+    if tiles.size == 0:
+        return 0.0, 255.0, 0.0
     black = tiles[0] / 9.0
     white = tiles[int(np.ceil(WHITE_SHARE * tiles.size)) - 1] / 9.0
     ratio = black / white if white > 0 else 0.0
     t = min(1.0, max(0.0, (ratio - PLAIN_RATIO) / (STRETCHED_RATIO - PLAIN_RATIO)))
-    return t * black, 255.0 - t * (255.0 - white)
+    return t * black, 255.0 - t * (255.0 - white), t
 
 
 def normalized_threshold(gray, window_px, k, points):
-    """T = M + (m - M) (1 - k + k s / R'), R' = R max(W - M, MIN_RANGE) / 255 (m below M taken
-    as M); m and s from skimage's threshold_niblack (reflect padding at the border)."""
-    black, white = points
+    """T = M + (m - M) (1 - k + k s / R'), R' = R max(span, MIN_RANGE) / 255 (m below M taken as
+    M); span = W - M, or, by the share t, the lightest whole tile's mean within window_px // 6
+    tiles (scipy's maximum_filter on the tile grid) less M where that is narrower; m and s from
+    skimage's threshold_niblack (reflect padding at the border)."""
+    black, white, t = points
     m = threshold_niblack(gray, window_size=window_px, k=0)
     s = threshold_niblack(gray, window_size=window_px, k=-1) - m
-    r = R * max(white - black, MIN_RANGE) / 255
+    span = np.full(gray.shape, white - black)
+    if t > 0:
+        reach = window_px // 3 // 2
+        lightest = maximum_filter(tile_sums(gray), size=2 * reach + 1, mode="constant", cval=0)
+        ty = np.minimum(np.arange(gray.shape[0]) // 3, lightest.shape[0] - 1)
+        tx = np.minimum(np.arange(gray.shape[1]) // 3, lightest.shape[1] - 1)
+        own = lightest[np.ix_(ty, tx)] / 9.0 - black
+        span = np.where(own < span, span - t * (span - own), span)
+    r = R * np.maximum(span, MIN_RANGE) / 255
     return black + np.maximum(m - black, 0) * (1 - k + k * s / r)
 
 
@@ -213,6 +229,14 @@ def main(argv):
         pale_path = os.path.join(work, "pale-%s.png" % name)
         Image.fromarray(pale, "L").save(pale_path)
         cases.append(("pale-" + name, pale_path))
+        # Tinted: lightened to [PALE_INK, 255], the middle third of the rows onto the pale range
+        # (a tint of PALE_PAPER behind them), so that windows there have a paper of their own.
+        tint = PALE_INK + gray * (255 - PALE_INK) / 255
+        third = gray.shape[0] // 3
+        tint[third:2 * third] = pale[third:2 * third]
+        tint_path = os.path.join(work, "tint-%s.png" % name)
+        Image.fromarray(np.round(tint).astype(np.uint8), "L").save(tint_path)
+        cases.append(("tint-" + name, tint_path))
 
     failures = cases_run = 0
     print("%-18s %-18s %4s %5s %11s %11s %6s %9s %7s" %
@@ -234,10 +258,10 @@ def main(argv):
         points = gray_points(gray)
         for mode, window_px, k, min_all, min_interior in runs:
             if mode.startswith("normalized"):
-                if points == (0.0, 255.0):
+                if points[2] == 0:
                     continue  # plain Sauvola: the cases above
                 threshold = normalized_threshold(gray, window_px, k, points)
-            elif name.startswith("pale-"):
+            elif name.startswith(("pale-", "tint-")):
                 continue  # plain Sauvola loses pale print: nothing to compare
             else:
                 threshold = threshold_sauvola(gray, window_size=window_px, k=k, r=R)

@@ -371,19 +371,25 @@ static void test_pale(void)
 
 /* Pale copies of a page with black print and a block of gray print (170, as captions,
  * marginal notes or shaded headings are set): its gray range mapped linearly onto [170, 235]
- * (pale), [150, 255] (light) and [170, 255] (gray). The reference is the original page's ink
- * under plain Sauvola (lt_binarize and lt_binarize_sampled, whose formula tests/ref_sauvola.py
- * checks against scikit-image's threshold_sauvola), which holds every stroke of both blocks;
- * the normalised form on each copy (its own gray points) must give that ink pixel for pixel,
- * as the copy is a known linear map of the gray levels (rounded to whole levels). A threshold
- * that stretches the pale copy by less than its whole range loses the gray block there. */
+ * (pale), [150, 255] (light) and [170, 255] (gray), and onto [170, 255] with the last two rows
+ * of strokes on a tint of 235 (its edge between rows, a window away from the strokes above).
+ * The reference is the original page's ink under plain Sauvola (lt_binarize and
+ * lt_binarize_sampled, whose formula tests/ref_sauvola.py checks against scikit-image's
+ * threshold_sauvola), which holds every stroke of both blocks; the normalised form on each copy
+ * (its own gray points) must give that ink pixel for pixel, as the copy is a known linear map of
+ * the gray levels (rounded to whole levels). A threshold that stretches the pale copy by less
+ * than its whole range loses the gray block there. */
 static void test_pale_copies(void)
 {
     const int w = 480, h = 200, window = 33;
     const struct {
-        int ink, paper;
+        int ink, paper, tint_paper; /* tint_paper: of the rows from tint_top down */
         const char *name;
-    } copies[] = {{170, 235, "pale"}, {150, 255, "light"}, {170, 255, "gray"}};
+    } copies[] = {{170, 235, 235, "pale"},
+                  {150, 255, 255, "light"},
+                  {170, 255, 255, "gray"},
+                  {170, 255, 235, "tint"}};
+    const int tint_top = 91; /* the last two rows of strokes */
     lt_image *page = tu_image(w, h, LT_IMAGE_GRAY, 255);
     for (int block = 0; block < 2; block++) /* black strokes left, gray strokes right */
         for (int row = 0; row < 4; row++)
@@ -405,9 +411,11 @@ static void test_pale_copies(void)
         CHECK_INT(missed, 0, "pale copies, sampled %d: the original's strokes lost", sampled);
         for (size_t c = 0; c < sizeof copies / sizeof copies[0]; c++) {
             lt_image *copy = tu_image(w, h, LT_IMAGE_GRAY, 0), *ink = NULL;
-            const double scale = (copies[c].paper - copies[c].ink) / 255.0;
-            for (int i = 0; i < w * h; i++)
-                copy->pixels[i] = (uint8_t)lround(copies[c].ink + page->pixels[i] * scale);
+            for (int i = 0; i < w * h; i++) {
+                const int paper = i / w < tint_top ? copies[c].paper : copies[c].tint_paper;
+                copy->pixels[i] = (uint8_t)lround(
+                    copies[c].ink + page->pixels[i] * (paper - copies[c].ink) / 255.0);
+            }
             if (lt_binarize_normalized(copy, window, 0.34, 128, LT_GRAY_POINT_AUTO,
                                        LT_GRAY_POINT_AUTO, sampled, &ink, &err)) {
                 tu_fail("pale copies: %s: %s", copies[c].name, err.message);

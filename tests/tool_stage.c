@@ -271,15 +271,17 @@ int main(int argc, char **argv)
         if (img->kind != LT_IMAGE_GRAY) return fprintf(stderr, "tool_stage: not gray\n"), 1;
         const int sampled = argc >= 8 && strcmp(argv[7], "sampled") == 0;
         double black = 0, white = 255; /* plain Sauvola */
-        if (argc >= 9 && strcmp(argv[8], "auto") == 0) {
+        const int automatic = argc >= 9 && strcmp(argv[8], "auto") == 0;
+        if (automatic) {
             if (lt_gray_points(img, &black, &white))
                 return fprintf(stderr, "tool_stage: out of memory\n"), 1;
         } else if (argc >= 10) {
             black = atof(argv[8]), white = atof(argv[9]);
         }
         if (argc >= 9) printf("black %.6f white %.6f\n", black, white);
-        if (lt_binarize_normalized(img, atoi(argv[3]), atof(argv[4]), atof(argv[5]), black, white,
-                                   sampled, &ink, &err))
+        if (lt_binarize_normalized(img, atoi(argv[3]), atof(argv[4]), atof(argv[5]),
+                                   automatic ? LT_GRAY_POINT_AUTO : black,
+                                   automatic ? LT_GRAY_POINT_AUTO : white, sampled, &ink, &err))
             return fprintf(stderr, "tool_stage: %s\n", err.message), 1;
         int bad = write_pgm(ink, argv[6]);
         lt_image_free(img);
