@@ -3,7 +3,9 @@
  * every ink pixel carried onto the turned pixel), the two estimators on drawn pages of
  * Latin-like type (tests/textpage.h: 20 % ascenders, 12 % descenders) turned by known quarter
  * turns, lt_analyze on those pages (the turn found, the lines those of the upright page carried
- * through the turn, exactly), blank and noise pages (no estimate) and a given orientation. */
+ * through the turn, exactly), blank and noise pages (no estimate) and a given orientation; the
+ * up/down evidences (ascenders against descenders, the lines' ends) on components and lines
+ * set out by hand, each on either side of its threshold (expected z scores worked by hand). */
 #include "testutil.h"
 #include "textpage.h"
 
