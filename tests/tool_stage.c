@@ -150,6 +150,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     }
     if ((rc = lt_build_lines(comps, text_height_px, seps, p, &raw, err))) goto done;
     lt_drop_edge_slivers(raw, &frame, text_height_px);
+    lt_drop_scan_borders(comps, raw, &frame, text_height_px);
     t_next = now_ms();
     stage_ms[ST_LINES] += t_next - t;
     t = t_next;
