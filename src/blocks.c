@@ -352,9 +352,10 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
         gy = widest_gap(spans, n, &y_cut);
     }
     double sx = gx / x->col_gap, sy = gy / x->row_gap;
-    /* A gap that leaves a column narrower than a few words beside it, its lines standing in
-     * the rows of the lines across the gap, parts labels from their items or the cells of a
-     * table: those are read row by row. */
+    /* A gap that leaves a column of labels beside it (narrower than a few words, or sparse
+     * beside the lines at the gap), its lines standing in the rows of the lines across the
+     * gap, parts labels from their items or the cells of a table: those are read row by row;
+     * a sparse column of labels is not cut off at a gutter either. */
     if (gx > 0 && sx >= 1 && labels_beside_gap(x, idx, n, &node->box, x_cut, gx, 0)) sx = 0;
     /* A separating rule counts as a gap twice the narrowest one. */
     if (n > 1 && sx < 2 && rule_cut(x, idx, n, &node->box, 1, &x_cut)) sx = 2;
