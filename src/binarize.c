@@ -288,7 +288,7 @@ static int binarize_exact(const lt_image *gray, int window_px, double k, const s
                           lt_image **ink)
 {
     const int w = gray->width, h = gray->height, half = window_px / 2;
-    lt_image *out = lt_image_new(w, h, LT_IMAGE_INK);
+    lt_image *out = lt_image_alloc(w, h, LT_IMAGE_INK, 0); /* every pixel is written below */
     uint32_t *colsum = calloc((size_t)w, sizeof *colsum);
     uint32_t *colsq = calloc((size_t)w, sizeof *colsq); /* <= 65535 rows x 255^2 < 2^32 */
     double *winsum = malloc((size_t)w * sizeof *winsum), *winsq = malloc((size_t)w * sizeof *winsq);
@@ -584,7 +584,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     free(tsq);
     tsum = NULL;
     tsq = NULL;
-    if (!(out = lt_image_new(w, h, LT_IMAGE_INK))) goto done;
+    if (!(out = lt_image_alloc(w, h, LT_IMAGE_INK, 0))) goto done; /* every pixel written */
     out->dpi = gray->dpi;
     const int32_t unit = TILE * TILE << 16; /* gray values and thresholds both x TILE^2 (< 2^31) */
     for (int y = 0; y < h; y++) {

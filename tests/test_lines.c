@@ -245,21 +245,27 @@ static void test_small_marks(void)
 /* The whole pipeline on a drawn gray page (black on white): a title, two columns, a page
  * number. lt_analyze's lines (in reading order) must be the drawn ones, in the order
  * title, left column top to bottom, right column top to bottom, page number. */
+/* The page of test_analyze on p (1600 x 1300): a title, then two columns (8 and 6 lines
+ * beside 10). Returns the first column line's baseline. */
+static int draw_two_columns(page *p, tu_rng *r)
+{
+    /* Title: one line of bigger type would change the text height measure; a line of the
+     * body type, centred, set apart by two blank lines. */
+    draw_line(p, r, 500, 1100, 120, 0, 0);
+    const int top = 120 + 3 * PITCH, x0 = 120, col = 640, gutter = 3 * XH;
+    int y = draw_paragraph(p, r, x0, x0 + col, top, 8) + PITCH;
+    draw_paragraph(p, r, x0, x0 + col, y, 6);
+    draw_paragraph(p, r, x0 + col + gutter, x0 + 2 * col + gutter, top, 10);
+    return top;
+}
+
 static void test_analyze(void)
 {
     tu_rng r = {4242};
     page *p = page_new(1600, 1300);
-    /* Title: one line of bigger type would change the text height measure; a line of the
-     * body type, centred, set apart by two blank lines. */
-    draw_line(p, &r, 500, 1100, 120, 0, 0);
-    const int top = 120 + 3 * PITCH, x0 = 120, col = 640, gutter = 3 * XH;
-    int y = draw_paragraph(p, &r, x0, x0 + col, top, 8) + PITCH;
-    draw_paragraph(p, &r, x0, x0 + col, y, 6);
-    draw_paragraph(p, &r, x0 + col + gutter, x0 + 2 * col + gutter, top, 10);
+    const int top = draw_two_columns(p, &r);
     draw_line(p, &r, 780, 830, top + 18 * PITCH, 0, 0); /* page number, short */
-    lt_image *gray = tu_image(1600, 1300, LT_IMAGE_GRAY, 255);
-    for (size_t i = 0; i < (size_t)1600 * 1300; i++)
-        if (p->img->pixels[i]) gray->pixels[i] = 0;
+    lt_image *gray = page_gray(p);
     lt_layout *lay = NULL;
     lt_error err = {0};
     lt_params prm;
@@ -402,17 +408,12 @@ static void test_scan_border(void)
     const int w = 1600, h = 1300, band = 12;
     tu_rng r = {4242};
     page *p = page_new(w, h);
-    draw_line(p, &r, 500, 1100, 120, 0, 0);
-    const int top = 120 + 3 * PITCH, x0 = 120, col = 640, gutter = 3 * XH;
-    int y = draw_paragraph(p, &r, x0, x0 + col, top, 8) + PITCH;
-    draw_paragraph(p, &r, x0, x0 + col, y, 6);
-    draw_paragraph(p, &r, x0 + col + gutter, x0 + 2 * col + gutter, top, 10);
-    lt_image *gray = tu_image(w, h, LT_IMAGE_GRAY, 255);
-    for (int yy = 0; yy < h; yy++)
-        for (int xx = 0; xx < w; xx++) {
-            const int ring = xx < band || yy < band || xx >= w - band || yy >= h - band;
-            if (ring || p->img->pixels[(size_t)yy * w + xx]) gray->pixels[(size_t)yy * w + xx] = 0;
-        }
+    draw_two_columns(p, &r);
+    lt_image *gray = page_gray(p);
+    for (int y = 0; y < h; y++)
+        for (int x = 0; x < w; x++)
+            if (x < band || y < band || x >= w - band || y >= h - band)
+                gray->pixels[(size_t)y * w + x] = 0;
     lt_layout *lay = NULL;
     lt_error err = {0};
     lt_params prm;

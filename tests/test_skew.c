@@ -371,9 +371,7 @@ static void test_staggered_columns(double sign)
         page *p = page_new(2550, 3300);
         draw_list_column(p, &r, 350, 1150, 450, 2950);
         draw_list_column(p, &r, 1350, 2150, 480, 2950);
-        lt_image *gray = tu_image(2550, 3300, LT_IMAGE_GRAY, 255);
-        for (size_t k = 0; k < (size_t)2550 * 3300; k++)
-            if (p->img->pixels[k]) gray->pixels[k] = 0;
+        lt_image *gray = page_gray(p);
         page_free(p);
         PIX *pix = tu_pix_from_gray(gray);
         lt_image_free(gray);

@@ -150,6 +150,15 @@ static inline int draw_line(page *p, tu_rng *r, int x0, int x1, int baseline, in
     return l;
 }
 
+/* The page as a gray image: black ink on white paper. */
+static inline lt_image *page_gray(const page *p)
+{
+    const int w = p->img->width, h = p->img->height;
+    lt_image *gray = tu_image(w, h, LT_IMAGE_GRAY, 255);
+    for (size_t i = 0; i < (size_t)w * h; i++)
+        if (p->img->pixels[i]) gray->pixels[i] = 0;
+    return gray;
+}
 /* A paragraph of `lines` lines at x0..x1 from the baseline `first`, justified but the last. */
 static inline int draw_paragraph(page *p, tu_rng *r, int x0, int x1, int first, int lines)
 {
