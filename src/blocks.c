@@ -25,6 +25,12 @@ static const long MAX_ROW_TESTS = 4000000;
  * item, the cells of a table row): half an x-height, as baselines found on real scans wander. */
 static const double BASELINE_TOLERANCE = 0.5;
 
+/* White (text heights) by which a band under a heading over two columns (above a foot) is
+ * wider than the white between the columns' lines: half a letter's height more than the
+ * leading, a break a reader sees; the lines of a table's first or last row, run across its
+ * cells, stand at the table's own leading. */
+static const double BAND_OVER_LEADING = 0.5;
+
 typedef struct span {
     int lo, hi, line;
 } span;
@@ -113,18 +119,25 @@ static int leaf_lines(lt_cut_node *node, const lt_box *boxes, int nreal, const i
     return 0;
 }
 
+/* The hull of the boxes idx[0..n), n >= 1. */
+static lt_box hull(const lt_box *boxes, const int *idx, int n)
+{
+    lt_box h = boxes[idx[0]];
+    for (int i = 1; i < n; i++) {
+        const lt_box *b = &boxes[idx[i]];
+        if (b->left < h.left) h.left = b->left;
+        if (b->top < h.top) h.top = b->top;
+        if (b->right > h.right) h.right = b->right;
+        if (b->bottom > h.bottom) h.bottom = b->bottom;
+    }
+    return h;
+}
+
 static lt_cut_node *node_new(const lt_box *boxes, const int *idx, int n)
 {
     lt_cut_node *node = calloc(1, sizeof *node);
     if (!node) return NULL;
-    node->box = boxes[idx[0]];
-    for (int i = 1; i < n; i++) {
-        const lt_box *b = &boxes[idx[i]];
-        if (b->left < node->box.left) node->box.left = b->left;
-        if (b->top < node->box.top) node->box.top = b->top;
-        if (b->right > node->box.right) node->box.right = b->right;
-        if (b->bottom > node->box.bottom) node->box.bottom = b->bottom;
-    }
+    node->box = hull(boxes, idx, n);
     return node;
 }
 
@@ -137,6 +150,7 @@ typedef struct cut_context {
     int rtl;
     const lt_raw_line *lines;  /* the lines (boxes[0..nreal)) */
     double baseline_tolerance; /* px: lines on one baseline differ by at most this */
+    double band_over_leading;  /* px: see BAND_OVER_LEADING */
     span *spans;               /* scratch room for all lines */
 } cut_context;
 
@@ -326,6 +340,96 @@ static int labels_beside_gap(const cut_context *x, const int *idx, int n, const 
     return 0;
 }
 
+/* The median white (px, negative where boxes overlap) between each of the lines idx[0..n)
+ * (pictures left out) and the nearest line above it that it overlaps horizontally: the
+ * leading of the columns; gap[] is room for n values. 0 where no line has one, or past
+ * MAX_ROW_TESTS pairs. */
+static double median_leading(const cut_context *x, const int *idx, int n, double *gap)
+{
+    if ((long)n * n > MAX_ROW_TESTS) return 0;
+    int ngaps = 0;
+    for (int i = 0; i < n; i++) {
+        if (idx[i] >= x->nreal) continue;
+        const lt_box *a = &x->boxes[idx[i]];
+        const lt_box *above = NULL;
+        for (int j = 0; j < n; j++) {
+            const lt_box *b = &x->boxes[idx[j]];
+            if (idx[j] < x->nreal && b->top + b->bottom < a->top + a->bottom &&
+                b->left < a->right && a->left < b->right && (!above || b->bottom > above->bottom))
+                above = b;
+        }
+        if (above) gap[ngaps++] = a->top - above->bottom;
+    }
+    return ngaps ? lt_median(gap, ngaps) : 0;
+}
+
+/* Lines set over the two columns of a gutter (a running head, a title) or under them (a
+ * foot), which gutter_cut does not cut at, since they cross it: where nothing else cuts the
+ * node, the band of white between them and the columns is cut first, however narrow, when it
+ * sets them apart (wider by BAND_OVER_LEADING than the white between the lines of the
+ * columns: not the first or last lines of a table whose cells they run across) and the lines
+ * beyond it are cut at the gutter. Returns 1 with the cut coordinate (lines starting at or
+ * below it lie beyond), 0 for none, LT_ENOMEM. */
+static int band_beside_columns(const cut_context *x, const int *idx, int n, const lt_box *nb,
+                               double min_width, int *cut_at)
+{
+    if (!x->seps) return 0;
+    const lt_separators *s = x->seps;
+    int *rest = malloc(((size_t)n + 1) * sizeof *rest);
+    double *gap = malloc(((size_t)n + 1) * sizeof *gap);
+    if (!rest || !gap) {
+        free(rest);
+        free(gap);
+        return LT_ENOMEM;
+    }
+    /* the boxes by top, for the bands of white between them */
+    span *sp = x->spans;
+    for (int i = 0; i < n; i++)
+        sp[i] = (span){x->boxes[idx[i]].top, x->boxes[idx[i]].bottom, idx[i]};
+    qsort(sp, (size_t)n, sizeof *sp, cmp_span);
+    int found = 0;
+    for (int k = 0; k < s->ngutters + s->nrules && !found; k++) {
+        const lt_box *g = k < s->ngutters ? &s->gutters[k] : &s->rules[k - s->ngutters];
+        if (k >= s->ngutters && g->bottom - g->top <= g->right - g->left) continue;
+        const int mid = (g->left + g->right) / 2;
+        if (mid - nb->left < min_width || nb->right - mid < min_width) continue;
+        int cross_top = 1 << 30, cross_bottom = -1;
+        for (int i = 0; i < n; i++) {
+            const lt_box *b = &x->boxes[idx[i]];
+            if (idx[i] < x->nreal && !is_piece(x, idx[i]) && b->left < mid && b->right > mid) {
+                if (b->top < cross_top) cross_top = b->top;
+                if (b->bottom > cross_bottom) cross_bottom = b->bottom;
+            }
+        }
+        if (cross_bottom < 0) continue;
+        for (int foot = 0; foot < 2 && !found; foot++) {
+            /* the band: the first white below the crossing lines, or the last above them */
+            int at = -1, band = 0;
+            for (int i = 1, reach = sp[0].hi; i < n; i++) {
+                if (sp[i].lo > reach && (foot ? sp[i].lo <= cross_top : reach >= cross_bottom)) {
+                    at = sp[i].lo;
+                    band = sp[i].lo - reach;
+                    if (!foot) break;
+                }
+                if (sp[i].hi > reach) reach = sp[i].hi;
+            }
+            if (at < 0) continue;
+            int m = 0;
+            for (int i = 0; i < n; i++)
+                if ((x->boxes[idx[i]].top >= at) != foot) rest[m++] = idx[i];
+            const lt_box rb = hull(x->boxes, rest, m);
+            int gutter_at, width, crossing;
+            found = band >= median_leading(x, rest, m, gap) + x->band_over_leading &&
+                    gutter_cut(x, rest, m, &rb, min_width, &gutter_at, &width, &crossing) &&
+                    crossing == 0 && !labels_beside_gap(x, rest, m, &rb, gutter_at, width, 1);
+            if (found) *cut_at = at;
+        }
+    }
+    free(rest);
+    free(gap);
+    return found;
+}
+
 /* Builds the subtree of lines idx[0..n), n >= 1. */
 static lt_cut_node *cut(const cut_context *x, int *idx, int n)
 {
@@ -373,6 +477,17 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
         sx = sy + 1;
         gx = gutter_width;
         x_cut = gutter_at;
+    }
+    if (n > 1 && sx < 1 && sy < 1) {
+        const int band = band_beside_columns(x, idx, n, &node->box, x->column_min_width, &y_cut);
+        if (band < 0) {
+            lt_cut_node_free(node);
+            return NULL;
+        }
+        if (band) {
+            sx = 0;
+            sy = 1;
+        }
     }
     if (sx < 1 && sy < 1) {
         if (leaf_lines(node, boxes, x->nreal, idx, n, x->rtl)) {
@@ -446,6 +561,7 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
                            p->right_to_left,
                            lines->items,
                            BASELINE_TOLERANCE * th,
+                           BAND_OVER_LEADING * th,
                            spans};
     *root = cut(&x, idx, n);
     free(idx);

@@ -316,6 +316,42 @@ static void test_crossed_at_top(void)
     check_page(&p, 83, "a gutter crossed at the top");
 }
 
+/* A title over two columns of 12 lines that runs across their gutter (3 text heights), set
+ * apart from them by a band of white narrower than block_min_gap (1.2 text heights, 24 px)
+ * but BAND_OVER_LEADING (half a text height, 10 px) wider than the white between the columns'
+ * lines (11 px): 22 px gives title, left column, right column. With 20 px the band sets
+ * nothing apart and the title crosses the gutter above the columns: one block read row by
+ * row. The same for a line under the columns (a foot), read after them. */
+static void test_band_beside_columns(void)
+{
+    for (int foot = 0; foot <= 1; foot++)
+        for (int band = 20; band <= 22; band += 2) {
+            page p = {0};
+            tu_rng r = {23};
+            const int lines = 12, apart = band > 20;
+            const int first = foot ? 250 : 250 + ASC + DESC + band; /* the columns' first */
+            const int across = foot ? first + (lines - 1) * PITCH + ASC + DESC + band : 250;
+            if (!foot) add_line(&p, 400, 1300, across);
+            if (!foot && apart) p.nblocks++;
+            for (int side = 0; side < (apart ? 2 : 1); side++) {
+                for (int i = 0; i < lines; i++)
+                    for (int col = 0; col < 2; col++)
+                        if (!apart || col == side)
+                            add_line(&p, col ? 820 : 150, (col ? 1430 : 760) - tu_range(&r, 0, 40),
+                                     first + i * PITCH);
+                p.nblocks++;
+            }
+            if (foot) add_line(&p, 400, 1300, across);
+            if (foot && apart) p.nblocks++;
+            if (!apart) /* one block */
+                memset(p.block, 0, sizeof p.block);
+            char what[80];
+            snprintf(what, sizeof what, "a line %s two columns, a band of %d px",
+                     foot ? "under" : "over", band);
+            check_page(&p, 91 + band, what);
+        }
+}
+
 /* Numbered lines of a listing: numbers (1.5 text heights wide) before their lines of code,
  * with a gap of 2 text heights, and of 12 (wider than column_min_width, 10 text heights: a
  * margin, not a label's white). Beside the narrow gap the numbers are labels, sharing the
@@ -509,6 +545,7 @@ int main(void)
     test_overhanging_block();
     test_block_beside_a_run_on();
     test_crossed_at_top();
+    test_band_beside_columns();
     test_labels();
     test_margin_notes();
     test_form();
