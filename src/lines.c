@@ -27,6 +27,15 @@ static const double LARGE_TYPE_RANK = 0.3; /* x-height of large type: this rank 
  * while the border and the edges of the leaves break into thin strokes. */
 static const double EDGE_SLIVER_WIDTH = 1.0;
 static const double EDGE_BAND = 4.0;
+/* A justified line stretched to its column's width spreads its few words evenly: a gap wider
+ * than the widest bridged one (lt_params.link_max_gap) that crosses no separator joins its row
+ * when the next wide gap along the row, on either side, is as wide to within
+ * STRETCH_TOLERANCE of the wider one: the line's own spacing. Cells of a table, a label and
+ * its item, or a number beside a listing stand apart by one wide gap among narrow ones.
+ * STRETCH_MAX_GAP (text heights) bounds the search: wider white parts columns or a margin
+ * note from the text, it is no word space. */
+static const double STRETCH_TOLERANCE = 0.2;
+static const double STRETCH_MAX_GAP = 10.0;
 
 typedef struct link {
     int a, b;        /* components, a left of b */
@@ -405,9 +414,10 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
  * punctuation between words), with a gap of at most max_gap that crosses no separator. The
  * gap is judged by the pair's type size: the smaller of the two groups' mean letter heights
  * against the page's, times the height of the page's typical line (a group's box holds its
- * large initials and any drift of its baseline, and two rows run together look large). */
+ * large initials and any drift of its baseline, and two rows run together look large). Wider
+ * gaps join where the row's next wide gap is as wide (STRETCH_TOLERANCE). */
 static int join_rows(const lt_components *c, const uint8_t *body, int *parent, double max_gap,
-                     const lt_separators *seps)
+                     double th, const lt_separators *seps)
 {
     lt_box *boxes;
     keyed *roots;
@@ -416,14 +426,12 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
     double *letters = calloc((size_t)c->count + 1, sizeof *letters); /* by root: height sum */
     int *count = calloc((size_t)c->count + 1, sizeof *count);        /* ... and letters */
     double *heights = malloc(((size_t)nr + 1) * sizeof *heights);
-    if (!letters || !count || !heights) {
-        free(boxes);
-        free(roots);
-        free(letters);
-        free(count);
-        free(heights);
-        return LT_ENOMEM;
-    }
+    double *next_gap = malloc(((size_t)nr + 1) * sizeof *next_gap);
+    int *next = malloc(((size_t)nr + 1) * sizeof *next),
+        *prev = malloc(((size_t)nr + 1) * sizeof *prev);
+    const double stretch_max = STRETCH_MAX_GAP * th;
+    int rc = LT_ENOMEM;
+    if (!letters || !count || !heights || !next_gap || !next || !prev) goto done;
     double page_sum = 0;
     int page_count = 0;
     for (int i = 0; i < c->count; i++) {
@@ -437,10 +445,16 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
     for (int a = 0; a < nr; a++)
         heights[a] = lt_box_height(&boxes[roots[a].index]);
     const double line_height = lt_median(heights, nr), page_letter = page_sum / page_count;
+    /* next[a]: the nearest group right of a on its row within reach (-1: none, or the link to
+     * it blocked), its gap in next_gap[a]; prev[b]: a group whose next is b */
+    for (int a = 0; a < nr; a++)
+        next[a] = prev[a] = -1;
     for (int a = 0; a < nr; a++) {
         const int ra = roots[a].index;
         const lt_box *ba = &boxes[ra];
-        for (int b = a + 1; b < nr && roots[b].key <= ba->right + max_gap; b++) {
+        int nearest = -1;
+        double nearest_gap = stretch_max + 1;
+        for (int b = a + 1; b < nr && roots[b].key <= ba->right + stretch_max; b++) {
             const int rb = roots[b].index;
             const lt_box *bb = &boxes[rb];
             const int top = ba->top > bb->top ? ba->top : bb->top;
@@ -449,18 +463,50 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                 lt_box_height(ba) < lt_box_height(bb) ? lt_box_height(ba) : lt_box_height(bb);
             if (2 * (bottom - top) < hmin) continue;
             const double size = fmin(letters[ra] / count[ra], letters[rb] / count[rb]);
-            if (!lt_link_blocked(seps, ba->right, bb->left, ba->top < bb->top ? ba->top : bb->top,
-                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom,
-                                 line_height * size / page_letter))
-                lt_uf_unite(parent, ra, rb);
+            const int blocked =
+                lt_link_blocked(seps, ba->right, bb->left, ba->top < bb->top ? ba->top : bb->top,
+                                ba->bottom > bb->bottom ? ba->bottom : bb->bottom,
+                                line_height * size / page_letter);
+            const double gap = bb->left - ba->right;
+            if (gap <= max_gap && !blocked) lt_uf_unite(parent, ra, rb);
+            if (bb->left >= ba->right && gap < nearest_gap) {
+                nearest_gap = gap;
+                nearest = blocked ? -1 : b;
+            }
+        }
+        if (nearest >= 0) {
+            next[a] = nearest;
+            next_gap[a] = nearest_gap;
+            prev[nearest] = a;
         }
     }
+    /* Wide gaps of a stretched line: the next wide gap along the row after the pair, or the
+     * one before it, past the groups joined by narrow gaps, is as wide. */
+    for (int a = 0; a < nr; a++) {
+        if (next[a] < 0 || next_gap[a] <= max_gap) continue;
+        const double g = next_gap[a];
+        int after = next[a], before = prev[a];
+        while (after >= 0 && next[after] >= 0 && next_gap[after] <= max_gap)
+            after = next[after];
+        while (before >= 0 && next_gap[before] <= max_gap)
+            before = prev[before];
+        const double ga = after >= 0 && next[after] >= 0 ? next_gap[after] : -1;
+        const double gb = before >= 0 ? next_gap[before] : -1;
+        if (fabs(ga - g) <= STRETCH_TOLERANCE * fmax(g, ga) ||
+            fabs(gb - g) <= STRETCH_TOLERANCE * fmax(g, gb))
+            lt_uf_unite(parent, roots[a].index, roots[next[a]].index);
+    }
+    rc = 0;
+done:
     free(boxes);
     free(roots);
     free(letters);
     free(count);
     free(heights);
-    return 0;
+    free(next_gap);
+    free(next);
+    free(prev);
+    return rc;
 }
 
 int lt_build_lines(const lt_components *c, double text_height_px, const lt_separators *seps,
@@ -525,7 +571,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, seps) ||
-        join_rows(c, body, parent, max_gap, seps) ||
+        join_rows(c, body, parent, max_gap, th, seps) ||
         cut_across_gutters(c, body, parent, th, seps, piece) || absorb_nested(c, body, parent))
         goto nomem;
 

@@ -436,6 +436,52 @@ static void test_scan_border(void)
     page_free(p);
 }
 
+/* Makes the last n drawn lines one line (pieces of a row drawn one at a time). */
+static void join_last_lines(page *p, int n)
+{
+    const int first = p->nlines - n;
+    for (int l = first + 1; l < p->nlines; l++) {
+        tu_box_union(&p->line_box[first], p->line_box[l]);
+        p->ncomp[first] += p->ncomp[l];
+    }
+    for (int m = 0; m < p->nmarks; m++)
+        if (p->mark_line[m] > first) p->mark_line[m] = first;
+    p->nlines = first + 1;
+}
+
+/* A justified line stretched to its column with three words (a long word, then two short
+ * ones, as the first line of an item whose label fills most of the measure): gaps wider than
+ * lt_params' link_max_gap (5 text heights) between full lines of the paragraph. Gaps as wide
+ * as each other to within STRETCH_TOLERANCE (0.2) of the wider make one line: 150 and 122 px
+ * (0.19), 190 and 190 px (9.5 text heights, under STRETCH_MAX_GAP); 150 and 116 px (0.23)
+ * and 210 and 210 px (10.5 text heights) leave three lines. */
+static void test_stretched_line(void)
+{
+    const struct {
+        int gap1, gap2, one_line;
+    } cases[] = {{150, 122, 1}, {150, 116, 0}, {190, 190, 1}, {210, 210, 0}};
+    for (int ci = 0; ci < 4; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "stretched line, gaps %d and %d px", cases[ci].gap1,
+                 cases[ci].gap2);
+        tu_rng r = {(uint64_t)(500 + ci)};
+        page *p = page_new(1700, 900);
+        const int x0 = 150, x1 = 1550;
+        const int y = draw_paragraph(p, &r, x0, x1, 150, 4) + PITCH;
+        int right = p->line_box[draw_line(p, &r, x0, x0 + 160, y, 0, 0)].right;
+        right = p->line_box[draw_line(p, &r, right + cases[ci].gap1, right + cases[ci].gap1 + 120,
+                                      y, 0, 0)]
+                    .right;
+        draw_line(p, &r, right + cases[ci].gap2, right + cases[ci].gap2 + 120, y, 0, 0);
+        if (cases[ci].one_line) join_last_lines(p, 3);
+        draw_paragraph(p, &r, x0, x1, y + PITCH, 4);
+        result res = run_stages(p, what);
+        compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -451,6 +497,7 @@ int main(void)
     test_edge_slivers();
     test_initials_beside_gutter();
     test_scan_border();
+    test_stretched_line();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
