@@ -69,6 +69,18 @@ enum { BRIDGE_MAX_CELLS = 64 };
 /* Marks in a gutter: a speck of noise here and there, but not a dot in every line (a leader
  * runs through the white before its page numbers). */
 static const double MAX_DOTS_PER_LINE = 0.3;
+/* A gutter pinched by a line whose last or first letters reach into it (a hyphen, a swash, a
+ * descender's tail) goes on through the line where white PINCH_MIN_WHITE wide (wider than a
+ * word space of body type) still runs through the window, for at most a line's height (two
+ * text heights of rows) at a time, taken on evidence from both sides over a long stretch:
+ * words aligned on its left edge and on its right edge, each in GUTTER_MIN_ALIGNED of rows,
+ * words on both sides in PINCH_MIN_BORDERED of rows (eight lines' worth), and pinched rows
+ * at most PINCH_SHARE of those. The white between words of a few lines (a river) narrows and
+ * widens with every line and has ragged edges. Runs that end at any text are kept beside
+ * these, so a pinch taken in vain loses no gutter. */
+static const double PINCH_MIN_WHITE = 0.75;    /* text heights */
+static const double PINCH_SHARE = 0.25;        /* pinched rows per row with words on both sides */
+static const double PINCH_MIN_BORDERED = 16.0; /* text heights of rows */
 
 static int imin(int a, int b)
 {
@@ -112,6 +124,8 @@ typedef struct run {
     int aligned[2];  /* rows in it with words ending at its left edge, starting at its right */
     int dots;        /* runs of rows with marks (dots, specks) in the window */
     int dotted;      /* the previous row had marks in the window */
+    int pinched;     /* rows in it with text in the window, white narrowed by PINCH_MIN_WHITE */
+    int pinch;       /* the pinched rows just before the current one */
 } run;
 
 typedef struct evidence {
@@ -125,18 +139,36 @@ typedef struct evidence {
     int align_tolerance; /* cells */
     int bridge_rows;     /* rows */
     int bridge_open;     /* rows */
+    int pinch_white;     /* cells */
+    int pinch_bordered;  /* rows */
 } evidence;
 
 /* Ends the white run of window cx: with enough evidence, its cells from the first to the last
- * row with words beside it join the gutter mask. */
-static void close_run(run *r, int cx, const evidence *e, int cols, uint8_t *mask)
+ * row with words beside it, but for the text of pinched rows (occ, cols wide), join the gutter
+ * mask. */
+static void close_run(run *r, int cx, const evidence *e, const uint8_t *occ, int cols,
+                      uint8_t *mask)
 {
+    const int pinch_evidence = r->pinched == 0 || (r->aligned[0] >= e->min_aligned &&
+                                                   r->aligned[1] >= e->min_aligned &&
+                                                   r->bordered >= e->pinch_bordered &&
+                                                   r->pinched <= PINCH_SHARE * r->bordered);
     if (r->bordered >= e->min_bordered && r->sided >= e->min_sided &&
         (r->aligned[0] >= e->min_aligned || r->aligned[1] >= e->min_aligned) &&
-        r->dots * e->line_rows <= MAX_DOTS_PER_LINE * r->sided)
+        r->dots * e->line_rows <= MAX_DOTS_PER_LINE * r->sided && pinch_evidence)
         for (int y = r->first; y <= r->last; y++)
-            memset(mask + (size_t)y * cols + cx, 1, (size_t)e->width);
-    *r = (run){-1, -1, 0, 0, {0, 0}, 0, 0};
+            for (int x = cx; x < cx + e->width; x++)
+                if (occ[(size_t)y * cols + x] < 2) mask[(size_t)y * cols + x] = 1;
+    *r = (run){-1, -1, 0, 0, {0, 0}, 0, 0, 0, 0};
+}
+
+/* Whether the text in the window of the n cells of row leaves white of at least `white` cells
+ * through it (a pinch: letters reaching in from its edges). */
+static int white_through(const uint8_t *row, int n, int white)
+{
+    for (int x = 0, run = 0; x < n; x++)
+        if ((run = row[x] >= 2 ? 0 : run + 1) >= white) return 1;
+    return 0;
 }
 
 /* Whether the n cells of row are all white. */
@@ -156,7 +188,7 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
     const size_t slots = (size_t)cols + 1;
     int *sum = malloc(2 * slots * sizeof *sum);   /* words, then marks, in cells left of x */
     int *prev = malloc(4 * slots * sizeof *prev); /* last ink cell at or left of x */
-    run *runs = malloc(slots * sizeof *runs);
+    run *runs = malloc(2 * slots * sizeof *runs); /* ending at text, going on through pinches */
     if (!sum || !prev || !runs) {
         free(sum);
         free(prev);
@@ -167,13 +199,13 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
     int *next = prev + slots;      /* first ink cell at or right of x */
     int *prev_word = next + slots; /* the same for body cells */
     int *next_word = prev_word + slots;
-    for (int x = 0; x < cols; x++)
-        runs[x] = (run){-1, -1, 0, 0, {0, 0}, 0, 0};
+    for (int k = 0; k < 2 * cols; k++)
+        runs[k] = (run){-1, -1, 0, 0, {0, 0}, 0, 0, 0, 0};
     for (int y = 0; y < rows; y++) {
         const uint8_t *row = occ + (size_t)y * cols;
         if (row_blank(row, cols)) { /* changes no run, but ends any rows of marks (dotted) */
-            for (int x = 0; x < cols; x++)
-                runs[x].dotted = 0;
+            for (int k = 0; k < 2 * cols; k++)
+                runs[k].dotted = 0;
             continue;
         }
         sum[0] = marks[0] = 0;
@@ -189,12 +221,22 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
             next[x] = first = row[x] ? x : first;
             next_word[x] = word = row[x] == 3 ? x : word;
         }
-        for (int x = 0; x + e->width <= cols; x++) {
-            run *r = &runs[x];
-            if (sum[x + e->width] - sum[x] > 0) { /* text in the window: the run ends */
-                close_run(r, x, e, cols, mask);
+        for (int k = 0; k < 2 * cols; k++) {
+            /* each window twice: its runs end at text, or (second) go on through pinches */
+            const int x = k % cols, pinchable = k >= cols;
+            run *r = &runs[k];
+            if (x + e->width > cols) continue;
+            if (sum[x + e->width] - sum[x] > 0) { /* text in the window: the run ends ... */
+                if (pinchable && r->first >= 0 && r->pinch < e->line_rows &&
+                    white_through(row + x, e->width, e->pinch_white)) { /* ... or is pinched */
+                    r->pinched++;
+                    r->pinch++;
+                    continue;
+                }
+                close_run(r, x, e, occ, cols, mask);
                 continue;
             }
+            r->pinch = 0;
             const int dotted = marks[x + e->width] - marks[x] > 0; /* leader dots, or noise */
             r->dots += dotted && !r->dotted;
             r->dotted = dotted;
@@ -215,8 +257,8 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
             r->aligned[1] += near_right && right - x - e->width <= e->align_tolerance;
         }
     }
-    for (int x = 0; x + e->width <= cols; x++)
-        close_run(&runs[x], x, e, cols, mask);
+    for (int k = 0; k < 2 * cols; k++)
+        if (k % cols + e->width <= cols) close_run(&runs[k], k % cols, e, occ, cols, mask);
     free(sum);
     free(prev);
     free(runs);
@@ -454,7 +496,9 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                         (int)ceil(2 * th / cell),
                         (int)(ALIGN_TOLERANCE * th / cell),
                         imin((int)(BRIDGE_MAX_ROWS * th / cell), BRIDGE_MAX_CELLS),
-                        (int)ceil(BRIDGE_MIN_OPEN * th / cell)};
+                        (int)ceil(BRIDGE_MIN_OPEN * th / cell),
+                        (int)ceil(PINCH_MIN_WHITE * th / cell),
+                        (int)ceil(PINCH_MIN_BORDERED * th / cell)};
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
