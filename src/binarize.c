@@ -45,6 +45,8 @@ enum {
      * window is mostly dark ground (white text covering a quarter of it on ground up to 50);
      * windows of dense heavy type on toned paper (black letter, about 110 to 135) stay above. */
     DARK_MEAN = 100,
+    /* Copies of the histogram of tile sums, counted in turn (sum_tiles). */
+    HIST_COPIES = 4,
     /* Marks a tile that is not dark in the table of inverted thresholds. */
     NOT_DARK = 0xFFFF,
     /* Least width of a dark region, in windows (about half an inch): room for a word or two of
@@ -96,21 +98,26 @@ static inline double page_r(const stretch *st)
     return st->r * (st->span > MIN_RANGE ? st->span : MIN_RANGE) / 255.0;
 }
 
-/* R' at the tile (tx, ty) (clamped to the whole tiles): R (W - M) / 255, or where the lightest
- * tile within the window's reach is darker than the page's paper (a tint, a shaded box), by the
- * share `local` that tile's mean in place of W, so that the threshold sits among the ink and
- * the paper of the tint as it would on white paper; the range at least MIN_RANGE. */
-static inline double window_r(const stretch *st, int tx, int ty)
+/* R' where the lightest whole tile within the window's reach sums to paper_sum: R (W - M) / 255,
+ * or where that tile is darker than the page's paper (a tint, a shaded box), by the share
+ * `local` its mean in place of W, so that the threshold sits among the ink and the paper of the
+ * tint as it would on white paper; the range at least MIN_RANGE. */
+static inline double paper_r(const stretch *st, unsigned paper_sum)
 {
     double span = st->span;
-    if (st->white_sums) {
-        tx = tx < st->tiles_x ? tx : st->tiles_x - 1;
-        ty = ty < st->tiles_y ? ty : st->tiles_y - 1;
-        const double own =
-            st->white_sums[(size_t)ty * st->tiles_x + tx] / (double)(TILE * TILE) - st->black;
-        if (own < span) span -= st->local * (span - own);
-    }
+    const double own = paper_sum / (double)(TILE * TILE) - st->black;
+    if (own < span) span -= st->local * (span - own);
     return st->r * (span > MIN_RANGE ? span : MIN_RANGE) / 255.0;
+}
+
+/* R' at the tile (tx, ty) (clamped to the whole tiles): paper_r of the lightest tile within the
+ * window's reach, or page_r without window paper. */
+static inline double window_r(const stretch *st, int tx, int ty)
+{
+    if (!st->white_sums) return page_r(st);
+    tx = tx < st->tiles_x ? tx : st->tiles_x - 1;
+    ty = ty < st->tiles_y ? ty : st->tiles_y - 1;
+    return paper_r(st, st->white_sums[(size_t)ty * st->tiles_x + tx]);
 }
 
 /* The largest of each n x rows grid entry's column neighbours within `reach` rows (rows
@@ -435,6 +442,120 @@ done:
     return kept;
 }
 
+/* Sums over three rows a, b and c of the gray levels (sum, < 2^16) and of their squares (sq)
+ * at each of the w columns. In blocks of 16 columns, which the compiler turns into vector
+ * instructions at -O2 (a loop of unknown length it leaves scalar there). */
+static void add_three_rows(const uint8_t *restrict a, const uint8_t *restrict b,
+                           const uint8_t *restrict c, int w, uint16_t *restrict sum,
+                           uint32_t *restrict sq)
+{
+    int x = 0;
+    for (; x + 16 <= w; x += 16)
+        for (int i = 0; i < 16; i++) {
+            const uint16_t p = a[x + i], q = b[x + i], r = c[x + i];
+            sum[x + i] = (uint16_t)(p + q + r);
+            sq[x + i] = (uint32_t)(uint16_t)(p * p) + (uint16_t)(q * q) + (uint16_t)(r * r);
+        }
+    for (; x < w; x++) {
+        const uint32_t p = a[x], q = b[x], r = c[x];
+        sum[x] = (uint16_t)(p + q + r);
+        sq[x] = p * p + q * q + r * r;
+    }
+}
+
+/* The sums of the gray levels (tsum) and of their squares (tsq) over every TILE x TILE tile of
+ * the gw x gh grid (clipped at the right and bottom edges), and the histogram of the whole
+ * tiles' sums in HIST_COPIES copies of TILE_SUMS bins (hist), a tile's sum counted in copy
+ * t mod HIST_COPIES: neighbouring tiles of blank paper have the same sum, and one copy's bin
+ * would take one increment after the other. col_sum and col_sq hold w columns; zero_row is w
+ * zero bytes, added for the rows missing below the page. */
+static void sum_tiles(const lt_image *gray, int gw, int gh, uint16_t *restrict tsum,
+                      uint32_t *restrict tsq, uint32_t *restrict hist, uint16_t *restrict col_sum,
+                      uint32_t *restrict col_sq, const uint8_t *zero_row)
+{
+    const int w = gray->width, h = gray->height;
+    _Static_assert(TILE == 3, "the sums below add 3 rows and 3 columns");
+    for (int ty = 0; ty < gh; ty++) {
+        const int rows = h - ty * TILE < TILE ? h - ty * TILE : TILE;
+        const uint8_t *r0 = gray->pixels + (size_t)ty * TILE * w;
+        const uint8_t *r1 = rows > 1 ? r0 + w : zero_row, *r2 = rows > 2 ? r0 + 2 * w : zero_row;
+        add_three_rows(r0, r1, r2, w, col_sum, col_sq);
+        uint16_t *ts = tsum + (size_t)ty * gw;
+        uint32_t *tq = tsq + (size_t)ty * gw;
+        int x = 0, t = 0;
+        for (; x + TILE <= w; x += TILE, t++) {
+            const unsigned sum = col_sum[x] + col_sum[x + 1] + col_sum[x + 2];
+            ts[t] = (uint16_t)sum;
+            tq[t] = col_sq[x] + col_sq[x + 1] + col_sq[x + 2];
+            if (rows == TILE) hist[(t % HIST_COPIES) * TILE_SUMS + sum]++;
+        }
+        if (x < w) { /* a partial tile at the right edge */
+            ts[t] = 0, tq[t] = 0;
+            for (; x < w; x++)
+                ts[t] = (uint16_t)(ts[t] + col_sum[x]), tq[t] += col_sq[x];
+        }
+    }
+}
+
+/* Adds a row of n tile sums (ts) and sums of squares (tq) to the column sums colsum and colsq
+ * (sign 1), or subtracts it (sign -1). In blocks (add_three_rows). */
+static void slide_columns(int64_t *restrict colsum, int64_t *restrict colsq,
+                          const uint16_t *restrict ts, const uint32_t *restrict tq, int n, int sign)
+{
+    int i = 0;
+    if (sign > 0)
+        for (; i + 8 <= n; i += 8)
+            for (int j = 0; j < 8; j++) {
+                colsum[i + j] += ts[i + j];
+                colsq[i + j] += tq[i + j];
+            }
+    else
+        for (; i + 8 <= n; i += 8)
+            for (int j = 0; j < 8; j++) {
+                colsum[i + j] -= ts[i + j];
+                colsq[i + j] -= tq[i + j];
+            }
+    for (; i < n; i++)
+        colsum[i] += sign * ts[i], colsq[i] += sign * (int64_t)tq[i];
+}
+
+/* The thresholds of a row of tile centres (thr, gw of them) spread along a row of w pixels:
+ * at x, TILE times the threshold interpolated linearly between the centres on either side,
+ * held beyond the outermost centres; out has w entries. */
+static void spread_thresholds(const int32_t *restrict thr, int gw, int w, int32_t *restrict out)
+{
+    const int centre = TILE / 2;
+    int x = 0;
+    for (; x < centre && x < w; x++)
+        out[x] = thr[0] * TILE;
+    for (int t = 0; t + 1 < gw && x + TILE <= w; t++, x += TILE) {
+        out[x] = thr[t] * TILE;
+        out[x + 1] = 2 * thr[t] + thr[t + 1];
+        out[x + 2] = thr[t] + 2 * thr[t + 1];
+    }
+    for (; x < w; x++) /* beyond the last centre, or the last tiles' partial pixels */
+        out[x] = thr[x / TILE < gw ? x / TILE : gw - 1] * TILE;
+}
+
+/* One row of ink: dst[x] = 1 where the gray src[x] is at most the threshold interpolated
+ * between the tile centres' rows above and below (spread_thresholds), weighted
+ * weight_above : weight_below (thirds), 0 elsewhere. Spread thresholds are TILE times the
+ * threshold in 16.16 fixed point, and the interpolation adds TILE times more. In blocks of 16
+ * pixels (add_three_rows); called with constant weights, which become additions. */
+static inline void ink_row(const uint8_t *restrict src, const int32_t *restrict above,
+                           int32_t weight_above, const int32_t *restrict below,
+                           int32_t weight_below, int w, uint8_t *restrict dst)
+{
+    const int32_t unit = TILE * TILE << 16; /* gray values x TILE^2 in 16.16 (< 2^31) */
+    int x = 0;
+    for (; x + 16 <= w; x += 16)
+        for (int i = 0; i < 16; i++)
+            dst[x + i] = src[x + i] * unit <=
+                         weight_above * above[x + i] + weight_below * below[x + i];
+    for (; x < w; x++)
+        dst[x] = src[x] * unit <= weight_above * above[x] + weight_below * below[x];
+}
+
 /* The threshold computed exactly at the centre pixel of every TILE x TILE tile, where a
  * window that is an odd number of tiles wide is a whole number of tiles, from tile sums; for
  * the pixels in between it is interpolated bilinearly from the four nearest tile centres. The
@@ -449,9 +570,11 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     const int gw = (w + TILE - 1) / TILE, gh = (h + TILE - 1) / TILE;
     const int reach = window_px / TILE / 2; /* tiles on each side of the centre tile */
     const size_t tiles = (size_t)gw * gh;
-    uint16_t *tsum = calloc(tiles, sizeof *tsum); /* <= 9 x 255 */
-    uint32_t *tsq = calloc(tiles, sizeof *tsq);
-    int32_t *thr = malloc(tiles * sizeof *thr), *row_thr = malloc((size_t)gw * sizeof *row_thr);
+    uint16_t *tsum = malloc(tiles * sizeof *tsum); /* <= 9 x 255 */
+    uint32_t *tsq = malloc(tiles * sizeof *tsq);
+    int32_t *thr = malloc(tiles * sizeof *thr);
+    /* The thresholds of two rows of tile centres spread along the pixels (spread_thresholds). */
+    int32_t *spread[2] = {malloc((size_t)w * sizeof(int32_t)), malloc((size_t)w * sizeof(int32_t))};
     /* Dark tiles (only when dark != NULL, allocated at the first): ink where gray >= light_from
      * (NOT_DARK elsewhere); the window deviation of each, capped; tile rows with a dark tile. */
     uint16_t *light_from = NULL, *window_paper = NULL; /* window_paper: st.white_sums */
@@ -460,40 +583,38 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     int64_t *colsum = calloc((size_t)gw, sizeof *colsum),
             *colsq = calloc((size_t)gw, sizeof *colsq);
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
+    /* A row's window means, and variances then deviations; k / R' by the sum of the lightest
+     * tile within a window's reach (paper_r), on pages with window paper. */
+    double *mean = malloc((size_t)gw * sizeof *mean), *dev_row = malloc((size_t)gw * sizeof *dev_row);
+    double *k_over_paper = NULL;
     int rc = LT_ENOMEM;
-    if (!tsum || !tsq || !thr || !row_thr || !colsum || !colsq || !inv_cols) goto done;
+    if (!tsum || !tsq || !thr || !spread[0] || !spread[1] || !colsum || !colsq || !inv_cols ||
+        !mean || !dev_row)
+        goto done;
     for (int tx = 0; tx < gw; tx++) {
         const int left = (tx - reach) * TILE, right = (tx + reach + 1) * TILE;
         inv_cols[tx] = 1.0 / ((right < w ? right : w) - (left > 0 ? left : 0));
     }
 
     /* 1. Tile sums of the gray values and of their squares; the histogram of the whole tiles'
-     * sums, counted as each row of tiles is complete (while it is in the cache). */
-    uint32_t *hist = calloc(TILE_SUMS, sizeof *hist);
-    if (!hist) goto done;
-    for (int y = 0; y < h; y++) {
-        const uint8_t *src = gray->pixels + (size_t)y * w;
-        uint16_t *ts = tsum + (size_t)(y / TILE) * gw;
-        uint32_t *tq = tsq + (size_t)(y / TILE) * gw;
-        int x = 0, t = 0;
-        if (y % TILE == TILE - 1) /* the last row of these tiles */
-            for (; x + TILE <= w; x += TILE, t++) {
-                const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
-                const unsigned sum = ts[t] + a + b + c;
-                ts[t] = (uint16_t)sum;
-                tq[t] += a * a + b * b + c * c;
-                hist[sum]++;
-            }
-        else
-            for (; x + TILE <= w; x += TILE, t++) {
-                const uint32_t a = src[x], b = src[x + 1], c = src[x + 2];
-                ts[t] += (uint16_t)(a + b + c);
-                tq[t] += a * a + b * b + c * c;
-            }
-        for (; x < w; x++) {
-            ts[t] += src[x];
-            tq[t] += (uint32_t)src[x] * src[x];
-        }
+     * sums. */
+    uint32_t *hist = calloc((size_t)HIST_COPIES * TILE_SUMS, sizeof *hist);
+    uint16_t *col_sum = malloc((size_t)w * sizeof *col_sum);
+    uint32_t *col_sq = malloc((size_t)w * sizeof *col_sq);
+    uint8_t *zero_row = calloc((size_t)w, 1);
+    const int summed = hist && col_sum && col_sq && zero_row;
+    if (summed) {
+        sum_tiles(gray, gw, gh, tsum, tsq, hist, col_sum, col_sq, zero_row);
+        for (int c = 1; c < HIST_COPIES; c++)
+            for (int i = 0; i < TILE_SUMS; i++)
+                hist[i] += hist[(size_t)c * TILE_SUMS + i];
+    }
+    free(col_sum);
+    free(col_sq);
+    free(zero_row);
+    if (!summed) {
+        free(hist);
+        goto done;
     }
     const int auto_points = black == LT_GRAY_POINT_AUTO && white == LT_GRAY_POINT_AUTO;
     double share = 0;
@@ -511,32 +632,32 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     if (auto_points && add_window_paper(&st, tsum, gw, gh, window_px, share)) goto done;
     window_paper = (uint16_t *)st.white_sums;
     const double k_over_r = k / r, k_over_rs = k / page_r(&st);
+    if (st.white_sums) {
+        if (!(k_over_paper = malloc(TILE_SUMS * sizeof *k_over_paper))) goto done;
+        for (unsigned v = 0; v < TILE_SUMS; v++)
+            k_over_paper[v] = k / paper_r(&st, v);
+    }
     /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
      * the image, from column sums that slide down the tile rows. */
     for (int ty = 0; ty < reach && ty < gh; ty++)
-        for (int t = 0; t < gw; t++) {
-            colsum[t] += tsum[(size_t)ty * gw + t];
-            colsq[t] += tsq[(size_t)ty * gw + t];
-        }
+        slide_columns(colsum, colsq, tsum + (size_t)ty * gw, tsq + (size_t)ty * gw, gw, 1);
     for (int ty = 0; ty < gh; ty++) {
         const int add = ty + reach, drop = ty - reach - 1;
         if (add < gh)
-            for (int t = 0; t < gw; t++) {
-                colsum[t] += tsum[(size_t)add * gw + t];
-                colsq[t] += tsq[(size_t)add * gw + t];
-            }
+            slide_columns(colsum, colsq, tsum + (size_t)add * gw, tsq + (size_t)add * gw, gw, 1);
         if (drop >= 0)
-            for (int t = 0; t < gw; t++) {
-                colsum[t] -= tsum[(size_t)drop * gw + t];
-                colsq[t] -= tsq[(size_t)drop * gw + t];
-            }
+            slide_columns(colsum, colsq, tsum + (size_t)drop * gw, tsq + (size_t)drop * gw, gw,
+                          -1);
         const int top = (ty - reach) * TILE, bottom = (ty + reach + 1) * TILE;
         const double inv_rows = 1.0 / ((bottom < h ? bottom : h) - (top > 0 ? top : 0));
+        /* The window's mean and variance at each tile centre of the row (a serial chain of
+         * sums), then the thresholds (independent). */
         int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
         for (int t = 0; t < reach && t < gw; t++) {
             sum += colsum[t];
             sumsq += colsq[t];
         }
+        double darkest = 255; /* the least window mean of the row */
         for (int tx = 0; tx < gw; tx++) {
             if (tx + reach < gw) {
                 sum += colsum[tx + reach];
@@ -547,12 +668,26 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
                 sumsq -= colsq[tx - reach - 1];
             }
             const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
-            const double var = (double)sumsq * inv_n - m * m, sd = var > 0 ? sqrt(var) : 0;
+            mean[tx] = m;
+            dev_row[tx] = (double)sumsq * inv_n - m * m;
+            darkest = m < darkest ? m : darkest;
+        }
+        int32_t *thr_row = thr + (size_t)ty * gw;
+        const uint16_t *paper_row = st.white_sums ? st.white_sums + (size_t)ty * gw : NULL;
+        for (int tx = 0; tx < gw; tx++) {
+            const double m = mean[tx], var = dev_row[tx], sd = var > 0 ? sqrt(var) : 0;
             const double d = m > st.black ? m - st.black : 0;
-            const double k_over_rw = st.white_sums ? k / window_r(&st, tx, ty) : k_over_rs;
+            const double k_over_rw = paper_row ? k_over_paper[paper_row[tx]] : k_over_rs;
             double t = st.black + d * (1.0 - k + k_over_rw * sd);
+            t = t < -1 ? -1 : t > 256 ? 256 : t; /* beyond every gray value either way */
+            thr_row[tx] = (int32_t)(t * 65536.0 + 65536.0) - 65536; /* floor */
+            dev_row[tx] = sd;
+        }
+        if (!dark || (darkest >= DARK_MEAN && !light_from)) continue;
+        for (int tx = 0; tx < gw; tx++) {
             const size_t at = (size_t)ty * gw + tx;
-            if (dark && m < DARK_MEAN) {
+            const double m = mean[tx], sd = dev_row[tx];
+            if (m < DARK_MEAN) {
                 if (!light_from) { /* the first dark tile: those before it are not */
                     light_from = malloc(tiles * sizeof *light_from);
                     dev = malloc(tiles);
@@ -569,8 +704,6 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
             } else if (light_from) {
                 light_from[at] = NOT_DARK;
             }
-            t = t < -1 ? -1 : t > 256 ? 256 : t; /* beyond every gray value either way */
-            thr[at] = (int32_t)(t * 65536.0 + 65536.0) - 65536; /* floor */
         }
     }
     long dark_kept = 0; /* tiles read light on dark */
@@ -586,32 +719,31 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     tsq = NULL;
     if (!(out = lt_image_alloc(w, h, LT_IMAGE_INK, 0))) goto done; /* every pixel written */
     out->dpi = gray->dpi;
-    const int32_t unit = TILE * TILE << 16; /* gray values and thresholds both x TILE^2 (< 2^31) */
+    int spread_row[2] = {-1, -1}; /* the tile row whose thresholds spread[i] holds */
     for (int y = 0; y < h; y++) {
-        int ty = y < centre ? 0 : (y - centre) / TILE, j = y < centre ? 0 : (y - centre) % TILE;
-        if (ty >= gh - 1) ty = gh - 1, j = 0;
-        const int32_t *above = thr + (size_t)ty * gw, *below = j ? above + gw : above;
-        for (int t = 0; t < gw; t++) /* thresholds x TILE */
-            row_thr[t] = above[t] * (TILE - j) + below[t] * j;
+        int ty = y < centre ? 0 : (y - centre) / TILE, step = y < centre ? 0 : (y - centre) % TILE;
+        if (ty >= gh - 1) ty = gh - 1, step = 0;
+        for (int row = ty; row <= ty + (step > 0); row++)
+            if (spread_row[row % 2] != row) {
+                spread_thresholds(thr + (size_t)row * gw, gw, w, spread[row % 2]);
+                spread_row[row % 2] = row;
+            }
+        const int32_t *above = spread[ty % 2], *below = spread[(ty + 1) % 2];
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
-        int x = 0;
-        for (; x < centre && x < w; x++)
-            dst[x] = src[x] * unit <= row_thr[0] * TILE;
-        for (int t = 0; t + 1 < gw && x + TILE <= w; t++, x += TILE) {
-            const int32_t t0 = row_thr[t], t1 = row_thr[t + 1];
-            dst[x] = src[x] * unit <= t0 * TILE;
-            dst[x + 1] = src[x + 1] * unit <= 2 * t0 + t1;
-            dst[x + 2] = src[x + 2] * unit <= t0 + 2 * t1;
-        }
-        for (; x < w; x++) /* beyond the last centre, or the last tiles' partial pixels */
-            dst[x] = src[x] * unit <= row_thr[x / TILE < gw ? x / TILE : gw - 1] * TILE;
+        _Static_assert(TILE == 3, "the weights below are thirds");
+        if (step == 0)
+            ink_row(src, above, 3, above, 0, w, dst);
+        else if (step == 1)
+            ink_row(src, above, 2, below, 1, w, dst);
+        else
+            ink_row(src, above, 1, below, 2, w, dst);
         if (dark_kept > 0 && dark_rows[y / TILE]) { /* dark tiles: light marks are the ink */
             const uint16_t *from = light_from + (size_t)(y / TILE) * gw;
             for (int t = 0; t < gw; t++) {
                 if (from[t] == NOT_DARK) continue;
                 const int end = (t + 1) * TILE < w ? (t + 1) * TILE : w;
-                for (x = t * TILE; x < end; x++)
+                for (int x = t * TILE; x < end; x++)
                     dst[x] = src[x] >= from[t];
             }
         }
@@ -633,7 +765,8 @@ done:
     free(tsum);
     free(tsq);
     free(thr);
-    free(row_thr);
+    free(spread[0]);
+    free(spread[1]);
     free(light_from);
     free(window_paper);
     free(dark_rows);
@@ -641,6 +774,9 @@ done:
     free(colsum);
     free(colsq);
     free(inv_cols);
+    free(mean);
+    free(dev_row);
+    free(k_over_paper);
     return rc;
 }
 
