@@ -45,6 +45,8 @@ enum {
      * window is mostly dark ground (white text covering a quarter of it on ground up to 50);
      * windows of dense heavy type on toned paper (black letter, about 110 to 135) stay above. */
     DARK_MEAN = 100,
+    /* Pixels that ink_row decides at once where they are all paper. */
+    INK_BLOCK = 16,
     /* Copies of the histogram of tile sums, counted in turn (sum_tiles). */
     HIST_COPIES = 4,
     /* Marks a tile that is not dark in the table of inverted thresholds. */
@@ -521,8 +523,11 @@ static void slide_columns(int64_t *restrict colsum, int64_t *restrict colsq,
 
 /* The thresholds of a row of tile centres (thr, gw of them) spread along a row of w pixels:
  * at x, TILE times the threshold interpolated linearly between the centres on either side,
- * held beyond the outermost centres; out has w entries. */
-static void spread_thresholds(const int32_t *restrict thr, int gw, int w, int32_t *restrict out)
+ * held beyond the outermost centres; out has w entries. In ceiling[b] for each whole block b of
+ * INK_BLOCK pixels, the highest gray level that a threshold interpolated from out may put to ink
+ * in it (-1: none). */
+static void spread_thresholds(const int32_t *restrict thr, int gw, int w, int32_t *restrict out,
+                              int16_t *restrict ceiling)
 {
     const int centre = TILE / 2;
     int x = 0;
@@ -535,23 +540,48 @@ static void spread_thresholds(const int32_t *restrict thr, int gw, int w, int32_
     }
     for (; x < w; x++) /* beyond the last centre, or the last tiles' partial pixels */
         out[x] = thr[x / TILE < gw ? x / TILE : gw - 1] * TILE;
+    for (int b = 0; b < w / INK_BLOCK; b++) {
+        int32_t most = out[b * INK_BLOCK];
+        for (int i = 0; i < INK_BLOCK; i++)
+            most = out[b * INK_BLOCK + i] > most ? out[b * INK_BLOCK + i] : most;
+        /* the interpolation's weights add to TILE (ink_row) */
+        ceiling[b] = (int16_t)(most < 0 ? -1 : (int64_t)most * TILE / (TILE * TILE << 16));
+    }
+}
+
+/* The least of INK_BLOCK gray levels. */
+static inline int block_min(const uint8_t *restrict src)
+{
+    uint8_t least = 255;
+    for (int i = 0; i < INK_BLOCK; i++)
+        least = src[i] < least ? src[i] : least;
+    return least;
 }
 
 /* One row of ink: dst[x] = 1 where the gray src[x] is at most the threshold interpolated
  * between the tile centres' rows above and below (spread_thresholds), weighted
  * weight_above : weight_below (thirds), 0 elsewhere. Spread thresholds are TILE times the
- * threshold in 16.16 fixed point, and the interpolation adds TILE times more. In blocks of 16
- * pixels (add_three_rows); called with constant weights, which become additions. */
+ * threshold in 16.16 fixed point, and the interpolation adds TILE times more. A block of
+ * INK_BLOCK pixels lighter than both rows' ceilings is paper; in the others each pixel is
+ * compared, in blocks, which the compiler turns into vector instructions (add_three_rows);
+ * called with constant weights, which become additions. */
 static inline void ink_row(const uint8_t *restrict src, const int32_t *restrict above,
-                           int32_t weight_above, const int32_t *restrict below,
+                           const int16_t *ceiling_above, int32_t weight_above,
+                           const int32_t *restrict below, const int16_t *ceiling_below,
                            int32_t weight_below, int w, uint8_t *restrict dst)
 {
     const int32_t unit = TILE * TILE << 16; /* gray values x TILE^2 in 16.16 (< 2^31) */
     int x = 0;
-    for (; x + 16 <= w; x += 16)
-        for (int i = 0; i < 16; i++)
+    for (; x + INK_BLOCK <= w; x += INK_BLOCK) {
+        const int b = x / INK_BLOCK;
+        if (block_min(src + x) > ceiling_above[b] && block_min(src + x) > ceiling_below[b]) {
+            memset(dst + x, 0, INK_BLOCK);
+            continue;
+        }
+        for (int i = 0; i < INK_BLOCK; i++)
             dst[x + i] = src[x + i] * unit <=
                          weight_above * above[x + i] + weight_below * below[x + i];
+    }
     for (; x < w; x++)
         dst[x] = src[x] * unit <= weight_above * above[x] + weight_below * below[x];
 }
@@ -575,21 +605,25 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     int32_t *thr = malloc(tiles * sizeof *thr);
     /* The thresholds of two rows of tile centres spread along the pixels (spread_thresholds). */
     int32_t *spread[2] = {malloc((size_t)w * sizeof(int32_t)), malloc((size_t)w * sizeof(int32_t))};
+    int16_t *ceiling[2] = {malloc((size_t)(w / INK_BLOCK + 1) * sizeof(int16_t)),
+                           malloc((size_t)(w / INK_BLOCK + 1) * sizeof(int16_t))};
     /* Dark tiles (only when dark != NULL, allocated at the first): ink where gray >= light_from
      * (NOT_DARK elsewhere); the window deviation of each, capped; tile rows with a dark tile. */
     uint16_t *light_from = NULL, *window_paper = NULL; /* window_paper: st.white_sums */
     uint8_t *dev = NULL, *dark_rows = NULL;
     lt_image *out = NULL;
-    int64_t *colsum = calloc((size_t)gw, sizeof *colsum),
-            *colsq = calloc((size_t)gw, sizeof *colsq);
+    /* Column sums of the window's rows, reach + 1 zeros before the first and reach after the
+     * last, so that the window slides along a row without tests at its ends. */
+    const size_t padded = (size_t)gw + 2 * (size_t)reach + 1;
+    int64_t *colsum = calloc(padded, sizeof *colsum), *colsq = calloc(padded, sizeof *colsq);
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
-    /* A row's window means, and variances then deviations; k / R' by the sum of the lightest
+    /* A row's window means and deviations; k / R' by the sum of the lightest
      * tile within a window's reach (paper_r), on pages with window paper. */
     double *mean = malloc((size_t)gw * sizeof *mean), *dev_row = malloc((size_t)gw * sizeof *dev_row);
     double *k_over_paper = NULL;
     int rc = LT_ENOMEM;
-    if (!tsum || !tsq || !thr || !spread[0] || !spread[1] || !colsum || !colsq || !inv_cols ||
-        !mean || !dev_row)
+    if (!tsum || !tsq || !thr || !spread[0] || !spread[1] || !ceiling[0] || !ceiling[1] ||
+        !colsum || !colsq || !inv_cols || !mean || !dev_row)
         goto done;
     for (int tx = 0; tx < gw; tx++) {
         const int left = (tx - reach) * TILE, right = (tx + reach + 1) * TILE;
@@ -639,51 +673,41 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     }
     /* 2. The threshold at each tile centre: window sums over (2 reach + 1)^2 tiles, clipped to
      * the image, from column sums that slide down the tile rows. */
+    int64_t *const column_sum = colsum + reach + 1, *const column_sq = colsq + reach + 1;
     for (int ty = 0; ty < reach && ty < gh; ty++)
-        slide_columns(colsum, colsq, tsum + (size_t)ty * gw, tsq + (size_t)ty * gw, gw, 1);
+        slide_columns(column_sum, column_sq, tsum + (size_t)ty * gw, tsq + (size_t)ty * gw, gw, 1);
     for (int ty = 0; ty < gh; ty++) {
         const int add = ty + reach, drop = ty - reach - 1;
         if (add < gh)
-            slide_columns(colsum, colsq, tsum + (size_t)add * gw, tsq + (size_t)add * gw, gw, 1);
+            slide_columns(column_sum, column_sq, tsum + (size_t)add * gw, tsq + (size_t)add * gw, gw, 1);
         if (drop >= 0)
-            slide_columns(colsum, colsq, tsum + (size_t)drop * gw, tsq + (size_t)drop * gw, gw,
+            slide_columns(column_sum, column_sq, tsum + (size_t)drop * gw, tsq + (size_t)drop * gw, gw,
                           -1);
         const int top = (ty - reach) * TILE, bottom = (ty + reach + 1) * TILE;
         const double inv_rows = 1.0 / ((bottom < h ? bottom : h) - (top > 0 ? top : 0));
-        /* The window's mean and variance at each tile centre of the row (a serial chain of
-         * sums), then the thresholds (independent). */
         int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
-        for (int t = 0; t < reach && t < gw; t++) {
-            sum += colsum[t];
-            sumsq += colsq[t];
-        }
-        double darkest = 255; /* the least window mean of the row */
-        for (int tx = 0; tx < gw; tx++) {
-            if (tx + reach < gw) {
-                sum += colsum[tx + reach];
-                sumsq += colsq[tx + reach];
-            }
-            if (tx - reach - 1 >= 0) {
-                sum -= colsum[tx - reach - 1];
-                sumsq -= colsq[tx - reach - 1];
-            }
-            const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
-            mean[tx] = m;
-            dev_row[tx] = (double)sumsq * inv_n - m * m;
-            darkest = m < darkest ? m : darkest;
+        for (int t = 0; t < reach; t++) {
+            sum += column_sum[t];
+            sumsq += column_sq[t];
         }
         int32_t *thr_row = thr + (size_t)ty * gw;
         const uint16_t *paper_row = st.white_sums ? st.white_sums + (size_t)ty * gw : NULL;
+        int any_dark = 0; /* a window mean of the row under DARK_MEAN */
         for (int tx = 0; tx < gw; tx++) {
-            const double m = mean[tx], var = dev_row[tx], sd = var > 0 ? sqrt(var) : 0;
+            sum += column_sum[tx + reach] - column_sum[tx - reach - 1];
+            sumsq += column_sq[tx + reach] - column_sq[tx - reach - 1];
+            const double inv_n = inv_rows * inv_cols[tx], m = (double)sum * inv_n;
+            const double var = (double)sumsq * inv_n - m * m, sd = var > 0 ? sqrt(var) : 0;
             const double d = m > st.black ? m - st.black : 0;
             const double k_over_rw = paper_row ? k_over_paper[paper_row[tx]] : k_over_rs;
             double t = st.black + d * (1.0 - k + k_over_rw * sd);
             t = t < -1 ? -1 : t > 256 ? 256 : t; /* beyond every gray value either way */
             thr_row[tx] = (int32_t)(t * 65536.0 + 65536.0) - 65536; /* floor */
+            mean[tx] = m;
             dev_row[tx] = sd;
+            any_dark |= m < DARK_MEAN;
         }
-        if (!dark || (darkest >= DARK_MEAN && !light_from)) continue;
+        if (!dark || (!any_dark && !light_from)) continue;
         for (int tx = 0; tx < gw; tx++) {
             const size_t at = (size_t)ty * gw + tx;
             const double m = mean[tx], sd = dev_row[tx];
@@ -725,19 +749,20 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
         if (ty >= gh - 1) ty = gh - 1, step = 0;
         for (int row = ty; row <= ty + (step > 0); row++)
             if (spread_row[row % 2] != row) {
-                spread_thresholds(thr + (size_t)row * gw, gw, w, spread[row % 2]);
+                spread_thresholds(thr + (size_t)row * gw, gw, w, spread[row % 2], ceiling[row % 2]);
                 spread_row[row % 2] = row;
             }
         const int32_t *above = spread[ty % 2], *below = spread[(ty + 1) % 2];
+        const int16_t *ceil_above = ceiling[ty % 2], *ceil_below = ceiling[(ty + 1) % 2];
         const uint8_t *src = gray->pixels + (size_t)y * w;
         uint8_t *dst = out->pixels + (size_t)y * w;
         _Static_assert(TILE == 3, "the weights below are thirds");
         if (step == 0)
-            ink_row(src, above, 3, above, 0, w, dst);
+            ink_row(src, above, ceil_above, 3, above, ceil_above, 0, w, dst);
         else if (step == 1)
-            ink_row(src, above, 2, below, 1, w, dst);
+            ink_row(src, above, ceil_above, 2, below, ceil_below, 1, w, dst);
         else
-            ink_row(src, above, 1, below, 2, w, dst);
+            ink_row(src, above, ceil_above, 1, below, ceil_below, 2, w, dst);
         if (dark_kept > 0 && dark_rows[y / TILE]) { /* dark tiles: light marks are the ink */
             const uint16_t *from = light_from + (size_t)(y / TILE) * gw;
             for (int t = 0; t < gw; t++) {
@@ -767,6 +792,8 @@ done:
     free(thr);
     free(spread[0]);
     free(spread[1]);
+    free(ceiling[0]);
+    free(ceiling[1]);
     free(light_from);
     free(window_paper);
     free(dark_rows);

@@ -1,6 +1,7 @@
 /* test_binarize.c — checks lt_binarize against the published Sauvola & Pietikäinen (2000)
  * threshold T = m * (1 + k * (s / R - 1)): exact results on built pages, a worked example done
  * by hand, and a naive per-pixel reference (written here, independently) on random images;
+ * lt_binarize_sampled against its bilinear interpolation of exact thresholds at tile centres;
  * lt_binarize_normalized on pale strokes that Sauvola's threshold loses and on pale copies of a
  * page with black and gray print; lt_binarize_page on
  * light strokes on a dark ground.
@@ -300,6 +301,104 @@ static void test_sampled(void)
     printf("sampled: worst share of pixels off the naive reference %.3f%%\n", 100 * worst);
 }
 
+/* Sauvola's T at (cx, cy), which may lie just outside the image (the centre of a partial tile):
+ * the mean and deviation of the pixels at most half_px away in x and y, from the definition as
+ * in naive_sauvola. */
+static double naive_threshold_at(const lt_image *g, int cx, int cy, int half_px, double k,
+                                 double r)
+{
+    int64_t sum = 0, sumsq = 0, n = 0;
+    for (int v = cy - half_px; v <= cy + half_px; v++)
+        for (int u = cx - half_px; u <= cx + half_px; u++) {
+            if (u < 0 || u >= g->width || v < 0 || v >= g->height) continue;
+            const int64_t p = g->pixels[(size_t)v * g->width + u];
+            sum += p, sumsq += p * p, n++;
+        }
+    const double m = (double)sum / n, s = sqrt((double)(n * sumsq - sum * sum)) / n;
+    return m * (1 + k * (s / r - 1));
+}
+
+/* Position of coordinate c among the tile centres 3 t + 1 (t < count): the centre at or before
+ * it in *t, the share of the way to the next one in *frac; held at the first and the last. */
+static void between_centres(int c, int count, int *t, double *frac)
+{
+    *t = c < 1 ? 0 : (c - 1) / 3;
+    *frac = c < 1 ? 0 : ((c - 1) % 3) / 3.0;
+    if (*t >= count - 1) *t = count - 1, *frac = 0;
+}
+
+/* lt_binarize_sampled on text-like pages with wide blank margins and gaps, at every pixel, against
+ * its definition computed here independently: Sauvola's T (naive_threshold_at) at the centre of
+ * every 3 x 3 tile, interpolated bilinearly in between, held beyond the outermost centres, ink
+ * where gray <= T; a pixel within rounding of T (the thresholds are kept to 1/65536 of a level)
+ * is left out. Widths of every remainder modulo 3 and around multiples of 16. */
+static void test_sampled_interpolation(void)
+{
+    const int sizes[][2] = {{201, 100}, {256, 62}, {257, 48}};
+    const int windows[] = {27, 51};
+    for (size_t sz = 0; sz < sizeof sizes / sizeof sizes[0]; sz++) {
+        const int w = sizes[sz][0], h = sizes[sz][1], gw = (w + 2) / 3, gh = (h + 2) / 3;
+        tu_rng rng = {3000 + (uint64_t)sz};
+        lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, 236);
+        for (int y = 10; y + 12 < h; y += 22) /* lines of letters, margins of 30 px */
+            for (int x = 30; x + 36 < w; x += tu_range(&rng, 6, 14))
+                tu_fill(g, x, y, x + tu_range(&rng, 2, 5), y + tu_range(&rng, 6, 12),
+                        tu_range(&rng, 0, 3) ? tu_range(&rng, 120, 180) : tu_range(&rng, 10, 100));
+        tu_fill(g, w - 40, 0, w - 20, h / 3, 0); /* a black bar: thresholds that vary fast */
+        for (int i = 0; i < w * h / 8; i++) {
+            const int at = tu_range(&rng, 0, w * h - 1), v = g->pixels[at] + tu_range(&rng, -9, 9);
+            g->pixels[at] = (uint8_t)(v < 0 ? 0 : v > 255 ? 255 : v);
+        }
+        double *centre = malloc((size_t)gw * gh * sizeof *centre);
+        if (!centre) tu_die("out of memory");
+        for (size_t wi = 0; wi < sizeof windows / sizeof windows[0]; wi++) {
+            for (int ty = 0; ty < gh; ty++)
+                for (int tx = 0; tx < gw; tx++)
+                    centre[ty * gw + tx] =
+                        naive_threshold_at(g, 3 * tx + 1, 3 * ty + 1, windows[wi] / 2, 0.34, 128);
+            lt_error err = {0};
+            lt_image *ink = NULL;
+            if (lt_binarize_sampled(g, windows[wi], 0.34, 128, &ink, &err)) {
+                tu_fail("sampled interpolation: lt_binarize_sampled failed: %s", err.message);
+                continue;
+            }
+            long wrong = 0, inked = 0, near = 0, first = -1;
+            for (int y = 0; y < h; y++)
+                for (int x = 0; x < w; x++) {
+                    int tx, ty;
+                    double fx, fy;
+                    between_centres(x, gw, &tx, &fx);
+                    between_centres(y, gh, &ty, &fy);
+                    const int tx1 = fx > 0 ? tx + 1 : tx, ty1 = fy > 0 ? ty + 1 : ty;
+                    const double t =
+                        (1 - fy) * ((1 - fx) * centre[ty * gw + tx] + fx * centre[ty * gw + tx1]) +
+                        fy * ((1 - fx) * centre[ty1 * gw + tx] + fx * centre[ty1 * gw + tx1]);
+                    const int gray = g->pixels[(size_t)y * w + x];
+                    if (fabs(gray - t) < 2.0 / 65536) continue;
+                    inked += gray <= t;
+                    near += fabs(gray - t) < 4;
+                    if (ink->pixels[(size_t)y * w + x] != (gray <= t)) {
+                        if (first < 0) first = (long)y * w + x;
+                        wrong++;
+                    }
+                }
+            CHECK(wrong == 0,
+                  "sampled interpolation %dx%d, window %d: %ld pixels differ from the "
+                  "interpolated thresholds (first at x %ld y %ld)",
+                  w, h, windows[wi], wrong, first % w, first / w);
+            CHECK(inked > w * h / 50 && inked < w * h / 2,
+                  "sampled interpolation %dx%d: %ld ink pixels, want a page of text", w, h, inked);
+            CHECK(near > w * h / 200,
+                  "sampled interpolation %dx%d: %ld pixels within 4 levels of the threshold, "
+                  "want at least 0.5%%",
+                  w, h, near);
+            lt_image_free(ink);
+        }
+        free(centre);
+        lt_image_free(g);
+    }
+}
+
 /* Window 1: m = g and s = 0, so T = g (1 - k): only black pixels (g = 0 = T, at the threshold)
  * are ink. */
 static void test_window_one(void)
@@ -540,6 +639,7 @@ int main(void)
     test_window_one();
     test_against_naive();
     test_sampled();
+    test_sampled_interpolation();
     test_pale();
     test_pale_copies();
     test_light_on_dark();
