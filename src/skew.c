@@ -28,14 +28,15 @@ static const double COARSE_STEP_DEG = 0.25;
 static const double REFINE_SPAN_DEG[2] = {0.3, 0.04}, REFINE_STEP_DEG[2] = {0.05, 0.02};
 static const double GAP_EVIDENCE = 0.25;
 
-typedef struct cell {
-    float x, y; /* centre relative to the grid centre, full-resolution pixels */
-    int32_t weight;
-} cell;
-
+/* The non-empty tiles of a grid, row by row: a cell's position is its column's centre x and
+ * its row's centre y, relative to the grid centre in full-resolution pixels, so that a
+ * projection multiplies once per column and once per row. */
 typedef struct cells {
-    cell *items;
-    int count;
+    int count, columns, rows;
+    uint16_t *column, *weight; /* of each cell: its grid column and ink count */
+    float *column_x, *row_y;   /* centres of the grid's columns and of its rows */
+    int *row_end;              /* cells of row r: [row_end[r - 1], row_end[r]) */
+    float *scratch;            /* one entry per column */
 } cells;
 
 /* Ink counts of the tiles of an image, tile_w by tile_h px. */
@@ -103,24 +104,43 @@ static int cells_from_grid(const grid *g, cells *out)
     const size_t total = (size_t)g->width * g->height;
     for (size_t i = 0; i < total; i++)
         n += g->count[i] != 0;
-    out->items = malloc((n ? n : 1) * sizeof *out->items);
-    out->count = 0;
-    if (!out->items) return LT_ENOMEM;
+    *out = (cells){0, g->width, g->height, NULL, NULL, NULL, NULL, NULL, NULL};
+    out->column = malloc((n ? n : 1) * sizeof *out->column);
+    out->weight = malloc((n ? n : 1) * sizeof *out->weight);
+    out->column_x = malloc((size_t)g->width * sizeof *out->column_x);
+    out->scratch = malloc((size_t)g->width * sizeof *out->scratch);
+    out->row_y = malloc((size_t)g->height * sizeof *out->row_y);
+    out->row_end = malloc((size_t)g->height * sizeof *out->row_end);
+    if (!out->column || !out->weight || !out->column_x || !out->scratch || !out->row_y ||
+        !out->row_end)
+        return LT_ENOMEM;
     /* The origin is a cell centre, so that on a level page every cell lies exactly on a bin
      * and the interpolation below adds no blur at angle 0. */
     const float fx = (float)g->tile_w, fy = (float)g->tile_h;
     const float half_w = (g->width / 2 + 0.5f) * fx, half_h = (g->height / 2 + 0.5f) * fy;
+    for (int x = 0; x < g->width; x++)
+        out->column_x[x] = (x + 0.5f) * fx - half_w;
     for (int y = 0; y < g->height; y++) {
         const uint16_t *row = g->count + (size_t)y * g->width;
+        out->row_y[y] = (y + 0.5f) * fy - half_h;
         for (int x = 0; x < g->width; x++) {
             if (!row[x]) continue;
-            cell *c = &out->items[out->count++];
-            c->x = (x + 0.5f) * fx - half_w;
-            c->y = (y + 0.5f) * fy - half_h;
-            c->weight = row[x];
+            out->column[out->count] = (uint16_t)x;
+            out->weight[out->count++] = row[x];
         }
+        out->row_end[y] = out->count;
     }
     return 0;
+}
+
+static void cells_free(cells *c)
+{
+    free(c->column);
+    free(c->weight);
+    free(c->column_x);
+    free(c->scratch);
+    free(c->row_y);
+    free(c->row_end);
 }
 
 /* Adds the projection of the cells at angle_deg, in bins of bin_px, to `profile` (nbins
@@ -140,22 +160,30 @@ static void project(const cells *c, double angle_deg, double bin_px, int32_t *pr
      * smoothly with the angle instead of in steps of one bin. The cells come row by row, and
      * along a row the bin changes only every few cells: the shares are summed in registers
      * while it stays, and added to the profile when it moves on. */
-    const cell *items = c->items;
-    int32_t bin = (int32_t)(items[0].x * s + items[0].y * co + offset) >> 8;
+    float *const x_s = c->scratch; /* each column's x times s */
+    for (int x = 0; x < c->columns; x++)
+        x_s[x] = c->column_x[x] * s;
+    int first_row = 0;
+    while (c->row_end[first_row] == 0)
+        first_row++;
+    int32_t bin = (int32_t)(x_s[c->column[0]] + c->row_y[first_row] * co + offset) >> 8;
     int32_t low = 0, high = 0, bmin = bin, bmax = bin;
-    for (int i = 0; i < c->count; i++) {
-        const int32_t pos = (int32_t)(items[i].x * s + items[i].y * co + offset);
-        const int32_t b = pos >> 8, frac = pos & 255;
-        if (b != bin) {
-            profile[bin] += low;
-            profile[bin + 1] += high;
-            bmin = b < bmin ? b : bmin;
-            bmax = b > bmax ? b : bmax;
-            bin = b;
-            low = high = 0;
+    for (int y = first_row, i = 0; y < c->rows; y++) {
+        const float y_co = c->row_y[y] * co;
+        for (const int end = c->row_end[y]; i < end; i++) {
+            const int32_t pos = (int32_t)(x_s[c->column[i]] + y_co + offset);
+            const int32_t b = pos >> 8, frac = pos & 255;
+            if (b != bin) {
+                profile[bin] += low;
+                profile[bin + 1] += high;
+                bmin = b < bmin ? b : bmin;
+                bmax = b > bmax ? b : bmax;
+                bin = b;
+                low = high = 0;
+            }
+            low += c->weight[i] * (256 - frac);
+            high += c->weight[i] * frac;
         }
-        low += items[i].weight * (256 - frac);
-        high += items[i].weight * frac;
     }
     profile[bin] += low;
     profile[bin + 1] += high;
@@ -305,7 +333,7 @@ done:
     free(sorted);
     free(fine.count);
     free(coarse.count);
-    free(fine_c.items);
-    free(coarse_c.items);
+    cells_free(&fine_c);
+    cells_free(&coarse_c);
     return rc;
 }
