@@ -1,7 +1,8 @@
 /* classify.c — measures the page's text height (the mode of character heights, O'Gorman's
  * docstrum uses the same statistic for its size classes; only characters in a row with
  * another of their size count) and sorts every component into
- * text, speckle, rule or picture by its size in units of that height. */
+ * text, speckle, rule or picture by its size in units of that height (a long hairline that is
+ * not straight enough for a rule is speckle). */
 #include "internal.h"
 
 #include <math.h>
@@ -13,6 +14,13 @@
  * mostly stand alone, letters of a word or a line do not. */
 static const double ROW_MATE_HEIGHT = 0.3;
 static const double ROW_MATE_GAP = 1.5;
+
+/* A stroke longer than STROKE_MIN_LENGTH text heights whose ink, spread along its length, is
+ * thinner than STROKE_MAX_THICKNESS text heights (a hairline: the stems of body text are about
+ * twice as thick, and a long arrow's head adds to its shaft) is no text, whether it belongs to a
+ * figure or to the edge of a leaf in a scan: not straight enough for a rule, it is noise. */
+static const double STROKE_MIN_LENGTH = 3.0;
+static const double STROKE_MAX_THICKNESS = 0.1;
 
 /* Row mates examined per character at most (bounds the work on pages of noise). */
 static const int MAX_MATE_TESTS = 256;
@@ -157,6 +165,9 @@ void lt_classify_components(lt_components *c, double text_height_px, const lt_pa
             k->kind = LT_COMP_RULE;
         else if (h > picture || (w > picture && h > 2 * th))
             k->kind = LT_COMP_PICTURE;
+        else if (fmax(w, h) >= STROKE_MIN_LENGTH * th &&
+                 k->pixels < STROKE_MAX_THICKNESS * th * fmax(w, h))
+            k->kind = LT_COMP_SPECKLE;
         else
             k->kind = LT_COMP_TEXT;
     }

@@ -525,7 +525,8 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
     int rc = 0;
     if (!body || !mark || !piece || !parent || !line_of || !links || !res) goto nomem;
 
-    /* Bodies carry lines; marks (small text components, tiny speckle excluded) join later. */
+    /* Bodies carry lines; marks (small text components, and speckle the size of a dot, not
+     * the tiniest nor the long hairlines) join later. */
     const long min_speckle_px = (long)fmax(3, DOT_AREA * th * th);
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
@@ -535,7 +536,8 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
                 mark[i] = 1;
             else
                 body[i] = 1;
-        } else if (k->kind == LT_COMP_SPECKLE && k->pixels >= min_speckle_px) {
+        } else if (k->kind == LT_COMP_SPECKLE && k->pixels >= min_speckle_px &&
+                   lt_box_height(&k->box) < MARK_HEIGHT * th && lt_box_width(&k->box) < th) {
             mark[i] = 2;
         }
         parent[i] = i;

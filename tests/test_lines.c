@@ -436,6 +436,44 @@ static void test_scan_border(void)
     page_free(p);
 }
 
+/* Hairlines: strokes drawn in the white beside the ends of a paragraph's lines (within a line's
+ * reach), leaning one pixel every 7 rows (no rule: 7 times as tall as wide), rows of ink
+ * alternately `thin` and `thin + 1` px wide. Strokes 64 px long (3.2 text heights) of 1.5 px
+ * mean thickness (0.075 text heights) are speckle and join no line; 56 px (2.8 text heights)
+ * long, or 2.5 px (0.125) thick, they are text (classify.c: STROKE_MIN_LENGTH 3,
+ * STROKE_MAX_THICKNESS 0.1), drawn here away from the lines. */
+static void test_hairlines(void)
+{
+    const struct {
+        int length, thin, speckle;
+    } cases[] = {{64, 1, 1}, {56, 1, 0}, {64, 2, 0}};
+    for (int ci = 0; ci < 3; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "hairline %d px long, %d.5 px thick", cases[ci].length,
+                 cases[ci].thin);
+        tu_rng r = {(uint64_t)(600 + ci)};
+        page *p = page_new(1700, 700);
+        draw_paragraph(p, &r, 150, 1300, 150, 8);
+        const int x0 = cases[ci].speckle ? 1330 : 1600, y0 = 150 + 2 * PITCH - XH;
+        lt_box stroke = tu_box(x0, y0, x0, y0 + cases[ci].length);
+        for (int y = y0; y < y0 + cases[ci].length; y++) {
+            const int x = x0 + (y - y0) / 7;
+            tu_fill_box(p->img, tu_box(x, y, x + cases[ci].thin + (y % 2), y + 1), 1);
+            if (x + cases[ci].thin + 1 > stroke.right) stroke.right = x + cases[ci].thin + 1;
+        }
+        result res = run_stages(p, what);
+        int kind = -1;
+        for (int i = 0; res.comps && i < res.comps->count; i++)
+            if (res.comps->items[i].box.left == stroke.left &&
+                res.comps->items[i].box.top == stroke.top)
+                kind = res.comps->items[i].kind;
+        CHECK_INT(kind, cases[ci].speckle ? LT_COMP_SPECKLE : LT_COMP_TEXT, "%s: kind", what);
+        if (cases[ci].speckle) compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Makes the last n drawn lines one line (pieces of a row drawn one at a time). */
 static void join_last_lines(page *p, int n)
 {
@@ -498,6 +536,7 @@ int main(void)
     test_initials_beside_gutter();
     test_scan_border();
     test_stretched_line();
+    test_hairlines();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
