@@ -72,7 +72,9 @@ static const double MAX_DOTS_PER_LINE = 0.3;
 /* A gutter pinched by a line whose last or first letters reach into it (a hyphen, a swash, a
  * descender's tail) goes on through the line where white PINCH_MIN_WHITE wide (wider than a
  * word space of body type) still runs through the window, for at most a line's height (two
- * text heights of rows) at a time, taken on evidence from both sides over a long stretch:
+ * text heights of rows) at a time, below a stretch already bordered on both sides in
+ * GUTTER_MIN_BORDERED of rows (not through a heading or page number over the columns, whose
+ * own rows border no white), taken on evidence from both sides over a long stretch:
  * words aligned on its left edge and on its right edge, each in GUTTER_MIN_ALIGNED of rows,
  * words on both sides in PINCH_MIN_BORDERED of rows (eight lines' worth), and pinched rows
  * at most PINCH_SHARE of those. The white between words of a few lines (a river) narrows and
@@ -227,7 +229,7 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
             run *r = &runs[k];
             if (x + e->width > cols) continue;
             if (sum[x + e->width] - sum[x] > 0) { /* text in the window: the run ends ... */
-                if (pinchable && r->first >= 0 && r->pinch < e->line_rows &&
+                if (pinchable && r->bordered >= e->min_bordered && r->pinch < e->line_rows &&
                     white_through(row + x, e->width, e->pinch_white)) { /* ... or is pinched */
                     r->pinched++;
                     r->pinch++;
