@@ -24,6 +24,22 @@ static const long MAX_ROW_TESTS = 4000000;
 /* Lines whose baselines differ by at most this, in text heights, share a row (a label and its
  * item, the cells of a table row): half an x-height, as baselines found on real scans wander. */
 static const double BASELINE_TOLERANCE = 0.5;
+/* The rows of a table (see table_rows): lines on each side of a cut, at least (fewer do not
+ * tell a table from columns); share of them standing in the row of a line across, at least
+ * (a missing cell, a tall formula whose baseline wanders); share of the lines of a side
+ * ending together, within TABLE_END_SPREAD text heights (a word: ragged lines of text, the
+ * ends of justified lines on a scan), under which the side is ragged; share ending flush,
+ * within TABLE_FLUSH_SPREAD text heights (justified lines, leaders to page numbers), at most. */
+static const int TABLE_MIN_LINES = 3;
+static const double TABLE_MIN_PAIRED = 0.75;
+static const double TABLE_MAX_TOGETHER = 0.5;
+static const double TABLE_END_SPREAD = 2.0;
+static const double TABLE_MAX_FLUSH = 1.0 / 3;
+static const double TABLE_FLUSH_SPREAD = 0.5;
+/* Lines next to a band of white across a node: ending or starting this close to it, in text
+ * heights (the lines right above and below it, and where one column breaks a little earlier
+ * or later than the other, as the groups of an index do, its line there). */
+static const double ROW_GAP_REACH = 3.0;
 
 /* White (text heights) by which a band under a heading over two columns (above a foot) is
  * wider than the white between the columns' lines: half a letter's height more than the
@@ -151,7 +167,10 @@ typedef struct cut_context {
     const lt_raw_line *lines;  /* the lines (boxes[0..nreal)) */
     double baseline_tolerance; /* px: lines on one baseline differ by at most this */
     double band_over_leading;  /* px: see BAND_OVER_LEADING */
-    span *spans;               /* scratch room for all lines */
+    double end_spread;         /* px: line ends this close end together */
+    double flush_spread;       /* px: line ends this close end flush */
+    span *spans, *near;        /* scratch room for all lines, twice */
+    double row_gap_reach;      /* px: lines this close to a band of white stand next to it */
 } cut_context;
 
 /* A rule that separates the lines idx[0..n) of a node with box `nb`: it runs along at least
@@ -311,13 +330,13 @@ static int rows_across(const cut_context *x, const int *idx, int n, int at, int 
  * column is narrower than column_min_width (unless `sparse_only`), or sparse: at most half as
  * wide as the other side, with a label beside at most half of the lines that start at the
  * gap (one label to a group of lines, as in a form; the lines of two columns set on one
- * leading share rows all along). A gap wider than a narrow column is a margin's white;
- * margin notes beside a paragraph have a pitch of their own, and pieces that share no row
- * (the bits of a scan's dark border) are no such column. */
+ * leading share rows all along). However wide the gap (the page numbers of a contents list
+ * set flush right, far from their titles, a column of check boxes): margin notes beside a
+ * paragraph have a pitch of their own, and pieces that share no row (the bits of a scan's dark
+ * border) are no such column. */
 static int labels_beside_gap(const cut_context *x, const int *idx, int n, const lt_box *nb, int at,
                              int gap, int sparse_only)
 {
-    if (gap > x->column_min_width) return 0; /* a margin's white, not a label's */
     const int far = 1 << 29, near = (int)x->column_min_width;
     for (int side = 0; side < 2; side++) {
         const int width = side == 0 ? at - gap - nb->left : nb->right - at;
@@ -430,6 +449,169 @@ static int band_beside_columns(const cut_context *x, const int *idx, int n, cons
     return found;
 }
 
+static int cmp_int(const void *pa, const void *pb)
+{
+    const int a = *(const int *)pa, b = *(const int *)pb;
+    return (a > b) - (a < b);
+}
+
+/* The largest share of the n values v[] (sorted here) that lie within `width` of each other. */
+static double largest_cluster(int *v, int n, double width)
+{
+    if (n == 0) return 0;
+    qsort(v, (size_t)n, sizeof *v, cmp_int);
+    int best = 0;
+    for (int lo = 0, hi = 0; hi < n; hi++) {
+        while (v[hi] - v[lo] > width)
+            lo++;
+        if (hi - lo + 1 > best) best = hi - lo + 1;
+    }
+    return (double)best / n;
+}
+
+/* Whether the lines idx[0..n) of a node, cut across at `at` (lines starting there or beyond
+ * on the right), are the rows of a table: each side holds TABLE_MIN_LINES lines at least,
+ * nearly all of which (TABLE_MIN_PAIRED) stand in the row of a line across the cut, and both
+ * sides are ragged: of the lines that end a row of a side (right ends; left ends for
+ * right-to-left scripts), under TABLE_MAX_TOGETHER end together (within TABLE_END_SPREAD) and
+ * at most TABLE_MAX_FLUSH flush (within TABLE_FLUSH_SPREAD). Columns of text fill their
+ * measure (justified lines, ragged lines up to a word short, leaders to page numbers end
+ * together); the cells of a key and its value end where their text does.
+ * Returns 1, 0 (also past MAX_ROW_TESTS pairs of lines), or -1 out of memory. */
+static int table_rows(const cut_context *x, const int *idx, int n, int at)
+{
+    if ((long)n * n > MAX_ROW_TESTS) return 0;
+    int lines[2] = {0, 0}, paired[2] = {0, 0}, nends[2] = {0, 0};
+    int *ends = malloc(((size_t)n + 1) * sizeof *ends); /* side 0 from the start, 1 from the end */
+    if (!ends) return -1;
+    for (int i = 0; i < n; i++) {
+        if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
+        const lt_raw_line *a = &x->lines[idx[i]];
+        const int side = a->box.left >= at;
+        int partner = 0, beyond = 0;
+        for (int j = 0; j < n; j++) {
+            if (j == i || idx[j] >= x->nreal || is_piece(x, idx[j])) continue;
+            const lt_raw_line *b = &x->lines[idx[j]];
+            if (!shares_row(x, a, b)) continue;
+            if ((b->box.left >= at) != side)
+                partner = 1;
+            else if (x->rtl ? b->box.right <= a->box.left : b->box.left >= a->box.right)
+                beyond = 1; /* the row of its side goes on after a */
+        }
+        lines[side]++;
+        paired[side] += partner;
+        if (!beyond) {
+            const int end = x->rtl ? a->box.left : a->box.right;
+            if (side == 0)
+                ends[nends[0]++] = end;
+            else
+                ends[n - ++nends[1]] = end;
+        }
+    }
+    int table = 1;
+    for (int side = 0; side < 2 && table; side++) {
+        int *side_ends = side == 0 ? ends : ends + n - nends[1];
+        table = lines[side] >= TABLE_MIN_LINES && paired[side] >= TABLE_MIN_PAIRED * lines[side] &&
+                largest_cluster(side_ends, nends[side], x->end_spread) < TABLE_MAX_TOGETHER &&
+                largest_cluster(side_ends, nends[side], x->flush_spread) <= TABLE_MAX_FLUSH;
+    }
+    free(ends);
+    return table;
+}
+
+/* Whether a horizontal rule in the rows [top, bottom) runs across the columns [x0, x1). */
+static int rule_across(const cut_context *x, int x0, int x1, int top, int bottom)
+{
+    for (int r = 0; x->seps && r < x->seps->nrules; r++) {
+        const lt_box *b = &x->seps->rules[r];
+        if (lt_box_width(b) > lt_box_height(b) && b->top >= top && b->bottom <= bottom &&
+            b->left <= x0 && b->right >= x1)
+            return 1;
+    }
+    return 0;
+}
+
+typedef struct labels_memo {
+    int at, gap, labels; /* the last strip asked about (at -1: none) and its answer */
+} labels_memo;
+
+/* labels_beside_gap(x, idx, n, nb, at, gap, 1), remembered for the strip asked last (the
+ * bands of one node mostly meet the same gutter). */
+static int sparse_labels(const cut_context *x, const int *idx, int n, const lt_box *nb, int at,
+                         int gap, labels_memo *memo)
+{
+    if (memo->at != at || memo->gap != gap)
+        *memo = (labels_memo){at, gap, labels_beside_gap(x, idx, n, nb, at, gap, 1)};
+    return memo->labels;
+}
+
+/* Whether the band of white [top, bottom) across a node (box nb, lines idx[0..n)) lies inside
+ * a column structure: the items next to it (those of s[0..k), which end by `top`, ending
+ * within ROW_GAP_REACH above it; those of s[k..n), which start at `bottom` or later, starting
+ * within it below) leave a strip of white at least `col_gap` wide, where a gutter or a
+ * vertical rule runs and no horizontal rule crosses, with items on both sides of it both
+ * above and below the band, each side at least a column wide in the node and neither a
+ * sparse column of labels (paragraph breaks side by side in two columns, the rows of a table;
+ * not a column of line numbers, nor the labels of a form, whose entries the band parts).
+ * s is sorted by top, `tallest` its greatest height; `near` is room for n spans; `memo` the
+ * labels' answer for the strip asked last. Past MAX_ROW_TESTS pairs, no. */
+static int band_between_columns(const cut_context *x, const int *idx, const lt_box *nb,
+                                const span *s, int n, int k, int top, int bottom, int tallest,
+                                span *near, labels_memo *memo)
+{
+    int m = 0; /* near[0..m): the items' horizontal extents, `line` 1 above the band, 0 below */
+    /* s is sorted by top: those above that end near the band start at most `tallest` higher */
+    for (int j = k - 1; j >= 0 && s[j].lo >= top - x->row_gap_reach - tallest; j--)
+        if (s[j].hi >= top - x->row_gap_reach) {
+            const lt_box *b = &x->boxes[s[j].line];
+            near[m++] = (span){b->left, b->right, 1};
+        }
+    for (int j = k; j < n && s[j].lo <= bottom + x->row_gap_reach; j++) {
+        const lt_box *b = &x->boxes[s[j].line];
+        near[m++] = (span){b->left, b->right, 0};
+    }
+    if ((long)m * m > MAX_ROW_TESTS) return 0;
+    qsort(near, (size_t)m, sizeof *near, cmp_span);
+    int reach = m ? near[0].hi : 0;
+    for (int i = 1; i < m; i++) {
+        if (near[i].lo - reach >= x->col_gap) {
+            int sides[2] = {0, 0}; /* bit 1: above, bit 2: below; left of the strip, right */
+            for (int j = 0; j < m; j++)
+                sides[j >= i] |= near[j].line ? 1 : 2;
+            if (sides[0] == 3 && sides[1] == 3 && reach - nb->left >= x->column_min_width &&
+                nb->right - near[i].lo >= x->column_min_width &&
+                lt_separator_between(x->seps, reach, near[i].lo, top, bottom) &&
+                !rule_across(x, reach, near[i].lo, top, bottom) &&
+                !sparse_labels(x, idx, n, nb, near[i].lo, near[i].lo - reach, memo))
+                return 1;
+        }
+        if (near[i].hi > reach) reach = near[i].hi;
+    }
+    return 0;
+}
+
+/* Widest band of white across a node of the spans s[0..n) (lines' and obstacles' vertical
+ * extents) that does not lie inside a column structure (band_between_columns): *cut_at is
+ * where it ends. Returns the band's height, 0 when there is none. */
+static int widest_row_gap(const cut_context *x, const int *idx, const lt_box *nb, span *s, int n,
+                          int *cut_at)
+{
+    qsort(s, (size_t)n, sizeof *s, cmp_span);
+    int reach = s[0].hi, best = 0, tallest = 0;
+    labels_memo memo = {-1, 0, 0};
+    for (int i = 0; i < n; i++)
+        if (s[i].hi - s[i].lo > tallest) tallest = s[i].hi - s[i].lo;
+    for (int i = 1; i < n; i++) {
+        if (s[i].lo > reach && s[i].lo - reach > best &&
+            !band_between_columns(x, idx, nb, s, n, i, reach, s[i].lo, tallest, x->near, &memo)) {
+            best = s[i].lo - reach;
+            *cut_at = s[i].lo;
+        }
+        if (s[i].hi > reach) reach = s[i].hi;
+    }
+    return best;
+}
+
 /* Builds the subtree of lines idx[0..n), n >= 1. */
 static lt_cut_node *cut(const cut_context *x, int *idx, int n)
 {
@@ -453,7 +635,7 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
         gx = widest_gap(spans, m, &x_cut);
         for (int i = 0; i < n; i++)
             spans[i] = (span){boxes[idx[i]].top, boxes[idx[i]].bottom, idx[i]};
-        gy = widest_gap(spans, n, &y_cut);
+        gy = widest_row_gap(x, idx, &node->box, spans, n, &y_cut);
     }
     double sx = gx / x->col_gap, sy = gy / x->row_gap;
     /* A gap that leaves a column of labels beside it (narrower than a few words, or sparse
@@ -477,6 +659,15 @@ static lt_cut_node *cut(const cut_context *x, int *idx, int n)
         sx = sy + 1;
         gx = gutter_width;
         x_cut = gutter_at;
+    }
+    /* The rows of a table are read row by row: no cut between its columns. */
+    if (sx >= 1 && sx >= sy) {
+        const int rows = table_rows(x, idx, n, x_cut);
+        if (rows < 0) {
+            lt_cut_node_free(node);
+            return NULL;
+        }
+        if (rows) sx = 0;
     }
     if (n > 1 && sx < 1 && sy < 1) {
         const int band = band_beside_columns(x, idx, n, &node->box, x->column_min_width, &y_cut);
@@ -535,7 +726,7 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
         npictures += c->items[i].kind == LT_COMP_PICTURE;
     const int n = lines->count + npictures;
     int *idx = malloc((size_t)n * sizeof *idx);
-    span *spans = malloc((size_t)n * sizeof *spans);
+    span *spans = malloc(2 * (size_t)n * sizeof *spans);
     lt_box *boxes = malloc((size_t)n * sizeof *boxes);
     if (!idx || !spans || !boxes) {
         free(idx);
@@ -562,7 +753,11 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
                            lines->items,
                            BASELINE_TOLERANCE * th,
                            BAND_OVER_LEADING * th,
-                           spans};
+                           TABLE_END_SPREAD * th,
+                           TABLE_FLUSH_SPREAD * th,
+                           spans,
+                           spans + n,
+                           ROW_GAP_REACH * th};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

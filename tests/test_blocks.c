@@ -354,11 +354,11 @@ static void test_band_beside_columns(void)
 
 /* Numbered lines of a listing: numbers (1.5 text heights wide) before their lines of code,
  * with a gap of 2 text heights, and of 12 (wider than column_min_width, 10 text heights: a
- * margin, not a label's white). Beside the narrow gap the numbers are labels, sharing the
- * rows of their lines: the listing is one block read row by row, number then code. Beside
- * the wide one they are a column of their own, read before the code. Three rows (eight for
- * the narrow gap): too few for the separators to take the wide white for a gutter (fewer
- * than 8 text heights of rows beside it), so the gap alone decides. */
+ * margin's white, as before the page numbers of a contents list set flush right). The
+ * numbers share the rows of their lines: labels, however wide the gap, and the listing is one
+ * block read row by row, number then code. Three rows for the wide gap: too few for the
+ * separators to take the white for a gutter (fewer than 8 text heights of rows beside it),
+ * so the gap alone decides. */
 static void test_labels(void)
 {
     for (int wide = 0; wide <= 1; wide++) {
@@ -367,15 +367,106 @@ static void test_labels(void)
         const int code = wide ? 420 : 220, rows = wide ? 3 : 8;
         for (int i = 0; i < rows; i++) {
             add_line(&p, 150, 180, 200 + i * PITCH);
-            if (wide) continue;
             add_line(&p, code, 1200 - tu_range(&r, 0, 400), 200 + i * PITCH);
         }
         p.nblocks++;
-        for (int i = 0; wide && i < rows; i++)
-            add_line(&p, code, 1200 - tu_range(&r, 0, 400), 200 + i * PITCH);
-        p.nblocks += wide;
         check_page(&p, 89, wide ? "numbers a margin away from their lines" : "numbered lines");
     }
+}
+
+/* A table of keys and values on one baseline grid: keys from x 150 ending at key_end[i],
+ * values from 800 ending at value_end[i] (both wider than column_min_width in all, and apart
+ * by more than column_min_gap); the value of a row in `off_row` (a bit mask) stands 12 px
+ * (0.6 text heights, past the baseline tolerance of a half) below its key's baseline. As a
+ * table (`as_rows`) one block read row by row, key then value; else two columns. */
+static void add_key_values(page *p, int rows, const int *key_end, const int *value_end,
+                           unsigned off_row, int as_rows)
+{
+    for (int i = 0; i < rows; i++) {
+        add_line(p, 150, key_end[i], 200 + i * PITCH);
+        if (as_rows) add_line(p, 800, value_end[i], 200 + i * PITCH + (off_row >> i & 1) * 12);
+    }
+    p->nblocks++;
+    for (int i = 0; !as_rows && i < rows; i++)
+        add_line(p, 800, value_end[i], 200 + i * PITCH + (off_row >> i & 1) * 12);
+    p->nblocks += !as_rows;
+}
+
+/* The rows of a table (blocks.c table_rows), each threshold tried on both sides: keys and
+ * values whose ends are ragged (at most two of eight within 2 text heights, none within half
+ * a text height of another) are read row by row; so are three rows, but two rows are too few
+ * to tell (two columns); two values of eight off their key's baseline (6 of 8 lines paired,
+ * the least a table has) still make a table, three do not. Ends that cluster: three of eight
+ * keys within 2 text heights (under half of them) still make a table, four (half: the lines
+ * of a column of text filling its measure) two columns; two of eight ending flush (a quarter)
+ * still a table, three (over a third: leaders to page numbers in an index, justified lines)
+ * two columns. */
+static void test_key_value_table(void)
+{
+    static const int ragged[8] = {420, 700, 560, 340, 760, 480, 620, 380};
+    static const int values[8] = {1000, 1450, 1200, 900, 1350, 1100, 1550, 1280};
+    static const int three_together[8] = {700, 720, 740, 380, 340, 480, 560, 420};
+    static const int four_together[8] = {700, 710, 725, 740, 340, 480, 560, 420};
+    static const int two_flush[8] = {760, 760, 340, 420, 500, 580, 660, 700};
+    static const int three_flush[8] = {760, 760, 760, 340, 420, 500, 580, 660};
+    static const struct {
+        int rows;
+        const int *keys;
+        unsigned off_row;
+        int as_rows;
+        const char *what;
+    } cases[] = {
+        {8, ragged, 0, 1, "a key/value table"},
+        {3, ragged, 0, 1, "a key/value table of three rows"},
+        {2, ragged, 0, 0, "a key/value table of two rows"},
+        {8, ragged, 0x12, 1, "a key/value table, two values off their rows"},
+        {8, ragged, 0x92, 0, "a key/value table, three values off their rows"},
+        {8, three_together, 0, 1, "a table, three keys ending together"},
+        {8, four_together, 0, 0, "two columns, four lines of eight ending together"},
+        {8, two_flush, 0, 1, "a table, two keys ending flush"},
+        {8, three_flush, 0, 0, "an index in columns, three lines of eight ending flush"},
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        page p = {0};
+        add_key_values(&p, cases[k].rows, cases[k].keys, values, cases[k].off_row,
+                       cases[k].as_rows);
+        check_page(&p, 101 + k, cases[k].what);
+    }
+}
+
+/* Two columns of text on one baseline grid (the lines of both filling their measure, ragged
+ * by under 2 text heights): though every line shares a row with one across the gutter, the
+ * columns are read one after the other. */
+static void test_columns_on_one_grid(void)
+{
+    page p = {0};
+    tu_rng r = {43};
+    add_block(&p, &r, 150, 760, 200, 14);
+    add_block(&p, &r, 800, 1410, 200, 14);
+    check_page(&p, 47, "two columns on one grid");
+}
+
+/* Two columns of 12 rows whose first and third lines of the left column run across the
+ * gutter (the right column leaves those rows blank, so no white runs down the page), with a
+ * paragraph break side by side in both columns at row 6: the band of white across the page
+ * there lies between columns (a gutter runs through it, with both columns above and below),
+ * so it makes no cut; the gutter that lines run across does, and the columns are read one
+ * after the other, not in bands. */
+static void test_band_between_columns(void)
+{
+    page p = {0};
+    tu_rng r = {53};
+    for (int i = 0; i < 12; i++) {
+        if (i == 6) continue;
+        add_line(&p, 150, i == 0 || i == 2 ? 1380 : 760 - tu_range(&r, 0, 40), 200 + i * PITCH);
+        if (i == 5 || i == 11) p.nblocks++;
+    }
+    for (int i = 1; i < 12; i++) {
+        if (i == 2 || i == 6) continue;
+        add_line(&p, 800, 1410 - tu_range(&r, 0, 40), 200 + i * PITCH);
+        if (i == 1 || i == 5 || i == 11) p.nblocks++;
+    }
+    check_page(&p, 59, "a band of white between columns");
 }
 
 /* A paragraph of six lines with three margin notes beside it (2.5 text heights to its right,
@@ -547,6 +638,9 @@ int main(void)
     test_crossed_at_top();
     test_band_beside_columns();
     test_labels();
+    test_key_value_table();
+    test_columns_on_one_grid();
+    test_band_between_columns();
     test_margin_notes();
     test_form();
     test_columns_out_of_phase();
