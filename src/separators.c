@@ -151,10 +151,10 @@ typedef struct evidence {
 static void close_run(run *r, int cx, const evidence *e, const uint8_t *occ, int cols,
                       uint8_t *mask)
 {
-    const int pinch_evidence = r->pinched == 0 || (r->aligned[0] >= e->min_aligned &&
-                                                   r->aligned[1] >= e->min_aligned &&
-                                                   r->bordered >= e->pinch_bordered &&
-                                                   r->pinched <= PINCH_SHARE * r->bordered);
+    const int pinch_evidence =
+        r->pinched == 0 ||
+        (r->aligned[0] >= e->min_aligned && r->aligned[1] >= e->min_aligned &&
+         r->bordered >= e->pinch_bordered && r->pinched <= PINCH_SHARE * r->bordered);
     if (r->bordered >= e->min_bordered && r->sided >= e->min_sided &&
         (r->aligned[0] >= e->min_aligned || r->aligned[1] >= e->min_aligned) &&
         r->dots * e->line_rows <= MAX_DOTS_PER_LINE * r->sided && pinch_evidence)
@@ -171,6 +171,28 @@ static int white_through(const uint8_t *row, int n, int white)
     for (int x = 0, run = 0; x < n; x++)
         if ((run = row[x] >= 2 ? 0 : run + 1) >= white) return 1;
     return 0;
+}
+
+/* What a row holds beside a window that is white of text: words near its left edge, its right
+ * edge, on both sides (with white between them no wider than a gutter), and words aligned on
+ * its left and right edges. */
+typedef struct beside {
+    int left, right, both;
+    int aligned[2];
+} beside;
+
+/* Counts a row of the white run r: marks in the window (dotted), else the words beside it. */
+static void note_row(run *r, int y, int dotted, const beside *b)
+{
+    r->dots += dotted && !r->dotted;
+    r->dotted = dotted;
+    if (dotted || (!b->left && !b->right)) return;
+    if (r->first < 0) r->first = y;
+    r->last = y;
+    r->sided++;
+    r->bordered += b->both;
+    r->aligned[0] += b->aligned[0];
+    r->aligned[1] += b->aligned[1];
 }
 
 /* Whether the n cells of row are all white. */
@@ -201,12 +223,12 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
     int *next = prev + slots;      /* first ink cell at or right of x */
     int *prev_word = next + slots; /* the same for body cells */
     int *next_word = prev_word + slots;
-    for (int k = 0; k < 2 * cols; k++)
+    for (size_t k = 0; k < 2 * slots; k++)
         runs[k] = (run){-1, -1, 0, 0, {0, 0}, 0, 0, 0, 0};
     for (int y = 0; y < rows; y++) {
         const uint8_t *row = occ + (size_t)y * cols;
         if (row_blank(row, cols)) { /* changes no run, but ends any rows of marks (dotted) */
-            for (int k = 0; k < 2 * cols; k++)
+            for (size_t k = 0; k < 2 * slots; k++)
                 runs[k].dotted = 0;
             continue;
         }
@@ -223,44 +245,50 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
             next[x] = first = row[x] ? x : first;
             next_word[x] = word = row[x] == 3 ? x : word;
         }
-        for (int k = 0; k < 2 * cols; k++) {
-            /* each window twice: its runs end at text, or (second) go on through pinches */
-            const int x = k % cols, pinchable = k >= cols;
-            run *r = &runs[k];
-            if (x + e->width > cols) continue;
-            if (sum[x + e->width] - sum[x] > 0) { /* text in the window: the run ends ... */
-                if (pinchable && r->bordered >= e->min_bordered && r->pinch < e->line_rows &&
-                    white_through(row + x, e->width, e->pinch_white)) { /* ... or is pinched */
-                    r->pinched++;
-                    r->pinch++;
-                    continue;
+        for (int x = 0; x + e->width <= cols; x++) {
+            /* r ends at any text; p, once r has met a pinch, goes on through pinches */
+            run *r = &runs[x], *p = &runs[slots + x];
+            if (sum[x + e->width] - sum[x] > 0) { /* text in the window */
+                if (p->pinched) {
+                    if (p->pinch < e->line_rows &&
+                        white_through(row + x, e->width, e->pinch_white)) {
+                        p->pinched++;
+                        p->pinch++;
+                    } else
+                        close_run(p, x, e, occ, cols, mask);
+                } else if (r->bordered >= e->min_bordered &&
+                           white_through(row + x, e->width, e->pinch_white)) {
+                    *p = *r;
+                    p->pinched = p->pinch = 1;
                 }
                 close_run(r, x, e, occ, cols, mask);
                 continue;
             }
-            r->pinch = 0;
             const int dotted = marks[x + e->width] - marks[x] > 0; /* leader dots, or noise */
-            r->dots += dotted && !r->dotted;
-            r->dotted = dotted;
-            if (dotted) continue;
-            const int left = x > 0 ? prev[x - 1] : -1;
-            const int right = x + e->width < cols ? next[x + e->width] : -1;
-            const int word_left = left >= 0 && prev_word[left] >= left - e->word_reach;
-            const int word_right =
-                right >= 0 && next_word[right] >= 0 && next_word[right] <= right + e->word_reach;
-            const int near_left = word_left && x - left <= e->max_gap;
-            const int near_right = word_right && right - x - e->width <= e->max_gap;
-            if (!near_left && !near_right) continue;
-            if (r->first < 0) r->first = y;
-            r->last = y;
-            r->sided++;
-            r->bordered += near_left && near_right && right - left - 1 <= e->max_gap;
-            r->aligned[0] += near_left && x - left - 1 <= e->align_tolerance;
-            r->aligned[1] += near_right && right - x - e->width <= e->align_tolerance;
+            beside b = {0, 0, 0, {0, 0}};
+            if (!dotted) {
+                const int left = x > 0 ? prev[x - 1] : -1;
+                const int right = x + e->width < cols ? next[x + e->width] : -1;
+                const int word_left = left >= 0 && prev_word[left] >= left - e->word_reach;
+                const int word_right = right >= 0 && next_word[right] >= 0 &&
+                                       next_word[right] <= right + e->word_reach;
+                b.left = word_left && x - left <= e->max_gap;
+                b.right = word_right && right - x - e->width <= e->max_gap;
+                b.both = b.left && b.right && right - left - 1 <= e->max_gap;
+                b.aligned[0] = b.left && x - left - 1 <= e->align_tolerance;
+                b.aligned[1] = b.right && right - x - e->width <= e->align_tolerance;
+            }
+            note_row(r, y, dotted, &b);
+            if (p->pinched) {
+                p->pinch = 0;
+                note_row(p, y, dotted, &b);
+            }
         }
     }
-    for (int k = 0; k < 2 * cols; k++)
-        if (k % cols + e->width <= cols) close_run(&runs[k], k % cols, e, occ, cols, mask);
+    for (int x = 0; x + e->width <= cols; x++) {
+        close_run(&runs[x], x, e, occ, cols, mask);
+        if (runs[slots + x].pinched) close_run(&runs[slots + x], x, e, occ, cols, mask);
+    }
     free(sum);
     free(prev);
     free(runs);

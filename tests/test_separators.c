@@ -19,6 +19,7 @@
 #define COL_X0 150     /* left edge of the left column */
 #define COL_WIDTH 620  /* width of a column */
 #define FIRST_BASE 150 /* baseline of a page's first line */
+#define NPINCHED 4     /* pinched lines that a gutter of 24 lines goes on through */
 
 /* Gutters of res whose box overlaps the columns [x0, x1) horizontally. */
 static int gutters_in(const result *res, int x0, int x1)
@@ -636,47 +637,64 @@ static void test_bridged_gutter(void)
 }
 
 /* 12. Two columns justified on both sides (a gutter of 2 text heights, 40 px), where one
- * line of the left column ends in a letter reaching into the gutter: white of 24 px is left
- * beside it (4 white cells, fewer than the window's 5, at least PINCH_MIN_WHITE's 3: the
- * gutter is pinched) or 12 px (2 cells at most: the line runs across). Over 15 rows, with
- * the pinch in the fourth line, the gutter goes on through that line: one gutter from the
- * first line down, and no line across it. Not so, and the lines above the pinched one are
- * read across (too few to be a gutter of their own), with white of 12 px; over 14
- * rows (just too few rows with words on both sides for PINCH_MIN_BORDERED, 16 text heights);
- * or with the pinch in the third line (the two lines above it give fewer rows with words on
- * both sides than GUTTER_MIN_BORDERED, 3 text heights: no gutter reaches down to it, as none
- * reaches down to a line of a heading over the columns). */
+ * line of the left column ends in a letter (an x-height tall) reaching into the gutter: white
+ * of 24 px is left beside it (4 white cells, fewer than the window's 5, at least
+ * PINCH_MIN_WHITE's 3: the gutter is pinched) or 12 px (2 cells at most: the line runs
+ * across). Over 15 rows, with the pinch in the fourth line, the gutter goes on through that
+ * line: one gutter from the first line down, and no line across it. Not so (no gutter reaches
+ * above the pinched line; the lines above it are too few to be a gutter of their own, and
+ * are read across) with white of 12 px; over 14 rows (just too few rows with words on both
+ * sides for PINCH_MIN_BORDERED, 16 text heights); with the pinch in the third line (the two
+ * lines above it give fewer rows with words on both sides than GUTTER_MIN_BORDERED, 3 text
+ * heights: no gutter reaches down to it, as none reaches down to a line of a heading over the
+ * columns); with the right column's lines starting at five places 15 px apart (its edge not
+ * aligned: evidence from one side only); or with the letter reaching in 45 px tall (more than
+ * a line's two text heights of pinched rows at a time; 35 px goes through). Over 24 rows,
+ * every other line from the fourth pinched: four such lines are at most PINCH_SHARE (a
+ * quarter) of the rows with words on both sides, five are more. */
 static void test_pinched_gutter(void)
 {
     const struct {
-        int rows, white, pinched, through;
-    } cases[] = {{15, 24, 3, 1}, {15, 12, 3, 0}, {14, 24, 3, 0}, {15, 24, 2, 0}};
+        int rows, white, pinched, npinched, ragged, height, through;
+    } cases[] = {{15, 24, 3, 1, 0, XH, 1},        {15, 12, 3, 1, 0, XH, 0},
+                 {14, 24, 3, 1, 0, XH, 0},        {15, 24, 2, 1, 0, XH, 0},
+                 {24, 24, 3, NPINCHED, 0, XH, 1}, {24, 24, 3, NPINCHED + 1, 0, XH, 0},
+                 {15, 24, 3, 1, 1, XH, 0},        {15, 24, 3, 1, 0, 35, 1},
+                 {15, 24, 3, 1, 0, 45, 0}};
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         const int rows = cases[c].rows, white = cases[c].white, pinched = cases[c].pinched;
-        char what[80];
-        snprintf(what, sizeof what, "a gutter pinched to %d px in line %d of %d", white,
-                 pinched + 1, rows);
+        char what[96];
+        snprintf(what, sizeof what,
+                 "a gutter pinched to %d px over %d px in %d line(s) from line %d of %d%s", white,
+                 cases[c].height, cases[c].npinched, pinched + 1, rows,
+                 cases[c].ragged ? ", ragged" : "");
         page *p = page_new(1600, FIRST_BASE + rows * PITCH + 100);
         const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH;
-        int left[15];
+        int left[24];
         for (int i = 0; i < rows; i++) {
-            left[i] =
-                draw_plain_line(p, COL_X0, x1, FIRST_BASE + PITCH * i, LETTER_FULL, LETTER_X);
-            draw_plain_line(p, x2, x2 + COL_WIDTH, FIRST_BASE + PITCH * i, LETTER_FULL, LETTER_X);
+            const int is_pinched =
+                i >= pinched && (i - pinched) % 2 == 0 && (i - pinched) / 2 < cases[c].npinched;
+            const int start = x2 + (cases[c].ragged && !is_pinched ? 15 * (1 + i % 5) : 0);
+            left[i] = draw_plain_line(p, COL_X0, x1, FIRST_BASE + PITCH * i, LETTER_FULL, LETTER_X);
+            draw_plain_line(p, start, x2 + COL_WIDTH, FIRST_BASE + PITCH * i, LETTER_FULL,
+                            LETTER_X);
+            const int base = FIRST_BASE + PITCH * i;
+            if (is_pinched)
+                draw_glyph(p, left[i], tu_box(x1 + 3, base - cases[c].height, x2 - white, base), 0);
         }
         const int base = FIRST_BASE + PITCH * pinched;
-        draw_glyph(p, left[pinched], tu_box(x1 + 3, base - XH, x2 - white, base), 0);
         result res = run_stages(p, what);
         const lt_box g = gutter_in(&res, x1, x2);
         if (cases[c].through)
             CHECK(g.bottom > g.top && g.top <= FIRST_BASE - XH, "%s: gutter from %d to %d", what,
                   g.top, g.bottom);
         else
-            CHECK(g.top > base, "%s: gutter from %d, above the pinched line", what, g.top);
+            CHECK(g.bottom == 0 || g.top > base, "%s: gutter from %d, above the pinched line", what,
+                  g.top);
         const int across = lines_across(&res, x1, x2);
         if (cases[c].through)
             CHECK_INT(across, 0, "%s: lines across", what);
-        else /* the pinched line's wide gap may part it all the same */
+        else if (!cases[c].ragged) /* the pinched line's wide gap may part it all the same */
             CHECK(across >= pinched, "%s: %d lines across, want %d or more", what, across, pinched);
         result_free(&res);
         page_free(p);
