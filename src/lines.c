@@ -36,6 +36,16 @@ static const double EDGE_BAND = 4.0;
  * note from the text, it is no word space. */
 static const double STRETCH_TOLERANCE = 0.2;
 static const double STRETCH_MAX_GAP = 10.0;
+/* A gutter no wider than the word spaces of the line it crosses is spaces lined up from row
+ * to row (typewritten and monospaced text, where every space is a character wide): a link a
+ * gutter refuses joins all the same when its gap is at most WORD_SPACE_TOLERANCE times the
+ * word space of the two groups (the smaller of their lower medians), at least
+ * WORD_SPACE_MIN_COUNT spaces measured in them. A gap between letters is a word space when
+ * wider than WORD_SPACE_MIN_RATIO times the group's median gap (the docstrum's within-line
+ * spacing: letter gaps are the majority, word spaces the wider mode). */
+static const double WORD_SPACE_TOLERANCE = 1.2;
+static const int WORD_SPACE_MIN_COUNT = 3;
+static const double WORD_SPACE_MIN_RATIO = 2.0;
 
 typedef struct link {
     int a, b;        /* components, a left of b */
@@ -410,14 +420,88 @@ static int absorb_nested(const lt_components *c, const uint8_t *body, int *paren
     return 0;
 }
 
+typedef struct placed {
+    int root, left, index;
+} placed;
+
+static int cmp_placed(const void *pa, const void *pb)
+{
+    const placed *a = pa, *b = pb;
+    if (a->root != b->root) return (a->root > b->root) - (a->root < b->root);
+    if (a->left != b->left) return (a->left > b->left) - (a->left < b->left);
+    return (a->index > b->index) - (a->index < b->index);
+}
+
+/* The word space of every group (by root): the lower median of its word spaces (see
+ * WORD_SPACE_MIN_RATIO) in space[root], their number in space_count[root]; both zero for
+ * groups without. Attached marks count as letters (a leader's dots are no spaces). */
+static int word_spaces(const lt_components *c, const uint8_t *body, const uint8_t *mark,
+                       int *parent, double *space, int *space_count)
+{
+    const int n = c->count;
+    placed *order = malloc(((size_t)n + 1) * sizeof *order);
+    double *gaps = malloc(((size_t)n + 1) * sizeof *gaps);
+    double *sorted = malloc(((size_t)n + 1) * sizeof *sorted);
+    if (!order || !gaps || !sorted) {
+        free(order);
+        free(gaps);
+        free(sorted);
+        return LT_ENOMEM;
+    }
+    int m = 0;
+    for (int i = 0; i < n; i++) {
+        space[i] = 0;
+        space_count[i] = 0;
+        if (body[i] || (mark[i] && lt_uf_find(parent, i) != i))
+            order[m++] = (placed){lt_uf_find(parent, i), c->items[i].box.left, i};
+    }
+    qsort(order, (size_t)m, sizeof *order, cmp_placed);
+    for (int k0 = 0, k1; k0 < m; k0 = k1) {
+        int right = c->items[order[k0].index].box.right, ngaps = 0;
+        for (k1 = k0 + 1; k1 < m && order[k1].root == order[k0].root; k1++) {
+            const lt_box *b = &c->items[order[k1].index].box;
+            if (b->left > right) gaps[ngaps++] = b->left - right;
+            if (b->right > right) right = b->right;
+        }
+        if (ngaps == 0) continue;
+        memcpy(sorted, gaps, (size_t)ngaps * sizeof *gaps);
+        const double median = lt_median(sorted, ngaps);
+        const int root = order[k0].root;
+        int nwords = 0;
+        for (int k = 0; k < ngaps; k++)
+            if (gaps[k] > WORD_SPACE_MIN_RATIO * median) sorted[nwords++] = gaps[k];
+        if (nwords == 0) continue;
+        qsort(sorted, (size_t)nwords, sizeof *sorted, lt_cmp_double);
+        space_count[root] = nwords;
+        space[root] = sorted[(nwords - 1) / 2];
+    }
+    free(order);
+    free(gaps);
+    free(sorted);
+    return 0;
+}
+
+/* Whether a vertical rule stands between x0 and x1 over some of the rows [top, bottom). */
+static int rule_between_groups(const lt_components *c, int x0, int x1, int top, int bottom)
+{
+    for (int i = 0; i < c->count; i++) {
+        const lt_box *b = &c->items[i].box;
+        if (c->items[i].kind == LT_COMP_RULE && lt_box_height(b) > lt_box_width(b) &&
+            b->left >= x0 - 1 && b->right <= x1 + 1 && b->top < bottom && b->bottom > top)
+            return 1;
+    }
+    return 0;
+}
+
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that crosses no separator. The
  * gap is judged by the pair's type size: the smaller of the two groups' mean letter heights
  * against the page's, times the height of the page's typical line (a group's box holds its
- * large initials and any drift of its baseline, and two rows run together look large). Wider
- * gaps join where the row's next wide gap is as wide (STRETCH_TOLERANCE). */
-static int join_rows(const lt_components *c, const uint8_t *body, int *parent, double max_gap,
-                     double th, const lt_separators *seps)
+ * large initials and any drift of its baseline, and two rows run together look large). A gap
+ * a gutter refuses joins where it is no wider than the groups' word space (WORD_SPACE_*);
+ * wider gaps join where the row's next wide gap is as wide (STRETCH_TOLERANCE). */
+static int join_rows(const lt_components *c, const uint8_t *body, const uint8_t *mark, int *parent,
+                     double max_gap, double th, const lt_separators *seps)
 {
     lt_box *boxes;
     keyed *roots;
@@ -429,9 +513,13 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
     double *next_gap = malloc(((size_t)nr + 1) * sizeof *next_gap);
     int *next = malloc(((size_t)nr + 1) * sizeof *next),
         *prev = malloc(((size_t)nr + 1) * sizeof *prev);
+    double *space = malloc(((size_t)c->count + 1) * sizeof *space);
+    int *space_count = malloc(((size_t)c->count + 1) * sizeof *space_count);
     const double stretch_max = STRETCH_MAX_GAP * th;
     int rc = LT_ENOMEM;
-    if (!letters || !count || !heights || !next_gap || !next || !prev) goto done;
+    if (!letters || !count || !heights || !next_gap || !next || !prev || !space || !space_count ||
+        word_spaces(c, body, mark, parent, space, space_count))
+        goto done;
     double page_sum = 0;
     int page_count = 0;
     for (int i = 0; i < c->count; i++) {
@@ -468,7 +556,14 @@ static int join_rows(const lt_components *c, const uint8_t *body, int *parent, d
                                 ba->bottom > bb->bottom ? ba->bottom : bb->bottom,
                                 line_height * size / page_letter);
             const double gap = bb->left - ba->right;
-            if (gap <= max_gap && !blocked) lt_uf_unite(parent, ra, rb);
+            const double own_space = !space_count[ra]   ? space[rb]
+                                     : !space_count[rb] ? space[ra]
+                                                        : fmin(space[ra], space[rb]);
+            const int lined_up_space = blocked && gap > 0 && gap <= max_gap &&
+                                       space_count[ra] + space_count[rb] >= WORD_SPACE_MIN_COUNT &&
+                                       gap <= WORD_SPACE_TOLERANCE * own_space &&
+                                       !rule_between_groups(c, ba->right, bb->left, top, bottom);
+            if (gap <= max_gap && (!blocked || lined_up_space)) lt_uf_unite(parent, ra, rb);
             if (bb->left >= ba->right && gap < nearest_gap) {
                 nearest_gap = gap;
                 nearest = blocked ? -1 : b;
@@ -506,6 +601,8 @@ done:
     free(next_gap);
     free(next);
     free(prev);
+    free(space);
+    free(space_count);
     return rc;
 }
 
@@ -573,7 +670,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
 
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, seps) ||
-        join_rows(c, body, parent, max_gap, th, seps) ||
+        join_rows(c, body, mark, parent, max_gap, th, seps) ||
         cut_across_gutters(c, body, parent, th, seps, piece) || absorb_nested(c, body, parent))
         goto nomem;
 

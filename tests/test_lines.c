@@ -474,6 +474,63 @@ static void test_hairlines(void)
     }
 }
 
+/* Typewritten rows: every letter a box 12 px wide and a text height tall, `letter_gap` px
+ * apart, a word space `space` px; after the tenth letter of every row the same white,
+ * `gutter` px wide, so that it runs straight through all twelve rows and the separators take
+ * it for a gutter; `spaces` more word spaces in each row, where they do not line up from row
+ * to row. The rows stay whole when that white is no wider than 1.2 of their word space
+ * (WORD_SPACE_TOLERANCE: 34 against 30 px whole, 38 parted), with 3 word spaces measured
+ * (WORD_SPACE_MIN_COUNT: 2 parted), and spaces more than twice the letter gaps
+ * (WORD_SPACE_MIN_RATIO: 30 px spaces between letters 14 px apart whole, 16 px apart parted).
+ * A vertical rule in that white parts the rows however narrow it is. */
+static void test_typewritten(void)
+{
+    const struct {
+        int letter_gap, space, gutter, spaces, rule, whole;
+    } cases[] = {{6, 30, 34, 3, 0, 1},  {6, 30, 38, 3, 0, 0},  {6, 30, 34, 2, 0, 0},
+                 {14, 30, 34, 3, 0, 1}, {16, 30, 34, 3, 0, 0}, {6, 30, 34, 3, 1, 0}};
+    for (int ci = 0; ci < 6; ci++) {
+        char what[96];
+        snprintf(what, sizeof what,
+                 "typewritten, letters %d px apart, spaces %d, gutter %d%s, %d spaces",
+                 cases[ci].letter_gap, cases[ci].space, cases[ci].gutter,
+                 cases[ci].rule ? " with a rule" : "", cases[ci].spaces);
+        page *p = page_new(1700, 800);
+        for (int row = 0; row < 12; row++) {
+            const int y = 150 + row * PITCH;
+            int l = p->nlines++, x = 150;
+            p->line_box[l] = tu_box(0, 0, 0, 0);
+            p->baseline[l] = y;
+            p->ncomp[l] = 0;
+            for (int k = 0; k < 32; k++) {
+                draw_glyph(p, l, tu_box(x, y - XH, x + 12, y), 0);
+                int after = cases[ci].letter_gap;
+                if (k == 9) {
+                    after = cases[ci].gutter;
+                    if (cases[ci].rule)
+                        tu_fill_box(p->img,
+                                    tu_box(x + 12 + after / 2 - 1, y - ASC, x + 12 + after / 2 + 1,
+                                           y + DESC + 11),
+                                    1);
+                    if (!cases[ci].whole) {
+                        l = p->nlines++;
+                        p->line_box[l] = tu_box(0, 0, 0, 0);
+                        p->baseline[l] = y;
+                        p->ncomp[l] = 0;
+                    }
+                }
+                for (int s = 0; s < cases[ci].spaces; s++)
+                    if (k == 13 + 6 * s + row % 3) after = cases[ci].space;
+                x += 12 + after;
+            }
+        }
+        result res = run_stages(p, what);
+        compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Makes the last n drawn lines one line (pieces of a row drawn one at a time). */
 static void join_last_lines(page *p, int n)
 {
@@ -537,6 +594,7 @@ int main(void)
     test_scan_border();
     test_stretched_line();
     test_hairlines();
+    test_typewritten();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
