@@ -36,6 +36,10 @@ static const double TABLE_MAX_TOGETHER = 0.5;
 static const double TABLE_END_SPREAD = 2.0;
 static const double TABLE_MAX_FLUSH = 1.0 / 3;
 static const double TABLE_FLUSH_SPREAD = 0.5;
+/* Share of the lines facing a cut on each side (no line of theirs between them and the cut)
+ * narrower than a column of text (COLUMN_MIN_WIDTH), at least, that make them the cells of a
+ * table however their ends line up (short words in columns of one width end flush). */
+static const double TABLE_MIN_CELLS = 0.5;
 /* Lines next to a band of white across a node: ending or starting this close to it, in text
  * heights (the lines right above and below it, and where one column breaks a little earlier
  * or later than the other, as the groups of an index do, its line there). */
@@ -474,32 +478,42 @@ static double largest_cluster(int *v, int n, double width)
  * nearly all of which (TABLE_MIN_PAIRED) stand in the row of a line across the cut, and both
  * sides are ragged: of the lines that end a row of a side (right ends; left ends for
  * right-to-left scripts), under TABLE_MAX_TOGETHER end together (within TABLE_END_SPREAD) and
- * at most TABLE_MAX_FLUSH flush (within TABLE_FLUSH_SPREAD). Columns of text fill their
- * measure (justified lines, ragged lines up to a word short, leaders to page numbers end
- * together); the cells of a key and its value end where their text does.
+ * at most TABLE_MAX_FLUSH flush (within TABLE_FLUSH_SPREAD); or the lines facing the cut on
+ * both sides are cells (TABLE_MIN_CELLS). Columns of text fill their measure (justified
+ * lines, ragged lines up to a word short, leaders to page numbers end together); the cells
+ * of a key and its value end where their text does.
  * Returns 1, 0 (also past MAX_ROW_TESTS pairs of lines), or -1 out of memory. */
 static int table_rows(const cut_context *x, const int *idx, int n, int at)
 {
     if ((long)n * n > MAX_ROW_TESTS) return 0;
-    int lines[2] = {0, 0}, paired[2] = {0, 0}, nends[2] = {0, 0};
+    int lines[2] = {0, 0}, paired[2] = {0, 0}, nends[2] = {0, 0}, facing[2] = {0, 0},
+        cells[2] = {0, 0};
     int *ends = malloc(((size_t)n + 1) * sizeof *ends); /* side 0 from the start, 1 from the end */
     if (!ends) return -1;
     for (int i = 0; i < n; i++) {
         if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
         const lt_raw_line *a = &x->lines[idx[i]];
         const int side = a->box.left >= at;
-        int partner = 0, beyond = 0;
+        int partner = 0, beyond = 0, inner = 0;
         for (int j = 0; j < n; j++) {
             if (j == i || idx[j] >= x->nreal || is_piece(x, idx[j])) continue;
             const lt_raw_line *b = &x->lines[idx[j]];
             if (!shares_row(x, a, b)) continue;
-            if ((b->box.left >= at) != side)
+            if ((b->box.left >= at) != side) {
                 partner = 1;
-            else if (x->rtl ? b->box.right <= a->box.left : b->box.left >= a->box.right)
+                continue;
+            }
+            if (x->rtl ? b->box.right <= a->box.left : b->box.left >= a->box.right)
                 beyond = 1; /* the row of its side goes on after a */
+            if (side == 0 ? b->box.left >= a->box.right : b->box.right <= a->box.left)
+                inner = 1; /* b stands between a and the cut */
         }
         lines[side]++;
         paired[side] += partner;
+        if (!inner) {
+            facing[side]++;
+            cells[side] += lt_box_width(&a->box) < x->column_min_width;
+        }
         if (!beyond) {
             const int end = x->rtl ? a->box.left : a->box.right;
             if (side == 0)
@@ -508,13 +522,16 @@ static int table_rows(const cut_context *x, const int *idx, int n, int at)
                 ends[n - ++nends[1]] = end;
         }
     }
-    int table = 1;
-    for (int side = 0; side < 2 && table; side++) {
+    int paired_rows = 1, ragged = 1;
+    for (int side = 0; side < 2; side++) {
         int *side_ends = side == 0 ? ends : ends + n - nends[1];
-        table = lines[side] >= TABLE_MIN_LINES && paired[side] >= TABLE_MIN_PAIRED * lines[side] &&
-                largest_cluster(side_ends, nends[side], x->end_spread) < TABLE_MAX_TOGETHER &&
-                largest_cluster(side_ends, nends[side], x->flush_spread) <= TABLE_MAX_FLUSH;
+        paired_rows &=
+            lines[side] >= TABLE_MIN_LINES && paired[side] >= TABLE_MIN_PAIRED * lines[side];
+        ragged &= largest_cluster(side_ends, nends[side], x->end_spread) < TABLE_MAX_TOGETHER &&
+                  largest_cluster(side_ends, nends[side], x->flush_spread) <= TABLE_MAX_FLUSH;
     }
+    const int table = paired_rows && (ragged || (cells[0] >= TABLE_MIN_CELLS * facing[0] &&
+                                                 cells[1] >= TABLE_MIN_CELLS * facing[1]));
     free(ends);
     return table;
 }

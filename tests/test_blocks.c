@@ -434,6 +434,30 @@ static void test_key_value_table(void)
     }
 }
 
+/* A table of six columns of four rows, its cells short words (60 px, 3 text heights: ending
+ * flush, as justified lines do), 40 px apart but for 60 px in the middle, where the widest
+ * gap cuts it into halves of three columns (each wider than column_min_width): the lines on
+ * both sides of that gap are mostly narrower than a column of text (cells), and the table is
+ * read row by row; with three of the four cells right of the gap 220 px wide (11 text
+ * heights: lines of text), the halves are columns. */
+static void test_table_of_cells(void)
+{
+    for (int wide_cells = 2; wide_cells <= 3; wide_cells++) {
+        page p = {0};
+        const int left[6] = {150, 250, 350, 470, 570 + 160, 670 + 160};
+        const int as_rows = wide_cells == 2;
+        for (int col = 0; col < 6; col += as_rows ? 6 : 3)
+            for (int row = 0; row < 4; row++)
+                for (int c = col; c < (as_rows ? 6 : col + 3); c++)
+                    add_line(&p, left[c], left[c] + (c == 3 && row < wide_cells ? 220 : 60),
+                             200 + row * PITCH);
+        p.nblocks = as_rows ? 1 : 2;
+        for (int i = 0; !as_rows && i < p.n; i++)
+            p.block[i] = i >= 12;
+        check_page(&p, 113, as_rows ? "a table of short cells" : "two halves of wider lines");
+    }
+}
+
 /* Two columns of text on one baseline grid (the lines of both filling their measure, ragged
  * by under 2 text heights): though every line shares a row with one across the gutter, the
  * columns are read one after the other. */
@@ -639,6 +663,7 @@ int main(void)
     test_band_beside_columns();
     test_labels();
     test_key_value_table();
+    test_table_of_cells();
     test_columns_on_one_grid();
     test_band_between_columns();
     test_margin_notes();
