@@ -27,6 +27,11 @@ static const double LARGE_TYPE_RANK = 0.3; /* x-height of large type: this rank 
  * while the border and the edges of the leaves break into thin strokes. */
 static const double EDGE_SLIVER_WIDTH = 1.0;
 static const double EDGE_BAND = 4.0;
+/* Within EDGE_STROKE_BAND of the edge (twice as far: the edge of a leaf, or its shadow, often
+ * lies well inside a scan) a line narrower than EDGE_STROKE_WIDTH is such a stroke: the
+ * narrowest digit that stands alone as a line, a page number one, is about 0.45 wide. */
+static const double EDGE_STROKE_WIDTH = 0.4;
+static const double EDGE_STROKE_BAND = 8.0;
 /* A justified line stretched to its column's width spreads its few words evenly: a gap wider
  * than the widest bridged one (lt_params.link_max_gap) that crosses no separator joins its row
  * when the next wide gap along the row, on either side, is as wide to within
@@ -811,8 +816,9 @@ void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_he
         int edge = hull.left < hull.top ? hull.left : hull.top;
         if (w - hull.right < edge) edge = w - hull.right;
         if (h - hull.bottom < edge) edge = h - hull.bottom;
-        const int sliver =
-            lt_box_width(&lines->items[i].box) < EDGE_SLIVER_WIDTH * th && edge < EDGE_BAND * th;
+        const int width = lt_box_width(&lines->items[i].box);
+        const int sliver = (width < EDGE_SLIVER_WIDTH * th && edge < EDGE_BAND * th) ||
+                           (width < EDGE_STROKE_WIDTH * th && edge < EDGE_STROKE_BAND * th);
         if (!sliver) lines->items[kept++] = lines->items[i];
     }
     lines->count = kept;

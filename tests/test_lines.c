@@ -342,10 +342,12 @@ static void test_text_height_among_specks(void)
 }
 
 /* A scan's border: a paragraph of five lines with, at the left edge of the image (x 10..15),
- * thin strokes 30 px tall one above the other (the dark border broken up), and one more at
- * 5 text heights from the right edge. lt_drop_edge_slivers keeps the paragraph and the stroke
- * five text heights in, and drops the strokes within four text heights of the edge, which
- * are narrower than a letter. */
+ * thin strokes 30 px tall one above the other (the dark border broken up), and more strokes
+ * nearer the right edge: 5 px wide (a quarter of a text height) at 5 and 7.5 text heights
+ * from it, 7 px (0.35) at 5: dropped; 5 px wide at 8.5 text heights, and 9 px (0.45, a
+ * digit one) at 5: kept. lt_drop_edge_slivers keeps the paragraph, drops the strokes within
+ * four text heights of the edge, which are narrower than a letter, and those within eight
+ * narrower than 0.4 of a letter (the edge of a leaf or its shadow, inside the image). */
 static void test_edge_slivers(void)
 {
     const char *what = "slivers at the image edge";
@@ -355,18 +357,30 @@ static void test_edge_slivers(void)
     int strokes = 0;
     for (int y = 100; y + 30 <= 900; y += 60, strokes++)
         tu_fill_box(p->img, tu_box(10, y, 15, y + 30), 1);
-    tu_fill_box(p->img, tu_box(1700 - 5 * XH - 5, 500, 1700 - 5 * XH, 530), 1);
+    const struct {
+        int width, from_edge, kept;
+    } right[] = {
+        {5, 5 * XH, 0}, {5, 15 * XH / 2, 0}, {7, 5 * XH, 0}, {5, 17 * XH / 2, 1}, {9, 5 * XH, 1}};
+    int kept = 0;
+    for (int k = 0; k < 5; k++) {
+        const int x1 = 1700 - right[k].from_edge, y = 500 + 60 * k;
+        tu_fill_box(p->img, tu_box(x1 - right[k].width, y, x1, y + 30), 1);
+        kept += right[k].kept;
+    }
     result res = run_stages(p, what);
     if (res.lines) {
-        CHECK_INT(res.lines->count, 5 + strokes + 1, "%s: lines before", what);
+        CHECK_INT(res.lines->count, 5 + strokes + 5, "%s: lines before", what);
         lt_frame f;
         lt_frame_init(&f, p->img->width, p->img->height, 0);
         lt_drop_edge_slivers(res.lines, &f, res.th);
-        CHECK_INT(res.lines->count, 6, "%s: lines after", what);
-        int inside = 0;
-        for (int i = 0; i < res.lines->count; i++)
+        CHECK_INT(res.lines->count, 5 + kept, "%s: lines after", what);
+        int inside = 0, wide = 0;
+        for (int i = 0; i < res.lines->count; i++) {
             inside += res.lines->items[i].box.left >= 150;
-        CHECK_INT(inside, 6, "%s: the paragraph and the stroke further in kept", what);
+            wide += lt_box_width(&res.lines->items[i].box) == 9;
+        }
+        CHECK_INT(inside, 5 + kept, "%s: the paragraph and the strokes kept", what);
+        CHECK_INT(wide, 1, "%s: the stroke as wide as a digit one kept", what);
     }
     result_free(&res);
     page_free(p);
