@@ -32,6 +32,12 @@ static const double EDGE_BAND = 4.0;
  * narrowest digit that stands alone as a line, a page number one, is about 0.45 wide. */
 static const double EDGE_STROKE_WIDTH = 0.4;
 static const double EDGE_STROKE_BAND = 8.0;
+/* A line whose ink reaches the image's border (within EDGE_TOUCH_PX pixels) and that is
+ * narrower than EDGE_CUT_WIDTH is the cut end of a line of the facing page or a piece of the
+ * scanner's border: a line of the page itself keeps a margin, and one that a tight crop cuts is
+ * longer than a word or two. */
+static const int EDGE_TOUCH_PX = 1;
+static const double EDGE_CUT_WIDTH = 6.0;
 /* A justified line stretched to its column's width spreads its few words evenly: a gap wider
  * than the widest bridged one (lt_params.link_max_gap) that crosses no separator joins its row
  * when the next wide gap along the row, on either side, is as wide to within
@@ -818,7 +824,8 @@ void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_he
         if (h - hull.bottom < edge) edge = h - hull.bottom;
         const int width = lt_box_width(&lines->items[i].box);
         const int sliver = (width < EDGE_SLIVER_WIDTH * th && edge < EDGE_BAND * th) ||
-                           (width < EDGE_STROKE_WIDTH * th && edge < EDGE_STROKE_BAND * th);
+                           (width < EDGE_STROKE_WIDTH * th && edge < EDGE_STROKE_BAND * th) ||
+                           (width < EDGE_CUT_WIDTH * th && edge <= EDGE_TOUCH_PX);
         if (!sliver) lines->items[kept++] = lines->items[i];
     }
     lines->count = kept;

@@ -347,7 +347,10 @@ static void test_text_height_among_specks(void)
  * from it, 7 px (0.35) at 5: dropped; 5 px wide at 8.5 text heights, and 9 px (0.45, a
  * digit one) at 5: kept. lt_drop_edge_slivers keeps the paragraph, drops the strokes within
  * four text heights of the edge, which are narrower than a letter, and those within eight
- * narrower than 0.4 of a letter (the edge of a leaf or its shadow, inside the image). */
+ * narrower than 0.4 of a letter (the edge of a leaf or its shadow, inside the image). At the
+ * top, words of x-height letters 12 px wide and 3 px apart: 7 letters (5.1 text heights)
+ * touching the border are dropped (the cut end of a line of the facing page), 9 letters (6.6)
+ * touching it and 7 letters 2 px from it are kept. */
 static void test_edge_slivers(void)
 {
     const char *what = "slivers at the image edge";
@@ -367,9 +370,20 @@ static void test_edge_slivers(void)
         tu_fill_box(p->img, tu_box(x1 - right[k].width, y, x1, y + 30), 1);
         kept += right[k].kept;
     }
+    const struct {
+        int letters, top, kept;
+    } top[] = {{7, 0, 0}, {9, 0, 1}, {7, 2, 1}};
+    for (int k = 0; k < 3; k++) {
+        for (int i = 0; i < top[k].letters; i++)
+            tu_fill_box(
+                p->img,
+                tu_box(300 + 400 * k + 15 * i, top[k].top, 312 + 400 * k + 15 * i, top[k].top + XH),
+                1);
+        kept += top[k].kept;
+    }
     result res = run_stages(p, what);
     if (res.lines) {
-        CHECK_INT(res.lines->count, 5 + strokes + 5, "%s: lines before", what);
+        CHECK_INT(res.lines->count, 5 + strokes + 5 + 3, "%s: lines before", what);
         lt_frame f;
         lt_frame_init(&f, p->img->width, p->img->height, 0);
         lt_drop_edge_slivers(res.lines, &f, res.th);
