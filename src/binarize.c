@@ -573,14 +573,14 @@ static inline void ink_row(const uint8_t *restrict src, const int32_t *restrict 
     const int32_t unit = TILE * TILE << 16; /* gray values x TILE^2 in 16.16 (< 2^31) */
     int x = 0;
     for (; x + INK_BLOCK <= w; x += INK_BLOCK) {
-        const int b = x / INK_BLOCK;
-        if (block_min(src + x) > ceiling_above[b] && block_min(src + x) > ceiling_below[b]) {
+        const int b = x / INK_BLOCK, least = block_min(src + x);
+        if (least > ceiling_above[b] && least > ceiling_below[b]) {
             memset(dst + x, 0, INK_BLOCK);
             continue;
         }
         for (int i = 0; i < INK_BLOCK; i++)
-            dst[x + i] = src[x + i] * unit <=
-                         weight_above * above[x + i] + weight_below * below[x + i];
+            dst[x + i] =
+                src[x + i] * unit <= weight_above * above[x + i] + weight_below * below[x + i];
     }
     for (; x < w; x++)
         dst[x] = src[x] * unit <= weight_above * above[x] + weight_below * below[x];
@@ -619,7 +619,8 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
     /* A row's window means and deviations; k / R' by the sum of the lightest
      * tile within a window's reach (paper_r), on pages with window paper. */
-    double *mean = malloc((size_t)gw * sizeof *mean), *dev_row = malloc((size_t)gw * sizeof *dev_row);
+    double *mean = malloc((size_t)gw * sizeof *mean),
+           *dev_row = malloc((size_t)gw * sizeof *dev_row);
     double *k_over_paper = NULL;
     int rc = LT_ENOMEM;
     if (!tsum || !tsq || !thr || !spread[0] || !spread[1] || !ceiling[0] || !ceiling[1] ||
@@ -679,10 +680,11 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     for (int ty = 0; ty < gh; ty++) {
         const int add = ty + reach, drop = ty - reach - 1;
         if (add < gh)
-            slide_columns(column_sum, column_sq, tsum + (size_t)add * gw, tsq + (size_t)add * gw, gw, 1);
+            slide_columns(column_sum, column_sq, tsum + (size_t)add * gw, tsq + (size_t)add * gw,
+                          gw, 1);
         if (drop >= 0)
-            slide_columns(column_sum, column_sq, tsum + (size_t)drop * gw, tsq + (size_t)drop * gw, gw,
-                          -1);
+            slide_columns(column_sum, column_sq, tsum + (size_t)drop * gw, tsq + (size_t)drop * gw,
+                          gw, -1);
         const int top = (ty - reach) * TILE, bottom = (ty + reach + 1) * TILE;
         const double inv_rows = 1.0 / ((bottom < h ? bottom : h) - (top > 0 ? top : 0));
         int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
@@ -736,11 +738,10 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
         goto done;
     /* 3. Every pixel against the threshold interpolated from the tile centres around it (held
      * constant beyond the outermost centres), into an image allocated only now that the tile
-     * sums are gone, which lowers the peak memory of the stage. */
-    free(tsum);
-    free(tsq);
-    tsum = NULL;
-    tsq = NULL;
+     * and window sums are gone, which lowers the peak memory of the stage. */
+    free(tsum), free(tsq), free(colsum), free(colsq), free(inv_cols), free(mean), free(dev_row);
+    tsum = NULL, tsq = NULL, colsum = NULL, colsq = NULL, inv_cols = NULL, mean = NULL;
+    dev_row = NULL;
     if (!(out = lt_image_alloc(w, h, LT_IMAGE_INK, 0))) goto done; /* every pixel written */
     out->dpi = gray->dpi;
     int spread_row[2] = {-1, -1}; /* the tile row whose thresholds spread[i] holds */

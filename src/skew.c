@@ -105,8 +105,8 @@ static int cells_from_grid(const grid *g, cells *out)
     for (size_t i = 0; i < total; i++)
         n += g->count[i] != 0;
     *out = (cells){0, g->width, g->height, NULL, NULL, NULL, NULL, NULL, NULL};
-    out->column = malloc((n ? n : 1) * sizeof *out->column);
-    out->weight = malloc((n ? n : 1) * sizeof *out->weight);
+    out->column = malloc((n + 1) * sizeof *out->column); /* + 1: written past the last cell */
+    out->weight = malloc((n + 1) * sizeof *out->weight);
     out->column_x = malloc((size_t)g->width * sizeof *out->column_x);
     out->scratch = malloc((size_t)g->width * sizeof *out->scratch);
     out->row_y = malloc((size_t)g->height * sizeof *out->row_y);
@@ -123,10 +123,10 @@ static int cells_from_grid(const grid *g, cells *out)
     for (int y = 0; y < g->height; y++) {
         const uint16_t *row = g->count + (size_t)y * g->width;
         out->row_y[y] = (y + 0.5f) * fy - half_h;
-        for (int x = 0; x < g->width; x++) {
-            if (!row[x]) continue;
+        for (int x = 0; x < g->width; x++) { /* without a branch: ink and blank alternate */
             out->column[out->count] = (uint16_t)x;
-            out->weight[out->count++] = row[x];
+            out->weight[out->count] = row[x];
+            out->count += row[x] != 0;
         }
         out->row_end[y] = out->count;
     }

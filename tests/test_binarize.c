@@ -304,8 +304,7 @@ static void test_sampled(void)
 /* Sauvola's T at (cx, cy), which may lie just outside the image (the centre of a partial tile):
  * the mean and deviation of the pixels at most half_px away in x and y, from the definition as
  * in naive_sauvola. */
-static double naive_threshold_at(const lt_image *g, int cx, int cy, int half_px, double k,
-                                 double r)
+static double naive_threshold_at(const lt_image *g, int cx, int cy, int half_px, double k, double r)
 {
     int64_t sum = 0, sumsq = 0, n = 0;
     for (int v = cy - half_px; v <= cy + half_px; v++)
