@@ -499,26 +499,24 @@ static void sum_tiles(const lt_image *gray, int gw, int gh, uint16_t *restrict t
     }
 }
 
-/* Adds a row of n tile sums (ts) and sums of squares (tq) to the column sums colsum and colsq
- * (sign 1), or subtracts it (sign -1). In blocks (add_three_rows). */
+/* Moves the column sums colsum and colsq down a row: adds a row of n tile sums and sums of
+ * squares (add_sum, add_sq) and subtracts another (drop_sum, drop_sq); a row of zeros stands for
+ * either beyond the page. In blocks (add_three_rows). */
 static void slide_columns(int64_t *restrict colsum, int64_t *restrict colsq,
-                          const uint16_t *restrict ts, const uint32_t *restrict tq, int n, int sign)
+                          const uint16_t *restrict add_sum, const uint32_t *restrict add_sq,
+                          const uint16_t *restrict drop_sum, const uint32_t *restrict drop_sq,
+                          int n)
 {
     int i = 0;
-    if (sign > 0)
-        for (; i + 8 <= n; i += 8)
-            for (int j = 0; j < 8; j++) {
-                colsum[i + j] += ts[i + j];
-                colsq[i + j] += tq[i + j];
-            }
-    else
-        for (; i + 8 <= n; i += 8)
-            for (int j = 0; j < 8; j++) {
-                colsum[i + j] -= ts[i + j];
-                colsq[i + j] -= tq[i + j];
-            }
-    for (; i < n; i++)
-        colsum[i] += sign * ts[i], colsq[i] += sign * (int64_t)tq[i];
+    for (; i + 8 <= n; i += 8)
+        for (int j = 0; j < 8; j++) {
+            colsum[i + j] += (int32_t)add_sum[i + j] - drop_sum[i + j];
+            colsq[i + j] += (int64_t)add_sq[i + j] - drop_sq[i + j];
+        }
+    for (; i < n; i++) {
+        colsum[i] += (int32_t)add_sum[i] - drop_sum[i];
+        colsq[i] += (int64_t)add_sq[i] - drop_sq[i];
+    }
 }
 
 /* The thresholds of a row of tile centres (thr, gw of them) spread along a row of w pixels:
@@ -617,6 +615,8 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     const size_t padded = (size_t)gw + 2 * (size_t)reach + 1;
     int64_t *colsum = calloc(padded, sizeof *colsum), *colsq = calloc(padded, sizeof *colsq);
     double *inv_cols = malloc((size_t)gw * sizeof *inv_cols);
+    uint16_t *zero_sum = calloc((size_t)gw, sizeof *zero_sum); /* a row of tiles beyond the page */
+    uint32_t *zero_sq = calloc((size_t)gw, sizeof *zero_sq);
     /* A row's window means and deviations; k / R' by the sum of the lightest
      * tile within a window's reach (paper_r), on pages with window paper. */
     double *mean = malloc((size_t)gw * sizeof *mean),
@@ -624,7 +624,7 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     double *k_over_paper = NULL;
     int rc = LT_ENOMEM;
     if (!tsum || !tsq || !thr || !spread[0] || !spread[1] || !ceiling[0] || !ceiling[1] ||
-        !colsum || !colsq || !inv_cols || !mean || !dev_row)
+        !colsum || !colsq || !inv_cols || !zero_sum || !zero_sq || !mean || !dev_row)
         goto done;
     for (int tx = 0; tx < gw; tx++) {
         const int left = (tx - reach) * TILE, right = (tx + reach + 1) * TILE;
@@ -676,15 +676,14 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
      * the image, from column sums that slide down the tile rows. */
     int64_t *const column_sum = colsum + reach + 1, *const column_sq = colsq + reach + 1;
     for (int ty = 0; ty < reach && ty < gh; ty++)
-        slide_columns(column_sum, column_sq, tsum + (size_t)ty * gw, tsq + (size_t)ty * gw, gw, 1);
+        slide_columns(column_sum, column_sq, tsum + (size_t)ty * gw, tsq + (size_t)ty * gw,
+                      zero_sum, zero_sq, gw);
     for (int ty = 0; ty < gh; ty++) {
         const int add = ty + reach, drop = ty - reach - 1;
-        if (add < gh)
-            slide_columns(column_sum, column_sq, tsum + (size_t)add * gw, tsq + (size_t)add * gw,
-                          gw, 1);
-        if (drop >= 0)
-            slide_columns(column_sum, column_sq, tsum + (size_t)drop * gw, tsq + (size_t)drop * gw,
-                          gw, -1);
+        slide_columns(column_sum, column_sq, add < gh ? tsum + (size_t)add * gw : zero_sum,
+                      add < gh ? tsq + (size_t)add * gw : zero_sq,
+                      drop >= 0 ? tsum + (size_t)drop * gw : zero_sum,
+                      drop >= 0 ? tsq + (size_t)drop * gw : zero_sq, gw);
         const int top = (ty - reach) * TILE, bottom = (ty + reach + 1) * TILE;
         const double inv_rows = 1.0 / ((bottom < h ? bottom : h) - (top > 0 ? top : 0));
         int64_t sum = 0, sumsq = 0; /* signed: converts to double in one instruction */
@@ -740,8 +739,9 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
      * constant beyond the outermost centres), into an image allocated only now that the tile
      * and window sums are gone, which lowers the peak memory of the stage. */
     free(tsum), free(tsq), free(colsum), free(colsq), free(inv_cols), free(mean), free(dev_row);
+    free(zero_sum), free(zero_sq);
     tsum = NULL, tsq = NULL, colsum = NULL, colsq = NULL, inv_cols = NULL, mean = NULL;
-    dev_row = NULL;
+    dev_row = NULL, zero_sum = NULL, zero_sq = NULL;
     if (!(out = lt_image_alloc(w, h, LT_IMAGE_INK, 0))) goto done; /* every pixel written */
     out->dpi = gray->dpi;
     int spread_row[2] = {-1, -1}; /* the tile row whose thresholds spread[i] holds */
@@ -804,6 +804,8 @@ done:
     free(inv_cols);
     free(mean);
     free(dev_row);
+    free(zero_sum);
+    free(zero_sq);
     free(k_over_paper);
     return rc;
 }
