@@ -27,16 +27,20 @@ enum { FINE_TILE_PX = 8, COARSE_TILE_PX = 64 };
 static const double COARSE_STEP_DEG = 0.25;
 static const double REFINE_SPAN_DEG[2] = {0.3, 0.04}, REFINE_STEP_DEG[2] = {0.05, 0.02};
 static const double GAP_EVIDENCE = 0.25;
+/* Bins, at least, between neighbouring cells of a row at an angle from which a projection adds
+ * each cell to the profile at once (project): the bin changes at nearly every cell there, and
+ * summing the cells of one bin first only adds a branch that is hard to predict. */
+static const double DIRECT_STEP_BINS = 0.5;
 
 /* The non-empty tiles of a grid, row by row: a cell's position is its column's centre x and
  * its row's centre y, relative to the grid centre in full-resolution pixels, so that a
  * projection multiplies once per column and once per row. */
 typedef struct cells {
-    int count, columns, rows;
-    uint16_t *column, *weight; /* of each cell: its grid column and ink count */
-    float *column_x, *row_y;   /* centres of the grid's columns and of its rows */
-    int *row_end;              /* cells of row r: [row_end[r - 1], row_end[r]) */
-    float *scratch;            /* one entry per column */
+    int count, columns, rows, tile_w; /* tile_w: the grid's, px */
+    uint16_t *column, *weight;        /* of each cell: its grid column and ink count */
+    float *column_x, *row_y;          /* centres of the grid's columns and of its rows */
+    int *row_end;                     /* cells of row r: [row_end[r - 1], row_end[r]) */
+    float *scratch;                   /* one entry per column */
 } cells;
 
 /* Ink counts of the tiles of an image, tile_w by tile_h px. */
@@ -104,7 +108,7 @@ static int cells_from_grid(const grid *g, cells *out)
     const size_t total = (size_t)g->width * g->height;
     for (size_t i = 0; i < total; i++)
         n += g->count[i] != 0;
-    *out = (cells){0, g->width, g->height, NULL, NULL, NULL, NULL, NULL, NULL};
+    *out = (cells){0, g->width, g->height, g->tile_w, NULL, NULL, NULL, NULL, NULL, NULL};
     out->column = malloc((n + 1) * sizeof *out->column); /* + 1: written past the last cell */
     out->weight = malloc((n + 1) * sizeof *out->weight);
     out->column_x = malloc((size_t)g->width * sizeof *out->column_x);
@@ -157,9 +161,10 @@ static void project(const cells *c, double angle_deg, double bin_px, int32_t *pr
     const float s = (float)(256.0 * sin(a) / bin_px), co = (float)(256.0 * cos(a) / bin_px);
     const float offset = (float)(256 * (nbins / 2));
     /* Each cell is shared linearly between its two nearest bins, so that the criterion varies
-     * smoothly with the angle instead of in steps of one bin. The cells come row by row, and
-     * along a row the bin changes only every few cells: the shares are summed in registers
-     * while it stays, and added to the profile when it moves on. */
+     * smoothly with the angle instead of in steps of one bin. The cells come row by row; where
+     * the bin changes at nearly every cell along a row (DIRECT_STEP_BINS), each cell is added to
+     * the profile at once; elsewhere the shares are summed in registers while the bin stays,
+     * and added to the profile when it moves on. */
     float *const x_s = c->scratch; /* each column's x times s */
     for (int x = 0; x < c->columns; x++)
         x_s[x] = c->column_x[x] * s;
@@ -168,6 +173,22 @@ static void project(const cells *c, double angle_deg, double bin_px, int32_t *pr
         first_row++;
     int32_t bin = (int32_t)(x_s[c->column[0]] + c->row_y[first_row] * co + offset) >> 8;
     int32_t low = 0, high = 0, bmin = bin, bmax = bin;
+    if (fabsf(s) * c->tile_w >= DIRECT_STEP_BINS * 256) {
+        for (int y = first_row, i = 0; y < c->rows; y++) {
+            const float y_co = c->row_y[y] * co;
+            for (const int end = c->row_end[y]; i < end; i++) {
+                const int32_t pos = (int32_t)(x_s[c->column[i]] + y_co + offset);
+                const int32_t b = pos >> 8, frac = pos & 255;
+                profile[b] += c->weight[i] * (256 - frac);
+                profile[b + 1] += c->weight[i] * frac;
+                bmin = b < bmin ? b : bmin;
+                bmax = b > bmax ? b : bmax;
+            }
+        }
+        *lo = bmin;
+        *hi = bmax + 1;
+        return;
+    }
     for (int y = first_row, i = 0; y < c->rows; y++) {
         const float y_co = c->row_y[y] * co;
         for (const int end = c->row_end[y]; i < end; i++) {
