@@ -40,6 +40,18 @@ static const double TABLE_FLUSH_SPREAD = 0.5;
  * narrower than a column of text (COLUMN_MIN_WIDTH), at least, that make them the cells of a
  * table however their ends line up (short words in columns of one width end flush). */
 static const double TABLE_MIN_CELLS = 0.5;
+/* A side of a cut that is running text is no column of cells: its lines are at least a column
+ * wide (COLUMN_MIN_WIDTH) at the median and RUNNING_MIN_SHARE of those that end a row end
+ * within RUNNING_WORD text heights (a long word) of the side's farthest end, being broken
+ * where the next word did not fit (ragged prose in narrow columns); or RUNNING_MIN_RUN_OVERS
+ * of its lines are run-overs: indented by RUN_OVER_INDENT text heights at least from the
+ * side's edge, below a line that starts at the edge and ends within a word of the farthest
+ * end (the entries of an index, a bibliography). The cells of a table end where their text
+ * does and are not run on indented. */
+static const double RUNNING_MIN_SHARE = 0.75;
+static const double RUNNING_WORD = 6.0;
+static const double RUNNING_MIN_RUN_OVERS = 0.1;
+static const double RUN_OVER_INDENT = 0.5;
 /* Lines next to a band of white across a node: ending or starting this close to it, in text
  * heights (the lines right above and below it, and where one column breaks a little earlier
  * or later than the other, as the groups of an index do, its line there). */
@@ -175,6 +187,8 @@ typedef struct cut_context {
     double flush_spread;       /* px: line ends this close end flush */
     span *spans, *near;        /* scratch room for all lines, twice */
     double row_gap_reach;      /* px: lines this close to a band of white stand next to it */
+    double running_word;       /* px: see RUNNING_WORD */
+    double run_over_indent;    /* px: see RUN_OVER_INDENT */
 } cut_context;
 
 /* A rule that separates the lines idx[0..n) of a node with box `nb`: it runs along at least
@@ -473,6 +487,51 @@ static double largest_cluster(int *v, int n, double width)
     return (double)best / n;
 }
 
+/* Whether the lines idx[0..n) of a node on side `side` of a cut at `at` (0: left of it) are
+ * running text (RUNNING_MIN_SHARE, RUN_OVER_INDENT): ends[0..nends) are the ends of those of
+ * them that end a row; widths[] is room for n values. */
+static int running_text(const cut_context *x, const int *idx, int n, int at, int side,
+                        const int *ends, int nends, double *widths)
+{
+    /* the side's edge where its lines start and its farthest end (mirrored right to left) */
+    int edge = x->rtl ? -(1 << 30) : 1 << 30, reach = x->rtl ? 1 << 30 : -(1 << 30), m = 0;
+    for (int i = 0; i < n; i++) {
+        if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
+        const lt_box *a = &x->lines[idx[i]].box;
+        if ((a->left >= at) != side) continue;
+        widths[m++] = lt_box_width(a);
+        edge = x->rtl ? (a->right > edge ? a->right : edge) : (a->left < edge ? a->left : edge);
+        reach =
+            x->rtl ? (a->left < reach ? a->left : reach) : (a->right > reach ? a->right : reach);
+    }
+    if (m == 0) return 0;
+    int near_end = 0;
+    for (int k = 0; k < nends; k++)
+        near_end += abs(reach - ends[k]) <= x->running_word;
+    if (lt_median(widths, m) >= x->column_min_width && near_end >= RUNNING_MIN_SHARE * nends)
+        return 1;
+    int run_overs = 0;
+    for (int i = 0; i < n; i++) {
+        if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
+        const lt_box *a = &x->lines[idx[i]].box;
+        if ((a->left >= at) != side ||
+            abs((x->rtl ? a->right : a->left) - edge) < x->run_over_indent)
+            continue;
+        const lt_box *above = NULL; /* the nearest line above it on its side */
+        for (int j = 0; j < n; j++) {
+            if (idx[j] >= x->nreal || is_piece(x, idx[j])) continue;
+            const lt_box *b = &x->lines[idx[j]].box;
+            if ((b->left >= at) == side && b->top + b->bottom <= 2 * a->top &&
+                (!above || b->bottom > above->bottom))
+                above = b;
+        }
+        run_overs += above &&
+                     abs((x->rtl ? above->right : above->left) - edge) < x->run_over_indent &&
+                     abs(reach - (x->rtl ? above->left : above->right)) <= x->running_word;
+    }
+    return run_overs >= RUNNING_MIN_RUN_OVERS * m;
+}
+
 /* Whether the lines idx[0..n) of a node, cut across at `at` (lines starting there or beyond
  * on the right), are the rows of a table: each side holds TABLE_MIN_LINES lines at least,
  * nearly all of which (TABLE_MIN_PAIRED) stand in the row of a line across the cut, and both
@@ -530,8 +589,19 @@ static int table_rows(const cut_context *x, const int *idx, int n, int at)
         ragged &= largest_cluster(side_ends, nends[side], x->end_spread) < TABLE_MAX_TOGETHER &&
                   largest_cluster(side_ends, nends[side], x->flush_spread) <= TABLE_MAX_FLUSH;
     }
-    const int table = paired_rows && (ragged || (cells[0] >= TABLE_MIN_CELLS * facing[0] &&
-                                                 cells[1] >= TABLE_MIN_CELLS * facing[1]));
+    int table = paired_rows && (ragged || (cells[0] >= TABLE_MIN_CELLS * facing[0] &&
+                                           cells[1] >= TABLE_MIN_CELLS * facing[1]));
+    if (table) { /* ... unless a side is running text */
+        double *widths = malloc(((size_t)n + 1) * sizeof *widths);
+        if (!widths) {
+            free(ends);
+            return -1;
+        }
+        for (int side = 0; side < 2 && table; side++)
+            table = !running_text(x, idx, n, at, side, side == 0 ? ends : ends + n - nends[1],
+                                  nends[side], widths);
+        free(widths);
+    }
     free(ends);
     return table;
 }
@@ -774,7 +844,9 @@ int lt_xy_cut(const lt_raw_lines *lines, const lt_components *c, const lt_separa
                            TABLE_FLUSH_SPREAD * th,
                            spans,
                            spans + n,
-                           ROW_GAP_REACH * th};
+                           ROW_GAP_REACH * th,
+                           RUNNING_WORD * th,
+                           RUN_OVER_INDENT * th};
     *root = cut(&x, idx, n);
     free(idx);
     free(spans);

@@ -470,6 +470,55 @@ static void test_columns_on_one_grid(void)
     check_page(&p, 47, "two columns on one grid");
 }
 
+/* Running text is no column of cells (blocks.c running_text), each threshold tried on both
+ * sides, on two columns of 14 lines on one baseline grid, x 150..760 and 800..1410 (30 text
+ * heights wide), their ends ragged enough to pass for the cells of a table (6 of 14 within 2
+ * text heights of each other, 3 within half of one): prose broken where the next word did not
+ * fit, 11 of 14 lines ending within 6 text heights (120 px) of the column's farthest end, is
+ * read column by column; with 10 of 14 (under three quarters) it is a table. An index whose
+ * entries run over, indented by 30 px (1.5 text heights) below a line ending within a word
+ * of the farthest end: 2 run-overs of 14 lines (over a tenth) make columns, 1 a table. */
+static void test_running_text(void)
+{
+    static const int short_by[14] = {0, 95, 30, 70, 10, 85, 50, 20, 110, 60, 5, 80, 40, 90};
+    static const int run_over_rows[2][14] = {{0, 0, 0, 1}, {0, 0, 0, 1, 0, 0, 0, 0, 1}};
+    for (int k = 0; k < 4; k++) {
+        const int prose = k < 2, columns = k % 2 == 1;
+        page p = {0};
+        for (int col = 0; col < 2; col++) {
+            const int left = col ? 800 : 150, right = col ? 1410 : 760;
+            for (int i = 0; i < 14; i++) {
+                int x0 = left, x1 = right - short_by[i];
+                if (prose && i >= 10 + columns) x1 = right - 200 - short_by[i];
+                if (!prose && i > 0 && run_over_rows[columns][i]) {
+                    x0 = left + 30; /* the entry above ran over */
+                    x1 = left + 200 + short_by[i];
+                } else if (!prose && i + 1 < 14 && run_over_rows[columns][i + 1]) {
+                    x1 = right - 20;
+                } else if (!prose) {
+                    x1 = left + 250 + 2 * short_by[i];
+                }
+                add_line(&p, x0, x1, 200 + i * PITCH);
+                if (!columns) p.block[p.n - 1] = 0;
+            }
+            p.nblocks += columns;
+        }
+        if (!columns) { /* a table: read row by row */
+            page rows = {0};
+            for (int i = 0; i < 14; i++)
+                for (int col = 0; col < 2; col++)
+                    rows.lines[rows.n++] = p.lines[col * 14 + i];
+            rows.nblocks = 1;
+            p = rows;
+        }
+        static const char *what[4] = {"prose, 10 of 14 lines near its end: a table",
+                                      "prose, 11 of 14 lines near its end: columns",
+                                      "an index, one run-over: a table",
+                                      "an index, two run-overs: columns"};
+        check_page(&p, 131 + k, what[k]);
+    }
+}
+
 /* Two columns of 12 rows whose first and third lines of the left column run across the
  * gutter (the right column leaves those rows blank, so no white runs down the page), with a
  * paragraph break side by side in both columns at row 6: the band of white across the page
@@ -664,6 +713,7 @@ int main(void)
     test_labels();
     test_key_value_table();
     test_table_of_cells();
+    test_running_text();
     test_columns_on_one_grid();
     test_band_between_columns();
     test_margin_notes();
