@@ -46,7 +46,7 @@ enum {
      * windows of dense heavy type on toned paper (black letter, about 110 to 135) stay above. */
     DARK_MEAN = 100,
     /* Pixels that ink_row decides at once where they are all paper. */
-    INK_BLOCK = 16,
+    INK_BLOCK = 32,
     /* Copies of the histogram of tile sums, counted in turn (sum_tiles). */
     HIST_COPIES = 4,
     /* Marks a tile that is not dark in the table of inverted thresholds. */
