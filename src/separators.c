@@ -363,15 +363,13 @@ static int bridge_gutters(const uint8_t *occ, int cols, int rows, const evidence
     return 0;
 }
 
-/* How far (cells) the text beside a gutter region reaches in cell row y, going `dir` (+1
- * right, -1 left) from the cell column `from` (the first outside the region): from the first
- * text within `skip` cells to the first white of `gap` cells after it, unless dots (marks or
+/* How far (cells) the text of a row of cells (cols wide) reaches going `dir` (+1 right, -1
+ * left) from the cell column `from` (the first outside a gutter region): from the first text
+ * within `skip` cells to the first white of `gap` cells after it, unless dots (marks or
  * specks) follow that white within `far` cells: a leader leads on to its entry. 0 for no
  * text. */
-static int reach_in_row(const uint8_t *occ, int cols, int y, int from, int dir, int skip, int gap,
-                        int far)
+static int reach_in_row(const uint8_t *row, int cols, int from, int dir, int skip, int gap, int far)
 {
-    const uint8_t *row = occ + (size_t)y * cols;
     int x = from;
     while (x >= 0 && x < cols && row[x] < 2 && dir * (x - from) < skip)
         x += dir;
@@ -396,27 +394,32 @@ static int reach_in_row(const uint8_t *occ, int cols, int y, int from, int dir, 
 }
 
 /* Whether the text on one side of a gutter region (box in cells) is a column of short items,
- * reaching less than `narrow` cells from it in most lines beside it (bands of rows with
- * text; a band reaches as far as its farthest row): page numbers set flush right after a
- * column of text, list labels, version numbers before their entries. */
+ * reaching less than `narrow` cells from it in most lines beside it: page numbers set flush
+ * right after a column of text, list labels, version numbers before their entries. A line is
+ * a band of rows with text within `skip` cells of the region; its reach is measured along
+ * the band's ink projected onto one row (`line_ink`, cols cells of room), so that white in
+ * some of its rows is bridged by ink in others: the rule of an underscore between two words,
+ * the accents and the dots of i's above a gap, a descender below it. A word's white between
+ * letters in the rows of a blurred page's broken stroke, or a speck of noise, then no longer
+ * decides. */
 static int narrow_side(const uint8_t *occ, int cols, const lt_box *cellbox, int dir, int skip,
-                       int gap, int far, int narrow)
+                       int gap, int far, int narrow, uint8_t *line_ink)
 {
-    int lines = 0, wide = 0, band = 0;
+    const int from = dir > 0 ? cellbox->right : cellbox->left - 1;
+    int lines = 0, wide = 0, band_top = -1;
     for (int y = cellbox->top; y <= cellbox->bottom; y++) {
-        const int r = y == cellbox->bottom
-                          ? 0
-                          : reach_in_row(occ, cols, y, dir > 0 ? cellbox->right : cellbox->left - 1,
-                                         dir, skip, gap, far);
-        if (r > 0) {
-            band = r > band ? r : band;
-            continue;
-        }
-        if (band > 0) {
-            lines++;
-            wide += band >= narrow;
-        }
-        band = 0;
+        const uint8_t *row = occ + (size_t)y * cols;
+        const int text = y < cellbox->bottom && reach_in_row(row, cols, from, dir, skip, gap, far);
+        if (text && band_top < 0) band_top = y;
+        if (text || band_top < 0) continue;
+        memcpy(line_ink, occ + (size_t)band_top * cols, (size_t)cols);
+        for (int k = band_top + 1; k < y; k++)
+            for (int x = 0; x < cols; x++)
+                if (line_ink[x] < occ[(size_t)k * cols + x])
+                    line_ink[x] = occ[(size_t)k * cols + x];
+        lines++;
+        wide += reach_in_row(line_ink, cols, from, dir, skip, gap, far) >= narrow;
+        band_top = -1;
     }
     return wide < NARROW_SHARE * lines;
 }
@@ -510,10 +513,11 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     s->cols = (int)(maxx / cell) + 1;
     s->rows = (int)(maxy / cell) + 1;
     const size_t ncell = (size_t)s->cols * s->rows;
-    uint8_t *occ = calloc(ncell, 1), *mask = calloc(ncell, 1);
-    if (!occ || !mask) {
+    uint8_t *occ = calloc(ncell, 1), *mask = calloc(ncell, 1), *line_ink = malloc(s->cols);
+    if (!occ || !mask || !line_ink) {
         free(occ);
         free(mask);
+        free(line_ink);
         goto nomem;
     }
     fill_occupancy(c, th, cell, s->cols, s->rows, occ);
@@ -540,8 +544,10 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                                  imin((int)floor(g->bottom / cell + 0.5), s->rows)};
         const int narrow = (int)ceil(NARROW_COLUMN * th / cell);
         const int gap = (int)ceil(NARROW_GAP * th / cell);
-        const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow),
-                  nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow);
+        const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow,
+                                   line_ink),
+                  nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,
+                                   line_ink);
         if (nl == nr) continue;
         /* the lines run on across it; the columns of text beside it stay columns */
         for (int y = in_cells.top; y < in_cells.bottom; y++)
@@ -555,6 +561,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     }
     free(occ);
     free(mask);
+    free(line_ink);
     if (rc) goto nomem;
     *out = s;
     return 0;
