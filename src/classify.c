@@ -22,6 +22,13 @@ static const double ROW_MATE_GAP = 1.5;
 static const double STROKE_MIN_LENGTH = 3.0;
 static const double STROKE_MAX_THICKNESS = 0.1;
 
+/* A component wider than lt_params.picture_min_height and taller than LETTERS_MIN_HEIGHT text
+ * heights is a picture, unless it stands in a row with a character of its own size (a row
+ * mate, see ROW_MATE_HEIGHT, itself no wider nor taller than a picture): letters of large
+ * type run together, as blur or a coarse JPEG joins them, beside the other letters of their
+ * heading or caption. */
+static const double LETTERS_MIN_HEIGHT = 2.0;
+
 /* Row mates examined per character at most (bounds the work on pages of noise). */
 static const int MAX_MATE_TESTS = 256;
 
@@ -149,12 +156,58 @@ double lt_text_height(const lt_components *c, double dpi)
     return mode;
 }
 
+typedef struct placed_top {
+    int top, index;
+} placed_top;
+
+static int cmp_placed_top(const void *a, const void *b)
+{
+    const placed_top *x = a, *y = b;
+    if (x->top != y->top) return (x->top > y->top) - (x->top < y->top);
+    return (x->index > y->index) - (x->index < y->index);
+}
+
+/* Whether component i of c, of height h, has a row mate (see row_mates) that is a character by
+ * its size alone: no wider and no taller than `picture`. `by_top` lists the n components
+ * sorted by their top: a mate's top lies within half the shorter height, at most h / 2, of
+ * i's. */
+static int has_letter_mate(const lt_components *c, const placed_top *by_top, int n, int i,
+                           double picture)
+{
+    const lt_box *a = &c->items[i].box;
+    const int h = lt_box_height(a);
+    int lo = 0, hi = n;
+    while (lo < hi) { /* the first top at or below a->top - h / 2 */
+        const int mid = lo + (hi - lo) / 2;
+        if (by_top[mid].top < a->top - h / 2)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    for (int k = lo, tests = 0; k < n && by_top[k].top <= a->top + h / 2 && tests < MAX_MATE_TESTS;
+         k++) {
+        const lt_box *b = &c->items[by_top[k].index].box;
+        if (by_top[k].index == i || lt_box_width(b) > picture || lt_box_height(b) > picture ||
+            lt_box_height(b) < (1 - ROW_MATE_HEIGHT) * h)
+            continue;
+        tests++;
+        if (row_mates(a, b)) return 1;
+    }
+    return 0;
+}
+
 void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p)
 {
     if (!c) return;
     const double th = text_height_px > 0 ? text_height_px : 20;
     const double speckle = fmax(1.0, p->speckle_max * th);
     const double long_rule = 3 * th, picture = p->picture_min_height * th;
+    placed_top *by_top = malloc(((size_t)c->count + 1) * sizeof *by_top);
+    if (by_top) {
+        for (int i = 0; i < c->count; i++)
+            by_top[i] = (placed_top){c->items[i].box.top, i};
+        qsort(by_top, (size_t)c->count, sizeof *by_top, cmp_placed_top);
+    }
     for (int i = 0; i < c->count; i++) {
         lt_component *k = &c->items[i];
         const double w = k->box.right - k->box.left, h = k->box.bottom - k->box.top;
@@ -163,7 +216,8 @@ void lt_classify_components(lt_components *c, double text_height_px, const lt_pa
         else if ((w >= long_rule && w >= p->rule_min_aspect * h) ||
                  (h >= long_rule && h >= p->rule_min_aspect * w))
             k->kind = LT_COMP_RULE;
-        else if (h > picture || (w > picture && h > 2 * th))
+        else if (h > picture || (w > picture && h > LETTERS_MIN_HEIGHT * th &&
+                                 !(by_top && has_letter_mate(c, by_top, c->count, i, picture))))
             k->kind = LT_COMP_PICTURE;
         else if (fmax(w, h) >= STROKE_MIN_LENGTH * th &&
                  k->pixels < STROKE_MAX_THICKNESS * th * fmax(w, h))
@@ -171,4 +225,5 @@ void lt_classify_components(lt_components *c, double text_height_px, const lt_pa
         else
             k->kind = LT_COMP_TEXT;
     }
+    free(by_top);
 }

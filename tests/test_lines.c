@@ -502,6 +502,50 @@ static void test_hairlines(void)
     }
 }
 
+/* Letters of large type run together: under a paragraph of body text (text height 20 px), a
+ * heading of letters 60 px tall (3 text heights), one of them two letters joined into one
+ * component 130 px wide (wider than lt_params' picture_min_height, 6 text heights, 120 px),
+ * the other beside it `gap` px away, `mate` px tall, on one baseline. The joined pair is text
+ * where the other letter is its row mate (classify.c: heights within ROW_MATE_HEIGHT 0.3 of
+ * the taller, 42 px and more; at most ROW_MATE_GAP 1.5 heights, 63 px for the 42 px letter
+ * and 90 px for a 60 px one, away), else a picture. Whole, the heading is one line. */
+static void test_joined_letters(void)
+{
+    const struct {
+        int gap, mate, text;
+    } cases[] = {{8, 60, 1}, {88, 60, 1}, {92, 60, 0}, {8, 43, 1},
+                 {8, 41, 0}, {62, 43, 1}, {65, 43, 0}};
+    for (int ci = 0; ci < 7; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "joined letters, a letter %d px tall %d px beside",
+                 cases[ci].mate, cases[ci].gap);
+        tu_rng r = {(uint64_t)(700 + ci)};
+        page *p = page_new(1700, 900);
+        const int y = draw_paragraph(p, &r, 150, 1550, 150, 8) + 3 * PITCH;
+        const int l = p->nlines++;
+        p->line_box[l] = tu_box(0, 0, 0, 0);
+        p->baseline[l] = y;
+        p->ncomp[l] = 0;
+        const lt_box pair = tu_box(300, y - 60, 430, y);
+        draw_glyph(p, l, pair, 0);
+        draw_glyph(p, l, tu_box(430 + cases[ci].gap, y - cases[ci].mate, 470 + cases[ci].gap, y),
+                   0);
+        result res = run_stages(p, what);
+        int kind = -1;
+        for (int i = 0; res.comps && i < res.comps->count; i++)
+            if (res.comps->items[i].box.left == pair.left &&
+                res.comps->items[i].box.top == pair.top)
+                kind = res.comps->items[i].kind;
+        CHECK_INT(kind, cases[ci].text ? LT_COMP_TEXT : LT_COMP_PICTURE, "%s: kind", what);
+        int whole = 0; /* lines that are the heading, both letters */
+        for (int i = 0; cases[ci].text && res.lines && i < res.lines->count; i++)
+            whole += memcmp(&res.lines->items[i].box, &p->line_box[l], sizeof(lt_box)) == 0;
+        if (ci == 0) CHECK_INT(whole, 1, "%s: the heading as one line", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Typewritten rows: every letter a box 12 px wide and a text height tall, `letter_gap` px
  * apart, a word space `space` px; after the tenth letter of every row the same white,
  * `gutter` px wide, so that it runs straight through all twelve rows and the separators take
@@ -622,6 +666,7 @@ int main(void)
     test_scan_border();
     test_stretched_line();
     test_hairlines();
+    test_joined_letters();
     test_typewritten();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
