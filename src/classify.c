@@ -29,6 +29,16 @@ static const double STROKE_MAX_THICKNESS = 0.1;
  * heading or caption. */
 static const double LETTERS_MIN_HEIGHT = 2.0;
 
+/* A vertical rule that noise or a threshold broke into pieces: text-sized components no wider
+ * than RULE_PIECE_WIDTH text heights (a stroke one or two pixels wide at 300 dpi; a bracket
+ * with its serifs is twice as wide) and at least twice as tall as wide, each under the one
+ * before within RULE_PIECE_GAP text heights and sharing columns with it, form a rule when
+ * the chain is as long and as thin as a whole one would be (lt_classify_components). The
+ * brackets of consecutive lines of tightly set type stand as close one under the other: their
+ * width, not the gap, keeps them letters. */
+static const double RULE_PIECE_WIDTH = 0.15;
+static const double RULE_PIECE_GAP = 0.25;
+
 /* Row mates examined per character at most (bounds the work on pages of noise). */
 static const int MAX_MATE_TESTS = 256;
 
@@ -167,6 +177,20 @@ static int cmp_placed_top(const void *a, const void *b)
     return (x->index > y->index) - (x->index < y->index);
 }
 
+/* The first index of by_top (n components sorted by their top) whose top is at least y. */
+static int first_from(const placed_top *by_top, int n, int y)
+{
+    int lo = 0, hi = n;
+    while (lo < hi) {
+        const int mid = lo + (hi - lo) / 2;
+        if (by_top[mid].top < y)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
 /* Whether component i of c, of height h, has a row mate (see row_mates) that is a character by
  * its size alone: no wider and no taller than `picture`. `by_top` lists the n components
  * sorted by their top: a mate's top lies within half the shorter height, at most h / 2, of
@@ -176,16 +200,8 @@ static int has_letter_mate(const lt_components *c, const placed_top *by_top, int
 {
     const lt_box *a = &c->items[i].box;
     const int h = lt_box_height(a);
-    int lo = 0, hi = n;
-    while (lo < hi) { /* the first top at or below a->top - h / 2 */
-        const int mid = lo + (hi - lo) / 2;
-        if (by_top[mid].top < a->top - h / 2)
-            lo = mid + 1;
-        else
-            hi = mid;
-    }
-    for (int k = lo, tests = 0; k < n && by_top[k].top <= a->top + h / 2 && tests < MAX_MATE_TESTS;
-         k++) {
+    for (int k = first_from(by_top, n, a->top - h / 2), tests = 0;
+         k < n && by_top[k].top <= a->top + h / 2 && tests < MAX_MATE_TESTS; k++) {
         const lt_box *b = &c->items[by_top[k].index].box;
         if (by_top[k].index == i || lt_box_width(b) > picture || lt_box_height(b) > picture ||
             lt_box_height(b) < (1 - ROW_MATE_HEIGHT) * h)
@@ -194,6 +210,70 @@ static int has_letter_mate(const lt_components *c, const placed_top *by_top, int
         if (row_mates(a, b)) return 1;
     }
     return 0;
+}
+
+/* Whether component k may be a piece of a broken vertical rule (see RULE_PIECE_WIDTH). */
+static int rule_piece(const lt_component *k, double max_width)
+{
+    const int w = lt_box_width(&k->box), h = lt_box_height(&k->box);
+    return k->kind == LT_COMP_TEXT && w <= max_width && h >= 2 * w;
+}
+
+/* Makes rules of the chains of thin text pieces of c (see RULE_PIECE_WIDTH) that are together
+ * at least `long_rule` px tall and `min_aspect` times as tall as wide. `by_top` lists the
+ * components sorted by their top. Leaves c as it is when out of memory. */
+static void join_rule_pieces(lt_components *c, const placed_top *by_top, double th,
+                             double long_rule, double min_aspect)
+{
+    const int n = c->count;
+    int *parent = malloc(((size_t)n + 1) * sizeof *parent);
+    lt_box *chain = malloc(((size_t)n + 1) * sizeof *chain);
+    uint8_t *linked = calloc((size_t)n + 1, 1); /* a piece with another under or over it */
+    if (!parent || !chain || !linked) {
+        free(parent);
+        free(chain);
+        free(linked);
+        return;
+    }
+    const double max_width = RULE_PIECE_WIDTH * th, max_gap = RULE_PIECE_GAP * th;
+    int npieces = 0;
+    for (int i = 0; i < n; i++) {
+        parent[i] = i;
+        npieces += rule_piece(&c->items[i], max_width);
+    }
+    /* each piece to the pieces below it, within the gap */
+    for (int i = 0; npieces > 1 && i < n; i++) {
+        const lt_box *a = &c->items[i].box;
+        if (!rule_piece(&c->items[i], max_width)) continue;
+        for (int j = first_from(by_top, n, a->bottom);
+             j < n && by_top[j].top <= a->bottom + max_gap; j++) {
+            const int m = by_top[j].index;
+            const lt_box *b = &c->items[m].box;
+            if (!rule_piece(&c->items[m], max_width) || b->left >= a->right || b->right <= a->left)
+                continue;
+            lt_uf_unite(parent, i, m);
+            linked[i] = linked[m] = 1;
+        }
+    }
+    for (int i = 0; i < n; i++)
+        if (lt_uf_find(parent, i) == i) chain[i] = c->items[i].box;
+    for (int i = 0; i < n; i++) {
+        lt_box *h = &chain[lt_uf_find(parent, i)];
+        const lt_box *b = &c->items[i].box;
+        if (b->left < h->left) h->left = b->left;
+        if (b->top < h->top) h->top = b->top;
+        if (b->right > h->right) h->right = b->right;
+        if (b->bottom > h->bottom) h->bottom = b->bottom;
+    }
+    for (int i = 0; i < n; i++) {
+        const lt_box *h = &chain[lt_uf_find(parent, i)];
+        if (linked[i] && lt_box_height(h) >= long_rule &&
+            lt_box_height(h) >= min_aspect * lt_box_width(h))
+            c->items[i].kind = LT_COMP_RULE;
+    }
+    free(parent);
+    free(chain);
+    free(linked);
 }
 
 void lt_classify_components(lt_components *c, double text_height_px, const lt_params *p)
@@ -225,5 +305,6 @@ void lt_classify_components(lt_components *c, double text_height_px, const lt_pa
         else
             k->kind = LT_COMP_TEXT;
     }
+    if (by_top) join_rule_pieces(c, by_top, th, long_rule, p->rule_min_aspect);
     free(by_top);
 }

@@ -546,6 +546,48 @@ static void test_joined_letters(void)
     }
 }
 
+/* A vertical rule broken into pieces: beside a paragraph (text height 20 px), `pieces` strokes
+ * `width` px wide and 15 px tall, one under the next `gap` px apart. They form a rule and no
+ * line (classify.c: thinner than RULE_PIECE_WIDTH 0.15 text heights, 3 px; at most
+ * RULE_PIECE_GAP 0.25, 5 px, apart; together at least 3 text heights, 60 px, tall: four
+ * pieces 4 px apart are 72 px, three 53 px), else each piece is text, a line of its own. */
+static void test_broken_rule(void)
+{
+    const struct {
+        int pieces, width, gap, rule;
+    } cases[] = {{6, 3, 5, 1}, {6, 4, 5, 0}, {6, 3, 6, 0}, {4, 2, 4, 1}, {3, 2, 4, 0}};
+    for (int ci = 0; ci < 5; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "%d rule pieces %d px wide %d px apart", cases[ci].pieces,
+                 cases[ci].width, cases[ci].gap);
+        tu_rng r = {(uint64_t)(800 + ci)};
+        page *p = page_new(1700, 700);
+        draw_paragraph(p, &r, 150, 1300, 150, 8);
+        for (int k = 0; k < cases[ci].pieces; k++) {
+            const lt_box b = tu_box(1500, 150 + k * (15 + cases[ci].gap), 1500 + cases[ci].width,
+                                    165 + k * (15 + cases[ci].gap));
+            tu_fill_box(p->img, b, 1);
+            if (cases[ci].rule) continue;
+            const int l = p->nlines++;
+            p->line_box[l] = b;
+            p->baseline[l] = b.bottom;
+            p->ncomp[l] = 1;
+        }
+        result res = run_stages(p, what);
+        int rules = 0;
+        for (int i = 0; res.comps && i < res.comps->count; i++)
+            rules += res.comps->items[i].kind == LT_COMP_RULE &&
+                     res.comps->items[i].box.left == 1500;
+        CHECK_INT(rules, cases[ci].rule ? cases[ci].pieces : 0, "%s: rule pieces", what);
+        int slivers = 0;
+        for (int i = 0; res.lines && i < res.lines->count; i++)
+            slivers += res.lines->items[i].box.left == 1500;
+        CHECK_INT(slivers, cases[ci].rule ? 0 : cases[ci].pieces, "%s: lines", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Typewritten rows: every letter a box 12 px wide and a text height tall, `letter_gap` px
  * apart, a word space `space` px; after the tenth letter of every row the same white,
  * `gutter` px wide, so that it runs straight through all twelve rows and the separators take
@@ -667,6 +709,7 @@ int main(void)
     test_stretched_line();
     test_hairlines();
     test_joined_letters();
+    test_broken_rule();
     test_typewritten();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
