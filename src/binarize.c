@@ -62,6 +62,15 @@ enum {
      * 75 to 100; measured 68 to 71 on negatives of corpus pages), painted shades in a picture
      * do not (15 to 16 in the miniatures of the real scans). */
     DARK_MIN_DEVIATION = 40,
+    /* Longest run of light tiles along a row or a column that a dark ground closes around
+     * (extend_dark_ground), in windows' reaches divided by this: half a reach (12 px at 300
+     * dpi), the strokes of light text up to bold type of about 20 pt; a picture's light bars a
+     * third of a window thick (26 px) are not strokes. */
+    GROUND_GAP_REACH_DIVISOR = 2,
+    /* Farthest a dark ground is followed from the tiles whose window is dark, in 4-connected
+     * steps of tiles, in windows' reaches: a window's mean stays light within about a reach
+     * of a ground's edge, and the ground between letters winds around them. */
+    GROUND_STEPS_REACHES = 2,
 };
 /* Share of the page's whole tiles whose mean lies at most at its white point: the paper's
  * gray, with room for a tenth of the tiles on lighter specks, margins or tinted parts' edges;
@@ -388,10 +397,11 @@ static inline void push_dark(const uint16_t *light_from, uint8_t *seen, uint8_t 
  * DARK_MIN_DEVIATION on average, and that stay clear of the page's edge or cover half the page
  * or more (a page printed in negative): a dark region along the edge is the scanner's ground
  * or a shadow. Each region is walked twice: to measure it, then to keep or drop it. Sets
- * dark_rows[ty] to 1 for the tile rows that keep a dark tile; returns how many tiles are kept,
- * or -1 when out of memory. */
-static long keep_framed_dark(uint16_t *light_from, const uint8_t *dev, int gw, int gh,
-                             int window_tiles, uint8_t *dark_rows)
+ * dark_rows[ty] to 1 for the tile rows that keep a dark tile, and dev[i] of each dark tile to 1
+ * where its region is kept and at least a window tall (a ground that extend_dark_ground
+ * follows to its edge), 0 elsewhere; returns how many tiles are kept, or -1 when out of memory. */
+static long keep_framed_dark(uint16_t *light_from, uint8_t *dev, int gw, int gh, int window_tiles,
+                             uint8_t *dark_rows)
 {
     const size_t tiles = (size_t)gw * gh;
     uint8_t *seen = calloc(tiles, 1); /* 1: measured, 2: decided */
@@ -424,6 +434,7 @@ static long keep_framed_dark(uint16_t *light_from, const uint8_t *dev, int gw, i
                          right - left + 1 >= DARK_MIN_WIDTH_WINDOWS * window_tiles &&
                          2 * (down - up + 1) >= window_tiles;
         kept += keep ? (long)n : 0;
+        const uint8_t ground = keep && down - up + 1 >= window_tiles;
         push_dark(light_from, seen, 2, stack, &top, start);
         while (top) {
             const size_t i = stack[--top];
@@ -432,6 +443,7 @@ static long keep_framed_dark(uint16_t *light_from, const uint8_t *dev, int gw, i
             if (tx + 1 < gw) push_dark(light_from, seen, 2, stack, &top, i + 1);
             if (ty > 0) push_dark(light_from, seen, 2, stack, &top, i - gw);
             if (ty + 1 < gh) push_dark(light_from, seen, 2, stack, &top, i + gw);
+            dev[i] = ground; /* measured */
             if (keep)
                 dark_rows[ty] = 1;
             else
@@ -442,6 +454,152 @@ done:
     free(seen);
     free(stack);
     return kept;
+}
+
+/* Marks of the dark tiles in extend_dark_ground (undefined on tiles that are not dark). */
+enum { OFF_GROUND, ON_GROUND, FOLLOWED, STROKE };
+
+/* Whether the tile i lies on a ground that extend_dark_ground follows, or may follow. */
+static inline int on_ground(const uint16_t *light_from, const uint8_t *ground, size_t i)
+{
+    return light_from[i] != NOT_DARK && ground[i] != OFF_GROUND;
+}
+
+/* Appends the tile j to the queue (growing it); returns 0 or -1 when out of memory. */
+static int enqueue(uint32_t **queue, size_t *len, size_t *cap, size_t j)
+{
+    if (*len == *cap) {
+        const size_t more = *cap ? 2 * *cap : 4096;
+        uint32_t *grown = realloc(*queue, more * sizeof *grown);
+        if (!grown) return -1;
+        *queue = grown, *cap = more;
+    }
+    (*queue)[(*len)++] = (uint32_t)j;
+    return 0;
+}
+
+/* Closes the runs of at most `gap` tiles off the ground between two ground tiles, along each
+ * row of the gw x gh tiles (across = 1) or each column (across = 0, the rows read in order, the
+ * last ground tile of each column in last_ground, gw entries), reading only the tile rows
+ * marked in dark_rows (the others hold no ground): they join the ground with the threshold of
+ * the ground tile before them, and their tile rows are marked; those that were not dark are
+ * marked STROKE and queued. Returns 0, or -1 when out of memory. */
+static int close_gaps(uint16_t *light_from, uint8_t *ground, int gw, int gh, int gap, int across,
+                      int *last_ground, uint8_t *dark_rows, uint32_t **queue, size_t *len,
+                      size_t *cap)
+{
+    for (int tx = 0; tx < gw; tx++)
+        last_ground[tx] = -1;
+    for (int ty = 0; ty < gh; ty++) {
+        if (!dark_rows[ty]) continue;
+        int last = -1; /* along the row */
+        for (int tx = 0; tx < gw; tx++) {
+            const size_t at = (size_t)ty * gw + tx;
+            if (!on_ground(light_from, ground, at)) continue;
+            const int before = across ? last : last_ground[tx], here = across ? tx : ty;
+            const size_t stride = across ? 1 : (size_t)gw;
+            if (before >= 0 && here - before > 1 && here - before - 1 <= gap) {
+                const size_t from = at - (size_t)(here - before) * stride;
+                for (size_t t = from + stride; t < at; t += stride) {
+                    const int light = light_from[t] == NOT_DARK;
+                    light_from[t] = light_from[from];
+                    ground[t] = light ? STROKE : ON_GROUND;
+                    dark_rows[t / gw] = 1;
+                    if (light && enqueue(queue, len, cap, t)) return -1;
+                }
+            }
+            last = tx, last_ground[tx] = ty;
+        }
+    }
+    return 0;
+}
+
+/* A window whose mean is light stands within about a reach of a dark ground's edge, and its
+ * tiles were read as dark print on paper: light text near a band's edge lost the part that
+ * stands there. Extends the grounds (the dark tiles, light_from != NOT_DARK, gw x gh of them,
+ * marked ON_GROUND in `ground`) to their own edge where light strokes stand near it: through
+ * dark whole tiles (sum tsum under DARK_MEAN per pixel, the first whole_x x whole_y tiles) at
+ * most GROUND_STEPS_REACHES reaches away in 4-connected steps, each with the threshold of the
+ * tile it was reached from; across the light strokes on them, runs of tiles along a row, then
+ * along a column, between two ground tiles at most a reach / GROUND_GAP_REACH_DIVISOR apart; and
+ * keeps of the tiles followed those within a reach of such a stroke: elsewhere the ground's edge
+ * stays as its windows read it, dark, which holds a picture's pieces together. Paper beside a
+ * ground is no such run, and a dark mark or a picture that was not kept is not followed. Marks
+ * the rows of the tiles it adds in dark_rows; returns how many it adds, or -1 when out of
+ * memory. */
+static long extend_dark_ground(uint16_t *light_from, uint8_t *ground, const uint16_t *tsum, int gw,
+                               int gh, int whole_x, int whole_y, int reach, uint8_t *dark_rows)
+{
+    uint32_t *queue = NULL; /* the ground's edge, the tiles followed, the strokes */
+    size_t len = 0, cap = 0;
+    int *last_ground = malloc((size_t)gw * sizeof *last_ground);
+    long added = -1;
+    if (!last_ground) goto done;
+    for (int ty = 0; ty < gh; ty++) {
+        if (!dark_rows[ty]) continue;
+        for (int tx = 0; tx < gw; tx++) { /* the edge: a tile inside has no tile to follow */
+            const size_t i = (size_t)ty * gw + tx;
+            if (on_ground(light_from, ground, i) &&
+                ((tx > 0 && light_from[i - 1] == NOT_DARK) ||
+                 (tx + 1 < gw && light_from[i + 1] == NOT_DARK) ||
+                 (ty > 0 && light_from[i - gw] == NOT_DARK) ||
+                 (ty + 1 < gh && light_from[i + gw] == NOT_DARK)) &&
+                enqueue(&queue, &len, &cap, i))
+                goto done;
+        }
+    }
+    const size_t first_followed = len;
+    size_t head = 0;
+    for (int step = 0; step < GROUND_STEPS_REACHES * reach && head < len; step++) {
+        const size_t reached = len;
+        for (; head < reached; head++) {
+            const size_t i = queue[head];
+            const int tx = (int)(i % gw), ty = (int)(i / gw);
+            if (tx >= whole_x || ty >= whole_y) continue;
+            const size_t next[4] = {i - 1, i + 1, i - gw, i + gw};
+            const int inside[4] = {tx > 0, tx + 1 < whole_x, ty > 0, ty + 1 < whole_y};
+            for (int n = 0; n < 4; n++) {
+                const size_t j = next[n];
+                if (!inside[n] || light_from[j] != NOT_DARK || tsum[j] >= DARK_MEAN * TILE * TILE)
+                    continue;
+                light_from[j] = light_from[i];
+                ground[j] = FOLLOWED;
+                dark_rows[j / gw] = 1;
+                if (enqueue(&queue, &len, &cap, j)) goto done;
+            }
+        }
+    }
+    const size_t first_stroke = len;
+    const int gap = reach / GROUND_GAP_REACH_DIVISOR;
+    if (close_gaps(light_from, ground, gw, gh, gap, 1, last_ground, dark_rows, &queue, &len,
+                   &cap) ||
+        close_gaps(light_from, ground, gw, gh, gap, 0, last_ground, dark_rows, &queue, &len, &cap))
+        goto done;
+    added = (long)(len - first_stroke);
+    /* The tiles followed within a reach of a stroke, step by step from the strokes. */
+    head = first_stroke;
+    for (int step = 0; step < reach && head < len; step++) {
+        const size_t reached = len;
+        for (; head < reached; head++) {
+            const size_t i = queue[head];
+            const int tx = (int)(i % gw), ty = (int)(i / gw);
+            const size_t next[4] = {i - 1, i + 1, i - gw, i + gw};
+            const int inside[4] = {tx > 0, tx + 1 < gw, ty > 0, ty + 1 < gh};
+            for (int n = 0; n < 4; n++) {
+                const size_t j = next[n];
+                if (!inside[n] || light_from[j] == NOT_DARK || ground[j] != FOLLOWED) continue;
+                ground[j] = ON_GROUND;
+                added++;
+                if (enqueue(&queue, &len, &cap, j)) goto done;
+            }
+        }
+    }
+    for (size_t q = first_followed; q < first_stroke; q++)
+        if (ground[queue[q]] == FOLLOWED) light_from[queue[q]] = NOT_DARK, ground[queue[q]] = 0;
+done:
+    free(queue);
+    free(last_ground);
+    return added;
 }
 
 /* Sums over three rows a, b and c of the gray levels (sum, < 2^16) and of their squares (sq)
@@ -735,6 +893,12 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     if (light_from &&
         (dark_kept = keep_framed_dark(light_from, dev, gw, gh, 2 * reach + 1, dark_rows)) < 0)
         goto done;
+    if (dark_kept > 0) {
+        const long added =
+            extend_dark_ground(light_from, dev, tsum, gw, gh, w / TILE, h / TILE, reach, dark_rows);
+        if (added < 0) goto done;
+        dark_kept += added;
+    }
     /* 3. Every pixel against the threshold interpolated from the tile centres around it (held
      * constant beyond the outermost centres), into an image allocated only now that the tile
      * and window sums are gone, which lowers the peak memory of the stage. */

@@ -4,7 +4,7 @@
  * lt_binarize_sampled against its bilinear interpolation of exact thresholds at tile centres;
  * lt_binarize_normalized on pale strokes that Sauvola's threshold loses and on pale copies of a
  * page with black and gray print; lt_binarize_page on
- * light strokes on a dark ground.
+ * light strokes on a dark ground, also at its edge.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
 
@@ -583,6 +583,95 @@ static void test_light_on_dark(void)
     }
 }
 
+/* Counts the pixels of gray `value` in [left, right) x [top, bottom) of g, and how many of them
+ * are ink. */
+static void count_ink(const lt_image *g, const lt_image *ink, int left, int top, int right,
+                      int bottom, int value, long *pixels, long *inked)
+{
+    *pixels = 0, *inked = 0;
+    for (int y = top; y < bottom; y++)
+        for (int x = left; x < right; x++)
+            if (g->pixels[(size_t)y * g->width + x] == value) {
+                (*pixels)++;
+                *inked += ink->pixels[(size_t)y * g->width + x];
+            }
+}
+
+/* Light print at a dark band's edge (lt_binarize_page, window 33: windows' reach 5 tiles of 3
+ * px, light runs up to 2 tiles closed). A band of gray 20 on paper 250, 80 windows wide and 7
+ * tall; light strokes of 230 (5 px wide, a T's bar and stem) start 3 px under its top edge,
+ * where every window reaches the paper above, its mean light (over 100): all their pixels are
+ * ink, the ground's around them is not (the ground followed to the band's edge and closed
+ * across the strokes). Far from any stroke the band's edge stays as its windows read it, dark
+ * ink. Light squares 9 px tall from the band's edge: 6 px wide (2 tiles) a stroke, 9 px wide
+ * (3 tiles) paper beside the ground at the edge. A dark arm out of the band with a light stroke
+ * down its middle is followed two reaches from the band's dark windows, not to its end 12
+ * tiles out (a mark on the paper, its ink dark). A band 45 px tall is read light on dark at its
+ * edge, one 42 px tall (dark windows under a window tall: a bar whose light marks are
+ * ornament) only in its middle. */
+static void test_light_at_dark_edge(void)
+{
+    const int w = 900, h = 360, window = 33, top = 60, bottom = 300, left = 60, right = 840;
+    lt_image *g = tu_image(w, h, LT_IMAGE_GRAY, 250);
+    tu_fill(g, left, top, right, bottom, 20);
+    for (int x = 90; x < 400; x += 21)
+        tu_fill(g, x, top + 3, x + 5, top + 40, 230);
+    tu_fill(g, 402, top + 3, 432, top + 8, 230); /* the T's bar */
+    tu_fill(g, 414, top + 3, 420, top + 36, 230);
+    tu_fill(g, 510, top, 516, top + 9, 230);
+    tu_fill(g, 600, top, 609, top + 9, 230);
+    tu_fill(g, 780, bottom, 795, bottom + 36, 20); /* a dark arm, 12 tiles long */
+    tu_fill(g, 786, bottom - 12, 789, bottom + 36, 230);
+    lt_error err = {0};
+    lt_image *ink = NULL;
+    lt_dark_map dark = {0};
+    if (lt_binarize_page(g, window, 0.34, 128, &ink, &dark, &err)) {
+        tu_fail("light at a dark edge: lt_binarize_page failed: %s", err.message);
+        lt_image_free(g);
+        return;
+    }
+    long pixels, inked;
+    count_ink(g, ink, 0, 0, 460, h, 230, &pixels, &inked);
+    CHECK(inked == pixels, "light at a dark edge: %ld of %ld stroke pixels ink", inked, pixels);
+    count_ink(g, ink, 85, top, 437, top + 45, 20, &pixels, &inked);
+    CHECK_INT(inked, 0, "light at a dark edge: ground pixels round the strokes ink");
+    CHECK(ink->pixels[(size_t)200 * w + left] && !lt_dark_at(&dark, left, 200),
+          "light at a dark edge: the band's edge far from strokes not dark ink");
+    count_ink(g, ink, 500, 0, 520, h, 230, &pixels, &inked);
+    CHECK(inked == pixels, "light at a dark edge: %ld of %ld pixels of the square 2 tiles wide ink",
+          inked, pixels);
+    count_ink(g, ink, 590, top, 620, top + 3, 230, &pixels, &inked);
+    CHECK_INT(inked, 0, "light at a dark edge: top pixels of the square 3 tiles wide ink");
+    count_ink(g, ink, 0, 0, w, h, 250, &pixels, &inked);
+    CHECK_INT(inked, 0, "light at a dark edge: paper pixels ink");
+    CHECK(lt_dark_at(&dark, 200, top) && !lt_dark_at(&dark, 200, top - 1),
+          "light at a dark edge: the band marked to its edge at the strokes");
+    CHECK(lt_dark_at(&dark, 781, bottom + 3) && !lt_dark_at(&dark, 781, bottom + 33) &&
+              ink->pixels[(size_t)(bottom + 33) * w + 781],
+          "light at a dark edge: the arm followed beyond two reaches of the band");
+    lt_dark_map_clear(&dark);
+    lt_image_free(ink);
+    lt_image_free(g);
+
+    for (int tall = 42; tall <= 45; tall += 3) {
+        g = tu_image(w, 240, LT_IMAGE_GRAY, 250);
+        tu_fill(g, left, 90, right, 90 + tall, 20);
+        for (int x = 90; x + 5 < right - 30; x += 21)
+            tu_fill(g, x, 93, x + 5, 90 + tall - 3, 230);
+        if (lt_binarize_page(g, window, 0.34, 128, &ink, &dark, &err)) {
+            tu_fail("dark bar: lt_binarize_page failed: %s", err.message);
+            lt_image_free(g);
+            return;
+        }
+        CHECK(lt_dark_at(&dark, 450, 90 + tall / 2), "dark bar %d px tall: middle not marked",
+              tall);
+        CHECK_INT(lt_dark_at(&dark, 450, 91), tall == 45, "dark bar %d px tall: edge marked", tall);
+        lt_dark_map_clear(&dark);
+        lt_image_free(ink);
+        lt_image_free(g);
+    }
+}
+
 /* Bad arguments: LT_EINVAL, no image, a message. */
 static void test_bad_arguments(void)
 {
@@ -642,6 +731,7 @@ int main(void)
     test_pale();
     test_pale_copies();
     test_light_on_dark();
+    test_light_at_dark_edge();
     test_bad_arguments();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_binarize");
