@@ -71,6 +71,10 @@ enum {
      * steps of tiles, in windows' reaches: a window's mean stays light within about a reach
      * of a ground's edge, and the ground between letters winds around them. */
     GROUND_STEPS_REACHES = 2,
+    /* Farthest a followed ground is kept from a light stroke on it, in 4-connected steps of
+     * tiles, in windows' reaches: the ground between the letters of a word and the band's
+     * edge above them; elsewhere the edge stays as its windows read it (a picture's outline). */
+    STROKE_GROUND_REACHES = 1,
 };
 /* Share of the page's whole tiles whose mean lies at most at its white point: the paper's
  * gray, with room for a tenth of the tiles on lighter specks, margins or tinted parts' edges;
@@ -578,7 +582,7 @@ static long extend_dark_ground(uint16_t *light_from, uint8_t *ground, const uint
     added = (long)(len - first_stroke);
     /* The tiles followed within a reach of a stroke, step by step from the strokes. */
     head = first_stroke;
-    for (int step = 0; step < reach && head < len; step++) {
+    for (int step = 0; step < STROKE_GROUND_REACHES * reach && head < len; step++) {
         const size_t reached = len;
         for (; head < reached; head++) {
             const size_t i = queue[head];

@@ -602,13 +602,13 @@ static void count_ink(const lt_image *g, const lt_image *ink, int left, int top,
  * tall; light strokes of 230 (5 px wide, a T's bar and stem) start 3 px under its top edge,
  * where every window reaches the paper above, its mean light (over 100): all their pixels are
  * ink, the ground's around them is not (the ground followed to the band's edge and closed
- * across the strokes). Far from any stroke the band's edge stays as its windows read it, dark
- * ink. Light squares 9 px tall from the band's edge: 6 px wide (2 tiles) a stroke, 9 px wide
- * (3 tiles) paper beside the ground at the edge. A dark arm out of the band with a light stroke
- * down its middle is followed two reaches from the band's dark windows, not to its end 12
- * tiles out (a mark on the paper, its ink dark). A band 45 px tall is read light on dark at its
- * edge, one 42 px tall (dark windows under a window tall: a bar whose light marks are
- * ornament) only in its middle. */
+ * across the strokes), up to a reach from them (4-connected steps). Farther from any stroke
+ * the band's edge stays as its windows read it, dark ink. Light squares 9 px tall from the band's
+ * edge: 6 px wide (2 tiles) a stroke, 9 px wide (3 tiles) paper beside the ground at the edge. A
+ * dark arm out of the band with a light stroke down its middle is followed two reaches from the
+ * band's dark windows, not to its end 12 tiles out (a mark on the paper, its ink dark). A band 45
+ * px tall is read light on dark at its edge, one 42 px tall (dark windows under a window tall: a
+ * bar whose light marks are ornament) only in its middle. */
 static void test_light_at_dark_edge(void)
 {
     const int w = 900, h = 360, window = 33, top = 60, bottom = 300, left = 60, right = 840;
@@ -635,6 +635,11 @@ static void test_light_at_dark_edge(void)
     CHECK(inked == pixels, "light at a dark edge: %ld of %ld stroke pixels ink", inked, pixels);
     count_ink(g, ink, 85, top, 437, top + 45, 20, &pixels, &inked);
     CHECK_INT(inked, 0, "light at a dark edge: ground pixels round the strokes ink");
+    /* The T's bar ends in the tile from x = 429 (tile 143, under the edge's row of tiles): the
+     * edge's tiles a reach (5 steps) from it are ground, the next one (x = 444) is not. */
+    CHECK(!ink->pixels[(size_t)top * w + 443] && lt_dark_at(&dark, 443, top) &&
+              ink->pixels[(size_t)top * w + 444] && !lt_dark_at(&dark, 444, top),
+          "light at a dark edge: the edge kept ground a reach from the T's bar, not beyond");
     CHECK(ink->pixels[(size_t)200 * w + left] && !lt_dark_at(&dark, left, 200),
           "light at a dark edge: the band's edge far from strokes not dark ink");
     count_ink(g, ink, 500, 0, 520, h, 230, &pixels, &inked);
