@@ -122,6 +122,20 @@ static int cmp_leaf_rtl(const void *pa, const void *pb)
     return cmp_leaf_dir(pa, pb, 1);
 }
 
+/* The hull of the boxes idx[0..n), n >= 1. */
+static lt_box hull(const lt_box *boxes, const int *idx, int n)
+{
+    lt_box h = boxes[idx[0]];
+    for (int i = 1; i < n; i++) {
+        const lt_box *b = &boxes[idx[i]];
+        if (b->left < h.left) h.left = b->left;
+        if (b->top < h.top) h.top = b->top;
+        if (b->right > h.right) h.right = b->right;
+        if (b->bottom > h.bottom) h.bottom = b->bottom;
+    }
+    return h;
+}
+
 /* A leaf's lines in reading order; obstacles (indices >= nreal) are dropped, and the node's
  * box becomes the hull of its lines (a leaf of obstacles alone has no lines). */
 static int leaf_lines(lt_cut_node *node, const lt_box *boxes, int nreal, const int *idx, int n,
@@ -137,32 +151,12 @@ static int leaf_lines(lt_cut_node *node, const lt_box *boxes, int nreal, const i
     for (int i = 0; i < n; i++)
         if (idx[i] < nreal) items[m++] = (leaf_item){boxes[idx[i]], idx[i]};
     qsort(items, (size_t)m, sizeof *items, rtl ? cmp_leaf_rtl : cmp_leaf);
-    for (int i = 0; i < m; i++) {
+    for (int i = 0; i < m; i++)
         node->lines[i] = items[i].line;
-        const lt_box *b = &items[i].box;
-        if (i == 0) node->box = *b;
-        if (b->left < node->box.left) node->box.left = b->left;
-        if (b->top < node->box.top) node->box.top = b->top;
-        if (b->right > node->box.right) node->box.right = b->right;
-        if (b->bottom > node->box.bottom) node->box.bottom = b->bottom;
-    }
+    if (m > 0) node->box = hull(boxes, node->lines, m);
     node->nlines = m;
     free(items);
     return 0;
-}
-
-/* The hull of the boxes idx[0..n), n >= 1. */
-static lt_box hull(const lt_box *boxes, const int *idx, int n)
-{
-    lt_box h = boxes[idx[0]];
-    for (int i = 1; i < n; i++) {
-        const lt_box *b = &boxes[idx[i]];
-        if (b->left < h.left) h.left = b->left;
-        if (b->top < h.top) h.top = b->top;
-        if (b->right > h.right) h.right = b->right;
-        if (b->bottom > h.bottom) h.bottom = b->bottom;
-    }
-    return h;
 }
 
 static lt_cut_node *node_new(const lt_box *boxes, const int *idx, int n)
@@ -230,6 +224,12 @@ static int rule_cut(const cut_context *x, const int *idx, int n, const lt_box *n
 static int is_piece(const cut_context *x, int i)
 {
     return i < x->nreal && x->lines[i].bridged;
+}
+
+/* Whether box i is a line as found: not a picture, nor a piece of a line cut at a gutter. */
+static int whole_line(const cut_context *x, int i)
+{
+    return i < x->nreal && !x->lines[i].bridged;
 }
 
 /* Whether box i goes to the first child of a cut at `at` (lines starting at or beyond it go
@@ -433,7 +433,7 @@ static int band_beside_columns(const cut_context *x, const int *idx, int n, cons
         int cross_top = 1 << 30, cross_bottom = -1;
         for (int i = 0; i < n; i++) {
             const lt_box *b = &x->boxes[idx[i]];
-            if (idx[i] < x->nreal && !is_piece(x, idx[i]) && b->left < mid && b->right > mid) {
+            if (whole_line(x, idx[i]) && b->left < mid && b->right > mid) {
                 if (b->top < cross_top) cross_top = b->top;
                 if (b->bottom > cross_bottom) cross_bottom = b->bottom;
             }
@@ -496,7 +496,7 @@ static int running_text(const cut_context *x, const int *idx, int n, int at, int
     /* the side's edge where its lines start and its farthest end (mirrored right to left) */
     int edge = x->rtl ? -(1 << 30) : 1 << 30, reach = x->rtl ? 1 << 30 : -(1 << 30), m = 0;
     for (int i = 0; i < n; i++) {
-        if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
+        if (!whole_line(x, idx[i])) continue;
         const lt_box *a = &x->lines[idx[i]].box;
         if ((a->left >= at) != side) continue;
         widths[m++] = lt_box_width(a);
@@ -512,14 +512,14 @@ static int running_text(const cut_context *x, const int *idx, int n, int at, int
         return 1;
     int run_overs = 0;
     for (int i = 0; i < n; i++) {
-        if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
+        if (!whole_line(x, idx[i])) continue;
         const lt_box *a = &x->lines[idx[i]].box;
         if ((a->left >= at) != side ||
             abs((x->rtl ? a->right : a->left) - edge) < x->run_over_indent)
             continue;
         const lt_box *above = NULL; /* the nearest line above it on its side */
         for (int j = 0; j < n; j++) {
-            if (idx[j] >= x->nreal || is_piece(x, idx[j])) continue;
+            if (!whole_line(x, idx[j])) continue;
             const lt_box *b = &x->lines[idx[j]].box;
             if ((b->left >= at) == side && b->top + b->bottom <= 2 * a->top &&
                 (!above || b->bottom > above->bottom))
@@ -550,12 +550,12 @@ static int table_rows(const cut_context *x, const int *idx, int n, int at)
     int *ends = malloc(((size_t)n + 1) * sizeof *ends); /* side 0 from the start, 1 from the end */
     if (!ends) return -1;
     for (int i = 0; i < n; i++) {
-        if (idx[i] >= x->nreal || is_piece(x, idx[i])) continue;
+        if (!whole_line(x, idx[i])) continue;
         const lt_raw_line *a = &x->lines[idx[i]];
         const int side = a->box.left >= at;
         int partner = 0, beyond = 0, inner = 0;
         for (int j = 0; j < n; j++) {
-            if (j == i || idx[j] >= x->nreal || is_piece(x, idx[j])) continue;
+            if (j == i || !whole_line(x, idx[j])) continue;
             const lt_raw_line *b = &x->lines[idx[j]];
             if (!shares_row(x, a, b)) continue;
             if ((b->box.left >= at) != side) {

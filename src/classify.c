@@ -166,24 +166,13 @@ double lt_text_height(const lt_components *c, double dpi)
     return mode;
 }
 
-typedef struct placed_top {
-    int top, index;
-} placed_top;
-
-static int cmp_placed_top(const void *a, const void *b)
-{
-    const placed_top *x = a, *y = b;
-    if (x->top != y->top) return (x->top > y->top) - (x->top < y->top);
-    return (x->index > y->index) - (x->index < y->index);
-}
-
 /* The first index of by_top (n components sorted by their top) whose top is at least y. */
-static int first_from(const placed_top *by_top, int n, int y)
+static int first_from(const lt_keyed *by_top, int n, int y)
 {
     int lo = 0, hi = n;
     while (lo < hi) {
         const int mid = lo + (hi - lo) / 2;
-        if (by_top[mid].top < y)
+        if (by_top[mid].key < y)
             lo = mid + 1;
         else
             hi = mid;
@@ -195,13 +184,13 @@ static int first_from(const placed_top *by_top, int n, int y)
  * its size alone: no wider and no taller than `picture`. `by_top` lists the n components
  * sorted by their top: a mate's top lies within half the shorter height, at most h / 2, of
  * i's. */
-static int has_letter_mate(const lt_components *c, const placed_top *by_top, int n, int i,
+static int has_letter_mate(const lt_components *c, const lt_keyed *by_top, int n, int i,
                            double picture)
 {
     const lt_box *a = &c->items[i].box;
     const int h = lt_box_height(a);
     for (int k = first_from(by_top, n, a->top - h / 2), tests = 0;
-         k < n && by_top[k].top <= a->top + h / 2 && tests < MAX_MATE_TESTS; k++) {
+         k < n && by_top[k].key <= a->top + h / 2 && tests < MAX_MATE_TESTS; k++) {
         const lt_box *b = &c->items[by_top[k].index].box;
         if (by_top[k].index == i || lt_box_width(b) > picture || lt_box_height(b) > picture ||
             lt_box_height(b) < (1 - ROW_MATE_HEIGHT) * h)
@@ -222,8 +211,8 @@ static int rule_piece(const lt_component *k, double max_width)
 /* Makes rules of the chains of thin text pieces of c (see RULE_PIECE_WIDTH) that are together
  * at least `long_rule` px tall and `min_aspect` times as tall as wide. `by_top` lists the
  * components sorted by their top. Leaves c as it is when out of memory. */
-static void join_rule_pieces(lt_components *c, const placed_top *by_top, double th,
-                             double long_rule, double min_aspect)
+static void join_rule_pieces(lt_components *c, const lt_keyed *by_top, double th, double long_rule,
+                             double min_aspect)
 {
     const int n = c->count;
     int *parent = malloc(((size_t)n + 1) * sizeof *parent);
@@ -246,7 +235,7 @@ static void join_rule_pieces(lt_components *c, const placed_top *by_top, double 
         const lt_box *a = &c->items[i].box;
         if (!rule_piece(&c->items[i], max_width)) continue;
         for (int j = first_from(by_top, n, a->bottom);
-             j < n && by_top[j].top <= a->bottom + max_gap; j++) {
+             j < n && by_top[j].key <= a->bottom + max_gap; j++) {
             const int m = by_top[j].index;
             const lt_box *b = &c->items[m].box;
             if (!rule_piece(&c->items[m], max_width) || b->left >= a->right || b->right <= a->left)
@@ -282,11 +271,11 @@ void lt_classify_components(lt_components *c, double text_height_px, const lt_pa
     const double th = text_height_px > 0 ? text_height_px : 20;
     const double speckle = fmax(1.0, p->speckle_max * th);
     const double long_rule = 3 * th, picture = p->picture_min_height * th;
-    placed_top *by_top = malloc(((size_t)c->count + 1) * sizeof *by_top);
+    lt_keyed *by_top = malloc(((size_t)c->count + 1) * sizeof *by_top);
     if (by_top) {
         for (int i = 0; i < c->count; i++)
-            by_top[i] = (placed_top){c->items[i].box.top, i};
-        qsort(by_top, (size_t)c->count, sizeof *by_top, cmp_placed_top);
+            by_top[i] = (lt_keyed){c->items[i].box.top, i};
+        qsort(by_top, (size_t)c->count, sizeof *by_top, lt_cmp_keyed);
     }
     for (int i = 0; i < c->count; i++) {
         lt_component *k = &c->items[i];

@@ -13,6 +13,12 @@ int lt_mul_overflows(size_t a, size_t b, size_t *out);
 /* malloc of count*size bytes with overflow check; NULL on failure. */
 void *lt_alloc_array(size_t count, size_t size);
 int lt_cmp_double(const void *a, const void *b);
+/* An index with a sort key (a component by its left edge or its top); lt_cmp_keyed orders by
+ * key, then by index, so that sorting does not depend on the order given. */
+typedef struct lt_keyed {
+    int key, index;
+} lt_keyed;
+int lt_cmp_keyed(const void *a, const void *b);
 /* lt_image_new, with the pixels left unset unless `zeroed`: for producers that write every
  * pixel (a page's worth of zeros is a pass over its memory). */
 lt_image *lt_image_alloc(int width, int height, int kind, int zeroed);

@@ -209,17 +209,6 @@ static void grow(lt_box *b, const lt_box *k)
     if (k->bottom > b->bottom) b->bottom = k->bottom;
 }
 
-typedef struct keyed {
-    int key, index;
-} keyed;
-
-static int cmp_keyed(const void *pa, const void *pb)
-{
-    const keyed *a = pa, *b = pb;
-    if (a->key != b->key) return (a->key > b->key) - (a->key < b->key);
-    return (a->index > b->index) - (a->index < b->index);
-}
-
 /* Box of every group (by root component) in boxes[root]: its bodies and the marks attached
  * to it (a mark is attached when it is not its own root). */
 static void group_boxes(const lt_components *c, const uint8_t *body, int *parent, lt_box *boxes)
@@ -234,7 +223,7 @@ static void group_boxes(const lt_components *c, const uint8_t *body, int *parent
 /* The groups as they stand: *boxes (by root, see group_boxes) and their roots sorted by the
  * left edge of their boxes (*roots, *nr). The caller frees both. */
 static int list_groups(const lt_components *c, const uint8_t *body, int *parent, lt_box **boxes,
-                       keyed **roots, int *nr)
+                       lt_keyed **roots, int *nr)
 {
     *boxes = malloc(((size_t)c->count + 1) * sizeof **boxes);
     *roots = malloc(((size_t)c->count + 1) * sizeof **roots);
@@ -246,8 +235,9 @@ static int list_groups(const lt_components *c, const uint8_t *body, int *parent,
     group_boxes(c, body, parent, *boxes);
     *nr = 0;
     for (int i = 0; i < c->count; i++)
-        if (body[i] && lt_uf_find(parent, i) == i) (*roots)[(*nr)++] = (keyed){(*boxes)[i].left, i};
-    qsort(*roots, (size_t)*nr, sizeof **roots, cmp_keyed);
+        if (body[i] && lt_uf_find(parent, i) == i)
+            (*roots)[(*nr)++] = (lt_keyed){(*boxes)[i].left, i};
+    qsort(*roots, (size_t)*nr, sizeof **roots, lt_cmp_keyed);
     return 0;
 }
 
@@ -267,7 +257,7 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
     }
     const int nbands = (int)(maxy / th) + 3;
     lt_box *boxes = malloc(((size_t)n + 1) * sizeof *boxes);
-    keyed *marks = malloc(((size_t)nmarks + 1) * sizeof *marks);
+    lt_keyed *marks = malloc(((size_t)nmarks + 1) * sizeof *marks);
     int *start = calloc((size_t)nbands + 1, sizeof *start);
     int *fill = malloc(((size_t)nbands + 1) * sizeof *fill);
     int *members = NULL;
@@ -296,8 +286,8 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
     }
     int m = 0;
     for (int i = 0; i < n; i++)
-        if (mark[i]) marks[m++] = (keyed){c->items[i].box.left, i};
-    qsort(marks, (size_t)nmarks, sizeof *marks, cmp_keyed);
+        if (mark[i]) marks[m++] = (lt_keyed){c->items[i].box.left, i};
+    qsort(marks, (size_t)nmarks, sizeof *marks, lt_cmp_keyed);
     /* Left to right, then the marks left over right to left: a chain of dots grows from the
      * line it touches in either direction (a leader that opens a row grows from its end). */
     for (int step = 0; step < 2 * nmarks; step++) {
@@ -409,7 +399,7 @@ static int cut_across_gutters(const lt_components *c, const uint8_t *body, int *
 static int absorb_nested(const lt_components *c, const uint8_t *body, int *parent)
 {
     lt_box *boxes;
-    keyed *roots;
+    lt_keyed *roots;
     int nr;
     if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
     for (int a = 0; a < nr && nr <= 5000; a++) {
@@ -515,7 +505,7 @@ static int join_rows(const lt_components *c, const uint8_t *body, const uint8_t 
                      double max_gap, double th, const lt_separators *seps)
 {
     lt_box *boxes;
-    keyed *roots;
+    lt_keyed *roots;
     int nr;
     if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
     double *letters = calloc((size_t)c->count + 1, sizeof *letters); /* by root: height sum */

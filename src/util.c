@@ -168,6 +168,13 @@ int lt_cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+int lt_cmp_keyed(const void *pa, const void *pb)
+{
+    const lt_keyed *a = pa, *b = pb;
+    if (a->key != b->key) return (a->key > b->key) - (a->key < b->key);
+    return (a->index > b->index) - (a->index < b->index);
+}
+
 double lt_median(double *v, int n)
 {
     if (n <= 0) return 0;
