@@ -53,10 +53,15 @@ static const double STRETCH_MAX_GAP = 10.0;
  * word space of the two groups (the smaller of their lower medians), at least
  * WORD_SPACE_MIN_COUNT spaces measured in them. A gap between letters is a word space when
  * wider than WORD_SPACE_MIN_RATIO times the group's median gap (the docstrum's within-line
- * spacing: letter gaps are the majority, word spaces the wider mode). */
+ * spacing: letter gaps are the majority, word spaces the wider mode). Where those wide gaps
+ * themselves fall into two modes, the wider WORD_SPACE_MIN_RATIO times the narrower and
+ * holding at least WORD_SPACE_MODE_MIN of them, the wider are the word spaces: monospaced
+ * type leaves gaps half a space wide beside its narrow letters (a colon, an i, a brace),
+ * while a single wider gap in a group is no mode (a tab, white before a number). */
 static const double WORD_SPACE_TOLERANCE = 1.2;
 static const int WORD_SPACE_MIN_COUNT = 3;
 static const double WORD_SPACE_MIN_RATIO = 2.0;
+static const int WORD_SPACE_MODE_MIN = 2;
 
 typedef struct link {
     int a, b;        /* components, a left of b */
@@ -433,9 +438,24 @@ static int cmp_placed(const void *pa, const void *pb)
     return (a->index > b->index) - (a->index < b->index);
 }
 
+/* The first of the n gaps of `sorted` (ascending) in the wider of two modes (see
+ * WORD_SPACE_MODE_MIN): the gap after the largest step between neighbours that is at least
+ * WORD_SPACE_MIN_RATIO and leaves WORD_SPACE_MODE_MIN gaps above it; 0 when there is none. */
+static int wider_mode(const double *sorted, int n)
+{
+    int first = 0;
+    double step = WORD_SPACE_MIN_RATIO;
+    for (int k = 1; k <= n - WORD_SPACE_MODE_MIN; k++)
+        if (sorted[k] >= step * sorted[k - 1]) {
+            step = sorted[k] / sorted[k - 1];
+            first = k;
+        }
+    return first;
+}
+
 /* The word space of every group (by root): the lower median of its word spaces (see
- * WORD_SPACE_MIN_RATIO) in space[root], their number in space_count[root]; both zero for
- * groups without. Attached marks count as letters (a leader's dots are no spaces). */
+ * WORD_SPACE_MIN_RATIO; of their wider mode where they have two) in space[root], their number
+ * in space_count[root]; both zero for groups without. Attached marks count as letters (a leader's dots are no spaces). */
 static int word_spaces(const lt_components *c, const uint8_t *body, const uint8_t *mark,
                        int *parent, double *space, int *space_count)
 {
@@ -473,8 +493,9 @@ static int word_spaces(const lt_components *c, const uint8_t *body, const uint8_
             if (gaps[k] > WORD_SPACE_MIN_RATIO * median) sorted[nwords++] = gaps[k];
         if (nwords == 0) continue;
         qsort(sorted, (size_t)nwords, sizeof *sorted, lt_cmp_double);
-        space_count[root] = nwords;
-        space[root] = sorted[(nwords - 1) / 2];
+        const int first = wider_mode(sorted, nwords);
+        space_count[root] = nwords - first;
+        space[root] = sorted[first + (nwords - first - 1) / 2];
     }
     free(order);
     free(gaps);

@@ -596,19 +596,30 @@ static void test_broken_rule(void)
  * (WORD_SPACE_TOLERANCE: 34 against 30 px whole, 38 parted), with 3 word spaces measured
  * (WORD_SPACE_MIN_COUNT: 2 parted), and spaces more than twice the letter gaps
  * (WORD_SPACE_MIN_RATIO: 30 px spaces between letters 14 px apart whole, 16 px apart parted).
- * A vertical rule in that white parts the rows however narrow it is. */
+ * Monospaced letters: three more gaps in each row, `narrow` px wide (beside a colon or an i),
+ * are wide gaps too but no word spaces where the spaces are at least twice as wide (the wider
+ * mode, WORD_SPACE_MODE_MIN): 14 px whole (their lower median, 14 px, would part the rows),
+ * 16 px parted. One wider gap, `lone` px, in every third row is no mode of its own: 70 px
+ * beside three spaces of 30 whole. A vertical rule in that white parts the rows however
+ * narrow it is. */
 static void test_typewritten(void)
 {
     const struct {
-        int letter_gap, space, gutter, spaces, rule, whole;
-    } cases[] = {{6, 30, 34, 3, 0, 1},  {6, 30, 38, 3, 0, 0},  {6, 30, 34, 2, 0, 0},
-                 {14, 30, 34, 3, 0, 1}, {16, 30, 34, 3, 0, 0}, {6, 30, 34, 3, 1, 0}};
-    for (int ci = 0; ci < 6; ci++) {
-        char what[96];
+        int letter_gap, space, gutter, spaces, narrow, lone, rule, whole;
+    } cases[] = {{6, 30, 34, 3, 0, 0, 0, 1},   {6, 30, 38, 3, 0, 0, 0, 0},
+                 {6, 30, 34, 2, 0, 0, 0, 0},   {14, 30, 34, 3, 0, 0, 0, 1},
+                 {16, 30, 34, 3, 0, 0, 0, 0},  {6, 30, 34, 3, 0, 0, 1, 0},
+                 {6, 30, 34, 3, 14, 0, 0, 1},  {6, 30, 34, 3, 16, 0, 0, 0},
+                 {6, 30, 34, 3, 0, 70, 0, 1}};
+    const int ncases = (int)(sizeof cases / sizeof cases[0]);
+    for (int ci = 0; ci < ncases; ci++) {
+        char what[128];
         snprintf(what, sizeof what,
-                 "typewritten, letters %d px apart, spaces %d, gutter %d%s, %d spaces",
+                 "typewritten, letters %d px apart, spaces %d, gutter %d%s, %d spaces, "
+                 "narrow gaps %d, a lone gap %d",
                  cases[ci].letter_gap, cases[ci].space, cases[ci].gutter,
-                 cases[ci].rule ? " with a rule" : "", cases[ci].spaces);
+                 cases[ci].rule ? " with a rule" : "", cases[ci].spaces, cases[ci].narrow,
+                 cases[ci].lone);
         page *p = page_new(1700, 800);
         for (int row = 0; row < 12; row++) {
             const int y = 150 + row * PITCH;
@@ -635,6 +646,9 @@ static void test_typewritten(void)
                 }
                 for (int s = 0; s < cases[ci].spaces; s++)
                     if (k == 13 + 6 * s + row % 3) after = cases[ci].space;
+                for (int s = 0; cases[ci].narrow && s < 3; s++)
+                    if (k == 16 + 6 * s + row % 3) after = cases[ci].narrow;
+                if (cases[ci].lone && k == 28 && row % 3 == 0) after = cases[ci].lone;
                 x += 12 + after;
             }
         }
