@@ -254,20 +254,25 @@ static int draw_label(page *p, int l, int x, int baseline, int digits)
  * px, as blur and a threshold break a thin stroke), 2.65 text heights right of the numbers:
  * in the piece's own rows the numbers' white leads on to it as to a leader's dot and on along
  * the entry, but the letter below it stands first in the white (the reach is measured along
- * the line's ink projected onto one row): the numbers stay a narrow column. */
+ * the line's ink projected onto one row): the numbers stay a narrow column. Far: the leaders
+ * stop 52 px (2.6 text heights) before the numbers, wider than the space that parts a
+ * listing's line numbers from their code (test_numbered_listing, 50 px), but the white
+ * follows dots, not words: no link from a leader to its numbers is refused. */
 static void test_index(void)
 {
-    for (int broken = 0; broken < 2; broken++)
+    for (int variant = 0; variant < 3; variant++)
         for (int seed = 1; seed <= 3; seed++) {
+            const int broken = variant == 1, white = variant == 2 ? 52 : 2 * XH;
+            const char *name[] = {"", " broken", " far"};
             char what[64];
-            snprintf(what, sizeof what, "index%s, seed %d", broken ? " broken" : "", seed);
-            tu_rng r = {(uint64_t)(300 + 10 * broken + seed)};
+            snprintf(what, sizeof what, "index%s, seed %d", name[variant], seed);
+            tu_rng r = {(uint64_t)(300 + 10 * variant + seed)};
             page *p = page_new(1500, 1000);
             const int right = 900, x2 = right + 5 * XH / 2, rows = 16;
             int leader_end[16], numbers_left[16];
             for (int i = 0; i < rows; i++) {
                 const int y = FIRST_BASE + i * PITCH, digits = tu_range(&r, 1, 4);
-                const int number_left = right - 14 * digits + 3, dots_end = number_left - 2 * XH;
+                const int number_left = right - 14 * digits + 3, dots_end = number_left - white;
                 const int l = draw_line(p, &r, COL_X0, dots_end - tu_range(&r, 40, 100), y, 0, 0);
                 for (int x = (p->line_box[l].right / 16 + 1) * 16; x + 4 <= dots_end; x += 16) {
                     draw_glyph(p, l, tu_box(x, y - 4, x + 4, y), 1);
@@ -389,6 +394,52 @@ static int draw_plain_line(page *p, int x0, int x1, int baseline, int first, int
         x += w + gap;
     }
     return l;
+}
+
+/* 4b. A listing: line numbers of one or two figures set flush right at x = 200, each before
+ * a line of code starting at one x. The white between them is a gutter region beside a
+ * column of short items, which separates no lines, but a gap wider than a label's space (2.5
+ * text heights: 50 px) that is white in the row, between words, parts the numbers from their
+ * code: at 48 px each number is read with its line, at 52 px and at 70 px it is a line of its
+ * own. lt_link_blocked over the 70 px white from a point 15 px right of the numbers' ink (16
+ * px: words within a text height) and from one 20 px right of it (21 px: none, and a gap of
+ * 50 px): refused, and not. */
+static void test_numbered_listing(void)
+{
+    const int gaps[] = {48, 52, 70}, numbers_right = 200, rows = 12;
+    for (int gi = 0; gi < 3; gi++)
+        for (int seed = 1; seed <= 3; seed++) {
+            char what[64];
+            snprintf(what, sizeof what, "listing, numbers %d px before the code, seed %d", gaps[gi],
+                     seed);
+            tu_rng r = {(uint64_t)(450 + 10 * gi + seed)};
+            page *p = page_new(1000, 800);
+            const int code = numbers_right + gaps[gi], apart = gaps[gi] > 50;
+            for (int i = 0; i < rows; i++) {
+                const int y = FIRST_BASE + i * PITCH, number = 8 + i;
+                const int l = draw_line(p, &r, code, code + tu_range(&r, 150, 400), y, 0, 0);
+                const int n = apart ? new_line(p, y) : l;
+                for (int k = 0, x = numbers_right - 11; k < (number > 9 ? 2 : 1); k++, x -= 14)
+                    draw_glyph(p, n, tu_box(x, y - XH, x + 11, y), 0);
+            }
+            result res = run_stages(p, what);
+            CHECK_INT(gutters_in(&res, numbers_right, code), 1, "%s: gutter regions", what);
+            CHECK_INT(lt_gutter_between(res.seps, numbers_right, code, FIRST_BASE - ASC,
+                                        FIRST_BASE + rows * PITCH),
+                      0, "%s: gutter white between numbers and code", what);
+            compare_lines(p, &res, what);
+            CHECK_INT(lines_across(&res, numbers_right, code), apart ? 0 : rows,
+                      "%s: lines from a number into its code", what);
+            if (gaps[gi] == 70) {
+                const int y = FIRST_BASE + PITCH;
+                CHECK_INT(lt_link_blocked(res.seps, numbers_right + 15, code, y - XH, y, XH), 1,
+                          "%s: link with words 16 px left of its gap refused", what);
+                CHECK_INT(lt_link_blocked(res.seps, numbers_right + 20, code, y - XH, y, XH), 0,
+                          "%s: link with no words 21 px left of its gap refused", what);
+            }
+            result_free(&res);
+            page_free(p);
+        }
 }
 
 /* 5. Two columns (gutter of 2 text heights) of three paragraphs of 5 lines each, the
@@ -722,6 +773,7 @@ int main(void)
     test_river();
     test_index();
     test_list_labels();
+    test_numbered_listing();
     test_aligned_breaks();
     test_key_value();
     test_evidence();
