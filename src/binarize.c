@@ -398,12 +398,14 @@ static inline void push_dark(const uint16_t *light_from, uint8_t *seen, uint8_t 
 /* Keeps the dark tiles (light_from[i] != NOT_DARK, gw x gh) of the regions (4-connected) at
  * least DARK_MIN_WIDTH_WINDOWS windows wide and half a window tall (window_tiles tiles a side),
  * whose windows with marks (deviation dev[i] at least FLAT_DEVIATION) deviate by
- * DARK_MIN_DEVIATION on average, and that stay clear of the page's edge or cover half the page
- * or more (a page printed in negative): a dark region along the edge is the scanner's ground
- * or a shadow. Each region is walked twice: to measure it, then to keep or drop it. Sets
- * dark_rows[ty] to 1 for the tile rows that keep a dark tile, and dev[i] of each dark tile to 1
- * where its region is kept and at least a window tall (a ground that extend_dark_ground
- * follows to its edge), 0 elsewhere; returns how many tiles are kept, or -1 when out of memory. */
+ * DARK_MIN_DEVIATION on average, and that do not run along the page's edge: a region that
+ * touches an edge over a stretch at least as long as it reaches into the page from it is the
+ * scanner's ground or a shadow, while a band or box printed to the edge (a bleed) reaches in
+ * farther than it runs along it, and a page printed in negative covers half the page or more. Each
+ * region is walked twice: to measure it, then to keep or drop it. Sets dark_rows[ty] to 1 for the
+ * tile rows that keep a dark tile, and dev[i] of each dark tile to 1 where its region is kept and
+ * at least a window tall (a ground that extend_dark_ground follows to its edge), 0 elsewhere;
+ * returns how many tiles are kept, or -1 when out of memory. */
 static long keep_framed_dark(uint16_t *light_from, uint8_t *dev, int gw, int gh, int window_tiles,
                              uint8_t *dark_rows)
 {
@@ -418,14 +420,16 @@ static long keep_framed_dark(uint16_t *light_from, uint8_t *dev, int gw, int gh,
         if (seen[start] || light_from[start] == NOT_DARK) continue;
         size_t top = 0, n = 0, marked = 0;
         double marked_dev = 0; /* deviation summed over the tiles with marks */
-        int at_edge = 0, left = gw, right = 0, up = gh, down = 0;
+        int left = gw, right = 0, up = gh, down = 0;
+        int on_left = 0, on_right = 0, on_top = 0, on_bottom = 0; /* tiles on each edge */
         push_dark(light_from, seen, 1, stack, &top, start);
         while (top) {
             const size_t i = stack[--top];
             const int tx = (int)(i % gw), ty = (int)(i / gw);
             n++;
             if (dev[i] >= FLAT_DEVIATION) marked_dev += dev[i], marked++;
-            at_edge |= tx == 0 || ty == 0 || tx == gw - 1 || ty == gh - 1;
+            on_left += tx == 0, on_right += tx == gw - 1;
+            on_top += ty == 0, on_bottom += ty == gh - 1;
             left = tx < left ? tx : left, right = tx > right ? tx : right;
             up = ty < up ? ty : up, down = ty > down ? ty : down;
             if (tx > 0) push_dark(light_from, seen, 1, stack, &top, i - 1);
@@ -433,12 +437,14 @@ static long keep_framed_dark(uint16_t *light_from, uint8_t *dev, int gw, int gh,
             if (ty > 0) push_dark(light_from, seen, 1, stack, &top, i - gw);
             if (ty + 1 < gh) push_dark(light_from, seen, 1, stack, &top, i + gw);
         }
-        const int keep = (!at_edge || 2 * n >= tiles) && marked > 0 &&
+        const int wide = right - left + 1, tall = down - up + 1;
+        const int along_edge =
+            on_left >= wide || on_right >= wide || on_top >= tall || on_bottom >= tall;
+        const int keep = (!along_edge || 2 * n >= tiles) && marked > 0 &&
                          marked_dev >= DARK_MIN_DEVIATION * (double)marked &&
-                         right - left + 1 >= DARK_MIN_WIDTH_WINDOWS * window_tiles &&
-                         2 * (down - up + 1) >= window_tiles;
+                         wide >= DARK_MIN_WIDTH_WINDOWS * window_tiles && 2 * tall >= window_tiles;
         kept += keep ? (long)n : 0;
-        const uint8_t ground = keep && down - up + 1 >= window_tiles;
+        const uint8_t ground = keep && tall >= window_tiles;
         push_dark(light_from, seen, 2, stack, &top, start);
         while (top) {
             const size_t i = stack[--top];
