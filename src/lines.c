@@ -47,6 +47,26 @@ static const double EDGE_CUT_WIDTH = 6.0;
  * note from the text, it is no word space. */
 static const double STRETCH_TOLERANCE = 0.2;
 static const double STRETCH_MAX_GAP = 10.0;
+/* Two rows run together into one group (a subscript touching the superscript of the row
+ * below, a paragraph mark or a small initial reaching into the next row) stand one over the
+ * other: a group at least STACK_MIN_HEIGHT tall is parted at a height where at least
+ * STACK_MIN_BODIES letters (bodies no taller than STACK_LETTER) lie wholly above and as many
+ * wholly below, at most STACK_CROSSING of the fewer cross it (the pieces that ran the rows
+ * together go with the row their middle lies in), and a row's letters stand on one baseline
+ * on each side (STACK_BASELINE_SHARE of them within BASELINE_SLACK: the strokes of a picture
+ * end anywhere). A thin stroke (under STACK_BAR_HEIGHT, a text height wide or more) within
+ * STACK_BAR_REACH of the white between the two, a fraction's bar or an underline, keeps
+ * them one line. */
+static const double STACK_MIN_HEIGHT = 3.0;
+static const int STACK_MIN_BODIES = 3;
+static const double STACK_LETTER = 1.75;
+static const double STACK_CROSSING = 0.25;
+static const double STACK_BASELINE_SHARE = 1.0 / 3;
+static const double STACK_BAR_HEIGHT = 0.3;
+static const double STACK_BAR_REACH = 0.25;
+/* Parting a group tries each letter's top against all its members: groups of more members
+ * than this (rows of a halftone read as specks of text) are left whole. */
+enum { STACK_MAX_MEMBERS = 4000 };
 /* A gutter no wider than the word spaces of the line it crosses is spaces lined up from row
  * to row (typewritten and monospaced text, where every space is a character wide): a link a
  * gutter refuses joins all the same when its gap is at most WORD_SPACE_TOLERANCE times the
@@ -453,9 +473,153 @@ static int wider_mode(const double *sorted, int n)
     return first;
 }
 
+static int cmp_middle(const void *pa, const void *pb)
+{
+    const lt_keyed *a = pa, *b = pb;
+    return (a->key > b->key) - (a->key < b->key);
+}
+
+/* Whether a thin horizontal stroke (a fraction's bar, an underline, a rule) at least a text
+ * height wide lies in the columns [left, right) with its middle in the rows [y0, y1]. */
+static int bar_between(const lt_components *c, int left, int right, double y0, double y1, double th)
+{
+    for (int i = 0; i < c->count; i++) {
+        const lt_box *b = &c->items[i].box;
+        const double cy = 0.5 * (b->top + b->bottom);
+        if (lt_box_height(b) < STACK_BAR_HEIGHT * th && lt_box_width(b) >= th && b->left < right &&
+            b->right > left && cy >= y0 && cy <= y1)
+            return 1;
+    }
+    return 0;
+}
+
+static int cmp_int(const void *pa, const void *pb)
+{
+    const int a = *(const int *)pa, b = *(const int *)pb;
+    return (a > b) - (a < b);
+}
+
+/* Whether letters of a row stand on one baseline: of the n bottoms (px; sorted in place) at
+ * least STACK_BASELINE_SHARE of them, and STACK_MIN_BODIES, lie within BASELINE_SLACK of
+ * each other. */
+static int on_a_baseline(int *bottoms, int n, double th)
+{
+    qsort(bottoms, (size_t)n, sizeof *bottoms, cmp_int);
+    int most = 0;
+    for (int lo = 0, hi = 0; hi < n; hi++) {
+        while (bottoms[hi] - bottoms[lo] > BASELINE_SLACK * th + 1)
+            lo++;
+        if (hi - lo + 1 > most) most = hi - lo + 1;
+    }
+    return most >= STACK_MIN_BODIES && most >= STACK_BASELINE_SHARE * n;
+}
+
+/* The members m[0..n) of one group, sorted by their middles (key: twice the middle), parted
+ * into rows one over the other (see STACK_MIN_HEIGHT): each row's members get the row's
+ * first body as their root. Rows are parted again while a part holds two. `bottoms` has room
+ * for 2 n values. */
+static void part_stacked(const lt_components *c, const uint8_t *body, int *parent, lt_keyed *m,
+                         int n, double th, int *bottoms)
+{
+    int left = 1 << 30, right = -1, top = 1 << 30, bottom = -1;
+    for (int k = 0; k < n; k++) {
+        const lt_box *b = &c->items[m[k].index].box;
+        if (b->left < left) left = b->left;
+        if (b->right > right) right = b->right;
+        if (b->top < top) top = b->top;
+        if (b->bottom > bottom) bottom = b->bottom;
+    }
+    int best_y = -1, best_fewer = STACK_MIN_BODIES - 1;
+    if (bottom - top >= STACK_MIN_HEIGHT * th && n <= STACK_MAX_MEMBERS)
+        for (int s = 0; s < n; s++) { /* a row may start at the top of any letter */
+            const lt_box *row = &c->items[m[s].index].box;
+            if (!body[m[s].index] || lt_box_height(row) > STACK_LETTER * th) continue;
+            const int y = row->top;
+            int above = 0, below = 0, crossing = 0, above_bottom = -1, below_top = 1 << 30;
+            for (int k = 0; k < n; k++) {
+                const lt_box *b = &c->items[m[k].index].box;
+                if (!body[m[k].index] || lt_box_height(b) > STACK_LETTER * th) continue;
+                if (b->bottom <= y) {
+                    bottoms[above++] = b->bottom;
+                    if (b->bottom > above_bottom) above_bottom = b->bottom;
+                } else if (b->top >= y) {
+                    bottoms[n + below++] = b->bottom;
+                    if (b->top < below_top) below_top = b->top;
+                } else
+                    crossing++;
+            }
+            const int fewer = above < below ? above : below;
+            if (fewer > best_fewer && crossing <= STACK_CROSSING * fewer &&
+                on_a_baseline(bottoms, above, th) && on_a_baseline(bottoms + n, below, th) &&
+                !bar_between(c, left, right, fmin(above_bottom, below_top) - STACK_BAR_REACH * th,
+                             fmax(above_bottom, below_top) + STACK_BAR_REACH * th, th)) {
+                best_fewer = fewer;
+                best_y = y;
+            }
+        }
+    int best_at = 0; /* the members above best_y: their middles lie above it */
+    while (best_y >= 0 && best_at < n && m[best_at].key < 2 * best_y)
+        best_at++;
+    if (best_at == 0 || best_at == n) best_at = -1;
+    if (best_at < 0) {
+        int root = -1;
+        for (int k = 0; k < n && root < 0; k++)
+            if (body[m[k].index]) root = m[k].index;
+        for (int k = 0; k < n; k++)
+            parent[m[k].index] = root;
+        return;
+    }
+    part_stacked(c, body, parent, m, best_at, th, bottoms);
+    part_stacked(c, body, parent, m + best_at, n - best_at, th, bottoms);
+}
+
+/* Groups of two or more rows one over the other are parted into their rows (see
+ * STACK_MIN_HEIGHT). */
+static int part_stacked_rows(const lt_components *c, const uint8_t *body, int *parent, double th)
+{
+    lt_box *boxes;
+    lt_keyed *roots;
+    int nr;
+    if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
+    const int n = c->count;
+    placed *order = malloc(((size_t)n + 1) * sizeof *order);
+    lt_keyed *members = malloc(((size_t)n + 1) * sizeof *members);
+    int *bottoms = malloc(2 * ((size_t)n + 1) * sizeof *bottoms);
+    if (!order || !members || !bottoms) {
+        free(boxes);
+        free(roots);
+        free(order);
+        free(members);
+        free(bottoms);
+        return LT_ENOMEM;
+    }
+    int m = 0;
+    for (int i = 0; i < n; i++) {
+        const int r = lt_uf_find(parent, i);
+        if (body[r] && lt_box_height(&boxes[r]) >= STACK_MIN_HEIGHT * th)
+            order[m++] = (placed){r, 0, i};
+    }
+    qsort(order, (size_t)m, sizeof *order, cmp_placed);
+    for (int k0 = 0, k1; k0 < m; k0 = k1) {
+        for (k1 = k0; k1 < m && order[k1].root == order[k0].root; k1++) {
+            const lt_box *b = &c->items[order[k1].index].box;
+            members[k1 - k0] = (lt_keyed){b->top + b->bottom, order[k1].index};
+        }
+        qsort(members, (size_t)(k1 - k0), sizeof *members, cmp_middle);
+        part_stacked(c, body, parent, members, k1 - k0, th, bottoms);
+    }
+    free(boxes);
+    free(roots);
+    free(order);
+    free(members);
+    free(bottoms);
+    return 0;
+}
+
 /* The word space of every group (by root): the lower median of its word spaces (see
  * WORD_SPACE_MIN_RATIO; of their wider mode where they have two) in space[root], their number
- * in space_count[root]; both zero for groups without. Attached marks count as letters (a leader's dots are no spaces). */
+ * in space_count[root]; both zero for groups without. Attached marks count as letters (a leader's
+ * dots are no spaces). */
 static int word_spaces(const lt_components *c, const uint8_t *body, const uint8_t *mark,
                        int *parent, double *space, int *space_count)
 {
@@ -693,7 +857,8 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
     /* Marks join groups; groups that marks bring within reach of each other join. */
     if (attach_marks(c, body, mark, parent, th, max_gap, seps) ||
         join_rows(c, body, mark, parent, max_gap, th, seps) ||
-        cut_across_gutters(c, body, parent, th, seps, piece) || absorb_nested(c, body, parent))
+        cut_across_gutters(c, body, parent, th, seps, piece) ||
+        part_stacked_rows(c, body, parent, th) || absorb_nested(c, body, parent))
         goto nomem;
 
     /* One raw line per group. */

@@ -705,6 +705,93 @@ static void test_stretched_line(void)
     }
 }
 
+/* A page of two rows run together, for stacked_rows. */
+typedef struct stack_case {
+    int pitch;        /* px from the first row's baseline to the second's */
+    int letters;      /* in each row, 10 px wide and 3 px apart */
+    int mixed;        /* x-height letters, ascenders 29 px tall and descenders 8 px deep in
+                         turn (else x-height letters only) */
+    int bar_width;    /* > 0: a stroke 2 px thin and that wide halfway between the rows */
+    int extra;        /* pieces beside the joining one, centred on its middle */
+    int extra_height; /* px */
+} stack_case;
+
+/* Under a paragraph (which sets the text height, 20 px), two rows of letters joined by a
+ * piece from the middle of the first row's x-height to the middle of the second's (a
+ * subscript touching the superscript below it). Returns the lines lt_build_lines reads below
+ * the paragraph. */
+static int stacked_rows(stack_case sc)
+{
+    tu_rng r = {77};
+    page *p = page_new(1000, 700);
+    const int x0 = 150, base1 = draw_paragraph(p, &r, x0, 850, 150, 3) + 2 * PITCH;
+    const int base2 = base1 + sc.pitch, upper = p->nlines, lower = upper + 1;
+    for (int l = upper; l <= lower; l++) {
+        p->line_box[l] = tu_box(0, 0, 0, 0);
+        p->baseline[l] = l == upper ? base1 : base2;
+        p->ncomp[l] = 0;
+    }
+    p->nlines += 2;
+    int x = x0;
+    for (int k = 0; k < sc.letters; k++, x += 13) {
+        const int top = sc.mixed && k % 3 == 1 ? ASC : XH;
+        const int below = sc.mixed && k % 3 == 2 ? DESC : 0;
+        draw_glyph(p, upper, tu_box(x, base1 - top, x + 10, base1 + below), 0);
+        draw_glyph(p, lower, tu_box(x, base2 - top, x + 10, base2 + below), 0);
+    }
+    draw_glyph(p, upper, tu_box(x, base1 - XH / 2, x + 8, base2 - XH / 2), 0);
+    const int middle = (base1 + base2 - XH) / 2;
+    for (int k = 0; k < sc.extra; k++) {
+        x += 11;
+        draw_glyph(p, upper,
+                   tu_box(x, middle - sc.extra_height / 2, x + 8,
+                          middle - sc.extra_height / 2 + sc.extra_height),
+                   0);
+    }
+    if (sc.bar_width > 0)
+        draw_glyph(p, upper, tu_box(x0, middle - 1, x0 + sc.bar_width, middle + 1), 1);
+    result res = run_stages(p, "stacked rows");
+    int below = 0;
+    for (int i = 0; res.lines && i < res.lines->count; i++)
+        below += res.lines->items[i].box.top >= base1 - 2 * XH;
+    result_free(&res);
+    page_free(p);
+    return below;
+}
+
+/* Two rows one over the other, run together by a piece that joins them, are two lines when
+ * the group is at least 3 text heights tall (rows of x-height letters 40 px apart: 60 px; 39
+ * px apart: one line), each row holds at least 3 letters on its baseline (rows of 4 letters,
+ * one with a descender; of 3: one line), at most a quarter of the fewer letters cross the
+ * white between the rows (rows of 8 letters: 2 pieces 30 px tall across, two lines; 3: one
+ * line), where a letter is at most 1.75 text heights tall (rows of 3 letters and a piece
+ * across 35 px tall: one line; 36 px: no letter, two lines), and no thin stroke a text height
+ * wide or more (20 px; 18 px: two lines) lies between them, a fraction's bar or an
+ * underline. */
+static void test_stacked_rows(void)
+{
+    const struct {
+        stack_case sc;
+        int lines;
+        const char *what;
+    } cases[] = {
+        {{48, 12, 1, 0, 0, 0}, 2, "rows 48 px apart"},
+        {{40, 12, 0, 0, 0, 0}, 2, "x-height rows 40 px apart"},
+        {{39, 12, 0, 0, 0, 0}, 1, "x-height rows 39 px apart"},
+        {{48, 4, 1, 0, 0, 0}, 2, "rows of 4 letters, 3 on the baseline"},
+        {{48, 3, 1, 0, 0, 0}, 1, "rows of 3 letters, 2 on the baseline"},
+        {{48, 8, 0, 0, 2, 30}, 2, "rows of 8 letters, 2 letters across"},
+        {{48, 8, 0, 0, 3, 30}, 1, "rows of 8 letters, 3 letters across"},
+        {{48, 3, 0, 0, 1, 35}, 1, "rows of 3 letters, a piece 35 px tall across"},
+        {{48, 3, 0, 0, 1, 36}, 2, "rows of 3 letters, a piece 36 px tall across"},
+        {{48, 12, 1, 20, 0, 0}, 1, "rows with a bar 20 px wide between"},
+        {{48, 12, 1, 18, 0, 0}, 2, "rows with a stroke 18 px wide between"},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof *cases; i++)
+        CHECK_INT(stacked_rows(cases[i].sc), cases[i].lines, "%s run together: lines",
+                  cases[i].what);
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -725,6 +812,7 @@ int main(void)
     test_joined_letters();
     test_broken_rule();
     test_typewritten();
+    test_stacked_rows();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_lines");
 }
