@@ -152,9 +152,9 @@ typedef struct lt_separators {
     lt_box *gutters; /* column gutters: bounding boxes of the connected white regions
                         between columns (a line printed across a gutter cuts it in two) */
     int ngutters;
-    uint8_t *beside_items; /* by gutter: 1 where a column of short items stands on one side
-                              (labels, line numbers): it separates no lines, but for the
-                              numbered rows of lt_link_blocked */
+    uint8_t *items_left; /* by gutter: 1 where a column of short items (labels, line numbers)
+                            stands on its left and text on its right: it separates no lines,
+                            but for the numbered rows of lt_link_blocked */
     /* the gutter cells, for constant-time queries: a summed-area table of the cell grid */
     int cols, rows;
     double cell_px;
@@ -173,8 +173,8 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
 int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1);
 /* Whether a link between two pieces of text on one row, with the gap [x0, x1) between them
  * and their rows [top, bottom), is refused: a separator lies in the gap, or the gap is wider
- * than a label's space and runs, white, between words through the white beside a column of
- * short items (a listing's line numbers), or the gap is wider than a stretched word space and
+ * than a label's space and runs, white, between words through the white right of a column
+ * of short items (a listing's line numbers), or the gap is wider than a stretched word space and
  * a white strip through it has text on both sides in the line above or below. Gap widths are
  * judged against `height`, the smaller of the two pieces' heights (px): the word spaces of
  * large type are wide, while a piece that spans two touching lines is no larger type. */

@@ -25,12 +25,12 @@ static const double GUTTER_MAX_WIDTH = 12.0; /* a wider white is a margin or an 
 static const double NARROW_COLUMN = 4.0;
 static const double NARROW_GAP = 2.0;
 static const double NARROW_SHARE = 0.25;
-/* Beside such a column, a gap wider than ITEM_GAP (a label stands an en or em space, one or
- * two text heights, before its item), white in the pair's rows and with words within
+/* Right of such a column, a gap wider than ITEM_GAP (a label stands an en or em space, one
+ * or two text heights, before its item), white in the pair's rows and with words within
  * ITEM_WORD_REACH on both sides, is the white after a listing's line numbers or a
  * bibliography's labels set in a column of their own: it parts the numbers from their rows.
- * A leader's dots lead on to their page numbers, and a link from the entry over its leader
- * has dots in its gap: both stay joined. */
+ * Page numbers after their entries stay joined, reached by a leader (whose dots stand in the
+ * gap or end it) or set off by white where the entry left no room for one. */
 static const double ITEM_GAP = 2.5;
 static const double ITEM_WORD_REACH = 1.0;
 /* Evidence for a gutter, in text heights of rows (a line of body text inks about two):
@@ -544,7 +544,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
-    if (!rc && !(s->beside_items = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
+    if (!rc && !(s->items_left = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];
         /* back to cells, within the grid (the pixel box was rounded outwards) */
@@ -558,7 +558,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                   nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,
                                    line_ink);
         if (nl == nr) continue;
-        s->beside_items[k] = 1;
+        s->items_left[k] = nl;
         /* the lines run on across it; the columns of text beside it stay columns */
         for (int y = in_cells.top; y < in_cells.bottom; y++)
             memset(mask + (size_t)y * s->cols + in_cells.left, 0,
@@ -643,7 +643,7 @@ static int bodies_in(const lt_separators *s, int cx0, int cy0, int cx1, int cy1)
 }
 
 /* Whether the gap [x0, x1) of a pair in the rows [top, bottom) parts a column of short items
- * from its rows (see ITEM_GAP): it runs through the white of a gutter region beside such a
+ * from its rows (see ITEM_GAP): it runs through the white of a gutter region right of such a
  * column, holds no text in those rows (no leader), and words stand within ITEM_WORD_REACH of
  * it on both sides. */
 static int across_item_column(const lt_separators *s, double x0, double x1, double top,
@@ -653,14 +653,14 @@ static int across_item_column(const lt_separators *s, double x0, double x1, doub
     const int cx0 = (int)ceil(x0 / cell), cx1 = (int)floor(x1 / cell);
     const int cy0 = (int)ceil(top / cell), cy1 = (int)floor(bottom / cell);
     if (cx1 <= cx0 || cy1 <= cy0) return 0;
-    int beside = 0;
-    for (int k = 0; k < s->ngutters && !beside; k++) {
+    int after_items = 0;
+    for (int k = 0; k < s->ngutters && !after_items; k++) {
         const lt_box *g = &s->gutters[k];
-        beside = s->beside_items[k] && g->left < cx1 * cell && g->right > cx0 * cell &&
-                 g->top < cy1 * cell && g->bottom > cy0 * cell;
+        after_items = s->items_left[k] && g->left < cx1 * cell && g->right > cx0 * cell &&
+                      g->top < cy1 * cell && g->bottom > cy0 * cell;
     }
     const int reach = (int)ceil(ITEM_WORD_REACH * s->th / cell);
-    return beside && cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
+    return after_items && cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
            bodies_in(s, (int)floor(x0 / cell) - reach, cy0, (int)floor(x0 / cell), cy1) &&
            bodies_in(s, cx1 + (cx1 * cell < x1), cy0, cx1 + (cx1 * cell < x1) + reach, cy1);
 }
@@ -674,7 +674,7 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
     const double scale = fmax(1.0, height / (LINE_HEIGHT * s->th));
     if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
     if (lt_gutter_between(s, x0, x1, top, bottom)) return 1;
-    if (s->beside_items && x1 - x0 >= ITEM_GAP * s->th * scale &&
+    if (s->items_left && x1 - x0 >= ITEM_GAP * s->th * scale &&
         across_item_column(s, x0, x1, top, bottom))
         return 1;
     if (!s->text_sum || x1 - x0 < LOCAL_STRIP_GAP * s->th * scale) return 0;
@@ -696,7 +696,7 @@ void lt_separators_free(lt_separators *s)
     free(s->gutters);
     free(s->sum);
     free(s->text_sum);
-    free(s->beside_items);
+    free(s->items_left);
     free(s->occupancy);
     free(s);
 }

@@ -403,7 +403,8 @@ static int draw_plain_line(page *p, int x0, int x1, int baseline, int first, int
  * code: at 48 px each number is read with its line, at 52 px and at 70 px it is a line of its
  * own. lt_link_blocked over the 70 px white from a point 15 px right of the numbers' ink (16
  * px: words within a text height) and from one 20 px right of it (21 px: none, and a gap of
- * 50 px): refused, and not. */
+ * 50 px): refused, and not. Page numbers set after their entries, 52 px on, are read with
+ * them: the rule parts only items standing before their rows. */
 static void test_numbered_listing(void)
 {
     const int gaps[] = {48, 52, 70}, numbers_right = 200, rows = 12;
@@ -440,6 +441,29 @@ static void test_numbered_listing(void)
             result_free(&res);
             page_free(p);
         }
+    /* Page numbers after their entries: the entries end flush at x = 600, the numbers stand
+     * 52 px further on. Each entry is read with its number. */
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "entries, numbers 52 px after them, seed %d", seed);
+        tu_rng r = {(uint64_t)(490 + seed)};
+        page *p = page_new(1000, 800);
+        const int entries_right = 600, numbers = entries_right + 52;
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            const int l = draw_plain_line(p, COL_X0 + 13 * tu_range(&r, 0, 20), entries_right, y,
+                                          LETTER_FULL, LETTER_X);
+            for (int k = 0; k < 1 + i % 3; k++)
+                draw_glyph(p, l, tu_box(numbers + 14 * k, y - XH, numbers + 14 * k + 11, y), 0);
+        }
+        result res = run_stages(p, what);
+        CHECK_INT(gutters_in(&res, entries_right, numbers), 1, "%s: gutter regions", what);
+        compare_lines(p, &res, what);
+        CHECK_INT(lines_across(&res, entries_right, numbers), rows,
+                  "%s: lines from an entry into its number", what);
+        result_free(&res);
+        page_free(p);
+    }
 }
 
 /* 5. Two columns (gutter of 2 text heights) of three paragraphs of 5 lines each, the
