@@ -7,9 +7,10 @@
  * and W follow, so a faded or lightened copy of a page gives the page's own ink. M = 0 and
  * W = 255 give Sauvola's T = m * (1 + k * (s / R - 1)), whose threshold over flat paper,
  * (1 - k) m, lies below faded print (ink 170 on paper 235: 155). Wolf & Jolion take M = the
- * image minimum and R = the largest s on the page (k = 0.5; values from memory). Here M and W
- * come from the page's darkest 3 x 3 tile and its paper's gray (gray_points); a page whose
- * black is dark against its paper, as print scanned on any paper is, keeps Sauvola's
+ * image minimum and R = the largest s on the page (k = 0.5; values from memory). Here W is the
+ * page's paper gray and M the level of its ink (ink_black: the darkest solid 3 x 3 tile, not the
+ * darkest tile, which a resampled copy's ringing or thin type moves either way); a page whose
+ * darkest tile is dark against its paper, as print scanned on any paper is, keeps Sauvola's
  * threshold, a pale one gets the stretch, and the pages in between part of it; by the same
  * share, where the lightest tile within a window's reach is darker than W (a tint, a shaded
  * box), its mean takes W's place.
@@ -88,6 +89,25 @@ static const double PLAIN_RATIO = 0.3;
  * gray, which Sauvola's threshold reaches only in the densest windows (copies of a page mapped
  * onto [150, 255] or [170, 235]: 0.59 to 0.72); in between, the stretch grows linearly. */
 static const double STRETCHED_RATIO = 0.55;
+/* Deviation of the nine pixels of a tile, as a share of the page's range from its darkest tile
+ * to its paper, up to which the tile is solid: the inside of a stroke, a rule or a bold letter
+ * (a tile across a stroke's edge deviates by a third of the range and more). On the copies of
+ * the development pages resampled from 300 to 200 dpi, the darkest solid tile lay within 5
+ * levels of 255 (1.2 levels of 65) above the ink's own black; the darkest tile, 19 levels below
+ * it to 32 above. */
+static const double SOLID_DEVIATION = 0.02;
+/* How far above the darkest tile, as a share of the same range, a solid tile may lie and still
+ * be the ink's black: resampling with a sharpening kernel (Lanczos) rings below black beside
+ * the edges of strokes by up to about an eighth of the step, where the darkest tile then lies.
+ * A solid tile farther up is gray print or a shaded box (38 % of the range above on a page of
+ * code on gray), or on a scan a patch of faint ink (29 % on the faint real scan). */
+static const double RINGING_SHARE = 0.125;
+/* On a page without a solid tile of ink (type too thin to hold one at the page's resolution),
+ * the share of the ink's pixels (those darker than halfway from the darkest tile to the paper)
+ * whose level the black point is where that is darker than the darkest tile: stroke cores, the
+ * darkest quarter of a stroke's pixels; on the resampled copies of such pages, 6 levels of 255
+ * below the ink's black on average, where the darkest tile lay 14 to 32 above it. */
+static const double INK_CORE_SHARE = 0.25;
 
 /* The gray range [black, black + span] stretched to [0, 255]: Sauvola's threshold on the
  * stretched gray, mapped back, is T = black + (m - black) (1 - k + k s / R'), R' = R span / 255
@@ -212,32 +232,114 @@ static inline uint8_t is_ink(double g, double sum, double sumsq, double inv_n, d
     return (uint8_t)((a <= 0) | (a * a < b * b * var));
 }
 
-/* The gray points from a histogram of whole-tile sums (TILE_SUMS bins, `tiles` counted): from the
- * page's black point M (the darkest tile's mean) and white point W (the mean that WHITE_SHARE of
- * the tiles are at most), the share t of the full stretch by the ratio M / W (0 up to PLAIN_RATIO,
- * 1 from STRETCHED_RATIO, linear between), and the points t M and 255 - t (255 - W): (0, 255),
- * plain Sauvola, for print on paper, (M, W) for a pale page. */
-static void points_from_histogram(const uint32_t *hist, size_t tiles, double *black, double *white,
-                                  double *share)
+/* From a histogram of whole-tile sums (TILE_SUMS bins, `tiles` counted): the page's darkest
+ * tile's mean, its white point W (the mean that WHITE_SHARE of the tiles are at most) and the
+ * share t of the full stretch by the ratio of the two (0 up to PLAIN_RATIO, 1 from
+ * STRETCHED_RATIO, linear between). */
+static void points_from_histogram(const uint32_t *hist, size_t tiles, double *darkest,
+                                  double *white, double *share)
 {
-    int darkest = 0;
-    while (darkest < TILE_SUMS - 1 && hist[darkest] == 0)
-        darkest++;
+    int dark_sum = 0;
+    while (dark_sum < TILE_SUMS - 1 && hist[dark_sum] == 0)
+        dark_sum++;
     const double want = WHITE_SHARE * (double)tiles;
     size_t below = 0;
     int lightest = 0;
     for (; lightest < TILE_SUMS - 1; lightest++)
         if ((double)(below += hist[lightest]) >= want) break;
-    const double page_black = (double)darkest / (TILE * TILE);
-    const double page_white = (double)lightest / (TILE * TILE);
-    const double ratio = page_white > 0 ? page_black / page_white : 0;
-    const double t = ratio <= PLAIN_RATIO ? 0
-                     : ratio >= STRETCHED_RATIO
-                         ? 1
-                         : (ratio - PLAIN_RATIO) / (STRETCHED_RATIO - PLAIN_RATIO);
-    *black = t * page_black;
-    *white = 255.0 - t * (255.0 - page_white);
-    *share = t;
+    *darkest = (double)dark_sum / (TILE * TILE);
+    *white = (double)lightest / (TILE * TILE);
+    const double ratio = *white > 0 ? *darkest / *white : 0;
+    *share = ratio <= PLAIN_RATIO        ? 0
+             : ratio >= STRETCHED_RATIO ? 1
+                                         : (ratio - PLAIN_RATIO) / (STRETCHED_RATIO - PLAIN_RATIO);
+}
+
+/* The least of INK_BLOCK gray levels. */
+static inline int block_min(const uint8_t *restrict src)
+{
+    uint8_t least = 255;
+    for (int i = 0; i < INK_BLOCK; i++)
+        least = src[i] < least ? src[i] : least;
+    return least;
+}
+
+/* Counts the n gray levels of src darker than `middle` into levels; returns how many. */
+static size_t count_dark(const uint8_t *src, int n, int middle, size_t *levels)
+{
+    size_t dark = 0;
+    for (int i = 0; i < n; i++)
+        if (src[i] < middle) levels[src[i]]++, dark++;
+    return dark;
+}
+
+/* The black point of a page whose range is stretched, from its darkest whole tile's mean
+ * `darkest` and its white point `white`: the mean of the darkest solid tile (SOLID_DEVIATION) at
+ * most RINGING_SHARE of the range above the darkest tile, the ink's own level where strokes are
+ * wide enough to hold one (the darkest tile may lie where a resampled copy rings below it);
+ * else the level INK_CORE_SHARE of the ink's pixels reach where that is darker than the darkest
+ * tile (thin type never fills a tile with its black). Whole tiles only: their sums of gray
+ * levels and of squares from tile_sum and tile_sq (a row of tiles every `stride` entries), or
+ * from the pixels where those are NULL. */
+static double ink_black(const lt_image *gray, const uint16_t *tile_sum, const uint32_t *tile_sq,
+                        int stride, double darkest, double white)
+{
+    const int w = gray->width, tiles_x = gray->width / TILE, tiles_y = gray->height / TILE;
+    const double range = white - darkest;
+    /* In integers: a tile of sum S and sum of squares Q deviates by sqrt(9 Q - S^2) / 9. */
+    const double most_deviation = TILE * TILE * SOLID_DEVIATION * range;
+    const int64_t most_spread = (int64_t)floor(most_deviation * most_deviation);
+    const int most_sum = (int)floor(TILE * TILE * (darkest + RINGING_SHARE * range));
+    int solid = INT32_MAX; /* the least sum of a solid tile */
+    _Static_assert(TILE == 3, "the sums below add 3 x 3 pixels");
+    for (int ty = 0; ty < tiles_y; ty++) {
+        const uint8_t *r0 = gray->pixels + (size_t)ty * TILE * w, *r1 = r0 + w, *r2 = r1 + w;
+        for (int tx = 0, x = 0; tx < tiles_x; tx++, x += TILE) {
+            int sum;
+            int64_t sq;
+            if (tile_sum) {
+                sum = tile_sum[(size_t)ty * stride + tx];
+                if (sum > most_sum || sum >= solid) continue;
+                sq = tile_sq[(size_t)ty * stride + tx];
+            } else {
+                sum = r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] + r2[x] +
+                      r2[x + 1] + r2[x + 2];
+                if (sum > most_sum || sum >= solid) continue;
+                sq = 0;
+                for (int i = 0; i < TILE; i++)
+                    sq += r0[x + i] * r0[x + i] + r1[x + i] * r1[x + i] + r2[x + i] * r2[x + i];
+            }
+            if (TILE * TILE * sq - (int64_t)sum * sum <= most_spread) solid = sum;
+        }
+    }
+    if (solid != INT32_MAX) return (double)solid / (TILE * TILE);
+    const int middle = (int)ceil(darkest + range / 2); /* ink: darker than this */
+    size_t levels[256] = {0}, ink = 0, reached = 0;
+    const int width = tiles_x * TILE;
+    for (int y = 0; y < tiles_y * TILE; y++) {
+        const uint8_t *row = gray->pixels + (size_t)y * w;
+        int x = 0;
+        for (; x + INK_BLOCK <= width; x += INK_BLOCK) /* blocks of paper passed at once */
+            if (block_min(row + x) < middle) ink += count_dark(row + x, INK_BLOCK, middle, levels);
+        ink += count_dark(row + x, width - x, middle, levels);
+    }
+    if (!ink) return darkest;
+    int core = 0;
+    for (; core < middle; core++)
+        if ((double)(reached += levels[core]) >= INK_CORE_SHARE * (double)ink) break;
+    return core < darkest ? core : darkest;
+}
+
+/* The gray points: (0, 255), plain Sauvola, for print on paper (share 0); else t B and
+ * 255 - t (255 - W) for the black point B (ink_black, with the tile sums as there) and the
+ * white point W, (B, W) for a pale page. */
+static void stretch_points(const lt_image *gray, const uint16_t *tile_sum, const uint32_t *tile_sq,
+                           int stride, double darkest, double white, double share,
+                           double *black_point, double *white_point)
+{
+    *black_point =
+        share > 0 ? share * ink_black(gray, tile_sum, tile_sq, stride, darkest, white) : 0;
+    *white_point = 255.0 - share * (255.0 - white);
 }
 
 /* lt_gray_points, and the share of the stretch in *share. */
@@ -256,8 +358,10 @@ static int page_points(const lt_image *gray, double *black, double *white, doubl
             hist[r0[x] + r0[x + 1] + r0[x + 2] + r1[x] + r1[x + 1] + r1[x + 2] + r2[x] + r2[x + 1] +
                  r2[x + 2]]++;
     }
-    points_from_histogram(hist, (size_t)tiles_x * tiles_y, black, white, share);
+    double darkest, paper;
+    points_from_histogram(hist, (size_t)tiles_x * tiles_y, &darkest, &paper, share);
     free(hist);
+    stretch_points(gray, NULL, NULL, 0, darkest, paper, *share, black, white);
     return 0;
 }
 
@@ -715,15 +819,6 @@ static void spread_thresholds(const int32_t *restrict thr, int gw, int w, int32_
     }
 }
 
-/* The least of INK_BLOCK gray levels. */
-static inline int block_min(const uint8_t *restrict src)
-{
-    uint8_t least = 255;
-    for (int i = 0; i < INK_BLOCK; i++)
-        least = src[i] < least ? src[i] : least;
-    return least;
-}
-
 /* One row of ink: dst[x] = 1 where the gray src[x] is at most the threshold interpolated
  * between the tile centres' rows above and below (spread_thresholds), weighted
  * weight_above : weight_below (thirds), 0 elsewhere. Spread thresholds are TILE times the
@@ -822,9 +917,9 @@ static int binarize_sampled(const lt_image *gray, int window_px, double k, doubl
     const int auto_points = black == LT_GRAY_POINT_AUTO && white == LT_GRAY_POINT_AUTO;
     double share = 0;
     if (w >= TILE && h >= TILE) { /* else 0 and 255, as lt_gray_points */
-        double page_black, page_white;
-        points_from_histogram(hist, (size_t)(w / TILE) * (h / TILE), &page_black, &page_white,
-                              &share);
+        double darkest, paper, page_black, page_white;
+        points_from_histogram(hist, (size_t)(w / TILE) * (h / TILE), &darkest, &paper, &share);
+        stretch_points(gray, tsum, tsq, gw, darkest, paper, share, &page_black, &page_white);
         black = black == LT_GRAY_POINT_AUTO ? page_black : black;
         white = white == LT_GRAY_POINT_AUTO ? page_white : white;
     }

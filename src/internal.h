@@ -62,9 +62,9 @@ void lt_shorten_middle(char *dst, size_t size, const char *text);
 /* 1 when dpi lies in LT_MIN_DPI..LT_MAX_DPI (0 for NaN and infinities). */
 int lt_dpi_plausible(double dpi);
 /* The gray points lt_binarize_normalized takes for LT_GRAY_POINT_AUTO (see lineate.h): from
- * the mean gray of the darkest 3 x 3 tile and the tile mean that nine tenths of the tiles are
- * at most (whole tiles at multiples of 3 px); 0 and 255 for a page of print on paper or without
- * a whole tile. Returns 0 or LT_ENOMEM. */
+ * the level of the ink (the darkest solid 3 x 3 tile, or the ink's darkest quarter) and the tile
+ * mean that nine tenths of the tiles are at most (whole tiles at multiples of 3 px); 0 and 255
+ * for a page of print on paper or without a whole tile. Returns 0 or LT_ENOMEM. */
 int lt_gray_points(const lt_image *gray, double *black, double *white);
 /* Where the analysis's binarization read light marks on a dark ground as the ink: one flag
  * per tile of tile_px x tile_px pixels of the page (tiles_x x tiles_y, row-major), 1 where it

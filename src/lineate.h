@@ -340,12 +340,16 @@ LT_API int lt_binarize_sampled(const lt_image *gray, int window_px, double k, do
  * paper of 235, which Sauvola's own threshold, 0.66 m over paper, loses) gives the ink of the
  * page itself; M = 0 and W = 255 give lt_binarize. `black` and `white` are gray levels 0..255
  * (black < white) or LT_GRAY_POINT_AUTO for the page's own: from the mean of its darkest 3 x 3
- * tile B and the tile mean P that nine tenths of the tiles are at most (the paper; tiles at
- * multiples of 3 px, whole tiles only), M = t B and W = 255 - t (255 - P), t = 0 while B is
+ * tile D and the tile mean P that nine tenths of the tiles are at most (the paper; tiles at
+ * multiples of 3 px, whole tiles only), M = t B and W = 255 - t (255 - P), t = 0 while D is
  * under 0.3 P (print on paper as scanned: Sauvola's threshold), 1 from 0.55 P (a pale page:
- * its whole range), linear between; with both points automatic, by the same share t, W is the
- * mean of the lightest tile within the window's reach where that is darker (a tint, a shaded
- * box has a paper of its own). `sampled` nonzero: sampled as lt_binarize_sampled, else exact. */
+ * its whole range), linear between; B, the ink's level, is the mean of the darkest tile whose
+ * pixels deviate by at most 2 % of P - D and that lies at most an eighth of P - D above D (solid
+ * ink; a copy resampled with a sharpening filter rings below it), else the level a quarter of
+ * the pixels darker than (D + P) / 2 reach where under D (type too thin to fill a tile), else
+ * D; with both points automatic, by the same share t, W is the mean of the lightest tile within
+ * the window's reach where that is darker (a tint, a shaded box has a paper of its own).
+ * `sampled` nonzero: sampled as lt_binarize_sampled, else exact. */
 #define LT_GRAY_POINT_AUTO (-1.0)
 LT_API int lt_binarize_normalized(const lt_image *gray, int window_px, double k, double r,
                                   double black, double white, int sampled, lt_image **ink,

@@ -467,6 +467,62 @@ static void test_pale(void)
     }
 }
 
+/* Sets the whole 3 x 3 tile whose top left pixel is (x, y) to `low` in its first `lows` pixels
+ * (row by row) and `high` in the rest. */
+static void set_tile(lt_image *g, int x, int y, int lows, int low, int high)
+{
+    for (int i = 0; i < 9; i++)
+        g->pixels[(size_t)(y + i / 3) * g->width + x + i % 3] = (uint8_t)(i < lows ? low : high);
+}
+
+/* The black point of a pale page (paper 235, stretched fully) when its darkest tile is not the
+ * ink's level. The darkest tile here has 4 pixels of 140 and 5 of 190 (mean 167.78, a tile
+ * across a stroke's edge where a resampled copy rings below black); the range to the paper is
+ * 67.22 levels. A solid tile (nine pixels within 2 % of the range, 1.34 levels: 8 d^2 <= 146
+ * for 8 pixels at v and one at v + d) at most an eighth of the range (8.4 levels, sums up to
+ * 1585) above the darkest is the black point: v = 170 with d = 4 (mean 170.44) is, d = 5 is not;
+ * a flat tile of 176 is, 177 is not. Without one, the level a quarter of the ink's pixels
+ * (darker than halfway to the paper) reach, where darker than the darkest tile: tiles of 4
+ * pixels of 150 and 5 of 200 (mean 177.78, the darkest) and tiles of 5 pixels of 200 and 4 of
+ * 215 (200 is ink, 215 is not); with 10 of the first, 13 of the second put 40 of 155 ink pixels
+ * (25.8 %) at 150, the black point; 15 put 40 of 165 (24.2 %), and the black point stays at the
+ * darkest tile. Expectations worked by hand from the rule in binarize.c. */
+static void test_black_point(void)
+{
+    const struct {
+        const char *what;
+        int solid_low, solid_high, solid_lows; /* a tile at (150, 150); 0 lows: none */
+        int thin_tiles; /* tiles of 200 and 215 beside ten of 150 and 200, in place of the above */
+        double black;
+    } cases[] = {
+        {"solid tile deviating 1.26 levels", 170, 174, 8, 0, 1534.0 / 9},
+        {"solid tile deviating 1.57 levels", 170, 175, 8, 0, 1510.0 / 9},
+        {"solid tile 8.2 levels above the darkest", 176, 176, 9, 0, 176},
+        {"solid tile 9.2 levels above the darkest", 177, 177, 9, 0, 1510.0 / 9},
+        {"thin type, 25.8 % of the ink at 150", 0, 0, 0, 13, 150},
+        {"thin type, 24.2 % of the ink at 150", 0, 0, 0, 15, 1600.0 / 9},
+    };
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        lt_image *g = tu_image(300, 300, LT_IMAGE_GRAY, 235);
+        if (cases[c].thin_tiles) {
+            for (int i = 0; i < 10; i++)
+                set_tile(g, 30 + 6 * i, 30, 4, 150, 200);
+            for (int i = 0; i < cases[c].thin_tiles; i++)
+                set_tile(g, 30 + 6 * i, 60, 5, 200, 215);
+        } else {
+            set_tile(g, 30, 30, 4, 140, 190);
+            set_tile(g, 150, 150, cases[c].solid_lows, cases[c].solid_low, cases[c].solid_high);
+        }
+        double black = -1, white = -1;
+        CHECK_INT(lt_gray_points(g, &black, &white), 0, "black point, %s: lt_gray_points",
+                  cases[c].what);
+        CHECK(fabs(black - cases[c].black) < 1e-9 && white == 235,
+              "black point, %s: gray points %.4f %g, want %.4f 235", cases[c].what, black, white,
+              cases[c].black);
+        lt_image_free(g);
+    }
+}
+
 /* Pale copies of a page with black print and a block of gray print (170, as captions,
  * marginal notes or shaded headings are set): its gray range mapped linearly onto [170, 235]
  * (pale), [150, 255] (light) and [170, 255] (gray), and onto [170, 255] with the last two rows
@@ -738,6 +794,7 @@ int main(void)
     test_sampled();
     test_sampled_interpolation();
     test_pale();
+    test_black_point();
     test_pale_copies();
     test_light_on_dark();
     test_light_at_dark_edge();
