@@ -6,6 +6,7 @@
  * commas, hyphens, accents) join the line whose band holds them. */
 #include "internal.h"
 
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -565,6 +566,7 @@ static void part_stacked(const lt_components *c, const uint8_t *body, int *paren
         int root = -1;
         for (int k = 0; k < n && root < 0; k++)
             if (body[m[k].index]) root = m[k].index;
+        assert(root >= 0); /* a group, and each row parted from one, holds letters */
         for (int k = 0; k < n; k++)
             parent[m[k].index] = root;
         return;

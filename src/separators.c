@@ -661,8 +661,7 @@ static int across_item_column(const lt_separators *s, double x0, double x1, doub
     }
     const int reach = (int)ceil(ITEM_WORD_REACH * s->th / cell);
     return after_items && cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
-           bodies_in(s, (int)floor(x0 / cell) - reach, cy0, (int)floor(x0 / cell), cy1) &&
-           bodies_in(s, cx1 + (cx1 * cell < x1), cy0, cx1 + (cx1 * cell < x1) + reach, cy1);
+           bodies_in(s, cx0 - reach, cy0, cx0, cy1) && bodies_in(s, cx1, cy0, cx1 + reach, cy1);
 }
 
 int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
