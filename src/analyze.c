@@ -135,7 +135,9 @@ static int level_stages(const lt_image *ink, int turn_deg, const lt_params *para
     lt_image_free(turned);
     lt_image_free(deskewed);
     turned = deskewed = NULL;
-    lp->th = lt_text_height(lp->comps, dpi);
+    /* the letters of a deskewed page carry the teeth of their turned edges: measured by cores */
+    lp->th =
+        rotate_deg != 0 ? lt_text_height_deskewed(lp->comps, dpi) : lt_text_height(lp->comps, dpi);
     if (lp->th < 0) {
         rc = lt_error_set(err, LT_ENOMEM, "out of memory");
         goto done;

@@ -5,6 +5,7 @@
  * not straight enough for a rule is speckle). */
 #include "internal.h"
 
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 
@@ -38,6 +39,14 @@ static const double LETTERS_MIN_HEIGHT = 2.0;
  * width, not the gap, keeps them letters. */
 static const double RULE_PIECE_WIDTH = 0.15;
 static const double RULE_PIECE_GAP = 0.25;
+
+/* On a deskewed page the text height is measured by the characters' core heights (see
+ * lt_component), which the teeth of the page's turned edges leave nearly as they were; a
+ * core is shorter than its box by the ink it leaves out, and CORE_TO_BOX turns the mode of
+ * the cores into the box height that the page, level, would give: the median ratio of the two
+ * modes over 108 level born-digital pages (on 80 % of them within 2.2 % below it and 1.6 %
+ * above). */
+static const double CORE_TO_BOX = 1.092;
 
 /* Row mates examined per character at most (bounds the work on pages of noise). */
 static const int MAX_MATE_TESTS = 256;
@@ -109,7 +118,30 @@ static void find_mates(const lt_components *c, const sized *s, int n, int band_p
     }
 }
 
-double lt_text_height(const lt_components *c, double dpi)
+/* The mode of a weighted histogram smoothed over three bins, refined: of the three
+ * neighbouring bins of weight[lo - 1 .. hi + 1] that hold the most weight together, the
+ * weighted mean of their values (bin h standing for h + offset); 0 when the bins are empty. */
+static double smoothed_mode(const double *weight, int lo, int hi, double offset)
+{
+    int best = lo;
+    double best_sum = -1;
+    for (int h = lo; h <= hi; h++) {
+        const double sum = weight[h - 1] + weight[h] + weight[h + 1];
+        if (sum > best_sum) {
+            best_sum = sum;
+            best = h;
+        }
+    }
+    if (!(best_sum > 0)) return 0;
+    const double value_sum =
+        (best - 1) * weight[best - 1] + best * weight[best] + (best + 1) * weight[best + 1];
+    return value_sum / best_sum + offset;
+}
+
+/* The text height of lt_text_height, or on a deskewed page (`deskewed`) CORE_TO_BOX times
+ * the mode of the core heights of the same characters, in bins of a pixel (a bin standing
+ * for its middle). */
+static double text_height(const lt_components *c, double dpi, int deskewed)
 {
     if (!c || c->count == 0) return 0;
     if (!lt_dpi_plausible(dpi)) dpi = 300; /* keeps the sizes below in range */
@@ -119,7 +151,7 @@ double lt_text_height(const lt_components *c, double dpi)
      * the many dots and specks, decides. */
     const int min_h = dpi / 50 > 3 ? (int)(dpi / 50) : 3;
     const int max_h = (int)(dpi / 3) > min_h + 1 ? (int)(dpi / 3) : min_h + 1;
-    int *hist = calloc((size_t)max_h + 2, sizeof *hist);
+    double *hist = calloc((size_t)max_h + 2, sizeof *hist);
     sized *s = malloc(((size_t)c->count + 1) * sizeof *s);
     uint8_t *mate = calloc((size_t)c->count + 1, 1);
     if (!hist || !s || !mate) {
@@ -137,33 +169,30 @@ double lt_text_height(const lt_components *c, double dpi)
     }
     qsort(s, (size_t)n, sizeof *s, cmp_sized);
     find_mates(c, s, n, max_h, mate);
-    int counted = 0;
     for (int k = 0; k < n; k++) {
         if (!mate[k]) continue;
-        const lt_box *b = &c->items[s[k].index].box;
-        hist[b->bottom - b->top] += b->right - b->left;
-        counted++;
+        const lt_component *q = &c->items[s[k].index];
+        /* a core is never taller than its box: its bin lies within the histogram */
+        const int bin = deskewed ? (int)q->core_height : lt_box_height(&q->box);
+        assert(bin >= 0 && bin <= max_h);
+        hist[bin] += lt_box_width(&q->box);
     }
-    double mode = 0;
-    if (counted > 0) {
-        /* Mode of the histogram smoothed over three bins, refined to the mean of those bins. */
-        int best = min_h;
-        long best_sum = -1;
-        for (int h = min_h; h <= max_h; h++) {
-            long sum = (long)hist[h - 1] + hist[h] + hist[h + 1];
-            if (sum > best_sum) {
-                best_sum = sum;
-                best = h;
-            }
-        }
-        double wsum = (double)(best - 1) * hist[best - 1] + (double)best * hist[best] +
-                      (double)(best + 1) * hist[best + 1];
-        mode = best_sum > 0 ? wsum / best_sum : best;
-    }
+    const double mode = deskewed ? CORE_TO_BOX * smoothed_mode(hist, 1, max_h, 0.5)
+                                 : smoothed_mode(hist, min_h, max_h, 0);
     free(hist);
     free(s);
     free(mate);
     return mode;
+}
+
+double lt_text_height(const lt_components *c, double dpi)
+{
+    return text_height(c, dpi, 0);
+}
+
+double lt_text_height_deskewed(const lt_components *c, double dpi)
+{
+    return text_height(c, dpi, 1);
 }
 
 /* The first index of by_top (n components sorted by their top) whose top is at least y. */

@@ -165,6 +165,11 @@ typedef struct lt_separators {
     double th;         /* the text height the stage was given */
 } lt_separators;
 
+/* The text height of a page that was deskewed (turned level by lt_rotate_ink), in the units of
+ * lt_text_height: from the characters' core heights rather than their boxes (see
+ * CORE_TO_BOX in classify.c). 0 when there are no characters, -1 when out of memory. */
+double lt_text_height_deskewed(const lt_components *c, double dpi);
+
 /* Finds the rules (components classified LT_COMP_RULE) and the column gutters of a page. */
 int lt_find_separators(const lt_components *c, double text_height_px, lt_separators **out,
                        lt_error *err);

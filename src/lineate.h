@@ -370,9 +370,11 @@ LT_API int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, 
 
 typedef struct lt_component {
     lt_box box;
-    long pixels;   /* ink pixel count */
-    double cx, cy; /* centroid (mean of pixel centres) */
-    int kind;      /* LT_COMP_* (set by lt_classify_components) */
+    long pixels;        /* ink pixel count */
+    double cx, cy;      /* centroid (mean of pixel centres) */
+    int kind;           /* LT_COMP_* (set by lt_classify_components) */
+    double core_height; /* px, fractional: the height of the rows that hold its ink but the top
+                         * and bottom 3 % of it (a row's ink taken as spread evenly over it) */
 } lt_component;
 
 typedef struct lt_components {
@@ -386,7 +388,7 @@ LT_API int lt_find_components(const lt_image *ink, long max_components, lt_compo
                               lt_error *err);
 LT_API void lt_components_free(lt_components *c);
 
-/* Text height of a page: mode of the heights of plausible character components
+/* Text height of a level page: mode of the box heights of plausible character components
  * (0 when there are none, -1 when out of memory). A dpi outside LT_MIN_DPI..LT_MAX_DPI counts as 300. */
 LT_API double lt_text_height(const lt_components *c, double dpi);
 /* Sets kind of every component from its size relative to text_height_px. */

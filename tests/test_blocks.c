@@ -70,9 +70,12 @@ static void check_page(const page *p, uint64_t seed, const char *what)
     lt_component comp[MAX_LINES];
     for (int i = 0; i < p->n; i++) {
         const lt_box *b = &p->lines[i].box;
-        comp[i] =
-            (lt_component){*b, (long)(b->right - b->left) * (b->bottom - b->top),
-                           0.5 * (b->left + b->right), 0.5 * (b->top + b->bottom), LT_COMP_TEXT};
+        comp[i] = (lt_component){*b,
+                                 (long)(b->right - b->left) * (b->bottom - b->top),
+                                 0.5 * (b->left + b->right),
+                                 0.5 * (b->top + b->bottom),
+                                 LT_COMP_TEXT,
+                                 lt_box_height(b)};
     }
     const lt_components comps = {comp, p->n};
     lt_separators *seps = NULL;

@@ -1,6 +1,7 @@
 /* test_components.c — checks lt_find_components against leptonica's pixConnComp(pix, &pixa, 8)
  * (Debian libleptonica-dev, a general-purpose image library lineate did not write): count,
- * every box, the order, pixel counts and centroids on random, real and border-case images;
+ * every box, the order, pixel counts, centroids and core heights (from leptonica's ink count
+ * of each row of a component) on random, real and border-case images;
  * plus a hand-made example and the max_components limit.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "testutil.h"
@@ -9,7 +10,33 @@ typedef struct ref_comp {
     lt_box box;
     long pixels;
     double cx, cy; /* centroid of pixel centres, lineate's convention */
+    double core;   /* core height (lt_component) from leptonica's ink count of each row */
 } ref_comp;
+
+/* The height of the rows that hold all but `trim` of the ink at the top and at the bottom,
+ * from the ink of each row (n rows), a row's ink spread evenly over it: the definition of
+ * lt_component's core_height, computed here from the rows directly. */
+static double core_from_rows(const double *row, int n, double trim)
+{
+    double total = 0;
+    for (int y = 0; y < n; y++)
+        total += row[y];
+    const double lo = trim * total, hi = total - lo;
+    double above = 0, top = 0, bottom = n;
+    int have_top = 0;
+    for (int y = 0; y < n; y++) {
+        if (!have_top && above + row[y] >= lo) {
+            top = y + (lo - above) / row[y];
+            have_top = 1;
+        }
+        if (above + row[y] >= hi) {
+            bottom = y + (hi - above) / row[y];
+            break;
+        }
+        above += row[y];
+    }
+    return bottom - top;
+}
 
 /* The components leptonica finds, in its order. pixConnComp finds each component by scanning
  * for the next ON pixel in raster order and filling from it, so its order is "first pixel in
@@ -36,6 +63,18 @@ static ref_comp *leptonica_components(const lt_image *ink, int *count)
         r[i].pixels = cnt;
         r[i].cx = x + xave + 0.5;
         r[i].cy = y + yave + 0.5;
+        NUMA *rows = pixCountPixelsByRow(c, NULL);
+        if (!rows) tu_die("pixCountPixelsByRow failed");
+        double *row = malloc(((size_t)h + 1) * sizeof *row);
+        if (!row) tu_die("out of memory");
+        for (int k = 0; k < h; k++) {
+            l_float32 v = 0;
+            numaGetFValue(rows, k, &v);
+            row[k] = v;
+        }
+        r[i].core = core_from_rows(row, h, 0.03);
+        free(row);
+        numaDestroy(&rows);
         pixDestroy(&c);
     }
     LEPT_FREE(centtab);
@@ -89,7 +128,7 @@ static void compare_with_leptonica(const lt_image *ink, const char *what)
         }
     CHECK_INT(box_diff, 0, "%s: boxes (sorted) differing from leptonica", what);
     /* Order: leptonica's is by first pixel in raster order, the order lineate documents. */
-    int order_diff = 0, pix_diff = 0, cent_diff = 0;
+    int order_diff = 0, pix_diff = 0, cent_diff = 0, core_diff = 0;
     for (int i = 0; i < n; i++) {
         const lt_component *k = &c->items[i];
         if (tu_cmp_box(&k->box, &ref[i].box) != 0) {
@@ -103,10 +142,14 @@ static void compare_with_leptonica(const lt_image *ink, const char *what)
         if ((fabs(k->cx - ref[i].cx) > 1e-3 || fabs(k->cy - ref[i].cy) > 1e-3) && cent_diff++ == 0)
             tu_fail("%s: centroid of component %d: (%.4f, %.4f), leptonica (%.4f, %.4f)", what, i,
                     k->cx, k->cy, ref[i].cx, ref[i].cy);
+        if (fabs(k->core_height - ref[i].core) > 1e-9 && core_diff++ == 0)
+            tu_fail("%s: core height of component %d: %.6f, from leptonica's rows %.6f", what, i,
+                    k->core_height, ref[i].core);
     }
     CHECK_INT(order_diff, 0, "%s: components out of leptonica's (raster) order", what);
     CHECK_INT(pix_diff, 0, "%s: components whose pixel count differs from leptonica", what);
     CHECK_INT(cent_diff, 0, "%s: components whose centroid differs from leptonica", what);
+    CHECK_INT(core_diff, 0, "%s: components whose core height differs from leptonica's rows", what);
     /* Raster order of the first pixel, checked on lineate's own result too: the first pixel
      * of a component is on its top row, so tops never decrease. */
     int raster_bad = 0;
@@ -316,6 +359,36 @@ static void test_hand_made(void)
     lt_image_free(img);
 }
 
+/* Core heights by hand: a square 20 px a side leaves out 3 % of its 400 pixels, 0.6 of a row,
+ * at each end: 18.8. One row of 3 pixels on top (a tooth of a turned edge) adds a row to the
+ * box and 0.141 to the core (403 pixels: 12.09 left out at each end, the tooth's 3 and 0.4545
+ * of the next row; 7.91 pixels of the last row). A top row of 12 pixels, under 3 % of 412, is
+ * left out whole (core 19.364: from 1.018 to 20.382); one of 13, over 3 % of 413, only in
+ * part (19.42742: from 0.95308 to 20.3805). */
+static void test_core_heights(void)
+{
+    const struct {
+        int tooth;
+        double core;
+    } cases[] = {{0, 18.8}, {3, 20.3955 - 1.4545}, {12, 20.382 - 1.018}, {13, 20.3805 - 0.95308}};
+    for (int ci = 0; ci < 4; ci++) {
+        char what[64];
+        snprintf(what, sizeof what, "square with a top row of %d pixels", cases[ci].tooth);
+        lt_image *img = tu_image(40, 40, LT_IMAGE_INK, 0);
+        tu_fill(img, 10, 11, 30, 31, 1);
+        tu_fill(img, 14, 10, 14 + cases[ci].tooth, 11, 1);
+        lt_components *c = find(img, 10, what);
+        if (c && c->count == 1) {
+            CHECK_INT(lt_box_height(&c->items[0].box), cases[ci].tooth ? 21 : 20, "%s: box", what);
+            CHECK_NEAR(c->items[0].core_height, cases[ci].core, 1e-4, "%s: core height", what);
+        } else {
+            tu_fail("%s: want one component", what);
+        }
+        lt_components_free(c);
+        lt_image_free(img);
+    }
+}
+
 /* max_components: exactly at the limit passes, one over gives LT_ELIMIT and no result. */
 static void test_limit(void)
 {
@@ -349,6 +422,7 @@ int main(void)
     setMsgSeverity(L_SEVERITY_WARNING);
     double t0 = tu_now_s();
     test_hand_made();
+    test_core_heights();
     test_diagonals();
     test_borders();
     test_random();

@@ -341,6 +341,39 @@ static void test_text_height_among_specks(void)
     page_free(p);
 }
 
+/* Text height of a deskewed page: ten rows of thirty letters, 12 px wide and 22 tall, 6 px
+ * apart, plain and with a tooth 2 px wide on the top and on the bottom row of each (the teeth
+ * that a turned edge keeps; at a letter's own place along it). The boxes grow by two rows
+ * (lt_text_height 22, then 24); the core heights (without 3 % of the ink at either end: 20.68
+ * plain, 20.99 with the teeth, which hold under 1 % of it each) stay in the bin of 20 px,
+ * which stands for 20.5 px: lt_text_height_deskewed gives 1.092 x 20.5 for both. */
+static void test_text_height_deskewed(void)
+{
+    for (int teeth = 0; teeth < 2; teeth++) {
+        const char *what = teeth ? "letters with teeth" : "plain letters";
+        lt_image *img = tu_image(700, 600, LT_IMAGE_INK, 0);
+        for (int row = 0; row < 10; row++)
+            for (int k = 0; k < 30; k++) {
+                const int x = 20 + 18 * k, y = 40 + 48 * row, at = x + (k * 5 + row) % 10;
+                tu_fill_box(img, tu_box(x, y, x + 12, y + 22), 1);
+                if (!teeth) continue;
+                tu_fill_box(img, tu_box(at, y - 1, at + 2, y), 1);
+                tu_fill_box(img, tu_box(at, y + 22, at + 2, y + 23), 1);
+            }
+        lt_error err = {0};
+        lt_components *comps = NULL;
+        if (lt_find_components(img, LT_DEFAULT_MAX_COMPONENTS, &comps, &err)) {
+            tu_fail("%s: components: %s", what, err.message);
+        } else {
+            CHECK_NEAR(lt_text_height(comps, 300), teeth ? 24 : 22, 1e-9, "%s: by boxes", what);
+            CHECK_NEAR(lt_text_height_deskewed(comps, 300), 1.092 * 20.5, 1e-9,
+                       "%s: by core heights", what);
+        }
+        lt_components_free(comps);
+        lt_image_free(img);
+    }
+}
+
 /* A scan's border: a paragraph of five lines with, at the left edge of the image (x 10..15),
  * thin strokes 30 px tall one above the other (the dark border broken up), and more strokes
  * nearer the right edge: 5 px wide (a quarter of a text height) at 5 and 7.5 text heights
@@ -606,11 +639,10 @@ static void test_typewritten(void)
 {
     const struct {
         int letter_gap, space, gutter, spaces, narrow, lone, rule, whole;
-    } cases[] = {{6, 30, 34, 3, 0, 0, 0, 1},   {6, 30, 38, 3, 0, 0, 0, 0},
-                 {6, 30, 34, 2, 0, 0, 0, 0},   {14, 30, 34, 3, 0, 0, 0, 1},
-                 {16, 30, 34, 3, 0, 0, 0, 0},  {6, 30, 34, 3, 0, 0, 1, 0},
-                 {6, 30, 34, 3, 14, 0, 0, 1},  {6, 30, 34, 3, 16, 0, 0, 0},
-                 {6, 30, 34, 3, 0, 70, 0, 1}};
+    } cases[] = {
+        {6, 30, 34, 3, 0, 0, 0, 1},  {6, 30, 38, 3, 0, 0, 0, 0},  {6, 30, 34, 2, 0, 0, 0, 0},
+        {14, 30, 34, 3, 0, 0, 0, 1}, {16, 30, 34, 3, 0, 0, 0, 0}, {6, 30, 34, 3, 0, 0, 1, 0},
+        {6, 30, 34, 3, 14, 0, 0, 1}, {6, 30, 34, 3, 16, 0, 0, 0}, {6, 30, 34, 3, 0, 70, 0, 1}};
     const int ncases = (int)(sizeof cases / sizeof cases[0]);
     for (int ci = 0; ci < ncases; ci++) {
         char what[128];
@@ -804,6 +836,7 @@ int main(void)
     test_small_marks();
     test_analyze();
     test_text_height_among_specks();
+    test_text_height_deskewed();
     test_edge_slivers();
     test_initials_beside_gutter();
     test_scan_border();

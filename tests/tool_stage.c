@@ -129,7 +129,8 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     stage_ms[ST_ROTATE] += t_next - t;
     t = t_next;
     if ((rc = lt_find_components(page, p->max_components, &comps, err))) goto done;
-    double text_height_px = lt_text_height(comps, dpi);
+    double text_height_px =
+        page != ink ? lt_text_height_deskewed(comps, dpi) : lt_text_height(comps, dpi);
     if (text_height_px < 0) { /* as lt_analyze reports it */
         rc = lt_error_set(err, LT_ENOMEM, "text height: out of memory");
         goto done;
