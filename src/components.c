@@ -133,7 +133,7 @@ static int core_heights(const run *runs, const int *row_start, int height, const
                          hi = total - lo;
             if (above < lo && above + row >= lo) top[id] = y + (lo - above) / row;
             if (above < hi && above + row >= hi)
-                res->items[id].core_height = y + (hi - above) / row - top[id];
+                res->items[id].core_height = (float)(y + (hi - above) / row - top[id]);
             before[id] = above + row;
             in_row[id] = 0;
         }

@@ -370,11 +370,12 @@ LT_API int lt_rotate_ink(const lt_image *ink, double angle_deg, lt_image **out, 
 
 typedef struct lt_component {
     lt_box box;
-    long pixels;        /* ink pixel count */
-    double cx, cy;      /* centroid (mean of pixel centres) */
-    int kind;           /* LT_COMP_* (set by lt_classify_components) */
-    double core_height; /* px, fractional: the height of the rows that hold its ink but the top
-                         * and bottom 3 % of it (a row's ink taken as spread evenly over it) */
+    long pixels;       /* ink pixel count */
+    double cx, cy;     /* centroid (mean of pixel centres) */
+    int kind;          /* LT_COMP_* (set by lt_classify_components) */
+    float core_height; /* px, fractional: the height of the rows that hold its ink but the top
+                        * and bottom 3 % of it (a row's ink taken as spread evenly over it);
+                        * single precision, in what was the record's padding */
 } lt_component;
 
 typedef struct lt_components {

@@ -142,7 +142,8 @@ static void compare_with_leptonica(const lt_image *ink, const char *what)
         if ((fabs(k->cx - ref[i].cx) > 1e-3 || fabs(k->cy - ref[i].cy) > 1e-3) && cent_diff++ == 0)
             tu_fail("%s: centroid of component %d: (%.4f, %.4f), leptonica (%.4f, %.4f)", what, i,
                     k->cx, k->cy, ref[i].cx, ref[i].cy);
-        if (fabs(k->core_height - ref[i].core) > 1e-9 && core_diff++ == 0)
+        /* lineate keeps the core height in single precision (it fills the record's padding) */
+        if (fabs(k->core_height - ref[i].core) > 1e-6 * fmax(1, ref[i].core) && core_diff++ == 0)
             tu_fail("%s: core height of component %d: %.6f, from leptonica's rows %.6f", what, i,
                     k->core_height, ref[i].core);
     }
