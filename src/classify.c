@@ -41,7 +41,7 @@ static const double RULE_PIECE_WIDTH = 0.15;
 static const double RULE_PIECE_GAP = 0.25;
 
 /* On a deskewed page the text height is measured by the characters' core heights (see
- * lt_component), which the teeth of the page's turned edges leave nearly as they were; a
+ * lt_component), which the teeth of the page's turned edges move less than the boxes; a
  * core is shorter than its box by the ink it leaves out, and CORE_TO_BOX turns the mode of
  * the cores into the box height that the page, level, would give: the median ratio of the two
  * modes over 108 level born-digital pages (on 80 % of them within 2.2 % below it and 1.6 %

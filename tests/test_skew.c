@@ -410,7 +410,7 @@ static double level_text_height(const lt_image *ink, double angle_deg, int by_bo
 
 /* A page rotated by leptonica, binarized and turned level again: its letters' top and bottom
  * edges, binarized at an angle, carry teeth (a staircase) that add to their boxes (the text
- * height by boxes, lt_text_height, 2.6 to 3.9 % over the level page's), far less to the rows
+ * height by boxes, lt_text_height, 2.6 to 3.9 % over the level page's), less to the rows
  * that hold all but the outermost 3 % of their ink (their core heights: the text height by
  * cores, lt_text_height_deskewed, within 2 % of the level page's by cores, and nearer to it
  * at every angle than the text height by boxes is to the level page's). */
