@@ -467,24 +467,10 @@ static int band_beside_columns(const cut_context *x, const int *idx, int n, cons
     return found;
 }
 
-static int cmp_int(const void *pa, const void *pb)
-{
-    const int a = *(const int *)pa, b = *(const int *)pb;
-    return (a > b) - (a < b);
-}
-
 /* The largest share of the n values v[] (sorted here) that lie within `width` of each other. */
 static double largest_cluster(int *v, int n, double width)
 {
-    if (n == 0) return 0;
-    qsort(v, (size_t)n, sizeof *v, cmp_int);
-    int best = 0;
-    for (int lo = 0, hi = 0; hi < n; hi++) {
-        while (v[hi] - v[lo] > width)
-            lo++;
-        if (hi - lo + 1 > best) best = hi - lo + 1;
-    }
-    return (double)best / n;
+    return n > 0 ? (double)lt_largest_cluster(v, n, width) / n : 0;
 }
 
 /* Whether the lines idx[0..n) of a node on side `side` of a cut at `at` (0: left of it) are

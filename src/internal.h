@@ -13,6 +13,7 @@ int lt_mul_overflows(size_t a, size_t b, size_t *out);
 /* malloc of count*size bytes with overflow check; NULL on failure. */
 void *lt_alloc_array(size_t count, size_t size);
 int lt_cmp_double(const void *a, const void *b);
+int lt_cmp_int(const void *a, const void *b);
 /* An index with a sort key (a component by its left edge or its top); lt_cmp_keyed orders by
  * key, then by index, so that sorting does not depend on the order given. */
 typedef struct lt_keyed {
@@ -55,6 +56,9 @@ static inline int lt_box_height(const lt_box *b)
 
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
 double lt_median(double *v, int n);
+/* The most of the n values v[] (sorted in place) that lie within `width` of each other; 0 for
+ * n <= 0. */
+int lt_largest_cluster(int *v, int n, double width);
 /* Copies text into dst (size bytes with the NUL); text that does not fit loses a part of
  * its first fifth, marked "...", so that its end (in a message: the end of a file name and
  * the reason) is kept whole. UTF-8 characters are not cut. */

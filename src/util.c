@@ -168,11 +168,30 @@ int lt_cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+int lt_cmp_int(const void *pa, const void *pb)
+{
+    const int a = *(const int *)pa, b = *(const int *)pb;
+    return (a > b) - (a < b);
+}
+
 int lt_cmp_keyed(const void *pa, const void *pb)
 {
     const lt_keyed *a = pa, *b = pb;
     if (a->key != b->key) return (a->key > b->key) - (a->key < b->key);
     return (a->index > b->index) - (a->index < b->index);
+}
+
+int lt_largest_cluster(int *v, int n, double width)
+{
+    if (n <= 0) return 0;
+    qsort(v, (size_t)n, sizeof *v, lt_cmp_int);
+    int most = 0;
+    for (int lo = 0, hi = 0; hi < n; hi++) {
+        while (v[hi] - v[lo] > width)
+            lo++;
+        if (hi - lo + 1 > most) most = hi - lo + 1;
+    }
+    return most;
 }
 
 double lt_median(double *v, int n)
