@@ -65,9 +65,13 @@ static const double STACK_CROSSING = 0.25;
 static const double STACK_BASELINE_SHARE = 1.0 / 3;
 static const double STACK_BAR_HEIGHT = 0.3;
 static const double STACK_BAR_REACH = 0.25;
-/* Parting a group tries each letter's top against all its members: groups of more members
- * than this (rows of a halftone read as specks of text) are left whole. */
+/* Parting a group tries each distinct top of its letters against all its members: groups of
+ * more members than this (rows of a halftone read as specks of text) are left whole, and so
+ * are the groups past STACK_MAX_TESTS such tests on one page, as many as one group of
+ * STACK_MAX_MEMBERS with every top its own takes (a page of the development sets takes
+ * 120,000 at most): the work stays linear on a page of a million specks in tall groups. */
 enum { STACK_MAX_MEMBERS = 4000 };
+static const long STACK_MAX_TESTS = (long)STACK_MAX_MEMBERS * STACK_MAX_MEMBERS;
 /* A gutter no wider than the word spaces of the line it crosses is spaces lined up from row
  * to row (typewritten and monospaced text, where every space is a character wide): a link a
  * gutter refuses joins all the same when its gap is at most WORD_SPACE_TOLERANCE times the
@@ -474,30 +478,39 @@ static int wider_mode(const double *sorted, int n)
     return first;
 }
 
-static int cmp_middle(const void *pa, const void *pb)
-{
-    const lt_keyed *a = pa, *b = pb;
-    return (a->key > b->key) - (a->key < b->key);
-}
+/* The pieces of a stacked-rows search (part_stacked): the page's thin strokes at least a text
+ * height wide (STACK_BAR_HEIGHT), by twice their middle row, for bar_between; the row tops a
+ * search has tried (tried[y] == stamp); what is left of the page's STACK_MAX_TESTS; room for
+ * 2 n bottoms of a group of n members. */
+typedef struct stack_search {
+    const lt_components *c;
+    const uint8_t *body;
+    int *parent;
+    double th;
+    const lt_keyed *bars;
+    int nbars;
+    int *tried, stamp;
+    long tests_left;
+    int *bottoms;
+} stack_search;
 
-/* Whether a thin horizontal stroke (a fraction's bar, an underline, a rule) at least a text
- * height wide lies in the columns [left, right) with its middle in the rows [y0, y1]. */
-static int bar_between(const lt_components *c, int left, int right, double y0, double y1, double th)
+/* Whether a thin horizontal stroke of x->bars (a fraction's bar, an underline, a rule) lies in
+ * the columns [left, right) with its middle in the rows [y0, y1]. */
+static int bar_between(const stack_search *x, int left, int right, double y0, double y1)
 {
-    for (int i = 0; i < c->count; i++) {
-        const lt_box *b = &c->items[i].box;
-        const double cy = 0.5 * (b->top + b->bottom);
-        if (lt_box_height(b) < STACK_BAR_HEIGHT * th && lt_box_width(b) >= th && b->left < right &&
-            b->right > left && cy >= y0 && cy <= y1)
-            return 1;
+    int lo = 0, hi = x->nbars; /* the first bar whose middle is at y0 or below */
+    while (lo < hi) {
+        const int mid = lo + (hi - lo) / 2;
+        if (x->bars[mid].key < 2 * y0)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    for (int k = lo; k < x->nbars && x->bars[k].key <= 2 * y1; k++) {
+        const lt_box *b = &x->c->items[x->bars[k].index].box;
+        if (b->left < right && b->right > left) return 1;
     }
     return 0;
-}
-
-static int cmp_int(const void *pa, const void *pb)
-{
-    const int a = *(const int *)pa, b = *(const int *)pb;
-    return (a > b) - (a < b);
 }
 
 /* Whether letters of a row stand on one baseline: of the n bottoms (px; sorted in place) at
@@ -505,23 +518,19 @@ static int cmp_int(const void *pa, const void *pb)
  * each other. */
 static int on_a_baseline(int *bottoms, int n, double th)
 {
-    qsort(bottoms, (size_t)n, sizeof *bottoms, cmp_int);
-    int most = 0;
-    for (int lo = 0, hi = 0; hi < n; hi++) {
-        while (bottoms[hi] - bottoms[lo] > BASELINE_SLACK * th + 1)
-            lo++;
-        if (hi - lo + 1 > most) most = hi - lo + 1;
-    }
+    const int most = lt_largest_cluster(bottoms, n, BASELINE_SLACK * th + 1);
     return most >= STACK_MIN_BODIES && most >= STACK_BASELINE_SHARE * n;
 }
 
 /* The members m[0..n) of one group, sorted by their middles (key: twice the middle), parted
  * into rows one over the other (see STACK_MIN_HEIGHT): each row's members get the row's
- * first body as their root. Rows are parted again while a part holds two. `bottoms` has room
- * for 2 n values. */
-static void part_stacked(const lt_components *c, const uint8_t *body, int *parent, lt_keyed *m,
-                         int n, double th, int *bottoms)
+ * first body as their root. Rows are parted again while a part holds two. A top is tried
+ * once per search, against every member (n tests of the page's STACK_MAX_TESTS). */
+static void part_stacked(stack_search *x, lt_keyed *m, int n)
 {
+    const lt_components *c = x->c;
+    const uint8_t *body = x->body;
+    const double th = x->th;
     int left = 1 << 30, right = -1, top = 1 << 30, bottom = -1;
     for (int k = 0; k < n; k++) {
         const lt_box *b = &c->items[m[k].index].box;
@@ -531,29 +540,33 @@ static void part_stacked(const lt_components *c, const uint8_t *body, int *paren
         if (b->bottom > bottom) bottom = b->bottom;
     }
     int best_y = -1, best_fewer = STACK_MIN_BODIES - 1;
+    const int stamp = ++x->stamp;
     if (bottom - top >= STACK_MIN_HEIGHT * th && n <= STACK_MAX_MEMBERS)
-        for (int s = 0; s < n; s++) { /* a row may start at the top of any letter */
+        for (int s = 0; s < n && x->tests_left >= n; s++) { /* a row may start at any letter's top */
             const lt_box *row = &c->items[m[s].index].box;
             if (!body[m[s].index] || lt_box_height(row) > STACK_LETTER * th) continue;
             const int y = row->top;
+            if (x->tried[y] == stamp) continue; /* a later try of a top never does better */
+            x->tried[y] = stamp;
+            x->tests_left -= n;
             int above = 0, below = 0, crossing = 0, above_bottom = -1, below_top = 1 << 30;
             for (int k = 0; k < n; k++) {
                 const lt_box *b = &c->items[m[k].index].box;
                 if (!body[m[k].index] || lt_box_height(b) > STACK_LETTER * th) continue;
                 if (b->bottom <= y) {
-                    bottoms[above++] = b->bottom;
+                    x->bottoms[above++] = b->bottom;
                     if (b->bottom > above_bottom) above_bottom = b->bottom;
                 } else if (b->top >= y) {
-                    bottoms[n + below++] = b->bottom;
+                    x->bottoms[n + below++] = b->bottom;
                     if (b->top < below_top) below_top = b->top;
                 } else
                     crossing++;
             }
             const int fewer = above < below ? above : below;
             if (fewer > best_fewer && crossing <= STACK_CROSSING * fewer &&
-                on_a_baseline(bottoms, above, th) && on_a_baseline(bottoms + n, below, th) &&
-                !bar_between(c, left, right, fmin(above_bottom, below_top) - STACK_BAR_REACH * th,
-                             fmax(above_bottom, below_top) + STACK_BAR_REACH * th, th)) {
+                on_a_baseline(x->bottoms, above, th) && on_a_baseline(x->bottoms + n, below, th) &&
+                !bar_between(x, left, right, fmin(above_bottom, below_top) - STACK_BAR_REACH * th,
+                             fmax(above_bottom, below_top) + STACK_BAR_REACH * th)) {
                 best_fewer = fewer;
                 best_y = y;
             }
@@ -561,22 +574,21 @@ static void part_stacked(const lt_components *c, const uint8_t *body, int *paren
     int best_at = 0; /* the members above best_y: their middles lie above it */
     while (best_y >= 0 && best_at < n && m[best_at].key < 2 * best_y)
         best_at++;
-    if (best_at == 0 || best_at == n) best_at = -1;
-    if (best_at < 0) {
+    if (best_at == 0 || best_at == n) {
         int root = -1;
         for (int k = 0; k < n && root < 0; k++)
             if (body[m[k].index]) root = m[k].index;
         assert(root >= 0); /* a group, and each row parted from one, holds letters */
         for (int k = 0; k < n; k++)
-            parent[m[k].index] = root;
+            x->parent[m[k].index] = root;
         return;
     }
-    part_stacked(c, body, parent, m, best_at, th, bottoms);
-    part_stacked(c, body, parent, m + best_at, n - best_at, th, bottoms);
+    part_stacked(x, m, best_at);
+    part_stacked(x, m + best_at, n - best_at);
 }
 
 /* Groups of two or more rows one over the other are parted into their rows (see
- * STACK_MIN_HEIGHT). */
+ * STACK_MIN_HEIGHT). Returns 0 or LT_ENOMEM. */
 static int part_stacked_rows(const lt_components *c, const uint8_t *body, int *parent, double th)
 {
     lt_box *boxes;
@@ -584,17 +596,26 @@ static int part_stacked_rows(const lt_components *c, const uint8_t *body, int *p
     int nr;
     if (list_groups(c, body, parent, &boxes, &roots, &nr)) return LT_ENOMEM;
     const int n = c->count;
+    int page_bottom = 0;
+    for (int i = 0; i < n; i++)
+        if (c->items[i].box.bottom > page_bottom) page_bottom = c->items[i].box.bottom;
     placed *order = malloc(((size_t)n + 1) * sizeof *order);
     lt_keyed *members = malloc(((size_t)n + 1) * sizeof *members);
+    lt_keyed *bars = malloc(((size_t)n + 1) * sizeof *bars);
     int *bottoms = malloc(2 * ((size_t)n + 1) * sizeof *bottoms);
-    if (!order || !members || !bottoms) {
-        free(boxes);
-        free(roots);
-        free(order);
-        free(members);
-        free(bottoms);
-        return LT_ENOMEM;
+    int *tried = calloc((size_t)page_bottom + 1, sizeof *tried);
+    int rc = 0;
+    if (!order || !members || !bars || !bottoms || !tried) {
+        rc = LT_ENOMEM;
+        goto done;
     }
+    stack_search x = {c, body, parent, th, bars, 0, tried, 0, STACK_MAX_TESTS, bottoms};
+    for (int i = 0; i < n; i++) {
+        const lt_box *b = &c->items[i].box;
+        if (lt_box_height(b) < STACK_BAR_HEIGHT * th && lt_box_width(b) >= th)
+            bars[x.nbars++] = (lt_keyed){b->top + b->bottom, i};
+    }
+    qsort(bars, (size_t)x.nbars, sizeof *bars, lt_cmp_keyed);
     int m = 0;
     for (int i = 0; i < n; i++) {
         const int r = lt_uf_find(parent, i);
@@ -607,15 +628,18 @@ static int part_stacked_rows(const lt_components *c, const uint8_t *body, int *p
             const lt_box *b = &c->items[order[k1].index].box;
             members[k1 - k0] = (lt_keyed){b->top + b->bottom, order[k1].index};
         }
-        qsort(members, (size_t)(k1 - k0), sizeof *members, cmp_middle);
-        part_stacked(c, body, parent, members, k1 - k0, th, bottoms);
+        qsort(members, (size_t)(k1 - k0), sizeof *members, lt_cmp_keyed);
+        part_stacked(&x, members, k1 - k0);
     }
+done:
     free(boxes);
     free(roots);
     free(order);
     free(members);
+    free(bars);
     free(bottoms);
-    return 0;
+    free(tried);
+    return rc;
 }
 
 /* The word space of every group (by root): the lower median of its word spaces (see
