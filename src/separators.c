@@ -13,6 +13,7 @@
 /* Constants of the stage, in text heights (th) unless said otherwise. */
 static const double CELL_TH = 0.25;          /* side of an occupancy cell: fine enough for gaps */
 static const long MAX_CELLS = 1L << 24;      /* cells of the grid at most (the cell grows) */
+static const double CELL_SLACK = 1e-6;       /* cells: rounding error of a length in cells */
 static const double GUTTER_MIN_WIDTH = 1.2;  /* narrowest gutter: wider than a word space */
 static const double GUTTER_MAX_WIDTH = 12.0; /* a wider white is a margin or an empty area */
 /* A column of short items (page numbers set flush right after a column of text, list labels,
@@ -56,7 +57,10 @@ static const double LOCAL_STRIP_GAP = 3.0;
 /* Height of a line of body text (ascenders to descenders), in text heights: gap thresholds
  * grow with a pair taller than that (the word spaces of large type are wide). */
 static const double LINE_HEIGHT = 2.0;
-static const double STRIP_MIN_WIDTH = 1.5;
+/* Seven whole cells of white: 1.5 text heights had come out as 6 or 7 cells as the text
+ * height's last digits fell; 7 on every page scored as well as or better than either on the
+ * development sets. */
+static const double STRIP_MIN_WIDTH = 1.75;
 static const double STRIP_REACH = 5.0;
 static const double STRIP_SIDE = 4.0;
 /* Text on a side of the strip stands in rows as tall as a letter, not only in the few of a
@@ -95,6 +99,17 @@ static const double PINCH_MIN_BORDERED = 16.0; /* text heights of rows */
 static int imin(int a, int b)
 {
     return a < b ? a : b;
+}
+
+/* A length of `length_th` text heights in whole cells of `cell` px, rounded up (`up`) or
+ * down. A cell is a quarter text height, so most such lengths are whole numbers of cells,
+ * and their quotient in floating point lies a hair to either side of it as the text
+ * height's last digits fall (3 text heights were 12 cells at some heights and 13 at
+ * others). A quotient within CELL_SLACK of a whole number is that number. */
+static int th_cells(double length_th, double th, double cell, int up)
+{
+    const double q = length_th * th / cell;
+    return up ? (int)ceil(q - CELL_SLACK) : (int)floor(q + CELL_SLACK);
 }
 
 /* Marks the cells of the page's text in occ (cols x rows, row-major): 3 for bodies (letters,
@@ -529,18 +544,18 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
         goto nomem;
     }
     fill_occupancy(c, th, cell, s->cols, s->rows, occ);
-    const evidence e = {(int)ceil(GUTTER_MIN_WIDTH * th / cell),
-                        (int)(GUTTER_MAX_WIDTH * th / cell),
-                        (int)ceil(WORD_REACH * th / cell),
-                        (int)ceil(GUTTER_MIN_BORDERED * th / cell),
-                        (int)ceil(GUTTER_MIN_SIDED * th / cell),
-                        (int)ceil(GUTTER_MIN_ALIGNED * th / cell),
-                        (int)ceil(2 * th / cell),
-                        (int)(ALIGN_TOLERANCE * th / cell),
-                        imin((int)(BRIDGE_MAX_ROWS * th / cell), BRIDGE_MAX_CELLS),
-                        (int)ceil(BRIDGE_MIN_OPEN * th / cell),
-                        (int)ceil(PINCH_MIN_WHITE * th / cell),
-                        (int)ceil(PINCH_MIN_BORDERED * th / cell)};
+    const evidence e = {th_cells(GUTTER_MIN_WIDTH, th, cell, 1),
+                        th_cells(GUTTER_MAX_WIDTH, th, cell, 0),
+                        th_cells(WORD_REACH, th, cell, 1),
+                        th_cells(GUTTER_MIN_BORDERED, th, cell, 1),
+                        th_cells(GUTTER_MIN_SIDED, th, cell, 1),
+                        th_cells(GUTTER_MIN_ALIGNED, th, cell, 1),
+                        th_cells(2, th, cell, 1),
+                        th_cells(ALIGN_TOLERANCE, th, cell, 0),
+                        imin(th_cells(BRIDGE_MAX_ROWS, th, cell, 0), BRIDGE_MAX_CELLS),
+                        th_cells(BRIDGE_MIN_OPEN, th, cell, 1),
+                        th_cells(PINCH_MIN_WHITE, th, cell, 1),
+                        th_cells(PINCH_MIN_BORDERED, th, cell, 1)};
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
@@ -551,8 +566,8 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
         const lt_box in_cells = {(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
                                  imin((int)floor(g->right / cell + 0.5), s->cols),
                                  imin((int)floor(g->bottom / cell + 0.5), s->rows)};
-        const int narrow = (int)ceil(NARROW_COLUMN * th / cell);
-        const int gap = (int)ceil(NARROW_GAP * th / cell);
+        const int narrow = th_cells(NARROW_COLUMN, th, cell, 1);
+        const int gap = th_cells(NARROW_GAP, th, cell, 1);
         const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow,
                                    line_ink),
                   nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,
@@ -617,8 +632,8 @@ static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0
 {
     const double cell = s->cell_px;
     const int cy0 = (int)floor(y0 / cell), cy1 = (int)ceil(y1 / cell);
-    const int min_cells = (int)ceil(STRIP_MIN_WIDTH * th / cell),
-              side = (int)ceil(STRIP_SIDE * th / cell);
+    const int min_cells = th_cells(STRIP_MIN_WIDTH, th, cell, 1),
+              side = th_cells(STRIP_SIDE, th, cell, 1);
     int best = 0, best_lo = 0, run = 0;
     for (int cx = (int)ceil(x0 / cell); (cx + 1) * cell <= x1; cx++) {
         run = cells(s, s->text_sum, cx, cy0, cx + 1, cy1) == 0 ? run + 1 : 0;
@@ -628,7 +643,7 @@ static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0
         }
     }
     if (best < min_cells) return 0;
-    const int letter = (int)ceil(STRIP_SIDE_LETTER * th / cell);
+    const int letter = th_cells(STRIP_SIDE_LETTER, th, cell, 1);
     return rows_with_text(s, best_lo - side, cy0, best_lo, cy1) >= letter &&
            rows_with_text(s, best_lo + best, cy0, best_lo + best + side, cy1) >= letter;
 }
@@ -659,7 +674,7 @@ static int across_item_column(const lt_separators *s, double x0, double x1, doub
         after_items = s->items_left[k] && g->left < cx1 * cell && g->right > cx0 * cell &&
                       g->top < cy1 * cell && g->bottom > cy0 * cell;
     }
-    const int reach = (int)ceil(ITEM_WORD_REACH * s->th / cell);
+    const int reach = th_cells(ITEM_WORD_REACH, s->th, cell, 1);
     return after_items && cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
            bodies_in(s, cx0 - reach, cy0, cx0, cy1) && bodies_in(s, cx1, cy0, cx1 + reach, cy1);
 }

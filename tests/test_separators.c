@@ -8,7 +8,9 @@
  * (1.2 text heights: a window of 5 cells), the rows of words beside it (8 text heights: 32
  * cell rows), the alignment of its edges (half a text height: 2 cells), the reach of a narrow
  * column (4 text heights: 16 cells), the white through a pinched gutter (three quarters of a
- * text height: 3 cells) and the rows of words on both sides of it (16 text heights).
+ * text height: 3 cells) and the rows of words on both sides of it (16 text heights); and with
+ * components set by hand, thresholds in whole cells at a text height whose quotients in
+ * floating point fall a hair off, and the width of a white strip above a wide gap (7 cells).
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "textpage.h"
 
@@ -790,6 +792,73 @@ static void test_pinched_gutter(void)
     }
 }
 
+/* 14. Thresholds in whole cells whatever the text height's last digits: boxes of text (set
+ * by hand, not drawn) on both sides of a white 4 text heights wide, a tall word on the left
+ * (48 cell rows of words beside the white, its right edge aligned) and on the right words in
+ * exactly `right_rows` cell rows. Three text heights of rows with words on both sides (12
+ * cells) make a gutter, 11 do not. The text heights 20 and 21.338 px both have cells of a
+ * quarter of one; at 21.338 the quotient 3 * th / cell is 12.000000000000002 in double
+ * precision (computed, not from memory), whose ceiling had asked for 13 rows. */
+static void test_whole_cells(void)
+{
+    const double heights[] = {20.0, 21.338};
+    for (int hi = 0; hi < 2; hi++)
+        for (int right_rows = 11; right_rows <= 12; right_rows++) {
+            char what[80];
+            snprintf(what, sizeof what, "text height %.3f, %d rows bordered", heights[hi],
+                     right_rows);
+            const double th = heights[hi], cell = th / 4;
+            /* a box covering the cell rows [r0, r1) and the px columns [x0, x1) */
+            lt_component items[2];
+            const int x_gap0 = (int)(40 * cell), x_gap1 = (int)(56 * cell);
+            const struct { int x0, x1, r0, r1; } boxes[2] = {
+                {(int)(10 * cell), x_gap0, 20, 68}, {x_gap1, (int)(90 * cell), 30, 30 + right_rows}};
+            for (int k = 0; k < 2; k++) {
+                const int top = (int)ceil(boxes[k].r0 * cell + 0.5),
+                          bottom = (int)floor(boxes[k].r1 * cell - 0.5);
+                items[k] = (lt_component){tu_box(boxes[k].x0, top, boxes[k].x1, bottom), 1000,
+                                          0, 0, LT_COMP_TEXT, bottom - top};
+            }
+            lt_components comps = {items, 2};
+            lt_separators *seps = NULL;
+            lt_error err = {0};
+            if (lt_find_separators(&comps, th, &seps, &err)) {
+                tu_fail("%s: %s", what, err.message);
+                continue;
+            }
+            CHECK_INT(seps->ngutters, right_rows == 12, "%s: gutters", what);
+            lt_separators_free(seps);
+        }
+}
+
+/* 15. The white strip that refuses a wide gap from the line above: text height 20 px (cells
+ * of 5 px), a gap of 80 px (4 text heights, over the 3 from which strips count) between two
+ * words of a row, and in the line above two words with `cells` white cells between them,
+ * inside the gap. Seven cells (1.75 text heights) refuse the link, six do not. */
+static void test_strip_width(void)
+{
+    for (int cells = 6; cells <= 7; cells++) {
+        char what[64];
+        snprintf(what, sizeof what, "a strip of %d cells above a wide gap", cells);
+        const lt_box boxes[4] = {tu_box(100, 100, 250, 120), tu_box(250 + 5 * cells, 100, 500, 120),
+                                 tu_box(100, 150, 240, 170), tu_box(320, 150, 500, 170)};
+        lt_component items[4];
+        for (int k = 0; k < 4; k++)
+            items[k] = (lt_component){boxes[k], 1000, 0, 0, LT_COMP_TEXT, 20};
+        lt_components comps = {items, 4};
+        lt_separators *seps = NULL;
+        lt_error err = {0};
+        if (lt_find_separators(&comps, 20, &seps, &err)) {
+            tu_fail("%s: %s", what, err.message);
+            continue;
+        }
+        CHECK_INT(seps->ngutters, 0, "%s: gutters", what);
+        CHECK_INT(lt_link_blocked(seps, 240, 320, 150, 170, 20), cells == 7, "%s: link refused",
+                  what);
+        lt_separators_free(seps);
+    }
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -806,6 +875,8 @@ int main(void)
     test_strip_sides();
     test_bridged_gutter();
     test_pinched_gutter();
+    test_whole_cells();
+    test_strip_width();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_separators");
 }
