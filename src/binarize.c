@@ -315,13 +315,13 @@ static double ink_black(const lt_image *gray, const uint16_t *tile_sum, const ui
     if (solid != INT32_MAX) return (double)solid / (TILE * TILE);
     const int middle = (int)ceil(darkest + range / 2); /* ink: darker than this */
     size_t levels[256] = {0}, ink = 0, reached = 0;
-    const int width = tiles_x * TILE;
+    const int tiled_width = tiles_x * TILE; /* the pixels of whole tiles */
     for (int y = 0; y < tiles_y * TILE; y++) {
         const uint8_t *row = gray->pixels + (size_t)y * w;
         int x = 0;
-        for (; x + INK_BLOCK <= width; x += INK_BLOCK) /* blocks of paper passed at once */
+        for (; x + INK_BLOCK <= tiled_width; x += INK_BLOCK) /* blocks of paper passed at once */
             if (block_min(row + x) < middle) ink += count_dark(row + x, INK_BLOCK, middle, levels);
-        ink += count_dark(row + x, width - x, middle, levels);
+        ink += count_dark(row + x, tiled_width - x, middle, levels);
     }
     if (!ink) return darkest;
     int core = 0;

@@ -147,6 +147,12 @@ lt_point lt_frame_to_deskewed(const lt_frame *f, double x, double y);
 void lt_frame_map_box(const lt_frame *f, lt_box deskewed, int width, int height, lt_point quad[4],
                       lt_box *hull);
 
+/* ---- text height (classify.c) -------------------------------------------------------- */
+/* The text height of a page that was deskewed (turned level by lt_rotate_ink), in the units of
+ * lt_text_height: from the characters' core heights rather than their boxes (see
+ * CORE_TO_BOX in classify.c). 0 when there are no characters, -1 when out of memory. */
+double lt_text_height_deskewed(const lt_components *c, double dpi);
+
 /* ---- separators (separators.c) ------------------------------------------------------- */
 /* The obstacles of a page (deskewed frame): rules and column gutters. Lines are not linked
  * across them, blocks are cut along them, columns are read from them. */
@@ -168,11 +174,6 @@ typedef struct lt_separators {
                            dot's size, 0 white */
     double th;         /* the text height the stage was given */
 } lt_separators;
-
-/* The text height of a page that was deskewed (turned level by lt_rotate_ink), in the units of
- * lt_text_height: from the characters' core heights rather than their boxes (see
- * CORE_TO_BOX in classify.c). 0 when there are no characters, -1 when out of memory. */
-double lt_text_height_deskewed(const lt_components *c, double dpi);
 
 /* Finds the rules (components classified LT_COMP_RULE) and the column gutters of a page. */
 int lt_find_separators(const lt_components *c, double text_height_px, lt_separators **out,

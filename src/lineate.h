@@ -375,7 +375,7 @@ typedef struct lt_component {
     int kind;          /* LT_COMP_* (set by lt_classify_components) */
     float core_height; /* px, fractional: the height of the rows that hold its ink but the top
                         * and bottom 3 % of it (a row's ink taken as spread evenly over it);
-                        * single precision, in what was the record's padding */
+                        * a float, to fit in the record's padding */
 } lt_component;
 
 typedef struct lt_components {
