@@ -162,9 +162,9 @@ typedef struct lt_separators {
     lt_box *gutters; /* column gutters: bounding boxes of the connected white regions
                         between columns (a line printed across a gutter cuts it in two) */
     int ngutters;
-    uint8_t *items_left; /* by gutter: 1 where a column of short items (labels, line numbers)
-                            stands on its left and text on its right: it separates no lines,
-                            but for the numbered rows of lt_link_blocked */
+    uint8_t *items_side; /* by gutter region that separates no lines, what stands beside it
+                            (separators.c: short items before their rows, or page numbers
+                            after their entries) */
     /* the gutter cells, for constant-time queries: a summed-area table of the cell grid */
     int cols, rows;
     double cell_px;

@@ -6,6 +6,7 @@
  * its edges. */
 #include "internal.h"
 
+#include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -34,6 +35,16 @@ static const double NARROW_SHARE = 0.25;
  * gap or end it) or set off by white where the entry left no room for one. */
 static const double ITEM_GAP = 2.5;
 static const double ITEM_WORD_REACH = 1.0;
+/* Page numbers set flush right after their entries: the white before them (a gutter region
+ * beside a narrow column on its right) is no strip between cells (LOCAL_STRIP_GAP) where the
+ * entries end raggedly (at most RAGGED_SHARE of the lines that leave the white open end at its
+ * edge, within ALIGN_TOLERANCE), more than RAGGED_SHARE of the lines beside it leave it open,
+ * and more than RAGGED_SHARE of the numbers end at one place: an entry too long for a leader
+ * stays joined to its numbers beside entries as long above and below. The leaders of a
+ * contents list all end at one place before a column of numbers of its own. */
+static const double RAGGED_SHARE = 0.5;
+/* What stands beside a gutter region that separates no lines (lt_separators.items_side). */
+enum { ITEMS_NONE, ITEMS_BEFORE, ITEMS_AFTER, ITEMS_AFTER_RAGGED };
 /* Evidence for a gutter, in text heights of rows (a line of body text inks about two):
  * rows with words on both sides of the white, more than one line's worth (the pair that asks
  * may be one); rows with words beside it on either side, about four lines' worth: the white
@@ -416,35 +427,85 @@ static int reach_in_row(const uint8_t *row, int cols, int from, int dir, int ski
     return dir * (end - start) + 1;
 }
 
+/* The next line on one side (dir) of a gutter region (box in cells) at or below row *y: a
+ * band of rows with text within `skip` cells of the region (see reach_in_row), its ink
+ * projected onto one row (`line_ink`, cols cells of room), so that white in some of its rows
+ * is bridged by ink in others: the rule of an underscore between two words, the accents and
+ * the dots of i's above a gap, a descender below it. A word's white between letters in the
+ * rows of a blurred page's broken stroke, or a speck of noise, then no longer decides. 0 when
+ * there is none; *y goes on below the band. */
+static int next_line(const uint8_t *occ, int cols, const lt_box *cellbox, int dir, int skip,
+                     int gap, int far, int *y, uint8_t *line_ink)
+{
+    const int from = dir > 0 ? cellbox->right : cellbox->left - 1;
+    for (int band_top = -1; *y <= cellbox->bottom; ++*y) {
+        const uint8_t *row = occ + (size_t)*y * cols;
+        const int text = *y < cellbox->bottom && reach_in_row(row, cols, from, dir, skip, gap, far);
+        if (text && band_top < 0) band_top = *y;
+        if (text || band_top < 0) continue;
+        memcpy(line_ink, occ + (size_t)band_top * cols, (size_t)cols);
+        for (int k = band_top + 1; k < *y; k++)
+            for (int x = 0; x < cols; x++)
+                if (line_ink[x] < occ[(size_t)k * cols + x])
+                    line_ink[x] = occ[(size_t)k * cols + x];
+        return 1;
+    }
+    return 0;
+}
+
 /* Whether the text on one side of a gutter region (box in cells) is a column of short items,
- * reaching less than `narrow` cells from it in most lines beside it: page numbers set flush
- * right after a column of text, list labels, version numbers before their entries. A line is
- * a band of rows with text within `skip` cells of the region; its reach is measured along
- * the band's ink projected onto one row (`line_ink`, cols cells of room), so that white in
- * some of its rows is bridged by ink in others: the rule of an underscore between two words,
- * the accents and the dots of i's above a gap, a descender below it. A word's white between
- * letters in the rows of a blurred page's broken stroke, or a speck of noise, then no longer
- * decides. */
+ * reaching less than `narrow` cells from it in most lines beside it (next_line): page numbers
+ * set flush right after a column of text, list labels, version numbers before their
+ * entries. */
 static int narrow_side(const uint8_t *occ, int cols, const lt_box *cellbox, int dir, int skip,
                        int gap, int far, int narrow, uint8_t *line_ink)
 {
     const int from = dir > 0 ? cellbox->right : cellbox->left - 1;
-    int lines = 0, wide = 0, band_top = -1;
-    for (int y = cellbox->top; y <= cellbox->bottom; y++) {
-        const uint8_t *row = occ + (size_t)y * cols;
-        const int text = y < cellbox->bottom && reach_in_row(row, cols, from, dir, skip, gap, far);
-        if (text && band_top < 0) band_top = y;
-        if (text || band_top < 0) continue;
-        memcpy(line_ink, occ + (size_t)band_top * cols, (size_t)cols);
-        for (int k = band_top + 1; k < y; k++)
-            for (int x = 0; x < cols; x++)
-                if (line_ink[x] < occ[(size_t)k * cols + x])
-                    line_ink[x] = occ[(size_t)k * cols + x];
+    int lines = 0, wide = 0;
+    for (int y = cellbox->top; next_line(occ, cols, cellbox, dir, skip, gap, far, &y, line_ink);) {
         lines++;
         wide += reach_in_row(line_ink, cols, from, dir, skip, gap, far) >= narrow;
-        band_top = -1;
     }
     return wide < NARROW_SHARE * lines;
+}
+
+/* The lines on one side (dir) of a gutter region (box in cells), with their reach as in
+ * reach_in_row (`skip`, `gap`, `far`): how many, how many leave its white open (no text of
+ * theirs in its columns), and the most of those that end within `tolerance` cells of one
+ * place, at their near ends (`far_end` 0: where they face the white) or their far ends (1).
+ * `ends` has room for a value per row of the region. */
+typedef struct side_ends {
+    int lines, open, aligned, at_edge;
+} side_ends;
+
+static side_ends line_ends(const uint8_t *occ, int cols, const lt_box *cellbox, int dir, int skip,
+                           int gap, int far, int far_end, int tolerance, uint8_t *line_ink,
+                           int *ends)
+{
+    const int from = dir > 0 ? cellbox->right : cellbox->left - 1;
+    side_ends n = {0, 0, 0, 0};
+    for (int y = cellbox->top; next_line(occ, cols, cellbox, dir, skip, gap, far, &y, line_ink);) {
+        n.lines++;
+        int open = 1, start = from;
+        for (int x = cellbox->left; x < cellbox->right && open; x++)
+            open = line_ink[x] < 2;
+        while (start >= 0 && start < cols && line_ink[start] < 2)
+            start += dir;
+        if (open && start >= 0 && start < cols)
+            ends[n.open++] = dir * (start - from) +
+                             (far_end ? reach_in_row(line_ink, cols, start, dir, 1, gap, far) : 0);
+    }
+    int nearest = INT_MAX;
+    for (int i = 0; i < n.open; i++) {
+        int near = 0;
+        for (int j = 0; j < n.open; j++)
+            near += abs(ends[j] - ends[i]) <= tolerance;
+        if (near > n.aligned) n.aligned = near;
+        if (ends[i] < nearest) nearest = ends[i];
+    }
+    for (int i = 0; i < n.open; i++)
+        n.at_edge += ends[i] <= nearest + tolerance;
+    return n;
 }
 
 /* Bounding boxes (pixels) of the connected regions of the mask (cols x rows cells of `cell`
@@ -538,9 +599,11 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     const size_t ncell = (size_t)s->cols * s->rows;
     uint8_t *occ = s->occupancy = calloc(ncell, 1), *mask = calloc(ncell, 1),
             *line_ink = malloc(s->cols);
-    if (!occ || !mask || !line_ink) {
+    int *ends = malloc(((size_t)s->rows + 1) * sizeof *ends);
+    if (!occ || !mask || !line_ink || !ends) {
         free(mask);
         free(line_ink);
+        free(ends);
         goto nomem;
     }
     fill_occupancy(c, th, cell, s->cols, s->rows, occ);
@@ -559,7 +622,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
-    if (!rc && !(s->items_left = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
+    if (!rc && !(s->items_side = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];
         /* back to cells, within the grid (the pixel box was rounded outwards) */
@@ -573,7 +636,16 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                   nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,
                                    line_ink);
         if (nl == nr) continue;
-        s->items_left[k] = nl;
+        /* page numbers flush right after entries that end raggedly, most of them beside
+           the white */
+        const side_ends entries = line_ends(occ, s->cols, &in_cells, -1, e.max_gap, gap,
+                                            e.max_gap, 0, e.align_tolerance, line_ink, ends),
+                        numbers = line_ends(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap,
+                                            1, e.align_tolerance, line_ink, ends);
+        const int page_numbers = !nl && entries.open > RAGGED_SHARE * entries.lines &&
+                                 entries.at_edge <= RAGGED_SHARE * entries.open &&
+                                 numbers.aligned > RAGGED_SHARE * numbers.open;
+        s->items_side[k] = nl ? ITEMS_BEFORE : page_numbers ? ITEMS_AFTER_RAGGED : ITEMS_AFTER;
         /* the lines run on across it; the columns of text beside it stay columns */
         for (int y = in_cells.top; y < in_cells.bottom; y++)
             memset(mask + (size_t)y * s->cols + in_cells.left, 0,
@@ -586,6 +658,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     }
     free(mask);
     free(line_ink);
+    free(ends);
     if (rc) goto nomem;
     *out = s;
     return 0;
@@ -657,6 +730,20 @@ static int bodies_in(const lt_separators *s, int cx0, int cy0, int cx1, int cy1)
     return 0;
 }
 
+/* Whether the gap of a pair, in the cells [cx0, cx1) x [cy0, cy1), runs through the white
+ * of a gutter region with `items` (ITEMS_*) beside it. */
+static int beside_items(const lt_separators *s, int items, int cx0, int cy0, int cx1, int cy1)
+{
+    const double cell = s->cell_px;
+    for (int k = 0; k < s->ngutters; k++) {
+        const lt_box *g = &s->gutters[k];
+        if (s->items_side[k] == items && g->left < cx1 * cell && g->right > cx0 * cell &&
+            g->top < cy1 * cell && g->bottom > cy0 * cell)
+            return 1;
+    }
+    return 0;
+}
+
 /* Whether the gap [x0, x1) of a pair in the rows [top, bottom) parts a column of short items
  * from its rows (see ITEM_GAP): it runs through the white of a gutter region right of such a
  * column, holds no text in those rows (no leader), and words stand within ITEM_WORD_REACH of
@@ -668,15 +755,23 @@ static int across_item_column(const lt_separators *s, double x0, double x1, doub
     const int cx0 = (int)ceil(x0 / cell), cx1 = (int)floor(x1 / cell);
     const int cy0 = (int)ceil(top / cell), cy1 = (int)floor(bottom / cell);
     if (cx1 <= cx0 || cy1 <= cy0) return 0;
-    int after_items = 0;
-    for (int k = 0; k < s->ngutters && !after_items; k++) {
-        const lt_box *g = &s->gutters[k];
-        after_items = s->items_left[k] && g->left < cx1 * cell && g->right > cx0 * cell &&
-                      g->top < cy1 * cell && g->bottom > cy0 * cell;
-    }
     const int reach = th_cells(ITEM_WORD_REACH, s->th, cell, 1);
-    return after_items && cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
+    return beside_items(s, ITEMS_BEFORE, cx0, cy0, cx1, cy1) &&
+           cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
            bodies_in(s, cx0 - reach, cy0, cx0, cy1) && bodies_in(s, cx1, cy0, cx1 + reach, cy1);
+}
+
+/* Whether the gap [x0, x1) of a pair in the rows [top, bottom) leads to page numbers set
+ * after their entries: it runs through the white of a gutter region left of a column of such
+ * numbers. That white runs down beside the lines above and below whose entries left no room
+ * for a leader; it is no strip between cells. */
+static int before_number_column(const lt_separators *s, double x0, double x1, double top,
+                                double bottom)
+{
+    const double cell = s->cell_px;
+    const int cx0 = (int)ceil(x0 / cell), cx1 = (int)floor(x1 / cell);
+    const int cy0 = (int)ceil(top / cell), cy1 = (int)floor(bottom / cell);
+    return cx1 > cx0 && cy1 > cy0 && beside_items(s, ITEMS_AFTER_RAGGED, cx0, cy0, cx1, cy1);
 }
 
 int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
@@ -688,10 +783,12 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
     const double scale = fmax(1.0, height / (LINE_HEIGHT * s->th));
     if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
     if (lt_gutter_between(s, x0, x1, top, bottom)) return 1;
-    if (s->items_left && x1 - x0 >= ITEM_GAP * s->th * scale &&
+    if (s->items_side && x1 - x0 >= ITEM_GAP * s->th * scale &&
         across_item_column(s, x0, x1, top, bottom))
         return 1;
-    if (!s->text_sum || x1 - x0 < LOCAL_STRIP_GAP * s->th * scale) return 0;
+    if (!s->text_sum || x1 - x0 < LOCAL_STRIP_GAP * s->th * scale ||
+        (s->items_side && before_number_column(s, x0, x1, top, bottom)))
+        return 0;
     /* the rows of the line above and of the line below, not the pair's own */
     const double reach = STRIP_REACH * s->th, cell = s->cell_px;
     return strip_in_rows(s, x0, x1, top - reach, top - cell, s->th) ||
@@ -710,7 +807,7 @@ void lt_separators_free(lt_separators *s)
     free(s->gutters);
     free(s->sum);
     free(s->text_sum);
-    free(s->items_left);
+    free(s->items_side);
     free(s->occupancy);
     free(s);
 }

@@ -398,6 +398,52 @@ static int draw_plain_line(page *p, int x0, int x1, int baseline, int first, int
     return l;
 }
 
+/* 3b. An index column of 16 entries with page numbers of two old-style figures set flush
+ * right at 900 (from 875). Leader rows: the entry's leader (dots 4 px square on a grid of 16
+ * px) ends at one place, 2 text heights before the numbers. Long rows, one after the other:
+ * the entry left no room for a leader and ends 62 to 86 px (3.1 to 4.3 text heights, wider
+ * than LOCAL_STRIP_GAP) before its numbers, raggedly. The white before the numbers is a gutter
+ * region beside a narrow column. With 9 long rows and 7 leader rows, 7 of the 16 lines end at
+ * the white's edge (at most RAGGED_SHARE: ragged): page numbers after their entries, and no
+ * link from an entry to its numbers is refused, though the white runs on through the long
+ * rows above and below (every row one line). With 7 long rows and 9 leader rows, 9 of 16 end
+ * at one place (more than RAGGED_SHARE), as the leaders of a contents list do before a column
+ * of numbers of its own: the white through the long rows next to each other refuses their
+ * links (the strip of LOCAL_STRIP_GAP). */
+static void test_index_long_entries(void)
+{
+    for (int leaders = 7; leaders <= 9; leaders += 2) {
+        char what[64];
+        snprintf(what, sizeof what, "index, %d leader rows of 16", leaders);
+        page *p = page_new(1200, 1000);
+        const int rows = 16, number_left = 875, long_from = leaders / 2,
+                  long_to = long_from + rows - leaders;
+        int entry_end[16];
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH, in_long = i >= long_from && i < long_to;
+            entry_end[i] = in_long ? number_left - 62 - 8 * (i % 4) : 500 + 10 * (i % 5);
+            const int l = draw_plain_line(p, COL_X0, entry_end[i], y, LETTER_FULL, LETTER_X);
+            for (int x = (entry_end[i] / 16 + 1) * 16; !in_long && x + 4 <= number_left - 2 * XH;
+                 x += 16)
+                draw_glyph(p, l, tu_box(x, y - 4, x + 4, y), 1);
+            for (int k = 0; k < 2; k++)
+                draw_glyph(p, l,
+                           tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y), 0);
+        }
+        result res = run_stages(p, what);
+        int refused = 0;
+        for (int i = long_from; i < long_to; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            refused += lt_link_blocked(res.seps, entry_end[i], number_left, y - XH, y, XH);
+        }
+        CHECK_INT(refused, leaders < 8 ? 0 : long_to - long_from,
+                  "%s: links from a long entry to its numbers refused", what);
+        if (leaders < 8) compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* 4b. A listing: line numbers of one or two figures set flush right at x = 200, each before
  * a line of code starting at one x. The white between them is a gutter region beside a
  * column of short items, which separates no lines, but a gap wider than a label's space (2.5
@@ -865,6 +911,7 @@ int main(void)
     test_two_columns();
     test_river();
     test_index();
+    test_index_long_entries();
     test_list_labels();
     test_numbered_listing();
     test_aligned_breaks();
