@@ -116,10 +116,10 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     stage_ms[ST_SKEW] += t_next - t;
     t = t_next;
     const lt_image *page = ink;
+    const int deskewed = fabs(skew.angle_deg) >= p->deskew_min_deg;
     lt_frame frame; /* as analyze.c builds it for an upright page */
-    lt_frame_init(&frame, ink->width, ink->height,
-                  fabs(skew.angle_deg) >= p->deskew_min_deg ? skew.angle_deg : 0);
-    if (fabs(skew.angle_deg) >= p->deskew_min_deg) {
+    lt_frame_init(&frame, ink->width, ink->height, deskewed ? skew.angle_deg : 0);
+    if (deskewed) {
         if ((rc = lt_rotate_ink(ink, skew.angle_deg, &rot_own, err))) goto done;
         page = rot_own;
         lt_image_free(ink_own); /* as analyze.c does: the unrotated ink is no longer needed */
@@ -130,7 +130,7 @@ static int run_stages(const lt_image *img, const lt_params *p, double stage_ms[S
     t = t_next;
     if ((rc = lt_find_components(page, p->max_components, &comps, err))) goto done;
     double text_height_px =
-        page != ink ? lt_text_height_deskewed(comps, dpi) : lt_text_height(comps, dpi);
+        deskewed ? lt_text_height_deskewed(comps, dpi) : lt_text_height(comps, dpi);
     if (text_height_px < 0) { /* as lt_analyze reports it */
         rc = lt_error_set(err, LT_ENOMEM, "text height: out of memory");
         goto done;
