@@ -515,7 +515,7 @@ static int bar_between(const stack_search *x, int left, int right, double y0, do
 
 /* Whether letters of a row stand on one baseline: of the n bottoms (px; sorted in place) at
  * least STACK_BASELINE_SHARE of them, and STACK_MIN_BODIES, lie within BASELINE_SLACK of
- * each other. */
+ * each other (and a pixel, for the rounding of the bottoms to whole rows). */
 static int on_a_baseline(int *bottoms, int n, double th)
 {
     const int most = lt_largest_cluster(bottoms, n, BASELINE_SLACK * th + 1);
