@@ -123,6 +123,7 @@ int lt_cmd_analyze(int argc, char **argv)
          * replaced by the next run if something harder stopped this one */
         size_t n = strlen(output) + 8;
         tmp_path = malloc(n);
+        out = NULL; /* without the name, reported below: never written to stdout instead */
         if (tmp_path) {
             snprintf(tmp_path, n, "%s.tmp", output);
             lt_batch_stream_temp(tmp_path);
