@@ -23,8 +23,9 @@ static const double GUTTER_MAX_WIDTH = 12.0; /* a wider white is a margin or an 
  * spacing of a leader's dots, counting as one) in all but NARROW_SHARE of its rows on one side
  * and farther on the other separates no lines (it still separates columns for the blocks,
  * as labels set apart in the white between two columns do). Two narrow columns side by side
- * are the cells of a table. */
-static const double NARROW_COLUMN = 4.0;
+ * are the cells of a table. A section number of three levels (10.5.5) or two page numbers
+ * (42, 43) reach 4 to 5 text heights. */
+static const double NARROW_COLUMN = 5.0;
 static const double NARROW_GAP = 2.0;
 static const double NARROW_SHARE = 0.25;
 /* Right of such a column, a gap wider than ITEM_GAP (a label stands an en or em space, one

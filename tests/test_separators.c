@@ -7,7 +7,7 @@
  * Each geometric threshold of the stage is tried just below and just above: the gutter width
  * (1.2 text heights: a window of 5 cells), the rows of words beside it (8 text heights: 32
  * cell rows), the alignment of its edges (half a text height: 2 cells), the reach of a narrow
- * column (4 text heights: 16 cells), the white through a pinched gutter (three quarters of a
+ * column (5 text heights: 20 cells), the white through a pinched gutter (three quarters of a
  * text height: 3 cells) and the rows of words on both sides of it (16 text heights); and with
  * components set by hand, thresholds in whole cells at a text height whose quotients in
  * floating point fall a hair off, and the width of a white strip above a wide gap (7 cells).
@@ -317,15 +317,15 @@ static void test_index(void)
 
 /* 4. A list: labels "[12]"-like at x = 150, items of one to three lines indented to 260
  * (hanging indent), so that the white between the labels and the items runs down the whole
- * list beside the items' lines, 1.5 text heights wide. With labels of 4 figures (67 px, 14
- * cells: narrower than the 4 text heights, 16 cells, of a narrow column) the white is a
+ * list beside the items' lines, 1.5 text heights wide. With labels of 6 figures (95 px, 19
+ * cells: narrower than the 5 text heights, 20 cells, of a narrow column) the white is a
  * gutter region, but the labels are a column of short items: it separates no lines
  * (lt_gutter_between and lt_link_blocked 0 over it) and each label is read with its item's
- * first line. With labels of 5 figures (81 px, 17 cells: just wider than a narrow column)
+ * first line. With labels of 7 figures (109 px, 22 cells: just wider than a narrow column)
  * the region stands between two columns and the labels are lines of their own. */
 static void test_list_labels(void)
 {
-    const int digits[] = {4, 5};
+    const int digits[] = {6, 7};
     for (int di = 0; di < 2; di++)
         for (int seed = 1; seed <= 3; seed++) {
             char what[64];
@@ -344,7 +344,7 @@ static void test_list_labels(void)
                     if (e > label_right) label_right = e;
                 }
             }
-            const int labels_alone = digits[di] == 5;
+            const int labels_alone = digits[di] == 7;
             const int label_lines = labels_alone ? items : 0;
             result res = run_stages(p, what);
             CHECK_INT(gutters_in(&res, label_right, indent), 1, "%s: gutter regions", what);
