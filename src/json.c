@@ -103,21 +103,52 @@ static cJSON *box_json(const lt_box *b)
     return cJSON_CreateIntArray(v, 4);
 }
 
+/* Appends item to the array a; where item is NULL (not created) or cannot be added, frees it
+ * and sets *failed: a document with a member missing is never written. */
+static void append(cJSON *a, cJSON *item, int *failed)
+{
+    if (!item || !cJSON_AddItemToArray(a, item)) {
+        cJSON_Delete(item);
+        *failed = 1;
+    }
+}
+
+/* The same for the member `name` of the object o. */
+static void attach(cJSON *o, const char *name, cJSON *item, int *failed)
+{
+    if (!item || !cJSON_AddItemToObject(o, name, item)) {
+        cJSON_Delete(item);
+        *failed = 1;
+    }
+}
+
+/* Sets *failed where a cJSON_Add*ToObject call returned NULL (out of memory). */
+static void need(const cJSON *added, int *failed)
+{
+    if (!added) *failed = 1;
+}
+
 static cJSON *point_json(lt_point p)
 {
     cJSON *a = cJSON_CreateArray();
+    int failed = 0;
     if (!a) return NULL;
-    cJSON_AddItemToArray(a, cJSON_CreateNumber(round2(p.x)));
-    cJSON_AddItemToArray(a, cJSON_CreateNumber(round2(p.y)));
-    return a;
+    append(a, cJSON_CreateNumber(round2(p.x)), &failed);
+    append(a, cJSON_CreateNumber(round2(p.y)), &failed);
+    if (!failed) return a;
+    cJSON_Delete(a);
+    return NULL;
 }
 
 static cJSON *points_json(const lt_point *p, int n)
 {
     cJSON *a = cJSON_CreateArray();
+    int failed = 0;
     for (int i = 0; a && i < n; i++)
-        cJSON_AddItemToArray(a, point_json(p[i]));
-    return a;
+        append(a, point_json(p[i]), &failed);
+    if (!failed) return a;
+    cJSON_Delete(a);
+    return NULL;
 }
 
 static const char *block_kind_name(int kind)
@@ -134,66 +165,81 @@ char *lt_layout_to_json(const lt_layout *l, const char *source, int page, int pa
 {
     cJSON *o = cJSON_CreateObject();
     if (!o) return NULL;
-    cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME);
-    if (lt_json_add_source(o, source ? source : "")) {
+    int failed = 0;
+    need(cJSON_AddStringToObject(o, "format", LT_FORMAT_NAME), &failed);
+    if (failed || lt_json_add_source(o, source ? source : "")) {
         cJSON_Delete(o);
         return NULL;
     }
-    cJSON_AddNumberToObject(o, "page", page);
-    cJSON_AddNumberToObject(o, "pages", pages);
-    cJSON_AddNumberToObject(o, "width", l->width);
-    cJSON_AddNumberToObject(o, "height", l->height);
-    cJSON_AddNumberToObject(o, "dpi", round2(l->dpi));
-    cJSON_AddStringToObject(o, "dpi_source",
-                            l->dpi_from_file  ? "file"
-                            : l->dpi_rejected ? "assumed-file-implausible"
-                                              : "assumed");
-    cJSON_AddNumberToObject(o, "orientation_deg", l->orientation_deg);
-    cJSON_AddNumberToObject(o, "orientation_confidence", round2(l->orientation_confidence));
-    cJSON_AddNumberToObject(o, "skew_deg", round(l->skew_deg * 1000) / 1000 + 0.0);
-    cJSON_AddNumberToObject(o, "skew_confidence", round2(l->skew_confidence));
-    cJSON_AddNumberToObject(o, "text_height_px", round2(l->text_height_px));
-    cJSON_AddNumberToObject(o, "components", l->ncomponents);
+    need(cJSON_AddNumberToObject(o, "page", page), &failed);
+    need(cJSON_AddNumberToObject(o, "pages", pages), &failed);
+    need(cJSON_AddNumberToObject(o, "width", l->width), &failed);
+    need(cJSON_AddNumberToObject(o, "height", l->height), &failed);
+    need(cJSON_AddNumberToObject(o, "dpi", round2(l->dpi)), &failed);
+    need(cJSON_AddStringToObject(o, "dpi_source",
+                                 l->dpi_from_file  ? "file"
+                                 : l->dpi_rejected ? "assumed-file-implausible"
+                                                   : "assumed"),
+         &failed);
+    need(cJSON_AddNumberToObject(o, "orientation_deg", l->orientation_deg), &failed);
+    need(cJSON_AddNumberToObject(o, "orientation_confidence", round2(l->orientation_confidence)),
+         &failed);
+    need(cJSON_AddNumberToObject(o, "skew_deg", round(l->skew_deg * 1000) / 1000 + 0.0), &failed);
+    need(cJSON_AddNumberToObject(o, "skew_confidence", round2(l->skew_confidence)), &failed);
+    need(cJSON_AddNumberToObject(o, "text_height_px", round2(l->text_height_px)), &failed);
+    need(cJSON_AddNumberToObject(o, "components", l->ncomponents), &failed);
     cJSON *review = cJSON_AddObjectToObject(o, "order_review");
+    need(review, &failed);
     if (review) {
-        cJSON_AddBoolToObject(review, "needed", l->order_doubts != 0);
+        need(cJSON_AddBoolToObject(review, "needed", l->order_doubts != 0), &failed);
         cJSON *reasons = cJSON_AddArrayToObject(review, "reasons");
+        need(reasons, &failed);
         for (int bit = 1; reasons && bit <= LT_DOUBT_BRIDGED; bit <<= 1)
             if (l->order_doubts & bit)
-                cJSON_AddItemToArray(reasons, cJSON_CreateString(lt_doubt_text(bit)));
+                append(reasons, cJSON_CreateString(lt_doubt_text(bit)), &failed);
     }
     cJSON *lines = cJSON_AddArrayToObject(o, "lines");
-    for (int i = 0; lines && i < l->nlines; i++) {
+    need(lines, &failed);
+    for (int i = 0; lines && !failed && i < l->nlines; i++) {
         const lt_line *ln = &l->lines[i];
         cJSON *j = cJSON_CreateObject();
-        if (!j) break;
-        cJSON_AddItemToObject(j, "box", box_json(&ln->box));
-        cJSON_AddItemToObject(j, "quad", points_json(ln->quad, 4));
-        cJSON_AddItemToObject(j, "baseline", points_json(ln->baseline, 2));
-        if (ln->npolygon > 0) cJSON_AddItemToObject(j, "polygon", points_json(ln->polygon, ln->npolygon));
-        cJSON_AddNumberToObject(j, "xheight_px", round2(ln->xheight_px));
-        cJSON_AddNumberToObject(j, "block", ln->block);
-        if (ln->light_on_dark) cJSON_AddTrueToObject(j, "light_on_dark");
-        cJSON_AddItemToArray(lines, j);
+        if (!j) {
+            failed = 1;
+            break;
+        }
+        attach(j, "box", box_json(&ln->box), &failed);
+        attach(j, "quad", points_json(ln->quad, 4), &failed);
+        attach(j, "baseline", points_json(ln->baseline, 2), &failed);
+        if (ln->npolygon > 0)
+            attach(j, "polygon", points_json(ln->polygon, ln->npolygon), &failed);
+        need(cJSON_AddNumberToObject(j, "xheight_px", round2(ln->xheight_px)), &failed);
+        need(cJSON_AddNumberToObject(j, "block", ln->block), &failed);
+        if (ln->light_on_dark) need(cJSON_AddTrueToObject(j, "light_on_dark"), &failed);
+        append(lines, j, &failed);
     }
     cJSON *blocks = cJSON_AddArrayToObject(o, "blocks");
-    for (int i = 0; blocks && i < l->nblocks; i++) {
+    need(blocks, &failed);
+    for (int i = 0; blocks && !failed && i < l->nblocks; i++) {
         const lt_block *b = &l->blocks[i];
         cJSON *j = cJSON_CreateObject();
-        if (!j) break;
-        cJSON_AddStringToObject(j, "kind", block_kind_name(b->kind));
-        if (b->kind == LT_BLOCK_TEXT) {
-            cJSON_AddStringToObject(j, "role", lt_role_name(b->role));
-            if (b->table >= 0) cJSON_AddNumberToObject(j, "table", b->table);
+        if (!j) {
+            failed = 1;
+            break;
         }
-        cJSON_AddItemToObject(j, "box", box_json(&b->box));
-        cJSON_AddItemToObject(j, "quad", points_json(b->quad, 4));
+        need(cJSON_AddStringToObject(j, "kind", block_kind_name(b->kind)), &failed);
+        if (b->kind == LT_BLOCK_TEXT) {
+            need(cJSON_AddStringToObject(j, "role", lt_role_name(b->role)), &failed);
+            if (b->table >= 0) need(cJSON_AddNumberToObject(j, "table", b->table), &failed);
+        }
+        attach(j, "box", box_json(&b->box), &failed);
+        attach(j, "quad", points_json(b->quad, 4), &failed);
         cJSON *members = cJSON_AddArrayToObject(j, "lines");
+        need(members, &failed);
         for (int k = 0; members && k < b->nlines; k++)
-            cJSON_AddItemToArray(members, cJSON_CreateNumber(b->first_line + k));
-        cJSON_AddItemToArray(blocks, j);
+            append(members, cJSON_CreateNumber(b->first_line + k), &failed);
+        append(blocks, j, &failed);
     }
-    char *text = pretty ? cJSON_Print(o) : cJSON_PrintUnformatted(o);
+    char *text = failed ? NULL : pretty ? cJSON_Print(o) : cJSON_PrintUnformatted(o);
     cJSON_Delete(o);
     return text;
 }
