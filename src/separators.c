@@ -44,6 +44,9 @@ static const double ITEM_WORD_REACH = 1.0;
  * stays joined to its numbers beside entries as long above and below. The leaders of a
  * contents list all end at one place before a column of numbers of its own. */
 static const double RAGGED_SHARE = 0.5;
+/* The white between leaders and their page numbers separates no lines: more than LEADER_SHARE
+ * of the lines left of it end in a leader's dot. */
+static const double LEADER_SHARE = 0.5;
 /* What stands beside a gutter region that separates no lines (lt_separators.items_side). */
 enum { ITEMS_NONE, ITEMS_BEFORE, ITEMS_AFTER, ITEMS_AFTER_RAGGED };
 /* Evidence for a gutter, in text heights of rows (a line of body text inks about two):
@@ -509,6 +512,35 @@ static side_ends line_ends(const uint8_t *occ, int cols, const lt_box *cellbox, 
     return n;
 }
 
+/* Whether most lines left of a gutter region (box in cells) that leave its white open end in
+ * a leader: their text nearest the white is a dot (a mark) with no letter within
+ * `word_reach` cells before it (a period or a hyphen stands on its word), and the text before
+ * it, within `gap` cells, another dot. */
+static int after_leaders(const uint8_t *occ, int cols, const lt_box *cellbox, int skip, int gap,
+                         int far, int word_reach, uint8_t *line_ink)
+{
+    int open = 0, led = 0;
+    for (int y = cellbox->top; next_line(occ, cols, cellbox, -1, skip, gap, far, &y, line_ink);) {
+        int across = 0, end = cellbox->left - 1;
+        for (int x = cellbox->left; x < cellbox->right && !across; x++)
+            across = line_ink[x] >= 2;
+        while (end >= 0 && line_ink[end] < 2)
+            end--;
+        if (across || end < 0) continue;
+        open++;
+        int word = 0, x = end;
+        for (; x >= 0 && x >= end - word_reach && !word; x--)
+            word = line_ink[x] == 3;
+        while (x >= 0 && line_ink[x] >= 2) /* the rest of the dot */
+            x--;
+        int before = x; /* the text before the dot: another dot of the leader */
+        while (before >= 0 && before > x - gap && line_ink[before] < 2)
+            before--;
+        led += !word && before >= 0 && before > x - gap && line_ink[before] == 2;
+    }
+    return led > LEADER_SHARE * open;
+}
+
 /* Bounding boxes (pixels) of the connected regions of the mask (cols x rows cells of `cell`
  * px), found by the components stage run on the mask as an ink image. */
 static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box **boxes, int *count)
@@ -636,7 +668,9 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                                    line_ink),
                   nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,
                                    line_ink);
-        if (nl == nr) continue;
+        if (nl == nr && !after_leaders(occ, s->cols, &in_cells, e.max_gap, gap, e.max_gap,
+                                       e.word_reach, line_ink))
+            continue;
         /* page numbers flush right after entries that end raggedly, most of them beside
            the white */
         const side_ends entries = line_ends(occ, s->cols, &in_cells, -1, e.max_gap, gap,

@@ -444,6 +444,53 @@ static void test_index_long_entries(void)
     }
 }
 
+/* 3c. An index column of 16 entries with page numbers too wide for a narrow column (eight
+ * old-style figures, 109 px: 22 cells) set flush right at 900. Leader rows: the leader (dots 6
+ * px square, marks rather than specks, on a grid of 16 px) stops 2 text heights before the
+ * numbers; plain rows: the entry ends raggedly 2.2 to 2.8 text heights before them (under
+ * LOCAL_STRIP_GAP). The white before the numbers has words on both sides and an aligned edge: a gutter region. With 9 leader rows of 16 (more than
+ * LEADER_SHARE of the lines beside it end in a leader) it is the white after leaders and
+ * separates no lines: no gutter white is left, no link from a leader to its numbers is
+ * refused, every entry is one line with its numbers. With 7 of 16 it stays a gutter. */
+static void test_index_wide_numbers(void)
+{
+    for (int leaders = 7; leaders <= 9; leaders += 2) {
+        char what[64];
+        snprintf(what, sizeof what, "index, wide numbers, %d leader rows of 16", leaders);
+        page *p = page_new(1200, 1000);
+        const int rows = 16, number_left = 900 - 8 * 14 + 3, dots_end = number_left - 2 * XH;
+        int leader_end[16];
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH, with_leader = i % 2 == 0 || i < 2 * leaders - rows;
+            const int entry_end = with_leader ? 560 + 10 * (i % 5) : number_left - 44 - 4 * (i % 4);
+            const int l = draw_plain_line(p, COL_X0, entry_end, y, LETTER_FULL, LETTER_X);
+            leader_end[i] = entry_end;
+            for (int x = (entry_end / 16 + 1) * 16; with_leader && x + 6 <= dots_end; x += 16) {
+                draw_glyph(p, l, tu_box(x, y - 6, x + 6, y), 1);
+                leader_end[i] = x + 6;
+            }
+            for (int k = 0; k < 8; k++)
+                draw_glyph(p, l,
+                           tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y), 0);
+        }
+        result res = run_stages(p, what);
+        const int last_base = FIRST_BASE + (rows - 1) * PITCH, after = leaders > rows / 2;
+        CHECK_INT(lt_gutter_between(res.seps, dots_end, number_left, FIRST_BASE - ASC,
+                                    last_base + DESC),
+                  !after, "%s: gutter white before the numbers", what);
+        int refused = 0;
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            refused += lt_link_blocked(res.seps, leader_end[i], number_left, y - XH, y, XH);
+        }
+        CHECK(after ? refused == 0 : refused > 0, "%s: %d links to the numbers refused", what,
+              refused);
+        if (after) compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* 4b. A listing: line numbers of one or two figures set flush right at x = 200, each before
  * a line of code starting at one x. The white between them is a gutter region beside a
  * column of short items, which separates no lines, but a gap wider than a label's space (2.5
@@ -912,6 +959,7 @@ int main(void)
     test_river();
     test_index();
     test_index_long_entries();
+    test_index_wide_numbers();
     test_list_labels();
     test_numbered_listing();
     test_aligned_breaks();
