@@ -473,6 +473,19 @@ static int narrow_side(const uint8_t *occ, int cols, const lt_box *cellbox, int 
     return wide < NARROW_SHARE * lines;
 }
 
+/* The cell of a line's projected ink (line_ink, cols cells) where its text begins going
+ * `dir` (+1 right, -1 left) from a gutter region (box in cells); -1 where it has no text
+ * there, or text in the region's columns (a line across the white). */
+static int open_line_text(const uint8_t *line_ink, int cols, const lt_box *cellbox, int dir)
+{
+    for (int x = cellbox->left; x < cellbox->right; x++)
+        if (line_ink[x] >= 2) return -1;
+    int x = dir > 0 ? cellbox->right : cellbox->left - 1;
+    while (x >= 0 && x < cols && line_ink[x] < 2)
+        x += dir;
+    return x < cols ? x : -1;
+}
+
 /* The lines on one side (dir) of a gutter region (box in cells), with their reach as in
  * reach_in_row (`skip`, `gap`, `far`): how many, how many leave its white open (no text of
  * theirs in its columns), and the most of those that end within `tolerance` cells of one
@@ -490,12 +503,8 @@ static side_ends line_ends(const uint8_t *occ, int cols, const lt_box *cellbox, 
     side_ends n = {0, 0, 0, 0};
     for (int y = cellbox->top; next_line(occ, cols, cellbox, dir, skip, gap, far, &y, line_ink);) {
         n.lines++;
-        int open = 1, start = from;
-        for (int x = cellbox->left; x < cellbox->right && open; x++)
-            open = line_ink[x] < 2;
-        while (start >= 0 && start < cols && line_ink[start] < 2)
-            start += dir;
-        if (open && start >= 0 && start < cols)
+        const int start = open_line_text(line_ink, cols, cellbox, dir);
+        if (start >= 0)
             ends[n.open++] = dir * (start - from) +
                              (far_end ? reach_in_row(line_ink, cols, start, dir, 1, gap, far) : 0);
     }
@@ -521,12 +530,8 @@ static int after_leaders(const uint8_t *occ, int cols, const lt_box *cellbox, in
 {
     int open = 0, led = 0;
     for (int y = cellbox->top; next_line(occ, cols, cellbox, -1, skip, gap, far, &y, line_ink);) {
-        int across = 0, end = cellbox->left - 1;
-        for (int x = cellbox->left; x < cellbox->right && !across; x++)
-            across = line_ink[x] >= 2;
-        while (end >= 0 && line_ink[end] < 2)
-            end--;
-        if (across || end < 0) continue;
+        const int end = open_line_text(line_ink, cols, cellbox, -1);
+        if (end < 0) continue;
         open++;
         int word = 0, x = end;
         for (; x >= 0 && x >= end - word_reach && !word; x--)
