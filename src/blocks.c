@@ -126,13 +126,8 @@ static int cmp_leaf_rtl(const void *pa, const void *pb)
 static lt_box hull(const lt_box *boxes, const int *idx, int n)
 {
     lt_box h = boxes[idx[0]];
-    for (int i = 1; i < n; i++) {
-        const lt_box *b = &boxes[idx[i]];
-        if (b->left < h.left) h.left = b->left;
-        if (b->top < h.top) h.top = b->top;
-        if (b->right > h.right) h.right = b->right;
-        if (b->bottom > h.bottom) h.bottom = b->bottom;
-    }
+    for (int i = 1; i < n; i++)
+        lt_box_grow(&h, &boxes[idx[i]]);
     return h;
 }
 
@@ -468,7 +463,7 @@ static int band_beside_columns(const cut_context *x, const int *idx, int n, cons
 }
 
 /* The largest share of the n values v[] (sorted here) that lie within `width` of each other. */
-static double largest_cluster(int *v, int n, double width)
+static double largest_cluster_share(int *v, int n, double width)
 {
     return n > 0 ? (double)lt_largest_cluster(v, n, width) / n : 0;
 }
@@ -572,8 +567,9 @@ static int table_rows(const cut_context *x, const int *idx, int n, int at)
         int *side_ends = side == 0 ? ends : ends + n - nends[1];
         paired_rows &=
             lines[side] >= TABLE_MIN_LINES && paired[side] >= TABLE_MIN_PAIRED * lines[side];
-        ragged &= largest_cluster(side_ends, nends[side], x->end_spread) < TABLE_MAX_TOGETHER &&
-                  largest_cluster(side_ends, nends[side], x->flush_spread) <= TABLE_MAX_FLUSH;
+        ragged &=
+            largest_cluster_share(side_ends, nends[side], x->end_spread) < TABLE_MAX_TOGETHER &&
+            largest_cluster_share(side_ends, nends[side], x->flush_spread) <= TABLE_MAX_FLUSH;
     }
     int table = paired_rows && (ragged || (cells[0] >= TABLE_MIN_CELLS * facing[0] &&
                                            cells[1] >= TABLE_MIN_CELLS * facing[1]));

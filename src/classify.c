@@ -195,20 +195,6 @@ double lt_text_height_deskewed(const lt_components *c, double dpi)
     return text_height(c, dpi, 1);
 }
 
-/* The first index of by_top (n components sorted by their top) whose top is at least y. */
-static int first_from(const lt_keyed *by_top, int n, int y)
-{
-    int lo = 0, hi = n;
-    while (lo < hi) {
-        const int mid = lo + (hi - lo) / 2;
-        if (by_top[mid].key < y)
-            lo = mid + 1;
-        else
-            hi = mid;
-    }
-    return lo;
-}
-
 /* Whether component i of c, of height h, has a row mate (see row_mates) that is a character by
  * its size alone: no wider and no taller than `picture`. `by_top` lists the n components
  * sorted by their top: a mate's top lies within half the shorter height, at most h / 2, of
@@ -218,7 +204,7 @@ static int has_letter_mate(const lt_components *c, const lt_keyed *by_top, int n
 {
     const lt_box *a = &c->items[i].box;
     const int h = lt_box_height(a);
-    for (int k = first_from(by_top, n, a->top - h / 2), tests = 0;
+    for (int k = lt_keyed_first_from(by_top, n, a->top - h / 2), tests = 0;
          k < n && by_top[k].key <= a->top + h / 2 && tests < MAX_MATE_TESTS; k++) {
         const lt_box *b = &c->items[by_top[k].index].box;
         if (by_top[k].index == i || lt_box_width(b) > picture || lt_box_height(b) > picture ||
@@ -263,7 +249,7 @@ static void join_rule_pieces(lt_components *c, const lt_keyed *by_top, double th
     for (int i = 0; npieces > 1 && i < n; i++) {
         const lt_box *a = &c->items[i].box;
         if (!rule_piece(&c->items[i], max_width)) continue;
-        for (int j = first_from(by_top, n, a->bottom);
+        for (int j = lt_keyed_first_from(by_top, n, a->bottom);
              j < n && by_top[j].key <= a->bottom + max_gap; j++) {
             const int m = by_top[j].index;
             const lt_box *b = &c->items[m].box;
@@ -275,14 +261,8 @@ static void join_rule_pieces(lt_components *c, const lt_keyed *by_top, double th
     }
     for (int i = 0; i < n; i++)
         if (lt_uf_find(parent, i) == i) chain[i] = c->items[i].box;
-    for (int i = 0; i < n; i++) {
-        lt_box *h = &chain[lt_uf_find(parent, i)];
-        const lt_box *b = &c->items[i].box;
-        if (b->left < h->left) h->left = b->left;
-        if (b->top < h->top) h->top = b->top;
-        if (b->right > h->right) h->right = b->right;
-        if (b->bottom > h->bottom) h->bottom = b->bottom;
-    }
+    for (int i = 0; i < n; i++)
+        lt_box_grow(&chain[lt_uf_find(parent, i)], &c->items[i].box);
     for (int i = 0; i < n; i++) {
         const lt_box *h = &chain[lt_uf_find(parent, i)];
         if (linked[i] && lt_box_height(h) >= long_rule &&

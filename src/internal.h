@@ -20,6 +20,8 @@ typedef struct lt_keyed {
     int key, index;
 } lt_keyed;
 int lt_cmp_keyed(const void *a, const void *b);
+/* The first of the n entries of v (sorted by key) whose key is at least `key`; n when none is. */
+int lt_keyed_first_from(const lt_keyed *v, int n, int key);
 /* lt_image_new, with the pixels left unset unless `zeroed`: for producers that write every
  * pixel (a page's worth of zeros is a pass over its memory). */
 lt_image *lt_image_alloc(int width, int height, int kind, int zeroed);
@@ -52,6 +54,15 @@ static inline int lt_box_width(const lt_box *b)
 static inline int lt_box_height(const lt_box *b)
 {
     return b->bottom - b->top;
+}
+
+/* Grows b to hold k as well. */
+static inline void lt_box_grow(lt_box *b, const lt_box *k)
+{
+    if (k->left < b->left) b->left = k->left;
+    if (k->top < b->top) b->top = k->top;
+    if (k->right > b->right) b->right = k->right;
+    if (k->bottom > b->bottom) b->bottom = k->bottom;
 }
 
 /* Median of v[0..n) (sorts v in place); 0 for n <= 0. */
@@ -192,6 +203,9 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
                     double height);
 /* The same for gutter white alone. */
 int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, double y1);
+/* Whether a vertical rule stands in [x0, x1) (a pixel of slack) over some of the rows
+ * [y0, y1); s may be NULL. */
+int lt_rule_between(const lt_separators *s, double x0, double x1, double y0, double y1);
 void lt_separators_free(lt_separators *s);
 
 /* ---- lines (lines.c) ------------------------------------------------------------------ */

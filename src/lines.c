@@ -231,14 +231,6 @@ static int cmp_line_pos(const void *pa, const void *pb)
     return (a->box.left > b->box.left) - (a->box.left < b->box.left);
 }
 
-static void grow(lt_box *b, const lt_box *k)
-{
-    if (k->left < b->left) b->left = k->left;
-    if (k->top < b->top) b->top = k->top;
-    if (k->right > b->right) b->right = k->right;
-    if (k->bottom > b->bottom) b->bottom = k->bottom;
-}
-
 /* Box of every group (by root component) in boxes[root]: its bodies and the marks attached
  * to it (a mark is attached when it is not its own root). */
 static void group_boxes(const lt_components *c, const uint8_t *body, int *parent, lt_box *boxes)
@@ -247,7 +239,7 @@ static void group_boxes(const lt_components *c, const uint8_t *body, int *parent
         if (body[i] && lt_uf_find(parent, i) == i) boxes[i] = c->items[i].box;
     for (int i = 0; i < c->count; i++)
         if (body[i] || lt_uf_find(parent, i) != i)
-            grow(&boxes[lt_uf_find(parent, i)], &c->items[i].box);
+            lt_box_grow(&boxes[lt_uf_find(parent, i)], &c->items[i].box);
 }
 
 /* The groups as they stand: *boxes (by root, see group_boxes) and their roots sorted by the
@@ -338,7 +330,7 @@ static int attach_marks(const lt_components *c, const uint8_t *body, const uint8
         }
         if (best < 0) continue;
         parent[i] = best;
-        grow(&boxes[best], &mk->box);
+        lt_box_grow(&boxes[best], &mk->box);
     }
     rc = 0;
 done:
@@ -498,15 +490,9 @@ typedef struct stack_search {
  * the columns [left, right) with its middle in the rows [y0, y1]. */
 static int bar_between(const stack_search *x, int left, int right, double y0, double y1)
 {
-    int lo = 0, hi = x->nbars; /* the first bar whose middle is at y0 or below */
-    while (lo < hi) {
-        const int mid = lo + (hi - lo) / 2;
-        if (x->bars[mid].key < 2 * y0)
-            lo = mid + 1;
-        else
-            hi = mid;
-    }
-    for (int k = lo; k < x->nbars && x->bars[k].key <= 2 * y1; k++) {
+    /* from the first bar whose middle is at y0 or below (keys are twice the middles) */
+    for (int k = lt_keyed_first_from(x->bars, x->nbars, (int)ceil(2 * y0));
+         k < x->nbars && x->bars[k].key <= 2 * y1; k++) {
         const lt_box *b = &x->c->items[x->bars[k].index].box;
         if (b->left < right && b->right > left) return 1;
     }
@@ -531,17 +517,12 @@ static void part_stacked(stack_search *x, lt_keyed *m, int n)
     const lt_components *c = x->c;
     const uint8_t *body = x->body;
     const double th = x->th;
-    int left = 1 << 30, right = -1, top = 1 << 30, bottom = -1;
-    for (int k = 0; k < n; k++) {
-        const lt_box *b = &c->items[m[k].index].box;
-        if (b->left < left) left = b->left;
-        if (b->right > right) right = b->right;
-        if (b->top < top) top = b->top;
-        if (b->bottom > bottom) bottom = b->bottom;
-    }
+    lt_box group = c->items[m[0].index].box;
+    for (int k = 1; k < n; k++)
+        lt_box_grow(&group, &c->items[m[k].index].box);
     int best_y = -1, best_fewer = STACK_MIN_BODIES - 1;
     const int stamp = ++x->stamp;
-    if (bottom - top >= STACK_MIN_HEIGHT * th && n <= STACK_MAX_MEMBERS)
+    if (lt_box_height(&group) >= STACK_MIN_HEIGHT * th && n <= STACK_MAX_MEMBERS)
         for (int s = 0; s < n && x->tests_left >= n; s++) { /* a row may start at any letter's top */
             const lt_box *row = &c->items[m[s].index].box;
             if (!body[m[s].index] || lt_box_height(row) > STACK_LETTER * th) continue;
@@ -565,7 +546,8 @@ static void part_stacked(stack_search *x, lt_keyed *m, int n)
             const int fewer = above < below ? above : below;
             if (fewer > best_fewer && crossing <= STACK_CROSSING * fewer &&
                 on_a_baseline(x->bottoms, above, th) && on_a_baseline(x->bottoms + n, below, th) &&
-                !bar_between(x, left, right, fmin(above_bottom, below_top) - STACK_BAR_REACH * th,
+                !bar_between(x, group.left, group.right,
+                             fmin(above_bottom, below_top) - STACK_BAR_REACH * th,
                              fmax(above_bottom, below_top) + STACK_BAR_REACH * th)) {
                 best_fewer = fewer;
                 best_y = y;
@@ -693,18 +675,6 @@ static int word_spaces(const lt_components *c, const uint8_t *body, const uint8_
     return 0;
 }
 
-/* Whether a vertical rule stands between x0 and x1 over some of the rows [top, bottom). */
-static int rule_between_groups(const lt_components *c, int x0, int x1, int top, int bottom)
-{
-    for (int i = 0; i < c->count; i++) {
-        const lt_box *b = &c->items[i].box;
-        if (c->items[i].kind == LT_COMP_RULE && lt_box_height(b) > lt_box_width(b) &&
-            b->left >= x0 - 1 && b->right <= x1 + 1 && b->top < bottom && b->bottom > top)
-            return 1;
-    }
-    return 0;
-}
-
 /* Joins groups that stand side by side on one row, once their marks are counted (leaders,
  * punctuation between words), with a gap of at most max_gap that crosses no separator. The
  * gap is judged by the pair's type size: the smaller of the two groups' mean letter heights
@@ -774,7 +744,7 @@ static int join_rows(const lt_components *c, const uint8_t *body, const uint8_t 
             const int lined_up_space = blocked && gap > 0 && gap <= max_gap &&
                                        space_count[ra] + space_count[rb] >= WORD_SPACE_MIN_COUNT &&
                                        gap <= WORD_SPACE_TOLERANCE * own_space &&
-                                       !rule_between_groups(c, ba->right, bb->left, top, bottom);
+                                       !lt_rule_between(seps, ba->right, bb->left, top, bottom);
             if (gap <= max_gap && (!blocked || lined_up_space)) lt_uf_unite(parent, ra, rb);
             if (bb->left >= ba->right && gap < nearest_gap) {
                 nearest_gap = gap;
@@ -914,7 +884,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
         if (!body[i] && !(mark[i] && lt_uf_find(parent, i) != i)) continue;
         int l = line_of[i] = line_of[lt_uf_find(parent, i)];
         lt_raw_line *r = &res->items[l];
-        grow(&r->box, &c->items[i].box);
+        lt_box_grow(&r->box, &c->items[i].box);
         r->ncomponents++;
         r->bridged |= piece[i];
         if (lead[l] < 0 || c->items[i].box.left < c->items[lead[l]].box.left) lead[l] = i;

@@ -72,14 +72,6 @@ static int overlap(int a0, int a1, int b0, int b1)
     return (a1 < b1 ? a1 : b1) - (a0 > b0 ? a0 : b0);
 }
 
-static void box_grow(lt_box *b, const lt_box *k)
-{
-    if (k->left < b->left) b->left = k->left;
-    if (k->top < b->top) b->top = k->top;
-    if (k->right > b->right) b->right = k->right;
-    if (k->bottom > b->bottom) b->bottom = k->bottom;
-}
-
 /* A unit of the partial order: one block, or all blocks of one table. */
 typedef struct unit {
     lt_box box;
@@ -315,7 +307,7 @@ static int order_blocks(const lt_raw_block *blocks, int n, const lt_tables *tabl
             u[k].tree_rank = i;
             if (b->table >= 0) unit_of_table[b->table] = k;
         }
-        box_grow(&u[k].box, &b->box);
+        lt_box_grow(&u[k].box, &b->box);
         u[k].nmembers++;
         u[k].nlines += b->nlines;
         u[k].body |= b->role == LT_ROLE_BODY && b->table < 0;

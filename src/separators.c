@@ -707,10 +707,9 @@ nomem:
     return lt_error_set(err, LT_ENOMEM, "separators: out of memory");
 }
 
-/* Whether a vertical rule stands in [x0, x1) (a pixel of slack) over some of the rows
- * [y0, y1). */
-static int rule_between(const lt_separators *s, double x0, double x1, double y0, double y1)
+int lt_rule_between(const lt_separators *s, double x0, double x1, double y0, double y1)
 {
+    if (!s) return 0;
     for (int r = 0; r < s->nrules; r++) {
         const lt_box *b = &s->rules[r];
         if (lt_box_height(b) > lt_box_width(b) && b->left >= x0 - 1 && b->right <= x1 + 1 &&
@@ -784,6 +783,17 @@ static int beside_items(const lt_separators *s, int items, int cx0, int cy0, int
     return 0;
 }
 
+/* The cells wholly inside the gap [x0, x1) of a pair in the rows [top, bottom): *g as
+ * [left, right) x [top, bottom) in cells; 0 when there are none. */
+static int gap_cells(const lt_separators *s, double x0, double x1, double top, double bottom,
+                     lt_box *g)
+{
+    const double cell = s->cell_px;
+    *g = (lt_box){(int)ceil(x0 / cell), (int)ceil(top / cell), (int)floor(x1 / cell),
+                  (int)floor(bottom / cell)};
+    return g->right > g->left && g->bottom > g->top;
+}
+
 /* Whether the gap [x0, x1) of a pair in the rows [top, bottom) parts a column of short items
  * from its rows (see ITEM_GAP): it runs through the white of a gutter region right of such a
  * column, holds no text in those rows (no leader), and words stand within ITEM_WORD_REACH of
@@ -791,14 +801,13 @@ static int beside_items(const lt_separators *s, int items, int cx0, int cy0, int
 static int across_item_column(const lt_separators *s, double x0, double x1, double top,
                               double bottom)
 {
-    const double cell = s->cell_px;
-    const int cx0 = (int)ceil(x0 / cell), cx1 = (int)floor(x1 / cell);
-    const int cy0 = (int)ceil(top / cell), cy1 = (int)floor(bottom / cell);
-    if (cx1 <= cx0 || cy1 <= cy0) return 0;
-    const int reach = th_cells(ITEM_WORD_REACH, s->th, cell, 1);
-    return beside_items(s, ITEMS_BEFORE, cx0, cy0, cx1, cy1) &&
-           cells(s, s->text_sum, cx0, cy0, cx1, cy1) == 0 &&
-           bodies_in(s, cx0 - reach, cy0, cx0, cy1) && bodies_in(s, cx1, cy0, cx1 + reach, cy1);
+    lt_box g;
+    if (!gap_cells(s, x0, x1, top, bottom, &g)) return 0;
+    const int reach = th_cells(ITEM_WORD_REACH, s->th, s->cell_px, 1);
+    return beside_items(s, ITEMS_BEFORE, g.left, g.top, g.right, g.bottom) &&
+           cells(s, s->text_sum, g.left, g.top, g.right, g.bottom) == 0 &&
+           bodies_in(s, g.left - reach, g.top, g.left, g.bottom) &&
+           bodies_in(s, g.right, g.top, g.right + reach, g.bottom);
 }
 
 /* Whether the gap [x0, x1) of a pair in the rows [top, bottom) leads to page numbers set
@@ -808,17 +817,16 @@ static int across_item_column(const lt_separators *s, double x0, double x1, doub
 static int before_number_column(const lt_separators *s, double x0, double x1, double top,
                                 double bottom)
 {
-    const double cell = s->cell_px;
-    const int cx0 = (int)ceil(x0 / cell), cx1 = (int)floor(x1 / cell);
-    const int cy0 = (int)ceil(top / cell), cy1 = (int)floor(bottom / cell);
-    return cx1 > cx0 && cy1 > cy0 && beside_items(s, ITEMS_AFTER_RAGGED, cx0, cy0, cx1, cy1);
+    lt_box g;
+    return gap_cells(s, x0, x1, top, bottom, &g) &&
+           beside_items(s, ITEMS_AFTER_RAGGED, g.left, g.top, g.right, g.bottom);
 }
 
 int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
                     double height)
 {
     if (!s) return 0;
-    if (rule_between(s, x0, x1, top, bottom)) return 1;
+    if (lt_rule_between(s, x0, x1, top, bottom)) return 1;
     /* gaps judged against the pair's own size: the word spaces of a title are wide */
     const double scale = fmax(1.0, height / (LINE_HEIGHT * s->th));
     if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
@@ -837,7 +845,7 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
 
 int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1)
 {
-    return s && (rule_between(s, x0, x1, y0, y1) || lt_gutter_between(s, x0, x1, y0, y1));
+    return s && (lt_rule_between(s, x0, x1, y0, y1) || lt_gutter_between(s, x0, x1, y0, y1));
 }
 
 void lt_separators_free(lt_separators *s)

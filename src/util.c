@@ -181,6 +181,19 @@ int lt_cmp_keyed(const void *pa, const void *pb)
     return (a->index > b->index) - (a->index < b->index);
 }
 
+int lt_keyed_first_from(const lt_keyed *v, int n, int key)
+{
+    int lo = 0, hi = n;
+    while (lo < hi) {
+        const int mid = lo + (hi - lo) / 2;
+        if (v[mid].key < key)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
 int lt_largest_cluster(int *v, int n, double width)
 {
     if (n <= 0) return 0;
