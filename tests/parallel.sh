@@ -1,5 +1,5 @@
 #!/bin/sh
-# parallel.sh: the many-machine recipe of DEVELOPERS.md ("Many machines with GNU parallel"),
+# parallel.sh: the many-machine recipe of README.md (GNU parallel over hosts),
 # run on the local host only (parallel -S :): the input list cut into slices, each slice one
 # `lineate --out-dir OUT --resume --from -` job, the page files merged in input order. Checks
 # that the merge equals, byte for byte, one `lineate -j 1` over the same list, and that a
@@ -54,7 +54,7 @@ n_pages=$((14 + 1 + 11))
 check "the single run analyses every page (exit 0)" test $? -eq 0
 check "the single run gives $n_pages records" test "$(wc -l <"$work/single.jsonl")" -eq "$n_pages"
 
-# ---- the recipe (as in DEVELOPERS.md, with -S : for the host list) ---------------------------
+# ---- the recipe (as in README.md, with -S : for the host list) -------------------------------
 # merge_pages LIST DIR: the recipe's merge (recipes/lineate-merge.sh).
 merge_pages() { sh "$srcdir/recipes/lineate-merge.sh" "$@"; }
 list=$work/pages.list
@@ -103,7 +103,7 @@ rm -f "$out$work"/archive/shelf1/leaf05.json
 merge_pages "$list" "$out" >/dev/null 2>"$work/merge.err"
 check "a missing page file makes the merge fail, naming the input" \
     test $? -ne 0 -a -n "$(grep 'leaf05.png: no page file' "$work/merge.err")"
-# ---- the variant without a shared file system (DEVELOPERS.md) -------------------------------
+# ---- the variant without a shared file system (README.md) -----------------------------------
 # Stand-in hosts: "ssh HOST COMMAND" runs COMMAND in $work/hosts/HOST, which holds only what
 # parallel copied there with rsync (which it also runs through this ssh). It is run by sh, not
 # executed itself, as the work folder may be on a file system mounted noexec (a common /tmp).
