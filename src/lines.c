@@ -39,6 +39,12 @@ static const double EDGE_STROKE_BAND = 8.0;
  * longer than a word or two. */
 static const int EDGE_TOUCH_PX = 1;
 static const double EDGE_CUT_WIDTH = 6.0;
+/* A line holds a letter: a group whose one body (marks aside) is shorter than
+ * LONE_BODY_MIN_HEIGHT is no line. The text height is that of the page's commonest letters,
+ * so a letter of the text alone is taller; what stands alone so small is a speck of a leaf's
+ * edge, of a woodcut or of a stamp, or a piece of a broken letter or dash (real scans: 58 such
+ * lines, one of them text; rendered pages: 34, two of them a lone small letter). */
+static const double LONE_BODY_MIN_HEIGHT = 0.8;
 /* A justified line stretched to its column's width spreads its few words evenly: a gap wider
  * than the widest bridged one (lt_params.link_max_gap) that crosses no separator joins its row
  * when the next wide gap along the row, on either side, is as wide to within
@@ -795,14 +801,14 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
     const double th = text_height_px > 0 ? text_height_px : 20;
     const int n = c->count;
     uint8_t *body = calloc((size_t)n + 1, 1), *mark = calloc((size_t)n + 1, 1);
-    uint8_t *piece = calloc((size_t)n + 1, 1);
+    uint8_t *piece = calloc((size_t)n + 1, 1), *lettered = calloc((size_t)n + 1, 1);
     int *parent = malloc(((size_t)n + 1) * sizeof *parent);
     int *line_of = malloc(((size_t)n + 1) * sizeof *line_of);
     link *links = malloc(((size_t)2 * n + 1) * sizeof *links);
     index_grid g = {0};
     lt_raw_lines *res = calloc(1, sizeof *res);
     int rc = 0;
-    if (!body || !mark || !piece || !parent || !line_of || !links || !res) goto nomem;
+    if (!body || !mark || !piece || !lettered || !parent || !line_of || !links || !res) goto nomem;
 
     /* Bodies carry lines; marks (small text components, and speckle the size of a dot, not
      * the tiniest nor the long hairlines) join later. */
@@ -857,12 +863,22 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
         part_stacked_rows(c, body, parent, th) || absorb_nested(c, body, parent))
         goto nomem;
 
-    /* One raw line per group. */
+    /* One raw line per group that holds a letter (see LONE_BODY_MIN_HEIGHT): line_of[] first
+     * counts the bodies of each group at its root, `lettered` marks the roots of groups with a
+     * body of a letter's height. */
+    for (int i = 0; i < n; i++)
+        line_of[i] = 0;
+    for (int i = 0; i < n; i++) {
+        if (!body[i]) continue;
+        const int root = lt_uf_find(parent, i);
+        line_of[root]++;
+        if (lt_box_height(&c->items[i].box) >= LONE_BODY_MIN_HEIGHT * th) lettered[root] = 1;
+    }
     int nl = 0;
-    for (int i = 0; i < n; i++)
-        line_of[i] = -1;
-    for (int i = 0; i < n; i++)
-        if (body[i] && lt_uf_find(parent, i) == i) line_of[i] = nl++;
+    for (int i = 0; i < n; i++) {
+        const int holds_letter = line_of[i] > 1 || lettered[i];
+        line_of[i] = body[i] && lt_uf_find(parent, i) == i && holds_letter ? nl++ : -1;
+    }
     res->items = calloc((size_t)nl + 1, sizeof *res->items);
     if (!res->items) goto nomem;
     res->count = nl;
@@ -883,6 +899,7 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
     for (int i = 0; i < n; i++) {
         if (!body[i] && !(mark[i] && lt_uf_find(parent, i) != i)) continue;
         int l = line_of[i] = line_of[lt_uf_find(parent, i)];
+        if (l < 0) continue; /* a group without a letter */
         lt_raw_line *r = &res->items[l];
         lt_box_grow(&r->box, &c->items[i].box);
         r->ncomponents++;
@@ -926,11 +943,11 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
         goto nomem;
     }
     for (int i = 0; i < n; i++)
-        if (body[i]) first[line_of[i] + 2]++;
+        if (body[i] && line_of[i] >= 0) first[line_of[i] + 2]++;
     for (int l = 0; l < nl; l++)
         first[l + 2] += first[l + 1];
     for (int i = 0; i < n; i++) /* counting sort: first[l+1] is the fill position of l */
-        if (body[i]) order[first[line_of[i] + 1]++] = i;
+        if (body[i] && line_of[i] >= 0) order[first[line_of[i] + 1]++] = i;
     for (int l = 0; l < nl; l++) {
         lt_raw_line *r = &res->items[l];
         int m = 0;
@@ -975,6 +992,7 @@ done:
     free(body);
     free(mark);
     free(piece);
+    free(lettered);
     free(parent);
     free(line_of);
     free(links);

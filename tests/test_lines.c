@@ -433,6 +433,45 @@ static void test_edge_slivers(void)
     page_free(p);
 }
 
+/* Lone bodies far from the text (a paragraph of six lines): one 0.75 text height tall (a speck
+ * of a leaf's edge, a piece of a broken dash) makes no line, one 0.85 tall (a letter of the
+ * text) does, and so do two 0.75 tall side by side (a line of small letters): a line holds a
+ * letter, and the text height is that of the commonest letters. */
+static void test_lone_small_body(void)
+{
+    const char *what = "lone small bodies";
+    tu_rng r = {404};
+    page *p = page_new(1700, 1000);
+    draw_paragraph(p, &r, 150, 1000, 200, 6);
+    const struct {
+        int height, count, kept;
+    } bodies[] = {{15, 1, 0}, {17, 1, 1}, {15, 2, 1}};
+    int kept = 0;
+    for (int k = 0; k < 3; k++) {
+        const int y = 250 + 200 * k;
+        for (int i = 0; i < bodies[k].count; i++)
+            tu_fill_box(p->img, tu_box(1300 + 14 * i, y - bodies[k].height, 1310 + 14 * i, y), 1);
+        kept += bodies[k].kept;
+    }
+    result res = run_stages(p, what);
+    if (res.lines) {
+        CHECK_INT(res.lines->count, 6 + kept, "%s: lines", what);
+        int beside = 0, tall = 0, pair = 0;
+        for (int i = 0; i < res.lines->count; i++) {
+            const lt_box *b = &res.lines->items[i].box;
+            if (b->left < 1300) continue;
+            beside++;
+            tall += lt_box_height(b) == 17 && lt_box_width(b) == 10;
+            pair += lt_box_height(b) == 15 && lt_box_width(b) == 24;
+        }
+        CHECK_INT(beside, kept, "%s: lines beside the paragraph", what);
+        CHECK_INT(tall, 1, "%s: the body of 0.85 text height kept", what);
+        CHECK_INT(pair, 1, "%s: two bodies of 0.75 kept as one line", what);
+    }
+    result_free(&res);
+    page_free(p);
+}
+
 /* Two columns with a gutter of 1.3 text heights, where in one row both lines open with a
  * capital 1.9 x-heights tall and two wide (standing on the baseline), so each of the two
  * lines is 2.3 text heights tall. The letters facing each other across the gutter are body
@@ -580,10 +619,11 @@ static void test_joined_letters(void)
 }
 
 /* A vertical rule broken into pieces: beside a paragraph (text height 20 px), `pieces` strokes
- * `width` px wide and 15 px tall, one under the next `gap` px apart. They form a rule and no
+ * `width` px wide and 17 px tall, one under the next `gap` px apart. They form a rule and no
  * line (classify.c: thinner than RULE_PIECE_WIDTH 0.15 text heights, 3 px; at most
  * RULE_PIECE_GAP 0.25, 5 px, apart; together at least 3 text heights, 60 px, tall: four
- * pieces 4 px apart are 72 px, three 53 px), else each piece is text, a line of its own. */
+ * pieces 4 px apart are 80 px, three 59 px), else each piece is text, a line of its own (as
+ * tall as a letter: see test_lone_small_body). */
 static void test_broken_rule(void)
 {
     const struct {
@@ -597,8 +637,8 @@ static void test_broken_rule(void)
         page *p = page_new(1700, 700);
         draw_paragraph(p, &r, 150, 1300, 150, 8);
         for (int k = 0; k < cases[ci].pieces; k++) {
-            const lt_box b = tu_box(1500, 150 + k * (15 + cases[ci].gap), 1500 + cases[ci].width,
-                                    165 + k * (15 + cases[ci].gap));
+            const lt_box b = tu_box(1500, 150 + k * (17 + cases[ci].gap), 1500 + cases[ci].width,
+                                    167 + k * (17 + cases[ci].gap));
             tu_fill_box(p->img, b, 1);
             if (cases[ci].rule) continue;
             const int l = p->nlines++;
@@ -838,6 +878,7 @@ int main(void)
     test_text_height_among_specks();
     test_text_height_deskewed();
     test_edge_slivers();
+    test_lone_small_body();
     test_initials_beside_gutter();
     test_scan_border();
     test_stretched_line();
