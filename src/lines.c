@@ -33,11 +33,12 @@ static const double EDGE_BAND = 4.0;
  * narrowest digit that stands alone as a line, a page number one, is about 0.45 wide. */
 static const double EDGE_STROKE_WIDTH = 0.4;
 static const double EDGE_STROKE_BAND = 8.0;
-/* A line whose ink reaches the image's border (within EDGE_TOUCH_PX pixels) and that is
- * narrower than EDGE_CUT_WIDTH is the cut end of a line of the facing page or a piece of the
- * scanner's border: a line of the page itself keeps a margin, and one that a tight crop cuts is
- * longer than a word or two. */
-static const int EDGE_TOUCH_PX = 1;
+/* A line whose ink reaches the image's border (within EDGE_TOUCH text heights: a crop leaves a
+ * few pixels of paper beside the letters it cuts) and that is narrower than EDGE_CUT_WIDTH is
+ * the cut end of a line of the facing page or a piece of the scanner's border: a line of the
+ * page itself keeps a margin of several text heights, and one that a tight crop cuts is longer
+ * than a word or two. */
+static const double EDGE_TOUCH = 0.5;
 static const double EDGE_CUT_WIDTH = 6.0;
 /* A line holds a letter: a group whose one body (marks aside) is shorter than
  * LONE_BODY_MIN_HEIGHT is no line. The text height is that of the page's commonest letters,
@@ -1015,7 +1016,7 @@ void lt_drop_edge_slivers(lt_raw_lines *lines, const lt_frame *f, double text_he
         const int width = lt_box_width(&lines->items[i].box);
         const int sliver = (width < EDGE_SLIVER_WIDTH * th && edge < EDGE_BAND * th) ||
                            (width < EDGE_STROKE_WIDTH * th && edge < EDGE_STROKE_BAND * th) ||
-                           (width < EDGE_CUT_WIDTH * th && edge <= EDGE_TOUCH_PX);
+                           (width < EDGE_CUT_WIDTH * th && edge <= EDGE_TOUCH * th);
         if (!sliver) lines->items[kept++] = lines->items[i];
     }
     lines->count = kept;
