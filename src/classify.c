@@ -40,6 +40,19 @@ static const double LETTERS_MIN_HEIGHT = 2.0;
 static const double RULE_PIECE_WIDTH = 0.15;
 static const double RULE_PIECE_GAP = 0.25;
 
+/* A horizontal hairline (an underline, a table's rule) that blur and noise broke into dashes:
+ * text pieces no taller than RULE_PIECE_WIDTH text heights and at least twice as wide as tall,
+ * each beside the one before within ROW_RULE_PIECE_GAP text heights and sharing rows with
+ * it, form a rule when the chain is as thin as a whole rule and ROW_RULE_MIN_LENGTH text
+ * heights long, twice a whole one's least length: along a row, flat marks stand a letter space
+ * apart in text too (a double minus, dashes), and a leaf's edge in a scan breaks into such
+ * chains 3 to 6 text heights long. A hairline of 1.7 px blurred (a Gaussian of 1.2 px), with
+ * noise of 5.5 gray levels, breaks into dashes 5 to 25 px long and 5 to 20 px apart (up to a
+ * text height); left in pieces it parts nothing, and the words it lies between are joined
+ * across it. */
+static const double ROW_RULE_PIECE_GAP = 1.0;
+static const double ROW_RULE_MIN_LENGTH = 6.0;
+
 /* On a deskewed page the text height is measured by the characters' core heights (see
  * lt_component), which the teeth of the page's turned edges move less than the boxes; a
  * core is shorter than its box by the ink it leaves out, and CORE_TO_BOX turns the mode of
@@ -216,56 +229,70 @@ static int has_letter_mate(const lt_components *c, const lt_keyed *by_top, int n
     return 0;
 }
 
-/* Whether component k may be a piece of a broken vertical rule (see RULE_PIECE_WIDTH). */
-static int rule_piece(const lt_component *k, double max_width)
+/* Box b in the frame of a rule's length: as it is for a vertical rule, its axes exchanged for a
+ * horizontal one (left and right become top and bottom). */
+static lt_box along_rule(const lt_box *b, int horizontal)
 {
-    const int w = lt_box_width(&k->box), h = lt_box_height(&k->box);
+    return horizontal ? (lt_box){b->top, b->left, b->bottom, b->right} : *b;
+}
+
+/* Whether component k may be a piece of a broken rule (see RULE_PIECE_WIDTH), vertical or
+ * `horizontal`. */
+static int rule_piece(const lt_component *k, double max_width, int horizontal)
+{
+    const lt_box b = along_rule(&k->box, horizontal);
+    const int w = lt_box_width(&b), h = lt_box_height(&b);
     return k->kind == LT_COMP_TEXT && w <= max_width && h >= 2 * w;
 }
 
-/* Makes rules of the chains of thin text pieces of c (see RULE_PIECE_WIDTH) that are together
- * at least `long_rule` px tall and `min_aspect` times as tall as wide. `by_top` lists the
- * components sorted by their top. Leaves c as it is when out of memory. */
-static void join_rule_pieces(lt_components *c, const lt_keyed *by_top, double th, double long_rule,
-                             double min_aspect)
+/* Makes rules of the chains of thin text pieces of c, vertical (see RULE_PIECE_WIDTH) or
+ * `horizontal` (see ROW_RULE_PIECE_GAP), that are together at least `min_length` px long
+ * and `min_aspect` times as long as thick. `by_start` lists the components sorted by their
+ * top (by their left when horizontal). Leaves c as it is when out of memory. */
+static void join_rule_pieces(lt_components *c, const lt_keyed *by_start, double th,
+                             double min_length, double min_aspect, int horizontal)
 {
     const int n = c->count;
     int *parent = malloc(((size_t)n + 1) * sizeof *parent);
     lt_box *chain = malloc(((size_t)n + 1) * sizeof *chain);
-    uint8_t *linked = calloc((size_t)n + 1, 1); /* a piece with another under or over it */
+    uint8_t *linked = calloc((size_t)n + 1, 1); /* a piece with another after or before it */
     if (!parent || !chain || !linked) {
         free(parent);
         free(chain);
         free(linked);
         return;
     }
-    const double max_width = RULE_PIECE_WIDTH * th, max_gap = RULE_PIECE_GAP * th;
+    const double max_width = RULE_PIECE_WIDTH * th;
+    const double max_gap = (horizontal ? ROW_RULE_PIECE_GAP : RULE_PIECE_GAP) * th;
     int npieces = 0;
     for (int i = 0; i < n; i++) {
         parent[i] = i;
-        npieces += rule_piece(&c->items[i], max_width);
+        npieces += rule_piece(&c->items[i], max_width, horizontal);
     }
-    /* each piece to the pieces below it, within the gap */
+    /* each piece to the pieces after it along the rule, within the gap */
     for (int i = 0; npieces > 1 && i < n; i++) {
-        const lt_box *a = &c->items[i].box;
-        if (!rule_piece(&c->items[i], max_width)) continue;
-        for (int j = lt_keyed_first_from(by_top, n, a->bottom);
-             j < n && by_top[j].key <= a->bottom + max_gap; j++) {
-            const int m = by_top[j].index;
-            const lt_box *b = &c->items[m].box;
-            if (!rule_piece(&c->items[m], max_width) || b->left >= a->right || b->right <= a->left)
+        const lt_box a = along_rule(&c->items[i].box, horizontal);
+        if (!rule_piece(&c->items[i], max_width, horizontal)) continue;
+        for (int j = lt_keyed_first_from(by_start, n, a.bottom);
+             j < n && by_start[j].key <= a.bottom + max_gap; j++) {
+            const int m = by_start[j].index;
+            const lt_box b = along_rule(&c->items[m].box, horizontal);
+            if (!rule_piece(&c->items[m], max_width, horizontal) || b.left >= a.right ||
+                b.right <= a.left)
                 continue;
             lt_uf_unite(parent, i, m);
             linked[i] = linked[m] = 1;
         }
     }
     for (int i = 0; i < n; i++)
-        if (lt_uf_find(parent, i) == i) chain[i] = c->items[i].box;
-    for (int i = 0; i < n; i++)
-        lt_box_grow(&chain[lt_uf_find(parent, i)], &c->items[i].box);
+        if (lt_uf_find(parent, i) == i) chain[i] = along_rule(&c->items[i].box, horizontal);
+    for (int i = 0; i < n; i++) {
+        const lt_box b = along_rule(&c->items[i].box, horizontal);
+        lt_box_grow(&chain[lt_uf_find(parent, i)], &b);
+    }
     for (int i = 0; i < n; i++) {
         const lt_box *h = &chain[lt_uf_find(parent, i)];
-        if (linked[i] && lt_box_height(h) >= long_rule &&
+        if (linked[i] && lt_box_height(h) >= min_length &&
             lt_box_height(h) >= min_aspect * lt_box_width(h))
             c->items[i].kind = LT_COMP_RULE;
     }
@@ -303,6 +330,13 @@ void lt_classify_components(lt_components *c, double text_height_px, const lt_pa
         else
             k->kind = LT_COMP_TEXT;
     }
-    if (by_top) join_rule_pieces(c, by_top, th, long_rule, p->rule_min_aspect);
+    if (by_top) {
+        join_rule_pieces(c, by_top, th, long_rule, p->rule_min_aspect, 0);
+        lt_keyed *by_left = by_top; /* the same list, sorted again */
+        for (int i = 0; i < c->count; i++)
+            by_left[i] = (lt_keyed){c->items[i].box.left, i};
+        qsort(by_left, (size_t)c->count, sizeof *by_left, lt_cmp_keyed);
+        join_rule_pieces(c, by_left, th, ROW_RULE_MIN_LENGTH * th, p->rule_min_aspect, 1);
+    }
     free(by_top);
 }

@@ -662,6 +662,62 @@ static void test_broken_rule(void)
     }
 }
 
+/* A cloze row under a paragraph (text height 20 px): three words, blanks `blank` px wide
+ * between them, each blank underlined by a hairline 2 px thick on the words' baseline, drawn
+ * whole or broken into dashes `dash` px long `gap` px apart, as blur and noise break it
+ * (a dash at each end). Broken into dashes a text height apart at most (classify.c:
+ * ROW_RULE_PIECE_GAP 1, 20 px) along at least ROW_RULE_MIN_LENGTH 6 text heights (120 px),
+ * the dashes are a rule as the whole hairline is, and the lines are the same as with the
+ * whole hairline (the known transformation: a line broken by noise is the line it was; with
+ * blanks of 298 px, 15 text heights, the three words as drawn); 22 px apart, or along 116 px,
+ * they stay text. */
+static void draw_cloze_row(page *p, int blank, int dash, int gap, int *dashes)
+{
+    tu_rng r = {(uint64_t)(900 + blank)};
+    const int y = draw_paragraph(p, &r, 150, 1550, 150, 6) + PITCH;
+    int x = 150;
+    *dashes = 0;
+    for (int w = 0; w < 3; w++) {
+        x = p->line_box[draw_line(p, &r, x, x + 100, y, 0, 0)].right;
+        if (w == 2) break;
+        for (int d = x + 10; d < x + 10 + blank; d += dash + gap, ++*dashes)
+            tu_fill_box(p->img, tu_box(d, y - 2, d + dash, y), 1);
+        x += 20 + blank;
+    }
+}
+
+static void test_broken_underline(void)
+{
+    const struct {
+        int blank, dash, gap, rule;
+    } cases[] = {{298, 12, 14, 1}, {142, 12, 14, 1}, {116, 12, 14, 0}, {298, 8, 22, 0}};
+    for (int ci = 0; ci < 4; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "underline of %d px, dashes of %d px %d px apart",
+                 cases[ci].blank, cases[ci].dash, cases[ci].gap);
+        page *whole = page_new(1700, 700), *broken = page_new(1700, 700);
+        int dashes;
+        draw_cloze_row(whole, cases[ci].blank, cases[ci].blank, 0, &dashes);
+        draw_cloze_row(broken, cases[ci].blank, cases[ci].dash, cases[ci].gap, &dashes);
+        result ref = run_stages(whole, what), res = run_stages(broken, what);
+        int rules = 0;
+        for (int i = 0; res.comps && i < res.comps->count; i++)
+            rules += res.comps->items[i].kind == LT_COMP_RULE;
+        CHECK_INT(rules, cases[ci].rule ? dashes : 0, "%s: rule pieces", what);
+        if (cases[ci].rule && ref.lines && res.lines) {
+            CHECK_INT(res.lines->count, ref.lines->count, "%s: lines as whole", what);
+            for (int i = 0; i < res.lines->count && i < ref.lines->count; i++)
+                CHECK_BOX(res.lines->items[i].box, ref.lines->items[i].box, "%s: line %d as whole",
+                          what, i);
+        }
+        if (cases[ci].blank == 298 && cases[ci].rule) compare_lines(broken, &res, what);
+        result_free(&ref);
+        result_free(&res);
+        page_free(whole);
+        page_free(broken);
+    }
+}
+
 /* Typewritten rows: every letter a box 12 px wide and a text height tall, `letter_gap` px
  * apart, a word space `space` px; after the tenth letter of every row the same white,
  * `gutter` px wide, so that it runs straight through all twelve rows and the separators take
@@ -886,6 +942,7 @@ int main(void)
     test_hairlines();
     test_joined_letters();
     test_broken_rule();
+    test_broken_underline();
     test_typewritten();
     test_stacked_rows();
     printf("time %.2f s\n", tu_now_s() - t0);
