@@ -176,6 +176,8 @@ typedef struct lt_separators {
     uint8_t *items_side; /* by gutter region that separates no lines, what stands beside it
                             (separators.c: short items before their rows, or page numbers
                             after their entries) */
+    uint8_t *river;      /* by gutter region: 1 for a river of white, word spaces lined up inside a
+                            paragraph (separators.c: no column gutter for gaps of a word space) */
     /* the gutter cells, for constant-time queries: a summed-area table of the cell grid */
     int cols, rows;
     double cell_px;

@@ -69,6 +69,16 @@ static const double WORD_REACH = 0.6;
  * or the two below (STRIP_REACH up or down) with text on both sides within STRIP_SIDE: the
  * cells of a short table, a margin note, a word set apart from its line by a wide white. */
 static const double LOCAL_STRIP_GAP = 3.0;
+/* A gap no wider than STRETCHED_SPACE (a word space stretched to twice its width in a
+ * justified line, a space of monospaced type: 1.3 text heights) is refused by a gutter only
+ * where the gutter is no river of white: the word spaces of a few lines of a paragraph, a
+ * listing or an index entry's first line line up by chance into white that looks like a gutter,
+ * with lines running across it just above and below; the white between columns begins or ends
+ * at white (the top or foot of the columns, a paragraph break), above or below one of the
+ * gutter's pieces one over the other where lines are printed across it. 1.9 and 2.0 scored
+ * alike on the development sets; at 2.1 the cells of a table of words 2.5 text heights apart
+ * (stretched by their capitals' height) were joined. */
+static const double STRETCHED_SPACE = 2.0;
 /* Height of a line of body text (ascenders to descenders), in text heights: gap thresholds
  * grow with a pair taller than that (the word spaces of large type are wide). */
 static const double LINE_HEIGHT = 2.0;
@@ -572,6 +582,44 @@ static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box *
     return 0;
 }
 
+/* Whether text lies in the cell columns [cx0, cx1) of s's grid in the cell rows [cy0, cy1). */
+static int text_in(const lt_separators *s, int cx0, int cy0, int cx1, int cy1)
+{
+    for (int y = cy0 < 0 ? 0 : cy0; y < cy1 && y < s->rows; y++)
+        for (int x = cx0 < 0 ? 0 : cx0; x < cx1 && x < s->cols; x++)
+            if (s->occupancy[(size_t)y * s->cols + x] >= 2) return 1;
+    return 0;
+}
+
+/* Marks in s->river the gutter regions that are rivers of white (see STRETCHED_SPACE): text
+ * lies across the columns of the region within a line's height (LINE_HEIGHT) above and below
+ * it, and so it does for every other region overlapping it across (one over the other: the
+ * pieces of a gutter cut by lines printed across it). Returns 0 or LT_ENOMEM. */
+static int mark_rivers(lt_separators *s)
+{
+    const double cell = s->cell_px;
+    const int reach = th_cells(LINE_HEIGHT, s->th, cell, 1);
+    uint8_t *crossed = malloc((size_t)s->ngutters + 1);
+    if (!crossed) return LT_ENOMEM;
+    for (int k = 0; k < s->ngutters; k++) {
+        const lt_box *g = &s->gutters[k];
+        const int cx0 = (int)floor(g->left / cell + 0.5), cx1 = (int)floor(g->right / cell + 0.5),
+                  cy0 = (int)floor(g->top / cell + 0.5), cy1 = (int)floor(g->bottom / cell + 0.5);
+        crossed[k] =
+            text_in(s, cx0, cy0 - reach, cx1, cy0) && text_in(s, cx0, cy1, cx1, cy1 + reach);
+    }
+    for (int k = 0; k < s->ngutters; k++) {
+        const lt_box *g = &s->gutters[k];
+        s->river[k] = 1;
+        for (int j = 0; j < s->ngutters && s->river[k]; j++) {
+            const lt_box *o = &s->gutters[j];
+            if (o->left < g->right && o->right > g->left && !crossed[j]) s->river[k] = 0;
+        }
+    }
+    free(crossed);
+    return 0;
+}
+
 /* A summed-area table ((cols+1) x (rows+1)) of the cells of grid (cols x rows) holding at
  * least min_value; NULL when out of memory. Each row is the row above plus a running count
  * along the row. */
@@ -661,6 +709,8 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     if (!rc && !(s->items_side = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
+    if (!rc && !(s->river = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
+    if (!rc) rc = mark_rivers(s);
     for (int k = 0; !rc && k < s->ngutters; k++) {
         const lt_box *g = &s->gutters[k];
         /* back to cells, within the grid (the pixel box was rounded outwards) */
@@ -822,6 +872,19 @@ static int before_number_column(const lt_separators *s, double x0, double x1, do
            beside_items(s, ITEMS_AFTER_RAGGED, g.left, g.top, g.right, g.bottom);
 }
 
+/* Whether a gutter region that is no river (s->river) reaches into the rectangle
+ * [x0, x1) x [y0, y1). */
+static int column_gutter_between(const lt_separators *s, double x0, double x1, double y0,
+                                 double y1)
+{
+    for (int k = 0; k < s->ngutters; k++) {
+        const lt_box *g = &s->gutters[k];
+        if (!s->river[k] && g->left < x1 && g->right > x0 && g->top < y1 && g->bottom > y0)
+            return 1;
+    }
+    return 0;
+}
+
 int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
                     double height)
 {
@@ -830,7 +893,10 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
     /* gaps judged against the pair's own size: the word spaces of a title are wide */
     const double scale = fmax(1.0, height / (LINE_HEIGHT * s->th));
     if (x1 - x0 < GUTTER_MIN_WIDTH * s->th * scale) return 0;
-    if (lt_gutter_between(s, x0, x1, top, bottom)) return 1;
+    if (lt_gutter_between(s, x0, x1, top, bottom) &&
+        (x1 - x0 > STRETCHED_SPACE * s->th * scale ||
+         column_gutter_between(s, x0, x1, top, bottom)))
+        return 1;
     if (s->items_side && x1 - x0 >= ITEM_GAP * s->th * scale &&
         across_item_column(s, x0, x1, top, bottom))
         return 1;
@@ -856,6 +922,7 @@ void lt_separators_free(lt_separators *s)
     free(s->sum);
     free(s->text_sum);
     free(s->items_side);
+    free(s->river);
     free(s->occupancy);
     free(s);
 }

@@ -8,7 +8,8 @@
  * (1.2 text heights: a window of 5 cells), the rows of words beside it (8 text heights: 32
  * cell rows), the alignment of its edges (half a text height: 2 cells), the reach of a narrow
  * column (5 text heights: 20 cells), the white through a pinched gutter (three quarters of a
- * text height: 3 cells) and the rows of words on both sides of it (16 text heights); and with
+ * text height: 3 cells) and the rows of words on both sides of it (16 text heights), the gap
+ * a river of white lets through (a stretched word space, 2 text heights: 40 px); and with
  * components set by hand, thresholds in whole cells at a text height whose quotients in
  * floating point fall a hair off, and the width of a white strip above a wide gap (7 cells).
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
@@ -178,27 +179,35 @@ static void finish_at(page *p, int l, int from, int x1, int baseline)
         draw_glyph(p, l, tu_box(x, baseline - XH, x + 10, baseline), 0);
 }
 
-/* 2. A justified paragraph of 9 lines, 1400 px wide, with a river: on `river_rows` rows from
- * the fourth, one word space is stretched to 32 px (1.6 text heights, wider than the narrowest
- * gutter) at the same place (the words before it end at x = 700, or at most 21 px before, and
- * those after it start at 732), so that a white strip 32 px wide runs down those rows. Two and
- * three rows of it are too few to be a gutter (the words beside it count fewer than 32 cell
- * rows): none is found, no link over it is refused, and every row stays one line. Five rows
- * of it are a gutter (just above the evidence threshold), and the line stage splits them: the
- * stage cannot tell a long river from a column gutter by its height alone. */
+/* 2. A justified paragraph, 1400 px wide, with a river: on `river_rows` rows from the
+ * fourth, one word space is stretched to `width` px at the same place (the words before it end
+ * at x = 700, or at most 21 px before, and those after it start at 700 + width), so that a
+ * white strip runs down those rows. Two and three rows of it 32 px wide (1.6 text heights,
+ * wider than the narrowest gutter) are too few to be a gutter (the words beside it count fewer
+ * than 32 cell rows): none is found, no link over it is refused, and every row stays one line.
+ * Five rows of it are a gutter region (just above the evidence threshold), but lines run
+ * across its columns just above and below it: a river of white, which refuses no gap of a
+ * stretched word space (2 text heights, 40 px): over a white 40 px wide, each row whose words
+ * end at the river is one line; 41 px wide, its link is refused. Where the paragraph ends with
+ * the river's last row (no line below it), the white ends at white, as columns do: a gutter,
+ * and those links are refused (32 px). A row whose words end farther from the river than a
+ * stretched space (2 text heights) is split at it either way. */
 static void test_river(void)
 {
-    const int river_rows[] = {2, 3, 5};
-    for (int ri = 0; ri < 3; ri++)
+    const struct {
+        int rows, width, last; /* river rows, white (px), the river's rows end the paragraph */
+    } cases[] = {{2, 32, 0}, {3, 32, 0}, {5, 32, 0}, {5, 40, 0}, {5, 41, 0}, {5, 32, 1}};
+    for (size_t ci = 0; ci < sizeof cases / sizeof *cases; ci++)
         for (int seed = 1; seed <= 3; seed++) {
-            char what[64];
-            const int n = river_rows[ri];
-            snprintf(what, sizeof what, "river of %d rows, seed %d", n, seed);
-            tu_rng r = {(uint64_t)(100 + 10 * n + seed)};
+            char what[80];
+            const int n = cases[ci].rows, width = cases[ci].width, last = cases[ci].last;
+            snprintf(what, sizeof what, "river of %d rows %d px wide%s, seed %d", n, width,
+                     last ? " ending the paragraph" : "", seed);
+            tu_rng r = {(uint64_t)(100 + 10 * n + width + 7 * last + seed)};
             page *p = page_new(1700, 700);
-            const int x0 = COL_X0, x1 = x0 + 1400, river = 700, river_right = river + 32;
-            const int rows = 9;
-            int river_left = 0;
+            const int x0 = COL_X0, x1 = x0 + 1400, river = 700, river_right = river + width;
+            const int rows = last ? 3 + n : 9;
+            int river_left = 0, flush[9], nflush = 0, wide = 0;
             for (int i = 0; i < rows; i++) {
                 const int y = FIRST_BASE + i * PITCH;
                 if (i < 3 || i >= 3 + n) {
@@ -208,7 +217,9 @@ static void test_river(void)
                 const int a = draw_line(p, &r, x0, river, y, 1, 0);
                 finish_at(p, a, p->line_box[a].right, river, y);
                 if (p->line_box[a].right > river_left) river_left = p->line_box[a].right;
-                join_truth(p, a, draw_line(p, &r, river_right, x1, y, 1, 0));
+                if (p->line_box[a].right == river) flush[nflush++] = y;
+                wide += river_right - p->line_box[a].right > 2 * XH;
+                join_truth(p, a, draw_line(p, &r, river_right, x1, y, i < rows - 1, 0));
             }
             result res = run_stages(p, what);
             const int top = FIRST_BASE + 3 * PITCH - ASC,
@@ -223,9 +234,15 @@ static void test_river(void)
                 CHECK_INT(res.seps ? res.seps->ngutters : -1, 1, "%s: gutters", what);
                 CHECK_INT(lt_gutter_between(res.seps, river_left, river_right, top, bottom), 1,
                           "%s: gutter in the river", what);
-                CHECK_INT(res.lines ? res.lines->count : -1, rows + n, "%s: lines", what);
-                CHECK_INT(lines_across(&res, river_left, river_right), rows - n,
-                          "%s: lines across (the rows without the river)", what);
+                const int refused = last || width > 2 * XH;
+                CHECK(nflush > 0, "%s: no row ends at the river", what);
+                for (int f = 0; f < nflush; f++)
+                    CHECK_INT(lt_link_blocked(res.seps, river, river_right, flush[f] - ASC,
+                                              flush[f] + DESC, ASC + DESC),
+                              refused, "%s: link over the river at baseline %d refused", what,
+                              flush[f]);
+                CHECK_INT(res.lines ? res.lines->count : -1, rows + (refused ? n : wide),
+                          "%s: lines (river rows split: %s)", what, refused ? "all" : "wide gaps");
             }
             result_free(&res);
             page_free(p);
@@ -787,7 +804,8 @@ static void test_strip_sides(void)
  * column run on across the gutter into the right column's measure (their rows hold nothing
  * else). Rows 6 and 8 across, row 7 keeping to the columns between them: the gutter goes on
  * through rows 6 to 8 (BRIDGE_MAX_ROWS), so both lines across are cut at it and no line
- * crosses it: 32 lines. Rows 6, 8 and 9 across (8 and 9 one after the other, as a paragraph
+ * crosses it: 32 lines (row 7's piece of the gutter, with lines across just above and below,
+ * is no river: the pieces in line with it end at the white over and under the columns). Rows 6, 8 and 9 across (8 and 9 one after the other, as a paragraph
  * set across the columns): the gutter stops above row 6 and starts again at row 10, and the
  * four lines between stand whole (row 7's gap, beside no gutter, is a wide word space to the
  * line stage): 28 lines, 4 across. */
