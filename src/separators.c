@@ -69,6 +69,15 @@ static const double WORD_REACH = 0.6;
  * or the two below (STRIP_REACH up or down) with text on both sides within STRIP_SIDE: the
  * cells of a short table, a margin note, a word set apart from its line by a wide white. */
 static const double LOCAL_STRIP_GAP = 3.0;
+/* A gap this wide after a leader (its last dot with no letter within WORD_REACH before it,
+ * another dot within NARROW_GAP before that) is the white before a page number where no line
+ * within STRIP_REACH above or below runs across it (no white STRIP_MIN_WIDTH wide left in the
+ * gap's columns of their rows) and the number ends flush with the text of those rows (within
+ * ALIGN_TOLERANCE, no text beyond it within GUTTER_MIN_WIDTH): the leaders of a contents list
+ * end at one place before a column of numbers set flush right, a strip of white with lines on
+ * both sides, and a line is not joined across such a strip. Where the leaders end as far
+ * apart as the numbers are wide (an index) the gap is narrower, and a leader leads on to its
+ * number (LEADER_SHARE). */
 /* A gap no wider than STRETCHED_SPACE (a word space stretched to twice its width in a
  * justified line, a space of monospaced type: 1.3 text heights) is refused by a gutter only
  * where the gutter is no river of white: the word spaces of a few lines of a paragraph, a
@@ -786,6 +795,23 @@ static int rows_with_text(const lt_separators *s, int cx0, int cy0, int cx1, int
     return n;
 }
 
+/* The widest run of whole cell columns of the gap [x0, x1) with no text in the cell rows
+ * [cy0, cy1): its width in cells (0 for none), its first column in *lo. */
+static int widest_white(const lt_separators *s, double x0, double x1, int cy0, int cy1, int *lo)
+{
+    const double cell = s->cell_px;
+    int best = 0, run = 0;
+    *lo = 0;
+    for (int cx = (int)ceil(x0 / cell); (cx + 1) * cell <= x1; cx++) {
+        run = cells(s, s->text_sum, cx, cy0, cx + 1, cy1) == 0 ? run + 1 : 0;
+        if (run > best) {
+            best = run;
+            *lo = cx - run + 1;
+        }
+    }
+    return best;
+}
+
 /* Whether text lines stand on both sides of a white strip through the gap [x0, x1) in the
  * rows [y0, y1): the widest run of cell columns of the gap with no text in those rows is at
  * least STRIP_MIN_WIDTH wide, and text lies within STRIP_SIDE of it on both sides. */
@@ -796,18 +822,100 @@ static int strip_in_rows(const lt_separators *s, double x0, double x1, double y0
     const int cy0 = (int)floor(y0 / cell), cy1 = (int)ceil(y1 / cell);
     const int min_cells = th_cells(STRIP_MIN_WIDTH, th, cell, 1),
               side = th_cells(STRIP_SIDE, th, cell, 1);
-    int best = 0, best_lo = 0, run = 0;
-    for (int cx = (int)ceil(x0 / cell); (cx + 1) * cell <= x1; cx++) {
-        run = cells(s, s->text_sum, cx, cy0, cx + 1, cy1) == 0 ? run + 1 : 0;
-        if (run > best) {
-            best = run;
-            best_lo = cx - run + 1;
-        }
-    }
+    int best_lo;
+    const int best = widest_white(s, x0, x1, cy0, cy1, &best_lo);
     if (best < min_cells) return 0;
     const int letter = th_cells(STRIP_SIDE_LETTER, th, cell, 1);
     return rows_with_text(s, best_lo - side, cy0, best_lo, cy1) >= letter &&
            rows_with_text(s, best_lo + best, cy0, best_lo + best + side, cy1) >= letter;
+}
+
+/* Whether text in the rows [y0, y1) runs across the gap [x0, x1): no white STRIP_MIN_WIDTH
+ * wide is left in the gap's cell columns. */
+static int across_in_rows(const lt_separators *s, double x0, double x1, double y0, double y1)
+{
+    const double cell = s->cell_px;
+    int lo;
+    return widest_white(s, x0, x1, (int)floor(y0 / cell), (int)ceil(y1 / cell), &lo) <
+           th_cells(STRIP_MIN_WIDTH, s->th, cell, 1);
+}
+
+/* The most of the occupancy (0 white, 1 speck, 2 mark, 3 body) in cell column cx over the
+ * cell rows [cy0, cy1). */
+static int column_ink(const lt_separators *s, int cx, int cy0, int cy1)
+{
+    int most = 0;
+    for (int y = cy0 < 0 ? 0 : cy0; y < cy1 && y < s->rows; y++)
+        if (s->occupancy[(size_t)y * s->cols + cx] > most)
+            most = s->occupancy[(size_t)y * s->cols + cx];
+    return most;
+}
+
+/* Whether the text ending at x (px) in the cell rows [cy0, cy1) ends in a leader: its last
+ * ink a dot (a mark or a speck the size of a dot; at 300 dpi a leader's dots are specks) with
+ * no letter within WORD_REACH before it, and another dot within NARROW_GAP before that. */
+static int ends_in_leader(const lt_separators *s, double x, int cy0, int cy1)
+{
+    const int reach = th_cells(WORD_REACH, s->th, s->cell_px, 1),
+              gap = th_cells(NARROW_GAP, s->th, s->cell_px, 1);
+    int end = imin((int)ceil(x / s->cell_px), s->cols) - 1;
+    while (end >= 0 && column_ink(s, end, cy0, cy1) == 0)
+        end--;
+    if (end < 0) return 0;
+    for (int cx = end; cx >= 0 && cx >= end - reach; cx--)
+        if (column_ink(s, cx, cy0, cy1) == 3) return 0;
+    int cx = end;
+    while (cx >= 0 && column_ink(s, cx, cy0, cy1) > 0) /* the rest of the dot */
+        cx--;
+    int before = cx; /* the ink before the dot: another dot of the leader */
+    while (before >= 0 && before > cx - gap && column_ink(s, before, cy0, cy1) == 0)
+        before--;
+    return before >= 0 && before > cx - gap && column_ink(s, before, cy0, cy1) < 3;
+}
+
+/* The last cell column of the text that begins at x (px) in the cell rows [cy0, cy1): where
+ * white GUTTER_MIN_WIDTH wide follows it. */
+static int text_end(const lt_separators *s, double x, int cy0, int cy1)
+{
+    const int white = th_cells(GUTTER_MIN_WIDTH, s->th, s->cell_px, 1);
+    int end = (int)floor(x / s->cell_px);
+    for (int cx = end, run = 0; cx < s->cols && run < white; cx++)
+        if (cells(s, s->text_sum, cx, cy0, cx + 1, cy1) > 0) {
+            end = cx;
+            run = 0;
+        } else
+            run++;
+    return end;
+}
+
+/* Whether text in the rows [y0, y1) ends at cell column `end`: their last text cell within
+ * GUTTER_MIN_WIDTH right of it lies within ALIGN_TOLERANCE of it. */
+static int ends_at(const lt_separators *s, int end, double y0, double y1)
+{
+    const double cell = s->cell_px;
+    const int cy0 = (int)floor(y0 / cell), cy1 = (int)ceil(y1 / cell);
+    const int tolerance = th_cells(ALIGN_TOLERANCE, s->th, cell, 0),
+              width = th_cells(GUTTER_MIN_WIDTH, s->th, cell, 1);
+    int last = -1;
+    for (int cx = end - tolerance; cx <= end + width; cx++)
+        if (cells(s, s->text_sum, cx, cy0, cx + 1, cy1) > 0) last = cx;
+    return last >= end - tolerance && last <= end + tolerance;
+}
+
+/* Whether the gap [x0, x1) of a pair in the rows [top, bottom) is the white between a leader
+ * and a page number set flush right (see LOCAL_STRIP_GAP): no text in the rows above[] or
+ * below[] ([first, last) px) runs across it, the text before it ends in a leader, and the text
+ * after it ends flush with the text of those rows above or below. */
+static int leader_to_flush_number(const lt_separators *s, double x0, double x1, double top,
+                                  double bottom, const double above[2], const double below[2])
+{
+    const double cell = s->cell_px;
+    const int cy0 = (int)floor(top / cell), cy1 = (int)ceil(bottom / cell);
+    if (across_in_rows(s, x0, x1, above[0], above[1]) ||
+        across_in_rows(s, x0, x1, below[0], below[1]) || !ends_in_leader(s, x0, cy0, cy1))
+        return 0;
+    const int end = text_end(s, x1, cy0, cy1);
+    return ends_at(s, end, above[0], above[1]) || ends_at(s, end, below[0], below[1]);
 }
 
 /* Whether bodies (letters) lie in the cell columns [cx0, cx1) of the cell rows [cy0, cy1). */
@@ -905,8 +1013,10 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
         return 0;
     /* the rows of the line above and of the line below, not the pair's own */
     const double reach = STRIP_REACH * s->th, cell = s->cell_px;
-    return strip_in_rows(s, x0, x1, top - reach, top - cell, s->th) ||
-           strip_in_rows(s, x0, x1, bottom + cell, bottom + reach, s->th);
+    const double above[2] = {top - reach, top - cell}, below[2] = {bottom + cell, bottom + reach};
+    return strip_in_rows(s, x0, x1, above[0], above[1], s->th) ||
+           strip_in_rows(s, x0, x1, below[0], below[1], s->th) ||
+           leader_to_flush_number(s, x0, x1, top, bottom, above, below);
 }
 
 int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1)

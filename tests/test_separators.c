@@ -508,6 +508,54 @@ static void test_index_wide_numbers(void)
     }
 }
 
+/* 3d. A contents list of 8 entries ending raggedly (400 to 480), each run on in a leader (dots
+ * 4 px square on a grid of 16 px: specks, as at 300 dpi) whose last dot ends at one place,
+ * before page numbers of two old-style figures set flush right at 900 (from 875). Between the
+ * leaders' end and the numbers, white of 56 px (2.8 text heights, under LOCAL_STRIP_GAP): a
+ * leader leads on to its number, no link is refused and every entry is one line with its
+ * number. Of 64 px (3.2 text heights): no line above or below runs across it, the leader
+ * ends before it and the numbers end flush below one another, a strip of white with lines on
+ * both sides: every link from a leader to its number is refused and the numbers are lines
+ * of their own. Of 64 px but the numbers set flush left, of one, three and five figures in
+ * turn (ends 28 px apart, wider than ALIGN_TOLERANCE, no two alike within two rows), or
+ * a single entry with no rows above or below: nothing ends flush with the number, no link is
+ * refused, one line a row. */
+static void test_contents_leaders(void)
+{
+    enum { NEAR, FLUSH, RAGGED, SINGLE };
+    const char *name[] = {"56 px", "64 px", "64 px, ragged numbers", "64 px, one entry"};
+    for (int variant = NEAR; variant <= SINGLE; variant++) {
+        char what[96];
+        snprintf(what, sizeof what, "contents list, %s", name[variant]);
+        page *p = page_new(1200, 800);
+        const int rows = variant == SINGLE ? 1 : 8, number_left = 875;
+        const int dots_end = number_left - (variant == NEAR ? 56 : 64);
+        const int apart = variant == FLUSH;
+        int refused = 0;
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            const int l = draw_plain_line(p, COL_X0, 400 + 20 * (i % 5), y, LETTER_FULL, LETTER_X);
+            for (int x = dots_end - 16 * ((dots_end - p->line_box[l].right - 12) / 16);
+                 x <= dots_end; x += 16)
+                draw_glyph(p, l, tu_box(x - 4, y - 4, x, y), 1);
+            const int figures = variant == RAGGED ? 1 + 2 * (i % 3) : 2;
+            const int n = apart ? new_line(p, y) : l;
+            for (int k = 0; k < figures; k++)
+                draw_glyph(p, n, tu_box(number_left + 14 * k, y - XH, number_left + 14 * k + 11, y),
+                           0);
+        }
+        result res = run_stages(p, what);
+        for (int i = 0; i < rows; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            refused += lt_link_blocked(res.seps, dots_end, number_left, y - XH, y, XH);
+        }
+        CHECK_INT(refused, apart ? rows : 0, "%s: links from a leader to its number refused", what);
+        compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* 4b. A listing: line numbers of one or two figures set flush right at x = 200, each before
  * a line of code starting at one x. The white between them is a gutter region beside a
  * column of short items, which separates no lines, but a gap wider than a label's space (2.5
@@ -978,6 +1026,7 @@ int main(void)
     test_index();
     test_index_long_entries();
     test_index_wide_numbers();
+    test_contents_leaders();
     test_list_labels();
     test_numbered_listing();
     test_aligned_breaks();
