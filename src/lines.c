@@ -72,6 +72,12 @@ static const double STACK_CROSSING = 0.25;
 static const double STACK_BASELINE_SHARE = 1.0 / 3;
 static const double STACK_BAR_HEIGHT = 0.3;
 static const double STACK_BAR_REACH = 0.25;
+/* A deskewed row may still lean (the skew of a real scan is estimated to within about a degree,
+ * and a curled leaf bends its rows as much): its letters stand on one baseline when their
+ * bottoms, less a lean of up to STACK_MAX_LEAN_DEG, cluster so; leans are tried in steps that
+ * move the row's far end by BASELINE_SLACK, at most STACK_LEAN_STEPS on each side of level. */
+static const double STACK_MAX_LEAN_DEG = 2.0;
+enum { STACK_LEAN_STEPS = 8 };
 /* Parting a group tries each distinct top of its letters against all its members: groups of
  * more members than this (rows of a halftone read as specks of text) are left whole, and so
  * are the groups past STACK_MAX_TESTS such tests on one page, as many as one group of
@@ -490,7 +496,8 @@ typedef struct stack_search {
     int nbars;
     int *tried, stamp;
     long tests_left;
-    int *bottoms;
+    int *bottoms, *middles; /* a letter's bottom and the middle of its columns, px */
+    int *leveled;           /* room for n bottoms less a lean, in quarter pixels */
 } stack_search;
 
 /* Whether a thin horizontal stroke of x->bars (a fraction's bar, an underline, a rule) lies in
@@ -506,13 +513,25 @@ static int bar_between(const stack_search *x, int left, int right, double y0, do
     return 0;
 }
 
-/* Whether letters of a row stand on one baseline: of the n bottoms (px; sorted in place) at
- * least STACK_BASELINE_SHARE of them, and STACK_MIN_BODIES, lie within BASELINE_SLACK of
- * each other (and a pixel, for the rounding of the bottoms to whole rows). */
-static int on_a_baseline(int *bottoms, int n, double th)
+/* Whether letters of a row stand on one baseline: of the n letters (bottoms[k] under
+ * middles[k], px) at least STACK_BASELINE_SHARE of them, and STACK_MIN_BODIES, lie within
+ * BASELINE_SLACK of each other (and a pixel, for the rounding of the bottoms to whole rows),
+ * level or leaning (see STACK_MAX_LEAN_DEG) across the `width_px` of their group. */
+static int on_a_baseline(const stack_search *x, const int *bottoms, const int *middles, int n,
+                         int width_px)
 {
-    const int most = lt_largest_cluster(bottoms, n, BASELINE_SLACK * th + 1);
-    return most >= STACK_MIN_BODIES && most >= STACK_BASELINE_SHARE * n;
+    const double slack = BASELINE_SLACK * x->th + 1,
+                 max_lean = tan(STACK_MAX_LEAN_DEG * LT_PI / 180);
+    const double step = fmax(slack / (width_px > 1 ? width_px : 1), max_lean / STACK_LEAN_STEPS);
+    const int steps = (int)floor(max_lean / step);
+    for (int k = 0; k <= 2 * steps; k++) {
+        const double lean = (k % 2 ? 1 : -1) * ((k + 1) / 2) * step; /* level first */
+        for (int i = 0; i < n; i++)
+            x->leveled[i] = (int)lround(4 * (bottoms[i] - lean * middles[i]));
+        const int most = lt_largest_cluster(x->leveled, n, 4 * slack);
+        if (most >= STACK_MIN_BODIES && most >= STACK_BASELINE_SHARE * n) return 1;
+    }
+    return 0;
 }
 
 /* The members m[0..n) of one group, sorted by their middles (key: twice the middle), parted
@@ -542,9 +561,11 @@ static void part_stacked(stack_search *x, lt_keyed *m, int n)
                 const lt_box *b = &c->items[m[k].index].box;
                 if (!body[m[k].index] || lt_box_height(b) > STACK_LETTER * th) continue;
                 if (b->bottom <= y) {
+                    x->middles[above] = (b->left + b->right) / 2;
                     x->bottoms[above++] = b->bottom;
                     if (b->bottom > above_bottom) above_bottom = b->bottom;
                 } else if (b->top >= y) {
+                    x->middles[n + below] = (b->left + b->right) / 2;
                     x->bottoms[n + below++] = b->bottom;
                     if (b->top < below_top) below_top = b->top;
                 } else
@@ -552,7 +573,8 @@ static void part_stacked(stack_search *x, lt_keyed *m, int n)
             }
             const int fewer = above < below ? above : below;
             if (fewer > best_fewer && crossing <= STACK_CROSSING * fewer &&
-                on_a_baseline(x->bottoms, above, th) && on_a_baseline(x->bottoms + n, below, th) &&
+                on_a_baseline(x, x->bottoms, x->middles, above, lt_box_width(&group)) &&
+                on_a_baseline(x, x->bottoms + n, x->middles + n, below, lt_box_width(&group)) &&
                 !bar_between(x, group.left, group.right,
                              fmin(above_bottom, below_top) - STACK_BAR_REACH * th,
                              fmax(above_bottom, below_top) + STACK_BAR_REACH * th)) {
@@ -592,13 +614,16 @@ static int part_stacked_rows(const lt_components *c, const uint8_t *body, int *p
     lt_keyed *members = malloc(((size_t)n + 1) * sizeof *members);
     lt_keyed *bars = malloc(((size_t)n + 1) * sizeof *bars);
     int *bottoms = malloc(2 * ((size_t)n + 1) * sizeof *bottoms);
+    int *middles = malloc(2 * ((size_t)n + 1) * sizeof *middles);
+    int *leveled = malloc(((size_t)n + 1) * sizeof *leveled);
     int *tried = calloc((size_t)page_bottom + 1, sizeof *tried);
     int rc = 0;
-    if (!order || !members || !bars || !bottoms || !tried) {
+    if (!order || !members || !bars || !bottoms || !middles || !leveled || !tried) {
         rc = LT_ENOMEM;
         goto done;
     }
-    stack_search x = {c, body, parent, th, bars, 0, tried, 0, STACK_MAX_TESTS, bottoms};
+    stack_search x = {c,     body, parent,          th,      bars,    0,
+                      tried, 0,    STACK_MAX_TESTS, bottoms, middles, leveled};
     for (int i = 0; i < n; i++) {
         const lt_box *b = &c->items[i].box;
         if (lt_box_height(b) < STACK_BAR_HEIGHT * th && lt_box_width(b) >= th)
@@ -627,6 +652,8 @@ done:
     free(members);
     free(bars);
     free(bottoms);
+    free(middles);
+    free(leveled);
     free(tried);
     return rc;
 }
