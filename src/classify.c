@@ -46,11 +46,11 @@ static const double RULE_PIECE_GAP = 0.25;
  * it, form a rule when the chain is as thin as a whole rule and ROW_RULE_MIN_LENGTH text
  * heights long, twice a whole one's least length: along a row, flat marks stand a letter space
  * apart in text too (a double minus, dashes), and a leaf's edge in a scan breaks into such
- * chains 3 to 6 text heights long (at a gap of 2 text heights some join up). A hairline of
- * 1.7 px blurred (a Gaussian of 1.2 px), with noise of 5.5 gray levels, breaks into dashes 5
- * to 25 px long, most 5 to 20 px apart, some 1.15 and 1.8 text heights; left in pieces it
- * parts nothing, and the words it lies between are joined across it. */
-static const double ROW_RULE_PIECE_GAP = 1.5;
+ * chains 3 to 6 text heights long. A hairline of 1.7 px blurred (a Gaussian of 1.2 px), with
+ * noise of 5.5 gray levels, breaks into dashes 5 to 25 px long and 5 to 20 px apart (up to a
+ * text height); left in pieces it parts nothing, and the words it lies between are joined
+ * across it. */
+static const double ROW_RULE_PIECE_GAP = 1.0;
 static const double ROW_RULE_MIN_LENGTH = 6.0;
 
 /* On a deskewed page the text height is measured by the characters' core heights (see
