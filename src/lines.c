@@ -46,6 +46,12 @@ static const double EDGE_CUT_WIDTH = 6.0;
  * edge, of a woodcut or of a stamp, or a piece of a broken letter or dash (real scans: 58 such
  * lines, one of them text; rendered pages: 34, two of them a lone small letter). */
 static const double LONE_BODY_MIN_HEIGHT = 0.8;
+/* A line's bodies stand side by side: a group of two or more at least COLUMN_MIN_HEIGHT tall
+ * and COLUMN_ASPECT times as tall as wide holds them one over another, a column of strokes (a
+ * book's fore-edge, a border's ornament, a punched hole's rim), no line. A row run into the
+ * next stays wide; a lone tall letter (a digit one, an initial) is one body. */
+static const double COLUMN_MIN_HEIGHT = 3.0;
+static const double COLUMN_ASPECT = 2.0;
 /* A justified line stretched to its column's width spreads its few words evenly: a gap wider
  * than the widest bridged one (lt_params.link_max_gap) that crosses no separator joins its row
  * when the next wide gap along the row, on either side, is as wide to within
@@ -1006,6 +1012,14 @@ int lt_build_lines(const lt_components *c, double text_height_px, const lt_separ
             r->xheight_px = vals[(int)(LARGE_TYPE_RANK * (standing - 1))];
         }
     }
+    int kept = 0; /* lines of bodies one over another dropped (see COLUMN_MIN_HEIGHT) */
+    for (int l = 0; l < nl; l++) {
+        const lt_box *b = &res->items[l].box;
+        if (!(first[l + 1] - first[l] >= 2 && lt_box_height(b) >= COLUMN_MIN_HEIGHT * th &&
+              lt_box_height(b) >= COLUMN_ASPECT * lt_box_width(b)))
+            res->items[kept++] = res->items[l];
+    }
+    res->count = kept;
     free(vals);
     free(order);
     free(first);

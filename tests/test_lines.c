@@ -473,6 +473,42 @@ static void test_lone_small_body(void)
     page_free(p);
 }
 
+/* Bodies one over another beside a paragraph: a stroke 12 px wide with two letters 10 px wide
+ * at its right, 4 px from it, one high and one low, each linked to the stroke. A group of two or
+ * more bodies at least 3 text heights tall and twice as tall as wide is a column of strokes (a
+ * fore-edge, a border's ornament), no line: the stroke 80 px tall (4 text heights; the group
+ * 26 px wide) makes none; 56 px tall (2.8) a line, and so does the stroke 80 px tall with the
+ * letters 19 px from it (the group 41 px wide, more than half its height), and the stroke alone
+ * (one body: a digit one, an initial). */
+static void test_column_of_strokes(void)
+{
+    const struct {
+        int height, gap, letters, lines;
+    } cases[] = {{80, 4, 2, 0}, {56, 4, 2, 1}, {80, 19, 2, 1}, {80, 4, 0, 1}};
+    for (int ci = 0; ci < 4; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "stroke %d px tall, %d letters %d px beside", cases[ci].height,
+                 cases[ci].letters, cases[ci].gap);
+        tu_rng r = {(uint64_t)(900 + ci)};
+        page *p = page_new(1700, 700);
+        draw_paragraph(p, &r, 150, 1000, 150, 8);
+        const int x = 1300, top = 200, h = cases[ci].height;
+        tu_fill_box(p->img, tu_box(x, top, x + 12, top + h), 1);
+        const int x1 = x + 12 + cases[ci].gap;
+        if (cases[ci].letters) {
+            tu_fill_box(p->img, tu_box(x1, top, x1 + 10, top + 17), 1);
+            tu_fill_box(p->img, tu_box(x1, top + h - 17, x1 + 10, top + h), 1);
+        }
+        result res = run_stages(p, what);
+        int beside = 0;
+        for (int i = 0; res.lines && i < res.lines->count; i++)
+            beside += res.lines->items[i].box.left >= x;
+        CHECK_INT(beside, cases[ci].lines, "%s: lines", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* Two columns with a gutter of 1.3 text heights, where in one row both lines open with a
  * capital 1.9 x-heights tall and two wide (standing on the baseline), so each of the two
  * lines is 2.3 text heights tall. The letters facing each other across the gutter are body
@@ -943,6 +979,7 @@ int main(void)
     test_text_height_deskewed();
     test_edge_slivers();
     test_lone_small_body();
+    test_column_of_strokes();
     test_initials_beside_gutter();
     test_scan_border();
     test_stretched_line();
