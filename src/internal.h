@@ -195,7 +195,9 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
  * it), or a vertical rule stands in it; s may be NULL. */
 int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1);
 /* Whether a link between two pieces of text on one row, with the gap [x0, x1) between them
- * and their rows [top, bottom), is refused: a separator lies in the gap, or the gap is wider
+ * and their rows [top, bottom), is refused: a separator lies in the gap (gutter white that is
+ * a river, word spaces lined up inside a paragraph, only where the gap is wider than a
+ * stretched word space), or the gap is wider
  * than a label's space and runs, white, between words through the white right of a column
  * of short items (a listing's line numbers), or the gap is wider than a stretched word space and
  * a white strip through it has text on both sides in the line above or below. Gap widths are
@@ -205,6 +207,10 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
                     double height);
 /* The same for gutter white alone. */
 int lt_gutter_between(const lt_separators *s, double x0, double x1, double y0, double y1);
+/* Whether a line printed across gutter region k (of s->gutters) is cut at it: not where the
+ * region is the white right of a column of labels or line numbers before their rows (a line
+ * of prose between two numbered listings runs on across it). */
+int lt_gutter_cuts_lines(const lt_separators *s, int k);
 /* Whether a vertical rule stands in [x0, x1) (a pixel of slack) over some of the rows
  * [y0, y1); s may be NULL. */
 int lt_rule_between(const lt_separators *s, double x0, double x1, double y0, double y1);

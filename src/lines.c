@@ -370,10 +370,13 @@ static double interrupted_gutter(const lt_separators *seps, const lt_box *b, dou
 {
     for (int i = 0; i < seps->ngutters; i++) {
         const lt_box *above = &seps->gutters[i];
-        if (above->bottom > b->bottom || above->bottom < b->top - reach) continue;
+        if (above->bottom > b->bottom || above->bottom < b->top - reach ||
+            !lt_gutter_cuts_lines(seps, i))
+            continue;
         for (int j = 0; j < seps->ngutters; j++) {
             const lt_box *below = &seps->gutters[j];
-            if (below->top < above->bottom || below->top < b->top || below->top > b->bottom + reach)
+            if (below->top < above->bottom || below->top < b->top ||
+                below->top > b->bottom + reach || !lt_gutter_cuts_lines(seps, j))
                 continue;
             const int lo = above->left > below->left ? above->left : below->left;
             const int hi = above->right < below->right ? above->right : below->right;

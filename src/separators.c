@@ -1019,6 +1019,11 @@ int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, do
            leader_to_flush_number(s, x0, x1, top, bottom, above, below);
 }
 
+int lt_gutter_cuts_lines(const lt_separators *s, int k)
+{
+    return !s->items_side || s->items_side[k] != ITEMS_BEFORE;
+}
+
 int lt_separator_between(const lt_separators *s, double x0, double x1, double y0, double y1)
 {
     return s && (lt_rule_between(s, x0, x1, y0, y1) || lt_gutter_between(s, x0, x1, y0, y1));

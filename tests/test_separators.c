@@ -626,6 +626,39 @@ static void test_numbered_listing(void)
     }
 }
 
+/* 4c. Two listings of 6 lines (numbers flush right at x = 200, code from x = 270: parted, as in
+ * 4b) with a line of prose between them from x = 150 to 900, run across the numbers' white. The
+ * white beside a column of numbers parts no lines, so the prose line stands whole: no cut where
+ * it interrupts that white (a line printed across a gutter between columns of text is cut
+ * there, test_bridged_gutter). */
+static void test_prose_across_listing(void)
+{
+    const int numbers_right = 200, code = 270, rows = 6;
+    for (int seed = 1; seed <= 3; seed++) {
+        char what[64];
+        snprintf(what, sizeof what, "prose between two listings, seed %d", seed);
+        tu_rng r = {(uint64_t)(470 + seed)};
+        page *p = page_new(1000, 900);
+        for (int i = 0; i < 2 * rows + 1; i++) {
+            const int y = FIRST_BASE + i * PITCH;
+            if (i == rows) {
+                draw_line(p, &r, COL_X0, 900, y, 1, 0);
+                continue;
+            }
+            draw_line(p, &r, code, code + tu_range(&r, 150, 400), y, 0, 0);
+            const int n = new_line(p, y);
+            for (int k = 0, x = numbers_right - 11; k < 3; k++, x -= 14)
+                draw_glyph(p, n, tu_box(x, y - XH, x + 11, y), 0);
+        }
+        result res = run_stages(p, what);
+        CHECK_INT(gutters_in(&res, numbers_right, code), 2, "%s: gutter regions", what);
+        compare_lines(p, &res, what);
+        CHECK_INT(lines_across(&res, numbers_right, code), 1, "%s: lines across the white", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
 /* 5. Two columns (gutter of 2 text heights) of three paragraphs of 5 lines each, the
  * paragraphs of both columns set side by side, so that the white bands between them run
  * across the page: one gutter from the first line to the last (the white bands do not end
@@ -1029,6 +1062,7 @@ int main(void)
     test_contents_leaders();
     test_list_labels();
     test_numbered_listing();
+    test_prose_across_listing();
     test_aligned_breaks();
     test_key_value();
     test_evidence();
