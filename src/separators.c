@@ -61,6 +61,19 @@ static const double GUTTER_MIN_BORDERED = 3.0;
 static const double GUTTER_MIN_SIDED = 8.0;
 static const double GUTTER_MIN_ALIGNED = 4.0;
 static const double ALIGN_TOLERANCE = 0.5; /* edges this close line up */
+/* A table's column gap holds evidence enough however short the table: words on both sides in
+ * at least TABLE_MIN_ROWS lines (rows of cells) and GUTTER_MIN_BORDERED of rows, lined up on
+ * BOTH of its edges (the cells' ends on its left, their starts on its right, each within
+ * ALIGN_TOLERANCE) in more than TABLE_ALIGNED_SHARE of the rows beside it, and white at least
+ * TABLE_MIN_WHITE wide, measured to the pixel, in every row with words on both sides. A river
+ * of white in prose has ragged edges; in typewritten or monospaced text every edge lines up,
+ * but the white is one space wide (1.25 to 1.5 text heights beside narrow letters), while a
+ * table's column gap is wider (12 pt in LaTeX: 2.7 text heights of 10 pt type). Two or three
+ * rows with such white (an entry repeated in an index, two-column answers to a question) are
+ * joined by the truth of the development sets; see keep_table_gaps for what stands beside. */
+static const double TABLE_ALIGNED_SHARE = 0.75;
+enum { TABLE_MIN_ROWS = 4 };
+static const double TABLE_MIN_WHITE = 2.0;
 /* Words beside the white: the nearest ink is a body, or a mark (final punctuation) this
  * close to a body. Leader dots alone do not border a gutter. */
 static const double WORD_REACH = 0.6;
@@ -135,6 +148,11 @@ static int imin(int a, int b)
     return a < b ? a : b;
 }
 
+static int imax(int a, int b)
+{
+    return a > b ? a : b;
+}
+
 /* A length of `length_th` text heights in whole cells of `cell` px, rounded up (`up`) or
  * down. A cell is a quarter text height, so most such lengths are whole numbers of cells,
  * and their quotient in floating point lies a hair to either side of it as the text
@@ -146,12 +164,20 @@ static int th_cells(double length_th, double th, double cell, int up)
     return up ? (int)ceil(q - CELL_SLACK) : (int)floor(q + CELL_SLACK);
 }
 
+/* Where the ink of a cell lies across it: from `left` to `right` in SPAN_UNITS of the cell's
+ * width (the boxes of its components), so that a white between two cells is measured to the
+ * pixel and not in whole cells, whose count a shift of the grid by a part of a cell changes. */
+enum { SPAN_UNITS = 255 };
+typedef struct ink_span {
+    uint8_t left, right;
+} ink_span;
+
 /* Marks the cells of the page's text in occ (cols x rows, row-major): 3 for bodies (letters,
  * words), 2 for marks (punctuation, dots), 1 for specks the size of a small dot (a leader's
  * dots at low resolution, or noise: white may hold a few of them). Smaller specks, rules and
- * pictures are not text. */
+ * pictures are not text. Where the ink lies across each cell goes to span. */
 static void fill_occupancy(const lt_components *c, double th, double cell, int cols, int rows,
-                           uint8_t *occ)
+                           uint8_t *occ, ink_span *span)
 {
     for (int i = 0; i < c->count; i++) {
         const lt_component *k = &c->items[i];
@@ -167,10 +193,20 @@ static void fill_occupancy(const lt_components *c, double th, double cell, int c
         int y0 = (int)(b->top / cell), y1 = (int)((b->bottom - 1) / cell);
         if (x1 >= cols) x1 = cols - 1;
         if (y1 >= rows) y1 = rows - 1;
+        /* where the box begins in its first cell and ends in its last */
+        const int from = (int)floor((b->left / cell - x0) * SPAN_UNITS),
+                  to = x1 == (int)((b->right - 1) / cell)
+                           ? (int)ceil((b->right / cell - x1) * SPAN_UNITS)
+                           : SPAN_UNITS;
         for (int y = y0; y <= y1; y++)
             for (int x = x0; x <= x1; x++) {
                 uint8_t *o = occ + (size_t)y * cols + x;
                 if (*o < v) *o = v;
+                ink_span *sp = span + (size_t)y * cols + x;
+                const int l = x > x0 ? 0 : imin(imax(from, 0), SPAN_UNITS),
+                          r = x < x1 ? SPAN_UNITS : imin(imax(to, 0), SPAN_UNITS);
+                if (l < sp->left) sp->left = (uint8_t)l;
+                if (r > sp->right) sp->right = (uint8_t)r;
             }
     }
 }
@@ -185,12 +221,22 @@ typedef struct run {
     int dotted;      /* the previous row had marks in the window */
     int pinched;     /* rows in it with text in the window, white narrowed by PINCH_MIN_WHITE */
     int pinch;       /* the pinched rows just before the current one */
+    double narrowest; /* cells of white between the inks of its narrowest bordered row */
+    int lines_bordered; /* runs of rows one after the other with words on both sides */
+    int first_bordered, last_bordered; /* rows with words on both sides, or -2 */
+    /* its rows with words on both sides by the cells of white between the window's left edge
+       and the ink before it (edges[0, n)), and between its right edge and the ink after it
+       (edges[n, 2n)), n = max_gap + 1: where the cells of a table end and start */
+    int *edges;
 } run;
+
+static const run EMPTY_RUN = {-1, -1, 0, 0, {0, 0}, 0, 0, 0, 0, HUGE_VAL, 0, -2, -2, NULL};
 
 typedef struct evidence {
     int width;           /* window, cells */
     int max_gap;         /* widest white, cells, between the words of a bordered row */
     int word_reach;      /* cells */
+    double table_white;  /* cells */
     int min_bordered;    /* rows */
     int min_sided;       /* rows */
     int min_aligned;     /* rows */
@@ -202,9 +248,43 @@ typedef struct evidence {
     int pinch_bordered;  /* rows */
 } evidence;
 
+/* Empties r, keeping its edge counts (n of each side) and zeroing them. */
+static void reset_run(run *r, int n)
+{
+    int *edges = r->edges;
+    if (r->bordered) memset(edges, 0, 2 * (size_t)n * sizeof *edges);
+    *r = EMPTY_RUN;
+    r->edges = edges;
+}
+
+/* Makes dst a copy of src, edge counts (n of each side) too. */
+static void copy_run(run *dst, const run *src, int n)
+{
+    int *edges = dst->edges;
+    memcpy(edges, src->edges, 2 * (size_t)n * sizeof *edges);
+    *dst = *src;
+    dst->edges = edges;
+}
+
+/* The most rows of count[0, n) (rows by an edge's distance from the window) within
+ * `tolerance` + 1 neighbouring distances: the rows whose edges line up. */
+static int aligned_most(const int *count, int n, int tolerance)
+{
+    int best = 0;
+    for (int o = 0, in = 0; o < n; o++) {
+        in += count[o] - (o > tolerance ? count[o - tolerance - 1] : 0);
+        if (in > best) best = in;
+    }
+    return best;
+}
+
+/* Values of the gutter mask while it is built: a gutter's cell on the evidence of a long
+ * stretch, or on that of a short table's column gap alone (TABLE_MIN_ROWS). */
+enum { MASK_GUTTER = 1, MASK_TABLE = 2 };
+
 /* Ends the white run of window cx: with enough evidence, its cells from the first to the last
  * row with words beside it, but for the text of pinched rows (occ, cols wide), join the gutter
- * mask. */
+ * mask (MASK_GUTTER, or MASK_TABLE where no other evidence marked them). */
 static void close_run(run *r, int cx, const evidence *e, const uint8_t *occ, int cols,
                       uint8_t *mask)
 {
@@ -212,13 +292,24 @@ static void close_run(run *r, int cx, const evidence *e, const uint8_t *occ, int
         r->pinched == 0 ||
         (r->aligned[0] >= e->min_aligned && r->aligned[1] >= e->min_aligned &&
          r->bordered >= e->pinch_bordered && r->pinched <= PINCH_SHARE * r->bordered);
-    if (r->bordered >= e->min_bordered && r->sided >= e->min_sided &&
-        (r->aligned[0] >= e->min_aligned || r->aligned[1] >= e->min_aligned) &&
+    const int n = e->max_gap + 1;
+    const double aligned_rows = TABLE_ALIGNED_SHARE * r->sided;
+    const int short_table = r->lines_bordered >= TABLE_MIN_ROWS && r->narrowest >= e->table_white &&
+                            aligned_most(r->edges, n, e->align_tolerance) > aligned_rows &&
+                            aligned_most(r->edges + n, n, e->align_tolerance) > aligned_rows;
+    const int long_stretch = r->sided >= e->min_sided &&
+                             (r->aligned[0] >= e->min_aligned || r->aligned[1] >= e->min_aligned);
+    if (r->bordered >= e->min_bordered && (long_stretch || short_table) &&
         r->dots * e->line_rows <= MAX_DOTS_PER_LINE * r->sided && pinch_evidence)
-        for (int y = r->first; y <= r->last; y++)
-            for (int x = cx; x < cx + e->width; x++)
-                if (occ[(size_t)y * cols + x] < 2) mask[(size_t)y * cols + x] = 1;
-    *r = (run){-1, -1, 0, 0, {0, 0}, 0, 0, 0, 0};
+        /* a table's gap reaches from its first row of cells to its last */
+        for (int y = long_stretch ? r->first : r->first_bordered;
+             y <= (long_stretch ? r->last : r->last_bordered); y++)
+            for (int x = cx; x < cx + e->width; x++) {
+                uint8_t *m = mask + (size_t)y * cols + x;
+                if (occ[(size_t)y * cols + x] < 2 && *m != MASK_GUTTER)
+                    *m = long_stretch ? MASK_GUTTER : MASK_TABLE;
+            }
+    reset_run(r, n);
 }
 
 /* Whether the text in the window of the n cells of row leaves white of at least `white` cells
@@ -235,11 +326,15 @@ static int white_through(const uint8_t *row, int n, int white)
  * its left and right edges. */
 typedef struct beside {
     int left, right, both;
+    int white;          /* whole cells of white between the inks on its left and right */
+    double white_exact; /* the same to the pixel (see ink_span) */
+    int offset[2]; /* cells of white between the window and the ink on its left, on its right */
     int aligned[2];
 } beside;
 
-/* Counts a row of the white run r: marks in the window (dotted), else the words beside it. */
-static void note_row(run *r, int y, int dotted, const beside *b)
+/* Counts a row of the white run r: marks in the window (dotted), else the words beside it
+ * (n: the edge counts of a side, see run). */
+static void note_row(run *r, int y, int dotted, const beside *b, int n)
 {
     r->dots += dotted && !r->dotted;
     r->dotted = dotted;
@@ -248,6 +343,14 @@ static void note_row(run *r, int y, int dotted, const beside *b)
     r->last = y;
     r->sided++;
     r->bordered += b->both;
+    if (b->both) {
+        r->lines_bordered += r->last_bordered != y - 1;
+        if (r->first_bordered < 0) r->first_bordered = y;
+        r->last_bordered = y;
+        if (b->white_exact < r->narrowest) r->narrowest = b->white_exact;
+        r->edges[b->offset[0]]++;
+        r->edges[n + b->offset[1]]++;
+    }
     r->aligned[0] += b->aligned[0];
     r->aligned[1] += b->aligned[1];
 }
@@ -263,25 +366,31 @@ static int row_blank(const uint8_t *row, int n)
 /* The gutter mask: the cells of every window e->width cells wide and white run of rows with
  * enough evidence (see GUTTER_MIN_BORDERED). Rows with no words beside the window may lie in
  * the run (the white between lines and paragraphs) but do not count. */
-static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evidence *e,
-                             uint8_t *mask)
+static int find_gutter_cells(const uint8_t *occ, const ink_span *span, int cols, int rows,
+                             const evidence *e, uint8_t *mask)
 {
     const size_t slots = (size_t)cols + 1;
     int *sum = malloc(2 * slots * sizeof *sum);   /* words, then marks, in cells left of x */
     int *prev = malloc(4 * slots * sizeof *prev); /* last ink cell at or left of x */
     run *runs = malloc(2 * slots * sizeof *runs); /* ending at text, going on through pinches */
-    if (!sum || !prev || !runs) {
+    const int n = e->max_gap + 1;                 /* edge counts of a side, see run */
+    int *edges = lt_alloc_array(2 * slots * 2 * (size_t)n, sizeof *edges);
+    if (!sum || !prev || !runs || !edges) {
         free(sum);
         free(prev);
         free(runs);
+        free(edges);
         return LT_ENOMEM;
     }
+    memset(edges, 0, 2 * slots * 2 * (size_t)n * sizeof *edges);
     int *marks = sum + slots;
     int *next = prev + slots;      /* first ink cell at or right of x */
     int *prev_word = next + slots; /* the same for body cells */
     int *next_word = prev_word + slots;
-    for (size_t k = 0; k < 2 * slots; k++)
-        runs[k] = (run){-1, -1, 0, 0, {0, 0}, 0, 0, 0, 0};
+    for (size_t k = 0; k < 2 * slots; k++) {
+        runs[k] = EMPTY_RUN;
+        runs[k].edges = edges + k * 2 * (size_t)n;
+    }
     for (int y = 0; y < rows; y++) {
         const uint8_t *row = occ + (size_t)y * cols;
         if (row_blank(row, cols)) { /* changes no run, but ends any rows of marks (dotted) */
@@ -315,14 +424,14 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
                         close_run(p, x, e, occ, cols, mask);
                 } else if (r->bordered >= e->min_bordered &&
                            white_through(row + x, e->width, e->pinch_white)) {
-                    *p = *r;
+                    copy_run(p, r, n);
                     p->pinched = p->pinch = 1;
                 }
                 close_run(r, x, e, occ, cols, mask);
                 continue;
             }
             const int dotted = marks[x + e->width] - marks[x] > 0; /* leader dots, or noise */
-            beside b = {0, 0, 0, {0, 0}};
+            beside b = {0, 0, 0, 0, 0, {0, 0}, {0, 0}};
             if (!dotted) {
                 const int left = x > 0 ? prev[x - 1] : -1;
                 const int right = x + e->width < cols ? next[x + e->width] : -1;
@@ -331,14 +440,22 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
                                        next_word[right] <= right + e->word_reach;
                 b.left = word_left && x - left <= e->max_gap;
                 b.right = word_right && right - x - e->width <= e->max_gap;
-                b.both = b.left && b.right && right - left - 1 <= e->max_gap;
+                b.white = right - left - 1;
+                b.offset[0] = x - left - 1;
+                b.offset[1] = right - x - e->width;
+                b.both = b.left && b.right && b.white <= e->max_gap;
+                if (b.both) {
+                    const ink_span *row_span = span + (size_t)y * cols;
+                    b.white_exact = right + (double)row_span[right].left / SPAN_UNITS -
+                                    (left + (double)row_span[left].right / SPAN_UNITS);
+                }
                 b.aligned[0] = b.left && x - left - 1 <= e->align_tolerance;
                 b.aligned[1] = b.right && right - x - e->width <= e->align_tolerance;
             }
-            note_row(r, y, dotted, &b);
+            note_row(r, y, dotted, &b, n);
             if (p->pinched) {
                 p->pinch = 0;
-                note_row(p, y, dotted, &b);
+                note_row(p, y, dotted, &b, n);
             }
         }
     }
@@ -349,6 +466,7 @@ static int find_gutter_cells(const uint8_t *occ, int cols, int rows, const evide
     free(sum);
     free(prev);
     free(runs);
+    free(edges);
     return 0;
 }
 
@@ -565,6 +683,53 @@ static int after_leaders(const uint8_t *occ, int cols, const lt_box *cellbox, in
     return led > LEADER_SHARE * open;
 }
 
+/* Makes the cells that a short table's column gap alone put in the mask (MASK_TABLE) gutter
+ * cells (MASK_GUTTER), region by region, where the text on both sides of the region is alike:
+ * narrow columns on both sides or on neither (see NARROW_COLUMN; `narrow` and `gap` in cells),
+ * and no gutter of a long stretch runs beside it or within e->bridge_rows above or below it.
+ * Elsewhere they become white again: labels aligned before their items (1.1, 1.2 before
+ * headings: a column of short items beside text), and a column gutter's white widened, or
+ * continued below a line across it, by the aligned edges of a few rows (the bridge across
+ * such lines is bridge_gutters' to judge). line_ink: scratch of cols cells. */
+static int keep_table_gaps(const uint8_t *occ, int cols, int rows, const evidence *e, int narrow,
+                           int gap, uint8_t *mask, uint8_t *line_ink)
+{
+    const size_t ncell = (size_t)cols * rows;
+    size_t k = 0;
+    while (k < ncell && mask[k] != MASK_TABLE)
+        k++;
+    if (k == ncell) return 0;
+    uint8_t *table = malloc(ncell);
+    if (!table) return LT_ENOMEM;
+    for (k = 0; k < ncell; k++)
+        table[k] = mask[k] == MASK_TABLE;
+    const lt_image grid = {cols, rows, LT_IMAGE_INK, 0, 0, table};
+    lt_components *regions = NULL;
+    lt_error ignored;
+    const int rc = lt_find_components(&grid, (long)ncell, &regions, &ignored);
+    free(table);
+    if (rc) return rc;
+    for (int i = 0; i < regions->count; i++) {
+        const lt_box *b = &regions->items[i].box; /* cells */
+        int keep = narrow_side(occ, cols, b, -1, e->width, gap, e->max_gap, narrow, line_ink) ==
+                   narrow_side(occ, cols, b, +1, e->width, gap, e->max_gap, narrow, line_ink);
+        for (int y = imax(b->top - e->bridge_rows, 0);
+             keep && y < imin(b->bottom + e->bridge_rows, rows); y++)
+            for (int x = imax(b->left - 1, 0); x < imin(b->right + 1, cols); x++)
+                if (mask[(size_t)y * cols + x] == MASK_GUTTER) {
+                    keep = 0;
+                    break;
+                }
+        for (int y = b->top; y < b->bottom; y++)
+            for (int x = b->left; x < b->right; x++) {
+                uint8_t *m = mask + (size_t)y * cols + x;
+                if (*m == MASK_TABLE) *m = keep ? MASK_GUTTER : 0;
+            }
+    }
+    lt_components_free(regions);
+    return 0;
+}
+
 /* Bounding boxes (pixels) of the connected regions of the mask (cols x rows cells of `cell`
  * px), found by the components stage run on the mask as an ink image. */
 static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box **boxes, int *count)
@@ -695,16 +860,21 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     uint8_t *occ = s->occupancy = calloc(ncell, 1), *mask = calloc(ncell, 1),
             *line_ink = malloc(s->cols);
     int *ends = malloc(((size_t)s->rows + 1) * sizeof *ends);
-    if (!occ || !mask || !line_ink || !ends) {
+    ink_span *span = lt_alloc_array(ncell, sizeof *span);
+    if (!occ || !mask || !line_ink || !ends || !span) {
+        free(span);
         free(mask);
         free(line_ink);
         free(ends);
         goto nomem;
     }
-    fill_occupancy(c, th, cell, s->cols, s->rows, occ);
+    for (size_t k = 0; k < ncell; k++)
+        span[k] = (ink_span){SPAN_UNITS, 0};
+    fill_occupancy(c, th, cell, s->cols, s->rows, occ, span);
     const evidence e = {th_cells(GUTTER_MIN_WIDTH, th, cell, 1),
                         th_cells(GUTTER_MAX_WIDTH, th, cell, 0),
                         th_cells(WORD_REACH, th, cell, 1),
+                        TABLE_MIN_WHITE * th / cell,
                         th_cells(GUTTER_MIN_BORDERED, th, cell, 1),
                         th_cells(GUTTER_MIN_SIDED, th, cell, 1),
                         th_cells(GUTTER_MIN_ALIGNED, th, cell, 1),
@@ -714,8 +884,12 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
                         th_cells(BRIDGE_MIN_OPEN, th, cell, 1),
                         th_cells(PINCH_MIN_WHITE, th, cell, 1),
                         th_cells(PINCH_MIN_BORDERED, th, cell, 1)};
-    int rc = find_gutter_cells(occ, s->cols, s->rows, &e, mask);
+    int rc = find_gutter_cells(occ, span, s->cols, s->rows, &e, mask);
+    free(span);
     if (!rc) rc = bridge_gutters(occ, s->cols, s->rows, &e, mask);
+    const int narrow = th_cells(NARROW_COLUMN, th, cell, 1);
+    const int gap = th_cells(NARROW_GAP, th, cell, 1);
+    if (!rc) rc = keep_table_gaps(occ, s->cols, s->rows, &e, narrow, gap, mask, line_ink);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     if (!rc && !(s->items_side = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
     if (!rc && !(s->river = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
@@ -726,8 +900,6 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
         const lt_box in_cells = {(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
                                  imin((int)floor(g->right / cell + 0.5), s->cols),
                                  imin((int)floor(g->bottom / cell + 0.5), s->rows)};
-        const int narrow = th_cells(NARROW_COLUMN, th, cell, 1);
-        const int gap = th_cells(NARROW_GAP, th, cell, 1);
         const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow,
                                    line_ink),
                   nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,

@@ -12,6 +12,9 @@
  * a river of white lets through (a stretched word space, 2 text heights: 40 px); and with
  * components set by hand, thresholds in whole cells at a text height whose quotients in
  * floating point fall a hair off, and the width of a white strip above a wide gap (7 cells).
+ * A short table's column gap: its rows (4), its white (2 text heights: 8 cells, measured to
+ * the pixel, the same wherever the grid falls) and its edges lined up on both sides (in more
+ * than three quarters of the rows), and labels before items that have all three.
  * Standalone: exit 0 on success, 1 on failure (one line per failed check on stderr). */
 #include "textpage.h"
 
@@ -739,8 +742,9 @@ static void test_key_value(void)
     }
 }
 
-/* 7. The evidence for a gutter: two columns of `rows` plain lines (x = 150 to 770 and 810 to
- * 1430, a white of 2 text heights), baselines 50 px apart with the top of the ascenders on
+/* 7. The evidence for a gutter: two columns of `rows` plain lines (x = 150 to 770 and 805 to
+ * 1425, a white of 1.75 text heights: 7 cells, under the 8 of a short table's column gap, see
+ * test_short_table), baselines 50 px apart with the top of the ascenders on
  * the cell grid, so that a line whose letters beside the white are of full height gives
  * exactly 8 cell rows of words beside it, one whose letters there have descenders but no
  * ascenders 7. Three lines (24 rows) are too few for the 32 rows of GUTTER_MIN_SIDED, four
@@ -757,7 +761,7 @@ static void test_evidence(void)
         snprintf(what, sizeof what, "evidence of %d lines%s", cases[ci].rows,
                  cases[ci].short_row >= 0 ? ", one without ascenders" : "");
         page *p = page_new(1600, 600);
-        const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 2 * XH, first = 125 + ASC;
+        const int x1 = COL_X0 + COL_WIDTH, x2 = x1 + 7 * CELL, first = 125 + ASC;
         for (int i = 0; i < cases[ci].rows; i++) {
             const int edge = i == cases[ci].short_row ? LETTER_DESC : LETTER_FULL;
             draw_plain_line(p, COL_X0, x1, first + 50 * i, LETTER_X, edge);
@@ -1051,6 +1055,121 @@ static void test_strip_width(void)
     }
 }
 
+/* 16. A short table: `rows` rows of three cells of plain lines 100 px wide, of x-height letters
+ * only (5 cell rows a line: the tops of the ascenders would be on the cell grid), baselines 50
+ * px apart, the cells `white` px apart. Four rows are too few for the 32 cell rows of words
+ * beside a long gutter (20), but the cells' ends line up on the left of each white and their
+ * starts on its right in every row: a table's column gap when the white is at least 2 text
+ * heights wide (8 cells: 40 px) in every row, and not at 7 cells (35 px: a typewriter's space
+ * beside narrow letters is 1.25 to 1.5), and when the table has at least 4 rows (3 are not
+ * enough). With the last row's middle cell starting 15 px (3 cells, beyond ALIGN_TOLERANCE)
+ * late, the first white's right edge lines up in 15 of 20 cell rows, not more than three
+ * quarters: that white is no gutter (its cells join), the second still is. Without a gutter
+ * each row's cells join (their gaps are under link_max_gap and under the 3 text heights of a
+ * white strip's refusal). */
+static void test_short_table(void)
+{
+    const struct {
+        int rows, white, late, gutters, lines_per_row;
+    } cases[] = {{4, 40, 0, 2, 3}, {4, 35, 0, 0, 1}, {3, 40, 0, 0, 1}, {4, 40, 15, 1, 2}};
+    for (int ci = 0; ci < 4; ci++) {
+        char what[80];
+        snprintf(what, sizeof what, "short table of %d rows, white %d px, late start %d px",
+                 cases[ci].rows, cases[ci].white, cases[ci].late);
+        page *p = page_new(1000, 400);
+        const int first = 125 + ASC, w = cases[ci].white, rows = cases[ci].rows;
+        for (int i = 0; i < rows; i++)
+            for (int c = 0; c < 3; c++) {
+                const int x0 = COL_X0 + c * (100 + w);
+                const int late = c == 1 && i == rows - 1 ? cases[ci].late : 0;
+                draw_plain_line(p, x0 + late, x0 + 100, first + 50 * i, LETTER_X, LETTER_X);
+            }
+        result res = run_stages(p, what);
+        CHECK_INT(res.seps ? res.seps->ngutters : -1, cases[ci].gutters, "%s: gutters", what);
+        CHECK_INT(res.lines ? res.lines->count : -1, rows * cases[ci].lines_per_row,
+                  "%s: lines", what);
+        CHECK_INT(lines_across(&res, COL_X0 + 2 * 100 + w, COL_X0 + 2 * (100 + w)),
+                  cases[ci].gutters ? 0 : rows, "%s: lines across the second white", what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
+/* 17. A column of short labels (30 px, 1.5 text heights: "1.1", "1.2", "1.3") before items
+ * starting 55 px (2.75 text heights) after them, four rows of x-height letters: both edges of
+ * the white line up and it is wide, as a short table's column gap, but the labels are a column
+ * of short items beside lines of text, so the white is no gutter at all, and each label stays
+ * in the line of its item. With 8 rows the white has the evidence of a long gutter: a gutter
+ * region beside a column of items, whose white, wider than ITEM_GAP (2.5 text heights), parts
+ * the labels from their items as a listing's numbers set in a column of their own. */
+static void test_table_labels(void)
+{
+    const int nrows[] = {4, 8};
+    for (int ni = 0; ni < 2; ni++) {
+        char what[64];
+        snprintf(what, sizeof what, "labels before %d items", nrows[ni]);
+        page *p = page_new(1000, 600);
+        const int first = 125 + ASC, label_right = COL_X0 + 30, items = label_right + 55;
+        for (int i = 0; i < nrows[ni]; i++) {
+            const int l =
+                draw_plain_line(p, COL_X0, label_right, first + 50 * i, LETTER_X, LETTER_X);
+            join_truth(p, l, draw_plain_line(p, items, 800, first + 50 * i, LETTER_X, LETTER_X));
+        }
+        result res = run_stages(p, what);
+        const int parted = nrows[ni] > 4;
+        CHECK_INT(gutters_in(&res, label_right, items), parted, "%s: gutter regions", what);
+        CHECK_INT(lt_link_blocked(res.seps, label_right, items, first - ASC, first + DESC,
+                                  ASC + DESC),
+                  parted, "%s: link from the first label to its item blocked", what);
+        CHECK_INT(res.lines ? res.lines->count : -1, nrows[ni] * (1 + parted), "%s: lines",
+                  what);
+        if (!parted) compare_lines(p, &res, what);
+        result_free(&res);
+        page_free(p);
+    }
+}
+
+/* 18. The short table's decision does not hang on where the cell grid falls: a table of
+ * four rows of three cells set by hand (boxes 1.5 text heights tall, 5 wide, rows 2.5 text
+ * heights apart, cells 2.25 text heights apart: 9 cells of white, 7 to 9 of them wholly white
+ * as the grid falls), at text heights of 20 to 20.9 px (each cell a quarter of one) and moved
+ * right and down by 0 to 4 px (a known transformation: a translation by a part of a cell):
+ * two gutters every time, each between two cells of every row. The white is measured to the
+ * pixel; counted in whole cells it fell under the 8 of TABLE_MIN_WHITE at 3 of these 50
+ * placements. */
+static void test_table_offsets(void)
+{
+    for (int ti = 0; ti < 10; ti++)
+        for (int shift = 0; shift <= 4; shift++) {
+            char what[64];
+            const double th = 20.0 + 0.1 * ti;
+            snprintf(what, sizeof what, "table at text height %.1f moved %d px", th, shift);
+            lt_component items[12];
+            for (int i = 0; i < 4; i++)
+                for (int c = 0; c < 3; c++) {
+                    const int x0 = shift + (int)lround((5 + c * 7.25) * th),
+                              top = shift + (int)lround((5 + i * 2.5) * th);
+                    const lt_box b = tu_box(x0, top, x0 + (int)lround(5 * th),
+                                            top + (int)lround(1.5 * th));
+                    items[3 * i + c] = (lt_component){b, 1000, 0, 0, LT_COMP_TEXT,
+                                                      b.bottom - b.top};
+                }
+            lt_components comps = {items, 12};
+            lt_separators *seps = NULL;
+            lt_error err = {0};
+            if (lt_find_separators(&comps, th, &seps, &err)) {
+                tu_fail("%s: %s", what, err.message);
+                continue;
+            }
+            CHECK_INT(seps->ngutters, 2, "%s: gutters", what);
+            for (int c = 0; c < 2; c++)
+                CHECK_INT(lt_link_blocked(seps, items[c].box.right, items[c + 1].box.left,
+                                          items[c].box.top, items[c].box.bottom, th),
+                          1, "%s: link over white %d blocked", what, c + 1);
+            lt_separators_free(seps);
+        }
+}
+
 int main(void)
 {
     double t0 = tu_now_s();
@@ -1073,6 +1192,9 @@ int main(void)
     test_pinched_gutter();
     test_whole_cells();
     test_strip_width();
+    test_short_table();
+    test_table_labels();
+    test_table_offsets();
     printf("time %.2f s\n", tu_now_s() - t0);
     return tu_summary("test_separators");
 }
