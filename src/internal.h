@@ -197,12 +197,13 @@ int lt_separator_between(const lt_separators *s, double x0, double x1, double y0
 /* Whether a link between two pieces of text on one row, with the gap [x0, x1) between them
  * and their rows [top, bottom), is refused: a separator lies in the gap (gutter white that is
  * a river, word spaces lined up inside a paragraph, only where the gap is wider than a
- * stretched word space), or the gap is wider
- * than a label's space and runs, white, between words through the white right of a column
- * of short items (a listing's line numbers), or the gap is wider than a stretched word space and
- * a white strip through it has text on both sides in the line above or below. Gap widths are
- * judged against `height`, the smaller of the two pieces' heights (px): the word spaces of
- * large type are wide, while a piece that spans two touching lines is no larger type. */
+ * stretched word space); or the gap is wider than a label's space and runs, white, between
+ * words through the white right of a column of short items (a listing's line numbers); or the
+ * gap is wider than a stretched word space and a white strip through it has text on both sides
+ * in the line above or below, or it follows a leader and precedes a page number set flush
+ * with the lines above or below. Gap widths are judged against `height`, the smaller of the
+ * two pieces' heights (px): the word spaces of large type are wide, while a piece that spans
+ * two touching lines is no larger type. */
 int lt_link_blocked(const lt_separators *s, double x0, double x1, double top, double bottom,
                     double height);
 /* The same for gutter white alone. */

@@ -80,9 +80,8 @@ static const double WORD_REACH = 0.6;
 /* A gap this wide, wider than the widest stretched word space of a justified line, is refused
  * also where a white strip (STRIP_MIN_WIDTH wide) through it runs through the two lines above
  * or the two below (STRIP_REACH up or down) with text on both sides within STRIP_SIDE: the
- * cells of a short table, a margin note, a word set apart from its line by a wide white. */
-static const double LOCAL_STRIP_GAP = 3.0;
-/* A gap this wide after a leader (its last dot with no letter within WORD_REACH before it,
+ * cells of a short table, a margin note, a word set apart from its line by a wide white.
+ * A gap this wide after a leader (its last dot with no letter within WORD_REACH before it,
  * another dot within NARROW_GAP before that) is the white before a page number where no line
  * within STRIP_REACH above or below runs across it (no white STRIP_MIN_WIDTH wide left in the
  * gap's columns of their rows) and the number ends flush with the text of those rows (within
@@ -91,6 +90,7 @@ static const double LOCAL_STRIP_GAP = 3.0;
  * both sides, and a line is not joined across such a strip. Where the leaders end as far
  * apart as the numbers are wide (an index) the gap is narrower, and a leader leads on to its
  * number (LEADER_SHARE). */
+static const double LOCAL_STRIP_GAP = 3.0;
 /* A gap no wider than STRETCHED_SPACE (a word space stretched to twice its width in a
  * justified line, a space of monospaced type: 1.3 text heights) is refused by a gutter only
  * where the gutter is no river of white: the word spaces of a few lines of a paragraph, a
