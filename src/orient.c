@@ -19,7 +19,10 @@
  *    where their words end, so left ends line up with those of the lines around them more
  *    often than right ends (ragged right; in justified text the short last lines of
  *    paragraphs); upside down, the ragged edge is on the left. This does not depend on the
- *    script's letter shapes. */
+ *    script's letter shapes. And the marks at the ends of lines: sentences end with a period
+ *    and clauses with a comma, low in the line's band, and many lines end with one, while
+ *    hardly any line begins with a mark at the top of its band; upside down, the periods
+ *    stand high at the lines' left ends. */
 #include "internal.h"
 
 #include <math.h>
@@ -63,6 +66,17 @@ static const double LETTER_BIAS = 0.05;     /* of the letters counted: a surplus
                                                script's and the type's own; measured: 0.025
                                                the wrong way on an upright list of Greek names,
                                                0.05 to 0.2 the right way on gothic type) */
+static const double MARK_MIN = 0.12;        /* of the band: a mark's sides at least (a period
+                                               is about a third of the x-height; not a speck)
+                                               ... */
+static const double MARK_MAX = 0.5;         /* ... and at most (letters fill the band) */
+static const double MARK_ASPECT = 2.0;      /* a mark's longer side at most this times its
+                                               shorter one (a dot or a comma, not a dash: a
+                                               dialogue's dash begins lines of typescript) */
+static const double MARK_LEVEL = 0.3;       /* of the band: a mark whose centre lies this close to
+                                               the baseline is low, to the band's top high
+                                               (measured on upright development pages: the
+                                               marks' z score never below -1.0) */
 static const double EDGE_TOLERANCE = 0.3;   /* x-heights: line ends this close line up */
 static const double EDGE_REACH = 8.0;       /* x-heights: the lines an end is compared with, by
                                                the distance of their centres (a few lines above
@@ -267,12 +281,13 @@ static int cmp_by_y(const void *pa, const void *pb)
 
 /* Adds the evidence of `line`, whose text components are member[0..m), to *rising (letters
  * reaching beyond the x-height band above it) and *falling (below it); heights, tops and
- * bottoms are scratch of m places. */
-static void line_evidence(const lt_components *c, const lt_raw_line *line, const int *member, int m,
-                          double *heights, double *tops, double *bottoms, long *rising,
-                          long *falling)
+ * bottoms are scratch of m places. Returns 1 and the band in *band (its top and bottom y), or
+ * 0 when the line gives no band. */
+static int line_evidence(const lt_components *c, const lt_raw_line *line, const int *member, int m,
+                         double *heights, double *tops, double *bottoms, long *rising,
+                         long *falling, double band[2])
 {
-    if (m < UPDOWN_MIN_LINE_COMPONENTS) return;
+    if (m < UPDOWN_MIN_LINE_COMPONENTS) return 0;
     for (int k = 0; k < m; k++)
         heights[k] = lt_box_height(&c->items[member[k]].box);
     /* The x-height: the lower quartile of the heights of the letters (not the marks, under
@@ -293,7 +308,7 @@ static void line_evidence(const lt_components *c, const lt_raw_line *line, const
         bottoms[plain] = cb->bottom;
         plain++;
     }
-    if (plain < UPDOWN_MIN_PLAIN_LETTERS) return;
+    if (plain < UPDOWN_MIN_PLAIN_LETTERS) return 0;
     double band_top = lt_median(tops, plain), band_bottom = lt_median(bottoms, plain);
     if (band_bottom - band_top < BAND_MIN_SHARE * line->xheight_px) {
         /* the plain letters are pieces of broken letters: the band is the line's, from its
@@ -302,7 +317,7 @@ static void line_evidence(const lt_components *c, const lt_raw_line *line, const
         band_bottom = line->baseline_y;
     }
     const double margin = BAND_MARGIN * (band_bottom - band_top);
-    if (margin < 1) return;
+    if (margin < 1) return 0;
     for (int k = 0; k < m; k++) {
         const lt_box *cb = &c->items[member[k]].box;
         /* a letter that fills the band and reaches beyond it on one side only (one that
@@ -314,6 +329,44 @@ static void line_evidence(const lt_components *c, const lt_raw_line *line, const
         *rising += rises && !falls;
         *falling += falls && !rises;
     }
+    band[0] = band_top;
+    band[1] = band_bottom;
+    return 1;
+}
+
+/* Whether component i is a mark (a dot or a comma by its size against the height of the
+ * x-height band `band`) whose centre lies within MARK_LEVEL of the band from the level at_y. */
+static int is_mark_at(const lt_components *c, int i, const double band[2], double at_y)
+{
+    const lt_box *b = &c->items[i].box;
+    const double band_px = band[1] - band[0];
+    const double w = lt_box_width(b), h = lt_box_height(b);
+    const double longer = w > h ? w : h, shorter = w > h ? h : w;
+    return shorter >= MARK_MIN * band_px && longer <= MARK_MAX * band_px &&
+           longer <= MARK_ASPECT * shorter &&
+           fabs(0.5 * (b->top + b->bottom) - at_y) <= MARK_LEVEL * band_px;
+}
+
+/* Adds a line whose components are member[0..m) (letters and marks), with x-height band
+ * `band`, to *ending when it ends with a mark low in the band, standing alone (right of every
+ * other component), and to *beginning when it begins with a mark alone high in the band. */
+static void end_mark_evidence(const lt_components *c, const int *member, int m,
+                              const double band[2], long *ending, long *beginning)
+{
+    if (m < 2) return;
+    int first = member[0], last = member[0];
+    for (int k = 1; k < m; k++) {
+        if (c->items[member[k]].box.left < c->items[first].box.left) first = member[k];
+        if (c->items[member[k]].box.right > c->items[last].box.right) last = member[k];
+    }
+    int first_alone = 1, last_alone = 1;
+    for (int k = 0; k < m; k++) {
+        const lt_box *b = &c->items[member[k]].box;
+        first_alone &= member[k] == first || b->left >= c->items[first].box.right;
+        last_alone &= member[k] == last || b->right <= c->items[last].box.left;
+    }
+    *ending += last_alone && is_mark_at(c, last, band, band[1]);
+    *beginning += first_alone && is_mark_at(c, first, band, band[0]);
 }
 
 static int is_edge_line(const lt_box *b, double unit_px)
@@ -385,15 +438,17 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
     out->turn_deg = 0;
     out->confidence = 0;
     if (!c || !lines || lines->count == 0) return 0;
-    int n = 0;
+    int n = 0; /* the text and the marks, which may be specks by their size */
     for (int i = 0; i < c->count; i++)
-        n += is_text(&c->items[i]);
+        n += is_text(&c->items[i]) || c->items[i].kind == LT_COMP_SPECKLE;
     if (n == 0) return 0;
     by_y *sorted = malloc((size_t)n * sizeof *sorted);
     double *heights = malloc((size_t)n * sizeof *heights);
     double *tops = malloc((size_t)n * sizeof *tops), *bottoms = malloc((size_t)n * sizeof *bottoms);
-    int *member = malloc((size_t)n * sizeof *member);
-    if (!sorted || !heights || !tops || !bottoms || !member) {
+    int *member = malloc((size_t)n * sizeof *member),
+        *with_marks = malloc((size_t)n * sizeof *with_marks);
+    if (!sorted || !heights || !tops || !bottoms || !member || !with_marks) {
+        free(with_marks);
         free(sorted);
         free(heights);
         free(tops);
@@ -403,9 +458,10 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
     }
     n = 0;
     for (int i = 0; i < c->count; i++)
-        if (is_text(&c->items[i])) sorted[n++] = (by_y){c->items[i].cy, i};
+        if (is_text(&c->items[i]) || c->items[i].kind == LT_COMP_SPECKLE)
+            sorted[n++] = (by_y){c->items[i].cy, i};
     qsort(sorted, (size_t)n, sizeof *sorted, cmp_by_y);
-    long up = 0, down = 0;
+    long up = 0, down = 0, ending = 0, beginning = 0;
     for (int l = 0; l < lines->count; l++) {
         const lt_box *box = &lines->items[l].box;
         int lo = 0, hi = n; /* first component with cy >= top */
@@ -416,13 +472,18 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
             else
                 hi = mid;
         }
-        int m = 0;
+        int m = 0, all = 0;
         for (int k = lo; k < n && sorted[k].cy < box->bottom; k++) {
             const lt_component *a = &c->items[sorted[k].index];
-            if (a->cx >= box->left && a->cx < box->right) member[m++] = sorted[k].index;
+            if (a->cx < box->left || a->cx >= box->right) continue;
+            with_marks[all++] = sorted[k].index;
+            if (is_text(a)) member[m++] = sorted[k].index;
         }
-        line_evidence(c, &lines->items[l], member, m, heights, tops, bottoms, &up, &down);
+        double band[2];
+        if (line_evidence(c, &lines->items[l], member, m, heights, tops, bottoms, &up, &down, band))
+            end_mark_evidence(c, with_marks, all, band, &ending, &beginning);
     }
+    free(with_marks);
     free(sorted);
     free(heights);
     free(tops);
@@ -434,11 +495,12 @@ int lt_estimate_upright(const lt_components *c, const lt_raw_lines *lines, lt_or
     /* positive: upright as given */
     const double z_letters = evidence_z(up, down, LETTER_BIAS);
     const double z_edges = evidence_z(flush_left, flush_right, 0);
-    const double z = z_letters + z_edges;
+    const double z_marks = evidence_z(ending, beginning, 0);
+    const double z = z_letters + z_edges + z_marks;
     if (fabs(z) < UPDOWN_MIN_Z) return 0;
-    if ((z * z_letters < 0 && fabs(z_letters) >= UPDOWN_AGAINST_Z) ||
-        (z * z_edges < 0 && fabs(z_edges) >= UPDOWN_AGAINST_Z))
-        return 0; /* they disagree */
+    const double each[] = {z_letters, z_edges, z_marks};
+    for (size_t k = 0; k < sizeof each / sizeof *each; k++)
+        if (z * each[k] < 0 && fabs(each[k]) >= UPDOWN_AGAINST_Z) return 0; /* they disagree */
     out->turn_deg = z < 0 ? 180 : 0;
     out->confidence = clamp01((fabs(z) - UPDOWN_MIN_Z) / (UPDOWN_FULL_Z - UPDOWN_MIN_Z));
     return 0;

@@ -373,6 +373,54 @@ static void test_disagreement(void)
     }
 }
 
+/* A mark of w x h px (a period, a comma, a dash) at the right end of the last line set, 4 px
+ * after its last letter, its centre `above` px above the line's baseline. */
+static void set_end_mark(setting *s, int w, int h, int above)
+{
+    assert(s->ncomps < SET_MAX_COMPS && s->nlines > 0);
+    lt_raw_line *l = &s->lines[s->nlines - 1];
+    const int left = l->box.right + 4, top = (int)l->baseline_y - above - h / 2;
+    lt_component *c = &s->comps[s->ncomps++];
+    *c = (lt_component){
+        .box = {left, top, left + w, top + h}, .pixels = (long)w * h, .kind = LT_COMP_SPECKLE};
+    c->cx = left + 0.5 * w;
+    c->cy = top + 0.5 * h;
+    l->box.right = left + w;
+    l->ncomponents++;
+}
+
+/* The marks at the lines' ends, in lines of plain letters whose two ends line up (no other
+ * evidence): 17 lines ending with a period on the baseline are evidence enough (z = 17 /
+ * sqrt 17 = 4.1), 15 are not (3.9); a period whose centre stands 6 px (0.3 x-height) above the
+ * baseline is still low, at 7 px it is no end of a sentence; a dash (12 x 4 px) ends no sentence.
+ * Upside down, the periods stand high at the lines' left ends: half a turn (by construction, the
+ * turned setting). */
+static void test_end_marks(void)
+{
+    const struct {
+        int lines, w, h, above, decided;
+    } cases[] = {
+        {17, 6, 6, 0, 1}, {15, 6, 6, 0, 0}, {17, 6, 6, 6, 1}, {17, 6, 6, 7, 0}, {17, 12, 4, 0, 0}};
+    for (size_t i = 0; i < sizeof cases / sizeof *cases; i++) {
+        static setting s;
+        s.ncomps = s.nlines = 0;
+        for (int k = 0; k < cases[i].lines; k++) {
+            set_line(&s, 100, 100 + SET_PITCH * k, (line_spec){.letters = 30});
+            set_end_mark(&s, cases[i].w, cases[i].h, cases[i].above);
+        }
+        for (int turn = 0; turn < 360; turn += 180) {
+            lt_orientation o = set_estimate(&s);
+            CHECK(o.turn_deg == (cases[i].decided ? turn : 0) &&
+                      (o.confidence > 0) == cases[i].decided,
+                  "%d lines ending with a %d x %d px mark %d px above the baseline, page turned "
+                  "%d: turn %d (confidence %.2f)",
+                  cases[i].lines, cases[i].w, cases[i].h, cases[i].above, turn, o.turn_deg,
+                  o.confidence);
+            set_turn_half(&s, 2000, 1400);
+        }
+    }
+}
+
 /* Pages that do not say: blank, noise, a few words. */
 static void test_no_estimate(void)
 {
@@ -411,6 +459,7 @@ int main(void)
     test_letters();
     test_letters_unclear();
     test_disagreement();
+    test_end_marks();
     test_no_estimate();
     return tu_summary("test_orient");
 }
