@@ -326,8 +326,8 @@ static int white_through(const uint8_t *row, int n, int white)
  * its left and right edges. */
 typedef struct beside {
     int left, right, both;
-    int white;          /* whole cells of white between the inks on its left and right */
-    double white_exact; /* the same to the pixel (see ink_span) */
+    double white_exact; /* white between the inks on its left and right, to the pixel (see
+                           ink_span), in cells */
     int offset[2]; /* cells of white between the window and the ink on its left, on its right */
     int aligned[2];
 } beside;
@@ -431,7 +431,7 @@ static int find_gutter_cells(const uint8_t *occ, const ink_span *span, int cols,
                 continue;
             }
             const int dotted = marks[x + e->width] - marks[x] > 0; /* leader dots, or noise */
-            beside b = {0, 0, 0, 0, 0, {0, 0}, {0, 0}};
+            beside b = {0, 0, 0, 0, {0, 0}, {0, 0}};
             if (!dotted) {
                 const int left = x > 0 ? prev[x - 1] : -1;
                 const int right = x + e->width < cols ? next[x + e->width] : -1;
@@ -440,10 +440,9 @@ static int find_gutter_cells(const uint8_t *occ, const ink_span *span, int cols,
                                        next_word[right] <= right + e->word_reach;
                 b.left = word_left && x - left <= e->max_gap;
                 b.right = word_right && right - x - e->width <= e->max_gap;
-                b.white = right - left - 1;
                 b.offset[0] = x - left - 1;
                 b.offset[1] = right - x - e->width;
-                b.both = b.left && b.right && b.white <= e->max_gap;
+                b.both = b.left && b.right && right - left - 1 <= e->max_gap;
                 if (b.both) {
                     const ink_span *row_span = span + (size_t)y * cols;
                     b.white_exact = right + (double)row_span[right].left / SPAN_UNITS -
@@ -683,6 +682,15 @@ static int after_leaders(const uint8_t *occ, int cols, const lt_box *cellbox, in
     return led > LEADER_SHARE * open;
 }
 
+/* The connected regions of the nonzero cells of grid (cols x rows), found by the components
+ * stage run on the grid as an ink image (boxes in cells). Returns 0 or LT_ENOMEM. */
+static int cell_regions(uint8_t *grid, int cols, int rows, lt_components **regions)
+{
+    const lt_image image = {cols, rows, LT_IMAGE_INK, 0, 0, grid};
+    lt_error ignored;
+    return lt_find_components(&image, (long)cols * rows, regions, &ignored);
+}
+
 /* Makes the cells that a short table's column gap alone put in the mask (MASK_TABLE) gutter
  * cells (MASK_GUTTER), region by region, where the text on both sides of the region is alike:
  * narrow columns on both sides or on neither (see NARROW_COLUMN; `narrow` and `gap` in cells),
@@ -703,10 +711,8 @@ static int keep_table_gaps(const uint8_t *occ, int cols, int rows, const evidenc
     if (!table) return LT_ENOMEM;
     for (k = 0; k < ncell; k++)
         table[k] = mask[k] == MASK_TABLE;
-    const lt_image grid = {cols, rows, LT_IMAGE_INK, 0, 0, table};
     lt_components *regions = NULL;
-    lt_error ignored;
-    const int rc = lt_find_components(&grid, (long)ncell, &regions, &ignored);
+    const int rc = cell_regions(table, cols, rows, &regions);
     free(table);
     if (rc) return rc;
     for (int i = 0; i < regions->count; i++) {
@@ -736,10 +742,8 @@ static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box *
 {
     *boxes = NULL;
     *count = 0;
-    const lt_image grid = {cols, rows, LT_IMAGE_INK, 0, 0, mask};
     lt_components *regions = NULL;
-    lt_error ignored;
-    const int rc = lt_find_components(&grid, (long)cols * rows, &regions, &ignored);
+    const int rc = cell_regions(mask, cols, rows, &regions);
     if (rc) return rc;
     *boxes = malloc(((size_t)regions->count + 1) * sizeof **boxes);
     if (!*boxes) {
@@ -753,44 +757,6 @@ static int mask_regions(uint8_t *mask, int cols, int rows, double cell, lt_box *
     }
     *count = regions->count;
     lt_components_free(regions);
-    return 0;
-}
-
-/* Whether text lies in the cell columns [cx0, cx1) of s's grid in the cell rows [cy0, cy1). */
-static int text_in(const lt_separators *s, int cx0, int cy0, int cx1, int cy1)
-{
-    for (int y = cy0 < 0 ? 0 : cy0; y < cy1 && y < s->rows; y++)
-        for (int x = cx0 < 0 ? 0 : cx0; x < cx1 && x < s->cols; x++)
-            if (s->occupancy[(size_t)y * s->cols + x] >= 2) return 1;
-    return 0;
-}
-
-/* Marks in s->river the gutter regions that are rivers of white (see STRETCHED_SPACE): text
- * lies across the columns of the region within a line's height (LINE_HEIGHT) above and below
- * it, and so it does for every other region overlapping it across (one over the other: the
- * pieces of a gutter cut by lines printed across it). Returns 0 or LT_ENOMEM. */
-static int mark_rivers(lt_separators *s)
-{
-    const double cell = s->cell_px;
-    const int reach = th_cells(LINE_HEIGHT, s->th, cell, 1);
-    uint8_t *crossed = malloc((size_t)s->ngutters + 1);
-    if (!crossed) return LT_ENOMEM;
-    for (int k = 0; k < s->ngutters; k++) {
-        const lt_box *g = &s->gutters[k];
-        const int cx0 = (int)floor(g->left / cell + 0.5), cx1 = (int)floor(g->right / cell + 0.5),
-                  cy0 = (int)floor(g->top / cell + 0.5), cy1 = (int)floor(g->bottom / cell + 0.5);
-        crossed[k] =
-            text_in(s, cx0, cy0 - reach, cx1, cy0) && text_in(s, cx0, cy1, cx1, cy1 + reach);
-    }
-    for (int k = 0; k < s->ngutters; k++) {
-        const lt_box *g = &s->gutters[k];
-        s->river[k] = 1;
-        for (int j = 0; j < s->ngutters && s->river[k]; j++) {
-            const lt_box *o = &s->gutters[j];
-            if (o->left < g->right && o->right > g->left && !crossed[j]) s->river[k] = 0;
-        }
-    }
-    free(crossed);
     return 0;
 }
 
@@ -828,6 +794,47 @@ static int cells(const lt_separators *s, const int32_t *sum, int cx0, int cy0, i
     const size_t stride = (size_t)s->cols + 1;
     return sum[(size_t)cy1 * stride + cx1] - sum[(size_t)cy0 * stride + cx1] -
            sum[(size_t)cy1 * stride + cx0] + sum[(size_t)cy0 * stride + cx0];
+}
+
+/* Gutter region k of s in cells, within the grid (its pixel box was rounded outwards). */
+static lt_box gutter_cells(const lt_separators *s, int k)
+{
+    const lt_box *g = &s->gutters[k];
+    const double cell = s->cell_px;
+    return (lt_box){(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
+                    imin((int)floor(g->right / cell + 0.5), s->cols),
+                    imin((int)floor(g->bottom / cell + 0.5), s->rows)};
+}
+
+/* Marks in s->river (allocated here) the gutter regions that are rivers of white (see
+ * STRETCHED_SPACE): text lies across the columns of the region within a line's height
+ * (LINE_HEIGHT) above and below it, and so it does for every other region overlapping it across
+ * (one over the other: the pieces of a gutter cut by lines printed across it). Needs
+ * s->text_sum. Returns 0 or LT_ENOMEM. */
+static int mark_rivers(lt_separators *s)
+{
+    const int reach = th_cells(LINE_HEIGHT, s->th, s->cell_px, 1);
+    uint8_t *crossed = malloc((size_t)s->ngutters + 1);
+    s->river = calloc((size_t)s->ngutters + 1, 1);
+    if (!crossed || !s->river) {
+        free(crossed);
+        return LT_ENOMEM;
+    }
+    for (int k = 0; k < s->ngutters; k++) {
+        const lt_box g = gutter_cells(s, k);
+        crossed[k] = cells(s, s->text_sum, g.left, g.top - reach, g.right, g.top) > 0 &&
+                     cells(s, s->text_sum, g.left, g.bottom, g.right, g.bottom + reach) > 0;
+    }
+    for (int k = 0; k < s->ngutters; k++) {
+        const lt_box *g = &s->gutters[k];
+        s->river[k] = 1;
+        for (int j = 0; j < s->ngutters && s->river[k]; j++) {
+            const lt_box *o = &s->gutters[j];
+            if (o->left < g->right && o->right > g->left && !crossed[j]) s->river[k] = 0;
+        }
+    }
+    free(crossed);
+    return 0;
 }
 
 int lt_find_separators(const lt_components *c, double text_height_px, lt_separators **out,
@@ -892,14 +899,8 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
     if (!rc) rc = keep_table_gaps(occ, s->cols, s->rows, &e, narrow, gap, mask, line_ink);
     if (!rc) rc = mask_regions(mask, s->cols, s->rows, cell, &s->gutters, &s->ngutters);
     if (!rc && !(s->items_side = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
-    if (!rc && !(s->river = calloc((size_t)s->ngutters + 1, 1))) rc = LT_ENOMEM;
-    if (!rc) rc = mark_rivers(s);
     for (int k = 0; !rc && k < s->ngutters; k++) {
-        const lt_box *g = &s->gutters[k];
-        /* back to cells, within the grid (the pixel box was rounded outwards) */
-        const lt_box in_cells = {(int)floor(g->left / cell + 0.5), (int)floor(g->top / cell + 0.5),
-                                 imin((int)floor(g->right / cell + 0.5), s->cols),
-                                 imin((int)floor(g->bottom / cell + 0.5), s->rows)};
+        const lt_box in_cells = gutter_cells(s, k);
         const int nl = narrow_side(occ, s->cols, &in_cells, -1, e.width, gap, e.max_gap, narrow,
                                    line_ink),
                   nr = narrow_side(occ, s->cols, &in_cells, +1, e.width, gap, e.max_gap, narrow,
@@ -927,6 +928,7 @@ int lt_find_separators(const lt_components *c, double text_height_px, lt_separat
         s->text_sum = summed(occ, s->cols, s->rows, 2);
         if (!s->sum || !s->text_sum) rc = LT_ENOMEM;
     }
+    if (!rc) rc = mark_rivers(s);
     free(mask);
     free(line_ink);
     free(ends);

@@ -373,20 +373,28 @@ static void test_disagreement(void)
     }
 }
 
+/* A mark (a solid speck) with box b in the last line set, which grows to hold it. */
+static void set_mark(setting *s, lt_box b)
+{
+    assert(s->ncomps < SET_MAX_COMPS && s->nlines > 0);
+    lt_raw_line *l = &s->lines[s->nlines - 1];
+    lt_component *c = &s->comps[s->ncomps++];
+    *c = (lt_component){
+        .box = b, .pixels = (long)lt_box_width(&b) * lt_box_height(&b), .kind = LT_COMP_SPECKLE};
+    c->cx = 0.5 * (b.left + b.right);
+    c->cy = 0.5 * (b.top + b.bottom);
+    lt_box_grow(&l->box, &b);
+    l->ncomponents++;
+}
+
 /* A mark of w x h px (a period, a comma, a dash) at the right end of the last line set, 4 px
  * after its last letter, its centre `above` px above the line's baseline. */
 static void set_end_mark(setting *s, int w, int h, int above)
 {
-    assert(s->ncomps < SET_MAX_COMPS && s->nlines > 0);
-    lt_raw_line *l = &s->lines[s->nlines - 1];
+    assert(s->nlines > 0);
+    const lt_raw_line *l = &s->lines[s->nlines - 1];
     const int left = l->box.right + 4, top = (int)l->baseline_y - above - h / 2;
-    lt_component *c = &s->comps[s->ncomps++];
-    *c = (lt_component){
-        .box = {left, top, left + w, top + h}, .pixels = (long)w * h, .kind = LT_COMP_SPECKLE};
-    c->cx = left + 0.5 * w;
-    c->cy = top + 0.5 * h;
-    l->box.right = left + w;
-    l->ncomponents++;
+    set_mark(s, (lt_box){left, top, left + w, top + h});
 }
 
 /* The marks at the lines' ends, in lines of plain letters whose two ends line up (no other
@@ -425,19 +433,12 @@ static void test_end_marks(void)
  * centre of the line's second letter, or over the white after it. */
 static void set_dot_above(setting *s, int gap, int over_letter)
 {
-    assert(s->ncomps < SET_MAX_COMPS && s->nlines > 0);
-    lt_raw_line *l = &s->lines[s->nlines - 1];
+    assert(s->nlines > 0);
+    const lt_raw_line *l = &s->lines[s->nlines - 1];
     const int band_top = (int)l->baseline_y - SET_XHEIGHT;
     const int cx =
         l->box.left + (SET_XHEIGHT + 4) + (over_letter ? SET_XHEIGHT / 2 : SET_XHEIGHT + 2);
-    lt_component *c = &s->comps[s->ncomps++];
-    *c = (lt_component){.box = {cx - 3, band_top - gap - 6, cx + 3, band_top - gap},
-                        .pixels = 36,
-                        .kind = LT_COMP_SPECKLE};
-    c->cx = cx;
-    c->cy = band_top - gap - 3;
-    if (c->box.top < l->box.top) l->box.top = c->box.top;
-    l->ncomponents++;
+    set_mark(s, (lt_box){cx - 3, band_top - gap - 6, cx + 3, band_top - gap});
 }
 
 /* The marks over letters, in lines of plain letters whose two ends line up (no other
